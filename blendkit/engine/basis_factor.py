@@ -1,0 +1,82 @@
+"""The basis matrix as an LU factorisation plus a file of updates.
+
+The simplex method needs to solve B z = a (forward, "ftran") and B^T y = c
+(backward, "btran") for a basis B that changes by one column per iteration. We never
+form an inverse: B0 = P L U is factorised with LAPACK, and each column replacement adds
+one eta vector (product-form update). After `refactor_every` updates the caller
+refactorises from scratch, which also bounds the growth of rounding error.
+"""
+
+from __future__ import annotations
+
+import numpy as np
+from scipy.linalg import lapack
+
+
+class SingularBasis(Exception):
+    """The basis matrix handed to `factor` is singular to working precision."""
+
+
+class BasisFactor:
+    """LU factors of a square basis matrix with product-form column updates."""
+
+    def __init__(self, refactor_every: int):
+        self.refactor_every = refactor_every
+        self._lu = None
+        self._piv = None
+        self._m = 0
+        # Each update: position r and the eta column alpha = B_old^{-1} a_entering.
+        self._eta_rows: list[int] = []
+        self._eta_cols: list[np.ndarray] = []
+
+    @property
+    def updates(self) -> int:
+        """How many column replacements since the last factorisation."""
+        return len(self._eta_rows)
+
+    @property
+    def due(self) -> bool:
+        """True when the update file is long enough that refactorising pays."""
+        return len(self._eta_rows) >= self.refactor_every
+
+    def factor(self, B: np.ndarray) -> None:
+        """Factorise B afresh and clear the update file."""
+        self._m = B.shape[0]
+        self._eta_rows.clear()
+        self._eta_cols.clear()
+        if self._m == 0:
+            return
+        lu, piv, info = lapack.dgetrf(np.asfortranarray(B, dtype=float))
+        if info > 0:
+            raise SingularBasis(f"basis matrix is singular (zero pivot at position {info})")
+        diag = np.abs(np.diag(lu))
+        if diag.min() <= 1e-13 * max(1.0, diag.max()):
+            raise SingularBasis("basis matrix is singular to working precision")
+        self._lu, self._piv = lu, piv
+
+    def ftran(self, a: np.ndarray) -> np.ndarray:
+        """Solve B z = a for the current basis."""
+        if self._m == 0:
+            return np.zeros(0)
+        z, _ = lapack.dgetrs(self._lu, self._piv, a, trans=0)
+        for r, alpha in zip(self._eta_rows, self._eta_cols):
+            zr = z[r] / alpha[r]
+            z -= zr * alpha
+            z[r] = zr
+        return z
+
+    def btran(self, c: np.ndarray) -> np.ndarray:
+        """Solve B^T y = c for the current basis."""
+        if self._m == 0:
+            return np.zeros(0)
+        w = np.array(c, dtype=float, copy=True)
+        for r, alpha in zip(reversed(self._eta_rows), reversed(self._eta_cols)):
+            # E^T w_new = w: only entry r changes.
+            w[r] = (w[r] - (alpha @ w - alpha[r] * w[r])) / alpha[r]
+        y, _ = lapack.dgetrs(self._lu, self._piv, w, trans=1)
+        return y
+
+    def update(self, r: int, alpha: np.ndarray) -> None:
+        """Record that column r of the basis was replaced; alpha = B_old^{-1} a_new."""
+        self._eta_rows.append(r)
+        self._eta_cols.append(np.array(alpha, copy=True))

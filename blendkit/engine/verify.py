@@ -1,0 +1,43 @@
+"""Check a solution against the original problem after solving.
+
+The engine works on a transformed problem; this module recomputes the residuals in the
+original units so that rounding trouble shows up as a status, not as a wrong answer.
+"""
+
+from __future__ import annotations
+
+import numpy as np
+
+from blendkit.engine.standard_form import StandardForm
+
+
+def worst_violation(sf: StandardForm, x: np.ndarray) -> tuple[float, str]:
+    """The largest relative violation of any row or column bound by x, and where.
+
+    A row's violation is divided by 1 + the largest of |bound| and |a_ij x_j| in that
+    row; a column's by 1 + |bound|. Returns (0.0, "") when x is feasible.
+    """
+    worst, where = 0.0, ""
+    activity = sf.A @ x
+    size = 1.0 + np.maximum(
+        np.abs(sf.A * x).max(axis=1, initial=0.0),
+        np.maximum(np.abs(np.where(np.isfinite(sf.row_lower), sf.row_lower, 0.0)),
+                   np.abs(np.where(np.isfinite(sf.row_upper), sf.row_upper, 0.0))),
+    )
+    row_violation = np.maximum(sf.row_lower - activity, activity - sf.row_upper) / size
+    col_size = 1.0 + np.maximum(
+        np.abs(np.where(np.isfinite(sf.col_lower), sf.col_lower, 0.0)),
+        np.abs(np.where(np.isfinite(sf.col_upper), sf.col_upper, 0.0)),
+    )
+    col_violation = np.maximum(sf.col_lower - x, x - sf.col_upper) / col_size
+    if row_violation.size and row_violation.max() > worst:
+        i = int(np.argmax(row_violation))
+        worst = float(row_violation[i])
+        kind = "inequality" if i < sf.n_ub else "equality"
+        index = i if i < sf.n_ub else i - sf.n_ub
+        where = f"{kind} row {index}"
+    if col_violation.size and col_violation.max() > worst:
+        j = int(np.argmax(col_violation))
+        worst = float(col_violation[j])
+        where = f"bound of variable {j}"
+    return worst, where
