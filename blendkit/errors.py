@@ -33,3 +33,7 @@ class WorkbookError(Exception):
         count = len(self.problems)
         head = f"{count} problem{'s' if count != 1 else ''} in the workbook:"
         return "\n".join([head, *(f"  {p}" for p in self.problems)])
+
+
+class OutputError(Exception):
+    """The output cannot be written where asked (the input is never the target)."""

@@ -1,0 +1,114 @@
+"""The command line: parse arguments, call one library function, render the result.
+
+Exit codes: 0 solved (or, for `check`, valid); 1 problems in the workbook;
+2 bad command-line use or an output that cannot be written; 3 the blend is infeasible
+or unbounded; 4 the engine stopped without an answer (iteration limit, numerical trouble).
+"""
+
+from __future__ import annotations
+
+import json
+from contextlib import contextmanager
+from pathlib import Path
+
+import typer
+
+from blendkit import __version__
+from blendkit.errors import OutputError, WorkbookError
+from blendkit.pipeline import check_workbook, solve_workbook
+from blendkit.report_console import render_summary
+from blendkit.write_json import formula_to_dict
+
+EXIT_SOLVED = 0
+EXIT_WORKBOOK = 1
+EXIT_USAGE = 2
+EXIT_NO_BLEND = 3
+EXIT_ENGINE = 4
+STATUS_EXIT = {"optimal": EXIT_SOLVED, "infeasible": EXIT_NO_BLEND, "unbounded": EXIT_NO_BLEND}
+
+app = typer.Typer(
+    add_completion=False,
+    no_args_is_help=True,
+    pretty_exceptions_enable=False,
+    help="Least-cost blends from a spreadsheet. Caution: formulations must be checked by a "
+    "qualified nutritionist and against local regulations before use.",
+)
+
+
+def _version(value: bool) -> None:
+    """Print the version for --version."""
+    if value:
+        typer.echo(f"blendkit {__version__}")
+        raise typer.Exit()
+
+
+@app.callback()
+def _main(
+    version: bool = typer.Option(False, "--version", callback=_version, is_eager=True, help="Show the version and exit."),
+) -> None:
+    """Least-cost blends from a spreadsheet."""
+
+
+@contextmanager
+def _reporting(as_json: bool):
+    """Turn input and output errors into a message and an exit code, never a traceback."""
+    try:
+        yield
+    except WorkbookError as error:
+        if as_json:
+            problems = [{"where": p.where, "message": p.message} for p in error.problems]
+            typer.echo(json.dumps({"status": "workbook_error", "problems": problems}, indent=2))
+        else:
+            typer.echo(error.describe(), err=True)
+        raise typer.Exit(EXIT_WORKBOOK) from None
+    except OutputError as error:
+        if as_json:
+            typer.echo(json.dumps({"status": "output_error", "message": str(error)}, indent=2))
+        else:
+            typer.echo(f"cannot write the output: {error}", err=True)
+        raise typer.Exit(EXIT_USAGE) from None
+
+
+@app.command()
+def solve(
+    book: Path = typer.Argument(..., help="The input workbook (.xlsx); it is never modified."),
+    output: Path = typer.Option(None, "-o", "--output", help="Where to write the output workbook [default: BOOK.result.xlsx beside the input]."),
+    as_json: bool = typer.Option(False, "--json", help="Print one JSON document on stdout instead of the summary."),
+) -> None:
+    """Find the least-cost blend and write the output workbook."""
+    with _reporting(as_json):
+        outcome = solve_workbook(book, output)
+    if as_json:
+        typer.echo(json.dumps(formula_to_dict(outcome.formula), indent=2))
+    else:
+        typer.echo(render_summary(outcome.formula))
+        typer.echo(f"\nOutput workbook: {outcome.output}")
+    raise typer.Exit(STATUS_EXIT.get(outcome.formula.status, EXIT_ENGINE))
+
+
+@app.command()
+def check(
+    book: Path = typer.Argument(..., help="The workbook (.xlsx) to validate."),
+) -> None:
+    """Validate a workbook without solving it."""
+    with _reporting(False):
+        blend = check_workbook(book)
+    typer.echo(
+        f"{book.name}: no problems found: {len(blend.ingredients)} ingredients, "
+        f"{len(blend.nutrients)} nutrients, {len(blend.specs)} specs."
+    )
+    for item in blend.ingredients:
+        if item.use and item.blanks:
+            typer.echo(f"  {item.name}: {len(item.blanks)} blank nutrient cells counted as 0 ({', '.join(item.blanks)})")
+
+
+def main() -> None:
+    """Entry point of the `blendkit` console script."""
+    try:
+        app()
+    except KeyboardInterrupt:
+        typer.echo("interrupted", err=True)
+        raise SystemExit(130) from None
+    except Exception as error:  # a bug of ours: say so plainly, without a traceback
+        typer.echo(f"blendkit: internal error ({type(error).__name__}: {error}); please report it", err=True)
+        raise SystemExit(70) from None

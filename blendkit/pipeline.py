@@ -1,0 +1,89 @@
+"""The whole job as library calls: read, build, solve, analyse, write.
+
+The command line is a thin layer over these functions, so the Python API and the CLI
+behave the same.
+"""
+
+from __future__ import annotations
+
+import hashlib
+from dataclasses import dataclass
+from datetime import datetime, timezone
+from pathlib import Path
+
+from blendkit import __version__
+from blendkit.analyse import analyse
+from blendkit.build_lp import build_lp
+from blendkit.engine import solve
+from blendkit.errors import OutputError
+from blendkit.formula import Formula, RunInfo
+from blendkit.model import Blend
+from blendkit.read_workbook import read_workbook
+from blendkit.write_workbook import write_workbook
+
+
+@dataclass(frozen=True)
+class Outcome:
+    """One solved workbook: the formula, the run facts and where the output went."""
+
+    formula: Formula
+    run: RunInfo
+    output: Path
+
+
+def check_workbook(book: str | Path) -> Blend:
+    """Read and validate `book` without solving; raises WorkbookError on any problem."""
+    return read_workbook(book)
+
+
+def formulate(blend: Blend) -> Formula:
+    """The least-cost formula for a validated blend."""
+    lp = build_lp(blend)
+    result = solve(lp.c, A_ub=lp.A_ub, b_ub=lp.b_ub, A_eq=lp.A_eq, b_eq=lp.b_eq, bounds=lp.bounds)
+    return analyse(blend, lp, result)
+
+
+def default_output(book: Path) -> Path:
+    """`<name>.result.xlsx` beside the input (an output solved again keeps its name)."""
+    stem = book.name[: -len(".xlsx")] if book.name.lower().endswith(".xlsx") else book.stem
+    if stem.lower().endswith(".result"):
+        stem = stem[: -len(".result")]
+    return book.with_name(f"{stem}.result.xlsx")
+
+
+def _check_output(book: Path, output: Path) -> None:
+    """Refuse an output that would overwrite the input or cannot be written."""
+    if output.suffix.lower() != ".xlsx":
+        raise OutputError(f"{output}: the output must be an .xlsx file")
+    if output.resolve() == book.resolve():
+        raise OutputError(f"{output}: the output would overwrite the input workbook; choose another name with -o")
+    if not output.parent.is_dir():
+        raise OutputError(f"{output}: folder {output.parent} does not exist")
+    if output.is_dir():
+        raise OutputError(f"{output}: is a folder, not a file name")
+
+
+def solve_workbook(book: str | Path, output: str | Path | None = None) -> Outcome:
+    """Read `book`, find the least-cost blend and write the output workbook.
+
+    Raises WorkbookError for problems in the workbook and OutputError when the output
+    cannot be written; an infeasible blend is a status of the returned formula, and
+    its output workbook is still written so the reviewer sees what was tried.
+    """
+    book = Path(book)
+    started = datetime.now(timezone.utc).strftime("%Y-%m-%dT%H:%M:%SZ")
+    blend = read_workbook(book)
+    target = Path(output) if output is not None else default_output(book)
+    _check_output(book, target)
+    formula = formulate(blend)
+    run = RunInfo(
+        tool_version=__version__,
+        started_utc=started,
+        input_name=book.name,
+        input_sha256=hashlib.sha256(book.read_bytes()).hexdigest(),
+    )
+    try:
+        written = write_workbook(formula, run, book, target)
+    except OSError as error:
+        raise OutputError(f"{target}: could not write the output workbook ({error.strerror or error})") from None
+    return Outcome(formula=formula, run=run, output=Path(written))

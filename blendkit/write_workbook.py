@@ -1,0 +1,664 @@
+"""Write the result workbook: the input sheets unchanged, plus three output sheets.
+
+The writer renders a `Formula`; it computes nothing of its own. For the reviewer it adds
+live spreadsheet formulas that recompute the blend cost and every nutrient level from the
+input cells, so the numbers can be checked in any spreadsheet program.
+
+Output sheets (replaced, never duplicated, when an output workbook is solved again):
+
+* ``Result``: title, caution, status, cost, the ingredient table and the nutrient table.
+* ``Shadow prices``: one row per limit the user wrote, with its shadow price and unit.
+* ``Run info``: tool version, time, input file name and SHA-256, status, caution.
+
+The save is atomic: a temporary file in the output's folder is moved into place, so a
+failed run leaves no half-written output. The source file is only ever read.
+"""
+
+from __future__ import annotations
+
+import datetime
+import hashlib
+import io
+import math
+import os
+import re
+import tempfile
+import zipfile
+from pathlib import Path
+from xml.etree import ElementTree
+
+from openpyxl import load_workbook
+from openpyxl.styles import Alignment, Border, Font, Side
+from openpyxl.utils import get_column_letter
+from openpyxl.utils.cell import coordinate_to_tuple
+from openpyxl.utils.datetime import to_excel
+from openpyxl.workbook.workbook import Workbook
+from openpyxl.worksheet.worksheet import Worksheet
+
+from blendkit import CAUTION
+from blendkit.formula import Formula, Limit, NutrientLine, RunInfo
+from blendkit.model import Blend, Settings
+
+# Sheets this writer owns; any sheet with one of these names (any case) is replaced.
+OUTPUT_SHEETS = ("Result", "Shadow prices", "Run info")
+RESULT, SHADOW_PRICES, RUN_INFO = OUTPUT_SHEETS
+
+# The sheet a bare cell reference from the reader (no "Sheet!" part) belongs to.
+INGREDIENTS_SHEET = "Ingredients"
+
+# Parts of a number format that never make it a percentage: quoted text, escaped
+# characters and [bracketed] sections. The same rule as the reader's.
+_LITERAL_FORMAT_PARTS = re.compile(r'"[^"]*"|\\.|\[[^\]]*\]')
+
+# Namespaces of the spreadsheet package parts we touch.
+_MAIN_NS = "http://schemas.openxmlformats.org/spreadsheetml/2006/main"
+_REL_NS = "http://schemas.openxmlformats.org/officeDocument/2006/relationships"
+# The error values a formula can leave as its result.
+_ERROR_VALUES = {"#NULL!", "#DIV/0!", "#VALUE!", "#REF!", "#NAME?", "#NUM!", "#N/A",
+                 "#GETTING_DATA"}
+
+# Longest formula the common spreadsheet programs accept (Excel's limit, in characters).
+MAX_FORMULA_LENGTH = 8192
+
+# Fixed number formats; nutrient values and shadow prices get a format by magnitude.
+PERCENT_FORMAT = "0.000"
+MONEY_FORMAT = "#,##0.00"
+AMOUNT_FORMAT = "#,##0.00"
+REDUCED_COST_FORMAT = "#,##0.00##"  # two decimals, up to four where the value has them
+
+_BOLD = Font(bold=True)
+_TITLE = Font(bold=True, size=14)
+_STATUS_ALERT = Font(bold=True, size=12)
+_THIN = Side(style="thin")
+_HEADER_BORDER = Border(bottom=_THIN)
+_BOX = Border(left=_THIN, right=_THIN, top=_THIN, bottom=_THIN)
+_WRAP_TOP = Alignment(wrap_text=True, vertical="top")
+
+# Result sheet column widths, in characters: name column, then the number columns.
+_NAME_WIDTH = 30
+_NUMBER_WIDTH = 16
+_RESULT_COLUMNS = 7
+
+
+def write_workbook(formula: Formula, run: RunInfo, source: Path, output: Path) -> Path:
+    """Write `formula` into a copy of the `source` workbook at `output`; return `output`.
+
+    Every input sheet is kept unchanged; existing output sheets (see `OUTPUT_SHEETS`) are
+    removed and written afresh. Raises ValueError if `output` is the source file itself,
+    or if the source no longer matches the SHA-256 recorded in `run` (it changed on disk
+    since it was read). The write is atomic: on any failure no output file is left behind
+    and an existing output is untouched.
+    """
+    source = Path(source)
+    output = Path(output)
+    if _same_file(source, output):
+        raise ValueError(
+            f"output {output} is the input workbook itself; blendkit never overwrites its "
+            "input. Choose another output file name."
+        )
+    data = source.read_bytes()
+    digest = hashlib.sha256(data).hexdigest()
+    if run.input_sha256 and digest != run.input_sha256.lower():
+        raise ValueError(
+            f"{source.name} changed since it was read (SHA-256 {digest}, expected "
+            f"{run.input_sha256}); solve it again so the result matches the file."
+        )
+
+    workbook = load_workbook(io.BytesIO(data), data_only=False)
+    _remove_output_sheets(workbook)
+    saved = _saved_results(data, workbook)
+    title = formula.blend.settings.name or source.stem
+    result = _write_result(workbook, formula, title)
+    _write_shadow_prices(workbook, formula)
+    _write_run_info(workbook, formula, run, title)
+    _show_first(workbook, result)
+    # The live formulas on Result have no saved result yet: ask for a full recalculation.
+    workbook.calculation.fullCalcOnLoad = True
+    buffer = io.BytesIO()
+    workbook.save(buffer)
+    _save_atomically(_with_saved_results(buffer.getvalue(), saved), output)
+    return output
+
+
+# --- file handling -----------------------------------------------------------------------
+
+
+def _same_file(source: Path, output: Path) -> bool:
+    """Catch the same file under another spelling (relative path, symlink, hard link)."""
+    if output.resolve() == source.resolve():
+        return True
+    try:
+        return output.exists() and os.path.samefile(source, output)
+    except OSError:
+        return False
+
+
+def _save_atomically(content: bytes, output: Path) -> None:
+    """Write next to `output` and move into place, so readers never see a partial file."""
+    handle, temp_name = tempfile.mkstemp(
+        prefix=f".{output.name}.", suffix=".tmp", dir=output.parent
+    )
+    temp = Path(temp_name)
+    try:
+        with os.fdopen(handle, "wb") as stream:
+            stream.write(content)
+        os.chmod(temp, _file_mode(output))
+        os.replace(temp, output)
+    except BaseException:
+        temp.unlink(missing_ok=True)
+        raise
+
+
+def _file_mode(output: Path) -> int:
+    """mkstemp makes owner-only files; give the output the mode a plain save would."""
+    if output.exists():
+        return output.stat().st_mode & 0o777
+    umask = os.umask(0)
+    os.umask(umask)
+    return 0o666 & ~umask
+
+
+def _saved_results(data: bytes, workbook: Workbook) -> dict[str, dict[str, object]]:
+    """The results saved with the input's formula cells, per sheet title and cell.
+
+    openpyxl keeps a formula or its saved result, never both. Without the results, solving
+    the output workbook again would fail (the reader needs them) until it is opened and
+    saved in a spreadsheet program; so they are put back after saving (see
+    `_with_saved_results`). Dates come back as serial numbers, as the file stores them.
+    """
+    results = load_workbook(io.BytesIO(data), data_only=True)
+    saved: dict[str, dict[str, object]] = {}
+    for sheet in workbook.worksheets:
+        cells: dict[str, object] = {}
+        for row in sheet.iter_rows():
+            for cell in row:
+                if cell.data_type != "f":
+                    continue
+                value = results[sheet.title][cell.coordinate].value
+                if isinstance(value, (datetime.datetime, datetime.date, datetime.time)):
+                    value = to_excel(value, results.epoch)
+                elif isinstance(value, datetime.timedelta):
+                    value = value.total_seconds() / 86400
+                if value is not None:
+                    cells[cell.coordinate] = value
+        if cells:
+            saved[sheet.title] = cells
+    return saved
+
+
+def _with_saved_results(content: bytes, saved: dict[str, dict[str, object]]) -> bytes:
+    """The saved workbook `content` with each input formula cell's saved result restored."""
+    if not saved:
+        return content
+    with zipfile.ZipFile(io.BytesIO(content)) as archive:
+        members = [(info, archive.read(info)) for info in archive.infolist()]
+    parts = _worksheet_parts(dict((info.filename, data) for info, data in members))
+    out = io.BytesIO()
+    with zipfile.ZipFile(out, "w", zipfile.ZIP_DEFLATED) as archive:
+        for info, data in members:
+            title = parts.get(info.filename)
+            if title in saved:
+                data = _restore_results(data, saved[title])
+            archive.writestr(info, data)
+    return out.getvalue()
+
+
+def _worksheet_parts(members: dict[str, bytes]) -> dict[str, str]:
+    """Map each worksheet's part name in the package to its sheet title."""
+    rels = ElementTree.fromstring(members["xl/_rels/workbook.xml.rels"])
+    targets = {}
+    for rel in rels:
+        target = rel.get("Target", "")
+        targets[rel.get("Id")] = target.lstrip("/") if target.startswith("/") else f"xl/{target}"
+    book = ElementTree.fromstring(members["xl/workbook.xml"])
+    parts = {}
+    for sheet in book.iter(f"{{{_MAIN_NS}}}sheet"):
+        target = targets.get(sheet.get(f"{{{_REL_NS}}}id"))
+        if target:
+            parts[target] = sheet.get("name")
+    return parts
+
+
+def _restore_results(xml: bytes, results: dict[str, object]) -> bytes:
+    """Fill the empty <v> of each formula cell in one worksheet part with its result."""
+    root = ElementTree.fromstring(xml)
+    for cell in root.iter(f"{{{_MAIN_NS}}}c"):
+        value = results.get(cell.get("r", ""))
+        if value is None or cell.find(f"{{{_MAIN_NS}}}f") is None:
+            continue
+        if isinstance(value, bool):
+            kind, text = "b", "1" if value else "0"
+        elif isinstance(value, (int, float)):
+            kind, text = "n", repr(float(value)) if isinstance(value, float) else str(value)
+        elif isinstance(value, str) and value in _ERROR_VALUES:
+            kind, text = "e", value
+        else:
+            kind, text = "str", str(value)
+        cell.set("t", kind)
+        slot = cell.find(f"{{{_MAIN_NS}}}v")
+        if slot is None:
+            slot = ElementTree.SubElement(cell, f"{{{_MAIN_NS}}}v")
+        slot.text = text
+    # Spreadsheet programs expect the main namespace as the default one, as openpyxl wrote it.
+    return ElementTree.tostring(
+        root, encoding="UTF-8", xml_declaration=True, default_namespace=_MAIN_NS
+    )
+
+
+def _remove_output_sheets(workbook: Workbook) -> None:
+    """Drop earlier output sheets so a second solve replaces rather than adds copies."""
+    owned = {name.casefold() for name in OUTPUT_SHEETS}
+    for sheet in list(workbook._sheets):  # worksheets and chart sheets alike
+        if sheet.title.casefold() in owned:
+            workbook.remove(sheet)
+
+
+def _show_first(workbook: Workbook, sheet: Worksheet) -> None:
+    """Open the workbook on the Result sheet, with no other tab selected."""
+    for other in workbook.worksheets:
+        other.sheet_view.tabSelected = False
+    sheet.sheet_view.tabSelected = True
+    workbook.active = workbook.index(sheet)
+
+
+# --- Result sheet --------------------------------------------------------------------------
+
+
+def _write_result(workbook: Workbook, formula: Formula, title: str) -> Worksheet:
+    """The reviewer's main sheet: caution and status on top, then the two tables."""
+    sheet = workbook.create_sheet(RESULT)
+    settings = formula.blend.settings
+    sheet.column_dimensions["A"].width = _NAME_WIDTH
+    for column in range(2, _RESULT_COLUMNS + 1):
+        sheet.column_dimensions[get_column_letter(column)].width = _NUMBER_WIDTH
+
+    sheet["A1"] = title
+    sheet["A1"].font = _TITLE
+    _write_caution(sheet, row=2)
+    sheet["A4"] = "Status"
+    sheet["B4"] = formula.status
+    sheet["A5"] = "Message"
+    sheet["B5"] = formula.message
+    for cell in ("A4", "A5"):
+        sheet[cell].font = _BOLD
+
+    if not formula.solved:
+        sheet["B4"].font = _STATUS_ALERT
+        sheet["B5"].font = _STATUS_ALERT
+        sheet["A7"] = (
+            "No blend was found, so this sheet shows no numbers. Read the message above "
+            "and the notes below, correct the workbook and solve again."
+        )
+        _write_notes(sheet, formula.notes, row=9)
+        return sheet
+
+    cost_unit = _cost_unit(settings)
+    ingredient_header = 10
+    first = ingredient_header + 1
+    last = first + len(formula.ingredients) - 1
+    inclusion_rows = {line.name: first + i for i, line in enumerate(formula.ingredients)}
+
+    sheet["A6"] = "Blend cost"
+    _number(sheet.cell(6, 2), formula.cost, MONEY_FORMAT)
+    sheet["C6"] = cost_unit
+    sheet["A7"] = "Blend cost from input prices"
+    cost_check = _recompute_formula(
+        formula, inclusion_rows, workbook, lambda item: item.cells.get("cost")
+    )
+    if cost_check is not None:
+        _live(sheet.cell(7, 2), cost_check, MONEY_FORMAT)
+        sheet["C7"] = f"{cost_unit} (live formula: inclusions below x Cost column)"
+    else:
+        sheet["C7"] = "not available: input cells unknown or formula too long"
+    sheet["A8"] = "Batch"
+    whole = float(settings.batch_size).is_integer()
+    _number(sheet.cell(8, 2), settings.batch_size, "#,##0" if whole else AMOUNT_FORMAT)
+    sheet["C8"] = settings.mass_unit
+    for cell in ("A6", "A7", "A8"):
+        sheet[cell].font = _BOLD
+
+    _write_ingredients(sheet, formula, ingredient_header, settings)
+    total_row = last + 1
+    sheet.cell(total_row, 1, "Total").font = _BOLD
+    if formula.ingredients:
+        for column, number_format in ((2, PERCENT_FORMAT), (3, AMOUNT_FORMAT), (4, MONEY_FORMAT)):
+            letter = get_column_letter(column)
+            cell = sheet.cell(total_row, column, f"=SUM({letter}{first}:{letter}{last})")
+            cell.number_format = number_format
+            cell.font = _BOLD
+            cell.border = Border(top=_THIN)
+
+    nutrient_header = total_row + 2
+    _write_nutrients(sheet, formula, nutrient_header, inclusion_rows, workbook)
+    notes_row = nutrient_header + len(formula.nutrients) + 2
+    _write_notes(sheet, formula.notes, notes_row)
+
+    sheet.freeze_panes = sheet.cell(first, 2)  # top block, table header and names stay
+    return sheet
+
+
+def _write_caution(sheet: Worksheet, row: int) -> None:
+    """The caution in a boxed, wrapped cell across the table's width."""
+    cell = sheet.cell(row, 1, CAUTION)
+    cell.font = _BOLD
+    cell.alignment = _WRAP_TOP
+    sheet.merge_cells(start_row=row, start_column=1, end_row=row, end_column=_RESULT_COLUMNS)
+    for column in range(1, _RESULT_COLUMNS + 1):
+        sheet.cell(row, column).border = _BOX
+    width = _NAME_WIDTH + _NUMBER_WIDTH * (_RESULT_COLUMNS - 1)
+    lines = math.ceil(len(CAUTION) * 1.15 / width)  # bold text runs a little wider
+    sheet.row_dimensions[row].height = 15 * lines + 4
+
+
+def _write_ingredients(
+    sheet: Worksheet, formula: Formula, header_row: int, settings: Settings
+) -> None:
+    """One row per ingredient line, numbers as numbers."""
+    cost_unit = _cost_unit(settings)
+    money = settings.currency or "currency"
+    batch = f"{_plain(settings.batch_size)} {settings.mass_unit}"
+    _header(
+        sheet,
+        header_row,
+        [
+            "Ingredient",
+            "Inclusion (%)",
+            f"Amount ({settings.mass_unit} per {batch} batch)",
+            f"Cost per batch ({money})",
+            f"Price ({cost_unit})",
+            f"Reduced cost ({cost_unit} per 1 % inclusion)",
+            f"Price at which it would come in ({cost_unit})",
+        ],
+    )
+    for offset, line in enumerate(formula.ingredients, start=1):
+        row = header_row + offset
+        sheet.cell(row, 1, line.name)
+        _number(sheet.cell(row, 2), line.inclusion, PERCENT_FORMAT)
+        _number(sheet.cell(row, 3), line.amount, AMOUNT_FORMAT)
+        _number(sheet.cell(row, 4), line.batch_cost, MONEY_FORMAT)
+        _number(sheet.cell(row, 5), line.cost, MONEY_FORMAT)
+        _number(sheet.cell(row, 6), line.reduced_cost, REDUCED_COST_FORMAT)
+        if not line.used:
+            sheet.cell(row, 7, "not in use (Use = no)")
+        elif line.entry_price is not None:
+            _number(sheet.cell(row, 7), line.entry_price, MONEY_FORMAT)
+
+
+def _write_nutrients(
+    sheet: Worksheet,
+    formula: Formula,
+    header_row: int,
+    inclusion_rows: dict[str, int],
+    workbook: Workbook,
+) -> None:
+    """One row per nutrient, with a live formula recomputing its level from the inputs."""
+    _header(
+        sheet,
+        header_row,
+        ["Nutrient", "Unit", "Min", "Max", "Level", "Position", "Level from input contents"],
+    )
+    for offset, line in enumerate(formula.nutrients, start=1):
+        row = header_row + offset
+        number_format = _nutrient_format(line)
+        sheet.cell(row, 1, line.name)
+        sheet.cell(row, 2, line.unit)
+        _number(sheet.cell(row, 3), line.minimum, number_format)
+        _number(sheet.cell(row, 4), line.maximum, number_format)
+        _number(sheet.cell(row, 5), line.level, number_format)
+        sheet.cell(row, 6, line.position)
+        check = _recompute_formula(
+            formula,
+            inclusion_rows,
+            workbook,
+            lambda item, nutrient=line.name: item.content_cells.get(nutrient),
+        )
+        if check is not None:
+            _live(sheet.cell(row, 7), check, number_format)
+
+
+def _write_notes(sheet: Worksheet, notes: tuple[str, ...], row: int) -> None:
+    """Advisory notes, one per row, under a bold heading."""
+    if not notes:
+        return
+    sheet.cell(row, 1, "Notes").font = _BOLD
+    for offset, note in enumerate(notes, start=1):
+        sheet.cell(row + offset, 1, note)
+
+
+def _recompute_formula(
+    formula: Formula,
+    inclusion_rows: dict[str, int],
+    workbook: Workbook,
+    input_cell,
+) -> str | None:
+    """A live formula: sum of (inclusion cell on Result x input cell) / 100.
+
+    `input_cell(ingredient)` gives the reader's reference for the value to weigh. Every
+    ingredient is included, so editing any inclusion cell updates the result; if that
+    would pass the spreadsheet formula length limit, only the ingredients in the blend
+    are kept. Returns None when an input cell is unknown.
+    """
+    terms: list[tuple[float, str]] = []
+    for line in formula.ingredients:
+        try:
+            reference = input_cell(formula.blend.ingredient(line.name))
+        except KeyError:
+            return None
+        operand = _input_operand(workbook, reference)
+        if operand is None:
+            return None
+        terms.append((line.inclusion, f"B{inclusion_rows[line.name]}*{operand}"))
+    if not terms:
+        return None
+    text = _sum_formula([term for _, term in terms])
+    if len(text) > MAX_FORMULA_LENGTH:
+        text = _sum_formula([term for inclusion, term in terms if inclusion != 0] or ["0"])
+    return text if len(text) <= MAX_FORMULA_LENGTH else None
+
+
+def _sum_formula(terms: list[str]) -> str:
+    """Plain + and * only, so every spreadsheet program evaluates it the same way."""
+    return "=(" + "+".join(terms) + ")/100"
+
+
+def _input_operand(workbook: Workbook, reference: str | None) -> str | None:
+    """The reader's "Sheet!A1" (or bare "A1", on Ingredients) as a formula operand.
+
+    A number shown as a percentage (0.05 shown as 5%) was read as the number shown, so
+    the operand is scaled the same way: ``Ingredients!F2*100``. None when the sheet is
+    not in the workbook.
+    """
+    if not reference:
+        return None
+    sheet_name, bang, coordinate = reference.rpartition("!")
+    if not bang:
+        sheet_name = INGREDIENTS_SHEET
+    if len(sheet_name) > 1 and sheet_name[0] == sheet_name[-1] == "'":
+        sheet_name = sheet_name[1:-1].replace("''", "'")
+    sheet = _sheet_named(workbook, sheet_name)
+    if sheet is None:
+        return None
+    try:
+        row, column = coordinate_to_tuple(coordinate.replace("$", ""))
+    except (ValueError, TypeError):
+        return None
+    operand = f"{_quote_sheet(sheet.title)}!{coordinate}"
+    cell = sheet._cells.get((row, column))  # never sheet[...]: that would add a cell
+    if cell is not None and _scaled_as_percent(cell.value, cell.number_format):
+        operand += "*100"
+    return operand
+
+
+def _sheet_named(workbook: Workbook, name: str) -> Worksheet | None:
+    """The worksheet called `name`, ignoring case as spreadsheet programs do."""
+    for sheet in workbook.worksheets:
+        if sheet.title.casefold() == name.casefold():
+            return sheet
+    return None
+
+
+def _scaled_as_percent(value: object, number_format: str) -> bool:
+    """The reader's rule: a number (typed or computed) in a format with an unquoted,
+    unescaped % outside [brackets] is read as the percentage shown. Keep in step with
+    `blendkit.read_workbook`."""
+    if isinstance(value, str) and not value.startswith("="):
+        return False  # text that looks like a number is read as written
+    return "%" in _LITERAL_FORMAT_PARTS.sub("", number_format or "")
+
+
+def _quote_sheet(name: str) -> str:
+    """Quote a sheet name only when a formula needs it (spaces, symbols, cell-like)."""
+    plain = re.fullmatch(r"[A-Za-z_][A-Za-z0-9_]*", name)
+    cell_like = re.fullmatch(r"[A-Za-z]{1,3}[0-9]+|[Rr][0-9]*([Cc][0-9]*)?", name)
+    if plain and not cell_like:
+        return name
+    return "'" + name.replace("'", "''") + "'"
+
+
+# --- Shadow prices sheet -------------------------------------------------------------------
+
+
+def _write_shadow_prices(workbook: Workbook, formula: Formula) -> None:
+    """One row per limit the user wrote: how much the cost moves per unit of its bound."""
+    sheet = workbook.create_sheet(SHADOW_PRICES)
+    settings = formula.blend.settings
+    sheet["A1"] = (
+        f"Shadow price: change in blend cost ({_cost_unit(settings)}) when the bound is "
+        "raised by 1 unit; 0 where the bound does not bind. It holds for small changes only."
+    )
+    headers = [
+        "Kind",
+        "Name",
+        "Side",
+        "Bound",
+        "Level",
+        "Binding",
+        "Shadow price",
+        "Shadow price unit",
+        "Bound read from",
+    ]
+    _header(sheet, 3, headers)
+    nutrient_formats = {line.name: _nutrient_format(line) for line in formula.nutrients}
+    for offset, limit in enumerate(formula.limits, start=1):
+        row = 3 + offset
+        if limit.kind == "ingredient":
+            number_format = PERCENT_FORMAT
+        else:
+            number_format = nutrient_formats.get(limit.name) or _format_by_size(
+                [limit.bound, limit.level], 1
+            )
+        sheet.cell(row, 1, limit.kind)
+        sheet.cell(row, 2, limit.name)
+        sheet.cell(row, 3, limit.side)
+        _number(sheet.cell(row, 4), limit.bound, number_format)
+        _number(sheet.cell(row, 5), limit.level, number_format)
+        sheet.cell(row, 6, "yes" if limit.binding else "no")
+        _number(sheet.cell(row, 7), limit.shadow_price, _format_by_size([limit.shadow_price], 2))
+        sheet.cell(row, 8, _shadow_price_unit(limit, formula.blend))
+        sheet.cell(row, 9, limit.cell)
+    if not formula.limits:
+        if formula.solved:
+            empty = "No limits to show: the workbook sets no specs or inclusion limits."
+        else:
+            empty = f"No shadow prices: the solve ended with status {formula.status!r}."
+        sheet.cell(4, 1, empty)
+    widths = [12, 28, 8, 14, 14, 9, 14, 44, 16]
+    for column, width in enumerate(widths, start=1):
+        sheet.column_dimensions[get_column_letter(column)].width = width
+    sheet.freeze_panes = "A4"
+
+
+def _shadow_price_unit(limit: Limit, blend: Blend) -> str:
+    """E.g. "EUR/tonne per 1 unit of Crude protein (%)" or "EUR/tonne per 1 % inclusion"."""
+    settings = blend.settings
+    per = f"{settings.currency or 'cost'}/{settings.cost_per}"
+    if limit.kind == "ingredient":
+        return f"{per} per 1 % inclusion"
+    unit = blend.nutrient_units.get(limit.name, "")
+    label = f"{limit.name} ({unit})" if unit else limit.name
+    return f"{per} per 1 unit of {label}"
+
+
+# --- Run info sheet ------------------------------------------------------------------------
+
+
+def _write_run_info(workbook: Workbook, formula: Formula, run: RunInfo, title: str) -> None:
+    """Key/value facts that tie the output to its input and to this run."""
+    sheet = workbook.create_sheet(RUN_INFO)
+    rows = [
+        ("Blend", title),
+        ("Tool version", f"blendkit {run.tool_version}"),
+        ("Run at (UTC)", run.started_utc),
+        ("Input file", run.input_name),
+        ("Input SHA-256", run.input_sha256),
+        ("Status", formula.status),
+        ("Message", formula.message),
+        ("Iterations", formula.iterations),
+        ("Caution", CAUTION),
+    ]
+    _header(sheet, 1, ["Item", "Value"])
+    for offset, (key, value) in enumerate(rows, start=2):
+        sheet.cell(offset, 1, key).font = _BOLD
+        cell = sheet.cell(offset, 2, value)
+        if key == "Caution":
+            cell.alignment = _WRAP_TOP
+            cell.font = _BOLD
+            sheet.row_dimensions[offset].height = 15 * math.ceil(len(CAUTION) / 70) + 4
+    sheet.column_dimensions["A"].width = 16
+    sheet.column_dimensions["B"].width = 80
+    sheet.freeze_panes = "A2"
+
+
+# --- small shared helpers ------------------------------------------------------------------
+
+
+def _header(sheet: Worksheet, row: int, labels: list[str]) -> None:
+    """Bold, wrapped header labels with a rule underneath."""
+    for column, label in enumerate(labels, start=1):
+        cell = sheet.cell(row, column, label)
+        cell.font = _BOLD
+        cell.border = _HEADER_BORDER
+        cell.alignment = Alignment(wrap_text=True, vertical="bottom")
+    longest = max(len(label) for label in labels[1:]) if len(labels) > 1 else 0
+    lines = max(1, math.ceil(longest / _NUMBER_WIDTH))
+    sheet.row_dimensions[row].height = 15 * min(lines, 4) + 2
+
+
+def _number(cell, value: float | None, number_format: str) -> None:
+    """Write a number (never a string); blank for None and for non-finite values."""
+    if value is None or not math.isfinite(value):
+        return
+    cell.value = float(value) + 0.0  # a plain float: no numpy scalar, no -0.0
+    cell.number_format = number_format
+
+
+def _live(cell, formula_text: str, number_format: str) -> None:
+    """Write a live spreadsheet formula for the reviewer, formatted like the value it checks."""
+    cell.value = formula_text
+    cell.number_format = number_format
+
+
+def _nutrient_format(line: NutrientLine) -> str:
+    """One format for a nutrient's min, max and level, wherever they appear."""
+    return _format_by_size([line.minimum, line.maximum, line.level], 1)
+
+
+def _format_by_size(values: list[float | None], least: int) -> str:
+    """A format showing about four significant digits of the largest value, comma-grouped."""
+    sizes = [abs(v) for v in values if v is not None and math.isfinite(v) and v != 0]
+    if not sizes:
+        decimals = least
+    else:
+        decimals = 3 - math.floor(math.log10(max(sizes)))
+        decimals = min(6, max(least, decimals))
+    return "#,##0." + "0" * decimals
+
+
+def _cost_unit(settings: Settings) -> str:
+    """E.g. "EUR per tonne"; just "per tonne" when no currency is given."""
+    return f"{settings.currency} per {settings.cost_per}".strip()
+
+
+def _plain(value: float) -> str:
+    """A number without a needless ".0" (1000, not 1000.0)."""
+    return f"{value:g}"

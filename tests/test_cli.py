@@ -1,0 +1,189 @@
+"""The command line end to end: exit codes, exact messages, files on disk."""
+
+from __future__ import annotations
+
+import json
+import re
+import shutil
+import subprocess
+import sys
+from pathlib import Path
+
+import numpy as np
+import openpyxl
+import pytest
+from typer.testing import CliRunner
+
+from blendkit.cli import app
+from tests.reference import highs
+from tests.workbooks import INGREDIENTS, SPECS, make_workbook
+
+ROOT = Path(__file__).resolve().parents[1]
+SAMPLE = ROOT / "sample_workbooks" / "broiler_starter.xlsx"
+runner = CliRunner()
+
+
+def run(*args):
+    """Invoke the CLI in-process; returns the click Result (stdout and stderr separate)."""
+    return runner.invoke(app, [str(a) for a in args])
+
+
+@pytest.fixture
+def sample(tmp_path):
+    """A copy of the sample workbook in tmp_path."""
+    copy = tmp_path / SAMPLE.name
+    shutil.copyfile(SAMPLE, copy)
+    return copy
+
+
+def _sheet_rows(path, title):
+    book = openpyxl.load_workbook(path)
+    return [[c for c in row] for row in book[title].iter_rows(values_only=True)]
+
+
+def test_solve_sample_writes_output_and_keeps_input(sample):
+    before = sample.read_bytes()
+    result = run("solve", sample)
+    assert result.exit_code == 0, result.output
+    assert "optimal" in result.stdout
+    output = sample.with_name("broiler_starter.result.xlsx")
+    assert output.exists()
+    assert sample.read_bytes() == before  # the input is byte-for-byte unchanged
+    book = openpyxl.load_workbook(output)
+    assert {"Ingredients", "Specs", "Settings", "Result", "Shadow prices", "Run info"} <= set(book.sheetnames)
+
+
+def test_json_matches_workbook_and_independent_lp(sample, tmp_path):
+    out = tmp_path / "out.xlsx"
+    result = run("solve", sample, "-o", out, "--json")
+    assert result.exit_code == 0, result.output
+    doc = json.loads(result.stdout)
+    assert doc["status"] == "optimal"
+    assert abs(sum(doc["ingredients"].values()) - 100) < 1e-7
+    # The cost agrees with an independent formulation solved by HiGHS (tests/test_examples.py
+    # builds that LP from the workbook cells with openpyxl only).
+    from tests.test_examples import solve_with_highs
+
+    reference, *_ = solve_with_highs(sample)
+    assert doc["cost"] == pytest.approx(reference.fun, rel=1e-7)
+    # Every number in the JSON appears in the output workbook's Result sheet.
+    rows = _sheet_rows(out, "Result")
+    by_name = {}
+    for row in rows:
+        if row and isinstance(row[0], str) and len(row) > 1 and isinstance(row[1], (int, float)):
+            by_name.setdefault(row[0], row[1])
+    for name, inclusion in doc["ingredients"].items():
+        assert by_name[name] == pytest.approx(inclusion, abs=1e-9)
+    limits = _sheet_rows(out, "Shadow prices")
+    cells = {row[-1] for row in limits if row and row[-1]}
+    for limit in doc["limits"]:
+        assert limit["cell"] in cells
+        assert re.fullmatch(r"(Specs|Ingredients)![A-Z]+[0-9]+", limit["cell"])
+
+
+def test_shadow_prices_match_highs_marginals(sample, tmp_path):
+    # d(cost)/d(bound) from HiGHS's duals on the same LP (built from the workbook by our
+    # reader and builder; the duals themselves come from the outside library).
+    from blendkit.build_lp import build_lp
+    from blendkit.read_workbook import read_workbook
+
+    lp = build_lp(read_workbook(sample))
+    ref = highs(lp.c, A_ub=lp.A_ub, b_ub=lp.b_ub, A_eq=lp.A_eq, b_eq=lp.b_eq, bounds=lp.bounds)
+    doc = json.loads(run("solve", sample, "-o", tmp_path / "o.xlsx", "--json").stdout)
+    nutrient_limits = [limit for limit in doc["limits"] if limit["kind"] == "nutrient"]
+    assert len(nutrient_limits) == len(lp.ub_rows)
+    for limit, source, marginal in zip(nutrient_limits, lp.ub_rows, ref.marginals_ub):
+        assert (limit["name"], limit["side"]) == (source.name, source.side)
+        expected = -marginal if source.side == "min" else marginal
+        assert limit["shadow_price"] == pytest.approx(expected, rel=1e-6, abs=1e-7)
+
+
+def test_pearson_square_workbook(tmp_path):
+    # Pearson square, common practice: 8.5 % and 44 % crude protein feeds blended to 16 %
+    # give 78.87 % and 21.13 %.
+    book = make_workbook(
+        tmp_path,
+        [["Ingredient", "Cost", "Crude protein (%)"], ["Barley", 180, 8.5], ["Soybean meal", 400, 44]],
+        [["Nutrient", "Min", "Max"], ["Crude protein", 16, 16]],
+    )
+    doc = json.loads(run("solve", book, "--json").stdout)
+    assert doc["ingredients"]["Barley"] == pytest.approx(78.87, abs=0.005)
+    assert doc["ingredients"]["Soybean meal"] == pytest.approx(21.13, abs=0.005)
+    assert doc["nutrients"]["Crude protein"] == pytest.approx(16)
+
+
+def test_infeasible_exits_3_and_says_so(tmp_path):
+    specs = [row[:] for row in SPECS]
+    specs[1] = ["Crude protein", 60, None]  # no ingredient has 60 % protein
+    book = make_workbook(tmp_path, INGREDIENTS, specs)
+    result = run("solve", book)
+    assert result.exit_code == 3
+    assert "infeasible" in result.stdout
+    assert book.with_name("blend.result.xlsx").exists()  # written so the reviewer sees it
+    doc = json.loads(run("solve", book, "--json").stdout)
+    assert doc["status"] == "infeasible" and doc["cost"] is None
+
+
+def test_workbook_errors_exit_1_with_cells(tmp_path):
+    ingredients = [row[:] for row in INGREDIENTS]
+    ingredients[2][1] = "n/a"
+    book = make_workbook(tmp_path, ingredients, SPECS)
+    for command in ("solve", "check"):
+        result = run(command, book)
+        assert result.exit_code == 1
+        assert 'Ingredients!B3: cost "n/a" is not a number' in result.stderr
+        assert "Traceback" not in result.output
+    assert not book.with_name("blend.result.xlsx").exists()
+    doc = json.loads(run("solve", book, "--json").stdout)
+    assert doc["status"] == "workbook_error"
+    assert doc["problems"][0]["where"] == "Ingredients!B3"
+
+
+def test_check_valid_workbook(sample):
+    result = run("check", sample)
+    assert result.exit_code == 0
+    assert "no problems found" in result.stdout
+    assert not sample.with_name("broiler_starter.result.xlsx").exists()
+
+
+def test_output_over_input_is_refused(sample):
+    before = sample.read_bytes()
+    result = run("solve", sample, "-o", sample)
+    assert result.exit_code == 2
+    assert "would overwrite the input" in result.stderr
+    assert sample.read_bytes() == before
+
+
+def test_missing_file_and_not_a_workbook(tmp_path):
+    result = run("solve", tmp_path / "nothing.xlsx")
+    assert result.exit_code == 1 and "Traceback" not in result.output
+    junk = tmp_path / "junk.xlsx"
+    junk.write_text("not a workbook")
+    result = run("check", junk)
+    assert result.exit_code == 1 and "junk.xlsx" in result.stderr
+
+
+def test_solving_an_output_again_replaces_result_sheets(sample, tmp_path):
+    first = tmp_path / "first.xlsx"
+    assert run("solve", sample, "-o", first).exit_code == 0
+    second_run = run("solve", first)
+    assert second_run.exit_code == 0
+    second = tmp_path / "first.result.xlsx"
+    names = openpyxl.load_workbook(second).sheetnames
+    assert names.count("Result") == 1 and names.count("Shadow prices") == 1 and names.count("Run info") == 1
+
+
+def test_every_command_has_help_and_is_in_readme():
+    readme = (ROOT / "README.md").read_text()
+    commands = [command.name or command.callback.__name__ for command in app.registered_commands]
+    assert set(commands) == {"solve", "check"}
+    for name in commands:
+        result = run(name, "--help")
+        assert result.exit_code == 0
+        assert len(result.stdout.strip()) > 40
+        assert f"blendkit {name}" in readme
+
+
+def test_python_dash_m_runs(tmp_path):
+    result = subprocess.run([sys.executable, "-m", "blendkit", "--version"], capture_output=True, text=True, cwd=ROOT)
+    assert result.returncode == 0 and result.stdout.startswith("blendkit ")

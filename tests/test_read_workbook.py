@@ -1,0 +1,731 @@
+"""The workbook reader: good workbooks become a Blend, bad ones one WorkbookError with every problem."""
+
+from __future__ import annotations
+
+import hashlib
+import zipfile
+from pathlib import Path
+
+import pytest
+
+from blendkit.errors import Problem, WorkbookError
+from blendkit.model import Settings
+from blendkit.read_workbook import read_workbook
+from tests.workbooks import INGREDIENTS, NO_SPECS, SPECS, Styled, make_workbook, percent, store_saved_values
+
+HEADER = ["Ingredient", "Cost", "Min", "Max", "Use", "Protein"]
+
+
+def problems_of(path: Path) -> list[str]:
+    """Every problem the reader reports for `path`, as "where: message" lines."""
+    with pytest.raises(WorkbookError) as caught:
+        read_workbook(path)
+    return [str(problem) for problem in caught.value.problems]
+
+
+def only_problem(path: Path) -> Problem:
+    """The single problem reported for `path`."""
+    with pytest.raises(WorkbookError) as caught:
+        read_workbook(path)
+    assert len(caught.value.problems) == 1, caught.value.describe()
+    return caught.value.problems[0]
+
+
+def with_row(*rows: list, header: list = HEADER) -> list[list]:
+    """An Ingredients sheet with `header` and the given rows."""
+    return [header, *rows]
+
+
+# --- Good workbooks ---------------------------------------------------------------------
+
+
+def test_reads_the_demo_workbook(tmp_path):
+    path = make_workbook(tmp_path, INGREDIENTS, SPECS)
+    blend = read_workbook(path)
+
+    assert blend.source == path
+    assert blend.nutrients == ("Crude protein", "Energy", "Calcium")
+    assert blend.nutrient_units == {"Crude protein": "%", "Energy": "MJ/kg", "Calcium": "%"}
+    assert [item.name for item in blend.ingredients] == ["Maize", "Soybean meal", "Wheat bran", "Limestone"]
+    soy = blend.ingredient("Soybean meal")
+    assert (soy.cost, soy.minimum, soy.maximum, soy.use) == (425.0, None, 30.0, True)
+    assert soy.contents == {"Crude protein": 45.5, "Energy": 9.9, "Calcium": 0.3}
+    assert soy.blanks == ()
+    assert soy.cells == {
+        "name": "Ingredients!A3", "cost": "Ingredients!B3", "min": "Ingredients!C3",
+        "max": "Ingredients!D3", "use": "Ingredients!E3",
+    }
+    assert soy.content_cells == {
+        "Crude protein": "Ingredients!F3", "Energy": "Ingredients!G3", "Calcium": "Ingredients!H3",
+    }
+    assert [(s.nutrient, s.minimum, s.maximum) for s in blend.specs] == [
+        ("Crude protein", 16.5, None), ("Energy", 11.2, 12.0), ("Calcium", 3.6, 4.1),
+    ]
+    assert blend.specs[1].cells == {"nutrient": "Specs!A3", "min": "Specs!B3", "max": "Specs!C3"}
+    assert blend.settings == Settings()
+
+
+def test_blank_contents_count_as_zero_and_are_recorded(tmp_path):
+    blend = read_workbook(make_workbook(tmp_path, INGREDIENTS, NO_SPECS))
+    limestone = blend.ingredient("Limestone")
+    assert limestone.contents == {"Crude protein": 0.0, "Energy": 0.0, "Calcium": 37.5}
+    assert limestone.blanks == ("Crude protein", "Energy")
+    assert limestone.content_cells["Energy"] == "Ingredients!G5"
+
+
+def test_headers_ignore_case_spaces_and_units(tmp_path):
+    ingredients = [
+        ["  INGREDIENT ", "cost (USD/short ton)", " min ( % ) ", "MAX", "use",
+         " Crude   protein (%) ", "Ash"],
+        ["Oat hulls", " 12.5", None, 40, None, 4, -1.5],
+    ]
+    specs = [["nutrient (name)", "MIN", " Max "], ["CRUDE PROTEIN", 3, None], ["ash (g)", None, 2]]
+    blend = read_workbook(make_workbook(tmp_path, ingredients, specs))
+
+    oats = blend.ingredient("Oat hulls")
+    assert (oats.cost, oats.minimum, oats.maximum, oats.use) == (12.5, None, 40.0, True)
+    # The display name keeps inner spaces as written; matching ignores them.
+    assert blend.nutrients == ("Crude   protein", "Ash")
+    assert oats.contents == {"Crude   protein": 4.0, "Ash": -1.5}
+    assert blend.nutrient_units == {"Crude   protein": "%"}  # Ash has no unit
+    assert [s.nutrient for s in blend.specs] == ["Crude   protein", "Ash"]
+
+
+def test_table_may_start_below_and_right_and_blank_rows_are_skipped(tmp_path):
+    ingredients = [
+        [],
+        [],
+        [None, "Ingredient", "Cost", None, "Protein"],  # column D has no header: ignored
+        [None, "Barley", 180, "a note", 11],
+        [],
+        [None, "Peas", 260, None, 22],
+        [None, None, None, "note under no header"],  # blank in every headed column
+    ]
+    blend = read_workbook(make_workbook(tmp_path, ingredients, NO_SPECS))
+    assert [item.name for item in blend.ingredients] == ["Barley", "Peas"]
+    peas = blend.ingredient("Peas")
+    assert peas.cells == {"name": "Ingredients!B6", "cost": "Ingredients!C6"}  # no Min/Max/Use columns
+    assert (peas.minimum, peas.maximum, peas.use) == (None, None, True)
+    assert peas.content_cells == {"Protein": "Ingredients!E6"}
+
+
+def test_sheets_are_found_ignoring_case_and_spaces(tmp_path):
+    path = make_workbook(tmp_path, sheets={
+        "Notes": [["anything"]],
+        " INGREDIENTS ": [["Ingredient", "Cost", "Fibre"], ["Straw", "oops", 40]],
+        "specs": NO_SPECS,
+    })
+    # References use the title as written in the file.
+    assert problems_of(path) == [' INGREDIENTS !B2: cost "oops" is not a number']
+
+
+def test_no_nutrient_columns_and_no_specs(tmp_path):
+    blend = read_workbook(make_workbook(tmp_path, [["Ingredient", "Cost"], ["Water", 0]], NO_SPECS))
+    assert blend.nutrients == ()
+    assert blend.specs == ()
+    assert blend.ingredient("Water").contents == {}
+
+
+def test_percent_formatted_cells_read_as_the_percentage_shown(tmp_path):
+    ingredients = with_row(
+        ["Fish meal", 900, percent(0.05), percent(0.125, "0.0%"), None, percent(0.62, "0.00%")],
+        ["Salt", 90, Styled(0.3, '0.0" %"'), Styled(0.5, "0.0\\%"), None, 0],  # literal % signs do not scale
+        ["Premix", 2000, Styled(0.07, "[Red]0%"), " 50 ", None, 0],
+    )
+    specs = [["Nutrient", "Min", "Max"], ["Protein", percent(0.17), None]]
+    blend = read_workbook(make_workbook(tmp_path, ingredients, specs))
+
+    fish = blend.ingredient("Fish meal")
+    assert (fish.minimum, fish.maximum) == (5.0, 12.5)
+    assert fish.contents == {"Protein": 62.0}
+    salt = blend.ingredient("Salt")
+    assert (salt.minimum, salt.maximum) == (0.3, 0.5)
+    premix = blend.ingredient("Premix")
+    assert premix.minimum == 7.0  # exactly, not 7.000000000000001
+    assert premix.maximum == 50.0  # text is never scaled
+    assert blend.specs[0].minimum == 17.0
+
+
+@pytest.mark.parametrize(
+    ("written", "use"),
+    [
+        ("yes", True), ("Y", True), ("TRUE", True), ("1", True), (" Yes ", True), (1, True), (True, True),
+        (None, True),
+        ("no", False), ("N", False), ("false", False), ("0", False), (0, False), (False, False),
+    ],
+)
+def test_use_values(tmp_path, written, use):
+    blend = read_workbook(make_workbook(tmp_path, with_row(["Rye", 170, None, None, written, 9]), NO_SPECS))
+    assert blend.ingredient("Rye").use is use
+
+
+def test_numbers_as_text_and_other_number_shapes(tmp_path):
+    ingredients = with_row(
+        ["A", "-3", None, None, None, "+1e2"],
+        ["B", " .5 ", "0", "100", None, "7."],
+        ["C", 10**3, 0, 0, None, -0.0],
+    )
+    blend = read_workbook(make_workbook(tmp_path, ingredients, NO_SPECS))
+    assert [(i.cost, i.minimum, i.maximum, i.contents["Protein"]) for i in blend.ingredients] == [
+        (-3.0, None, None, 100.0), (0.5, 0.0, 100.0, 7.0), (1000.0, 0.0, 0.0, 0.0),
+    ]
+
+
+def test_settings_defaults_without_a_settings_sheet(tmp_path):
+    blend = read_workbook(make_workbook(tmp_path, INGREDIENTS, SPECS))
+    assert blend.settings == Settings(
+        batch_size=1000.0, mass_unit="kg", cost_per="tonne", currency="", name=""
+    )
+
+
+def test_settings_overrides(tmp_path):
+    settings = [
+        ["Setting", "Value", "Notes"],
+        [" BATCH SIZE (lb) ", "2000", "one mixer load"],
+        ["mass unit", "LB"],
+        ["Cost per", " Short  Ton "],
+        ["currency", "USD"],
+        ["Name", "Hilltop Hens layer mash"],
+    ]
+    blend = read_workbook(make_workbook(tmp_path, INGREDIENTS, SPECS, settings))
+    assert blend.settings == Settings(
+        batch_size=2000.0, mass_unit="lb", cost_per="short ton", currency="USD",
+        name="Hilltop Hens layer mash",
+    )
+    assert blend.settings.cost_unit_in_mass_units == pytest.approx(2000.0)
+
+
+def test_blank_setting_values_keep_the_defaults(tmp_path):
+    settings = [["Setting", "Value"], ["Batch size", None], ["Mass unit", " "], ["Currency", "EUR"]]
+    blend = read_workbook(make_workbook(tmp_path, INGREDIENTS, SPECS, settings))
+    assert blend.settings == Settings(currency="EUR")
+
+
+def test_empty_settings_sheet_means_defaults(tmp_path):
+    blend = read_workbook(make_workbook(tmp_path, INGREDIENTS, SPECS, []))
+    assert blend.settings == Settings()
+
+
+def test_formula_results_are_read_like_typed_values(tmp_path):
+    ingredients = with_row(
+        ["Maize", 200, None, None, None, 8],
+        ["Maize screenings", "=B2*0.8", None, None, None, "=F2"],
+    )
+    path = make_workbook(tmp_path, ingredients, NO_SPECS)
+    store_saved_values(path, "Ingredients", {"B3": 160, "F3": 8})
+    screenings = read_workbook(path).ingredient("Maize screenings")
+    assert (screenings.cost, screenings.contents["Protein"]) == (160.0, 8.0)
+
+
+def test_formula_whose_saved_result_is_empty_text_is_blank(tmp_path):
+    ingredients = with_row(["Maize", 200, None, None, None, '=IF(1>2,1,"")'])
+    path = make_workbook(tmp_path, ingredients, NO_SPECS)
+    store_saved_values(path, "Ingredients", {"F2": ""})
+    maize = read_workbook(path).ingredient("Maize")
+    assert maize.contents == {"Protein": 0.0}
+    assert maize.blanks == ("Protein",)
+
+
+def test_the_input_file_is_not_changed(tmp_path):
+    path = make_workbook(tmp_path, INGREDIENTS, SPECS, [["Setting", "Value"], ["Name", "Hilltop"]])
+    before = (hashlib.sha256(path.read_bytes()).hexdigest(), path.stat().st_mtime_ns)
+    read_workbook(path)
+    with pytest.raises(WorkbookError):
+        bad = [["Ingredient", "Cost"], ["x", "bad"]]
+        read_workbook(make_workbook(tmp_path, bad, NO_SPECS, name="bad.xlsx"))
+    assert (hashlib.sha256(path.read_bytes()).hexdigest(), path.stat().st_mtime_ns) == before
+
+
+def test_accepts_a_string_path(tmp_path):
+    path = make_workbook(tmp_path, INGREDIENTS, SPECS)
+    assert read_workbook(str(path)).source == path
+
+
+# --- Problems in cells ------------------------------------------------------------------
+
+
+def test_not_a_number_message_is_exact(tmp_path):
+    ingredients = [["Ingredient", "Protein", "Fat", "Cost"]] + [[f"I{n}", 1, 1, 10] for n in range(5)]
+    ingredients.append(["Lupins", 30, 6, "n/a"])  # row 7, Cost in column D
+    assert str(only_problem(make_workbook(tmp_path, ingredients, NO_SPECS))) == (
+        'Ingredients!D7: cost "n/a" is not a number'
+    )
+
+
+@pytest.mark.parametrize(
+    ("written", "message"),
+    [
+        ("n/a", 'cost "n/a" is not a number'),
+        ("nan", 'cost "nan" is not a number'),
+        ("inf", 'cost "inf" is not a number'),
+        ("-Infinity", 'cost "-Infinity" is not a number'),
+        ("1e999", 'cost "1e999" is not a number'),
+        ("0x10", 'cost "0x10" is not a number'),
+        (True, 'cost "TRUE" is not a number'),
+        ("1,250.5", 'cost "1,250.5" is not a number (write it with no commas or spaces, with a point '
+                    "for decimals, as in 1250.5)"),
+        ("12 %", 'cost "12 %" is not a number (type the number alone; put a unit in the column header, '
+                 'as in "Min (%)")'),
+        (Styled(12, "yyyy-mm-dd"), 'cost "1900-01-12 00:00:00" is not a number (the cell is formatted as a '
+                                   "date or time; format it as a number)"),
+    ],
+)
+def test_values_that_are_not_numbers(tmp_path, written, message):
+    path = make_workbook(tmp_path, with_row(["Oats", written, None, None, None, 11]), NO_SPECS)
+    assert only_problem(path) == Problem("Ingredients!B2", message)
+
+
+def test_nutrient_cells_must_be_numbers(tmp_path):
+    path = make_workbook(tmp_path, with_row(["Oats", 190, None, None, None, "high"]), NO_SPECS)
+    assert only_problem(path) == Problem("Ingredients!F2", 'Protein "high" is not a number')
+
+
+def test_blank_cost(tmp_path):
+    path = make_workbook(tmp_path, with_row(["Oats", None, None, None, None, 11]), NO_SPECS)
+    assert only_problem(path) == Problem(
+        "Ingredients!B2", "cost is blank; type the price of this ingredient (per tonne)"
+    )
+
+
+def test_blank_cost_message_names_the_currency_and_cost_unit(tmp_path):
+    settings = [["Setting", "Value"], ["Currency", "NZD"], ["Cost per", "kg"]]
+    path = make_workbook(tmp_path, with_row(["Oats", None, None, None, None, 11]), NO_SPECS, settings)
+    assert only_problem(path).message == "cost is blank; type the price of this ingredient (NZD per kg)"
+
+
+@pytest.mark.parametrize(
+    ("minimum", "maximum", "expected"),
+    [
+        (-1, None, ["Ingredients!C2: min -1 is outside 0 to 100; inclusion limits are % of the blend"]),
+        (None, 101, ["Ingredients!D2: max 101 is outside 0 to 100; inclusion limits are % of the blend"]),
+        (None, percent(1.5), ["Ingredients!D2: max 150 is outside 0 to 100; inclusion limits are % of "
+                              "the blend"]),
+        (20, 10, ["Ingredients!D2: max 10 is below min 20 in Ingredients!C2; make max at least min"]),
+        ("some", "lots", ['Ingredients!C2: min "some" is not a number',
+                          'Ingredients!D2: max "lots" is not a number']),
+    ],
+)
+def test_inclusion_limits(tmp_path, minimum, maximum, expected):
+    path = make_workbook(tmp_path, with_row(["Oats", 190, minimum, maximum, None, 11]), NO_SPECS)
+    assert problems_of(path) == expected
+
+
+def test_use_must_be_yes_or_no(tmp_path):
+    path = make_workbook(tmp_path, with_row(["Oats", 190, None, None, "maybe", 11]), NO_SPECS)
+    assert only_problem(path) == Problem(
+        "Ingredients!E2", 'use "maybe" is not yes or no; write yes or no (blank means yes)'
+    )
+
+
+def test_use_number_other_than_0_or_1(tmp_path):
+    path = make_workbook(tmp_path, with_row(["Oats", 190, None, None, 2, 11]), NO_SPECS)
+    assert only_problem(path).message == 'use "2" is not yes or no; write yes or no (blank means yes)'
+
+
+def test_duplicate_ingredient_names(tmp_path):
+    ingredients = with_row(
+        ["Soybean meal", 400, None, None, None, 46],
+        [" SOYBEAN  meal ", 410, None, None, None, 44],
+    )
+    assert only_problem(make_workbook(tmp_path, ingredients, NO_SPECS)) == Problem(
+        "Ingredients!A3",
+        'ingredient "SOYBEAN  meal" is already listed in Ingredients!A2 (names are compared ignoring '
+        "case and spaces); give each ingredient its own name, or delete one row",
+    )
+
+
+def test_row_without_a_name(tmp_path):
+    ingredients = with_row(["Oats", 190, None, None, None, 11], [None, 150, None, None, None, 9])
+    assert only_problem(make_workbook(tmp_path, ingredients, NO_SPECS)) == Problem(
+        "Ingredients!A3", "this row has values but no ingredient name; type a name, or clear the row"
+    )
+
+
+def test_no_ingredient_rows(tmp_path):
+    assert only_problem(make_workbook(tmp_path, [HEADER], NO_SPECS)) == Problem(
+        "Ingredients!1:1", "there are no ingredients under the header row; add at least one ingredient row"
+    )
+
+
+def test_duplicate_headers_are_reported_on_the_second(tmp_path):
+    ingredients = [
+        ["Ingredient", "Cost", "Crude protein (%)", "crude PROTEIN (g/kg)", "cost (EUR/t)"],
+        ["Oats", 190, 11, 110, 190],
+    ]
+    assert problems_of(make_workbook(tmp_path, ingredients, NO_SPECS)) == [
+        'Ingredients!D1: the column "crude PROTEIN (g/kg)" repeats the column "Crude protein" in '
+        "Ingredients!C1 (headers are compared ignoring case, spaces and a trailing unit in "
+        "parentheses); rename or delete one of them",
+        'Ingredients!E1: the column "cost (EUR/t)" repeats the column "Cost" in Ingredients!B1 '
+        "(headers are compared ignoring case, spaces and a trailing unit in parentheses); rename "
+        "or delete one of them",
+    ]
+
+
+def test_header_with_a_unit_but_no_name(tmp_path):
+    ingredients = [["Ingredient", "Cost", "(%)"], ["Oats", 190, 11]]
+    assert only_problem(make_workbook(tmp_path, ingredients, NO_SPECS)) == Problem(
+        "Ingredients!C1",
+        'header "(%)" has a unit but no name; write the name before the unit, as in "Crude protein (%)"',
+    )
+
+
+# --- Specs ------------------------------------------------------------------------------
+
+
+def specs_problems(tmp_path: Path, *rows: list, header: list | None = None) -> list[str]:
+    """Problems for a Specs sheet with these rows, against the demo Ingredients sheet."""
+    specs = [header or ["Nutrient", "Min", "Max"], *rows]
+    return problems_of(make_workbook(tmp_path, INGREDIENTS, specs))
+
+
+def test_spec_for_an_unknown_nutrient_lists_the_columns(tmp_path):
+    assert specs_problems(tmp_path, ["Lysine", 0.7, None]) == [
+        'Specs!A2: no nutrient column "Lysine" in Ingredients; a spec must name one of its nutrient '
+        'columns; the nutrient columns are: "Crude protein", "Energy", "Calcium"'
+    ]
+
+
+def test_spec_for_a_misspelt_nutrient_suggests_the_closest(tmp_path):
+    assert specs_problems(tmp_path, ["Calcum (%)", 3.6, None]) == [
+        'Specs!A2: no nutrient column "Calcum" in Ingredients; a spec must name one of its nutrient '
+        'columns; did you mean "Calcium"?; the nutrient columns are: "Crude protein", "Energy", "Calcium"'
+    ]
+
+
+def test_spec_with_many_nutrient_columns_only_suggests(tmp_path):
+    names = ["Lysine", "Methionine", "Threonine", "Tryptophan", "Arginine", "Valine", "Leucine",
+             "Isoleucine", "Histidine"]
+    ingredients = [["Ingredient", "Cost", *names], ["Peas", 260, *range(len(names))]]
+    specs = [["Nutrient", "Min", "Max"], ["Methionin", 0.3, None], ["Ash", 0.1, None]]
+    assert problems_of(make_workbook(tmp_path, ingredients, specs)) == [
+        'Specs!A2: no nutrient column "Methionin" in Ingredients; a spec must name one of its nutrient '
+        'columns; did you mean "Methionine"?',
+        'Specs!A3: no nutrient column "Ash" in Ingredients; a spec must name one of its nutrient '
+        "columns; check the spelling against the headers of Ingredients",
+    ]
+
+
+def test_spec_when_ingredients_has_no_nutrient_columns(tmp_path):
+    specs = [["Nutrient", "Min", "Max"], ["Salt", 1, 2]]
+    path = make_workbook(tmp_path, [["Ingredient", "Cost"], ["Water", 0]], specs)
+    assert only_problem(path) == Problem(
+        "Specs!A2",
+        'no nutrient column "Salt" in Ingredients, which has no nutrient columns; add a column headed '
+        '"Salt" to Ingredients, or delete this row',
+    )
+
+
+def test_spec_unit_must_agree_with_the_column(tmp_path):
+    assert specs_problems(tmp_path, ["Crude protein (g/kg)", 165, None]) == [
+        'Specs!A2: the unit "g/kg" differs from the unit "%" of the column "Crude protein" in '
+        'Ingredients!F1; give the bounds in "%" and write that unit, or leave the unit out'
+    ]
+
+
+def test_spec_with_neither_min_nor_max(tmp_path):
+    assert specs_problems(tmp_path, ["Energy", None, None]) == [
+        'Specs!A2: the spec for "Energy" has neither a min nor a max; give at least one, or delete the row'
+    ]
+
+
+def test_spec_min_above_max(tmp_path):
+    assert specs_problems(tmp_path, ["Energy", 12.5, 11]) == [
+        "Specs!C2: max 11 is below min 12.5 in Specs!B2; make max at least min"
+    ]
+
+
+def test_spec_bounds_must_be_numbers(tmp_path):
+    assert specs_problems(tmp_path, ["Energy", "low", "#N/A"]) == [
+        'Specs!B2: min "low" is not a number',
+        'Specs!C2: max "#N/A" is not a number',
+    ]
+
+
+def test_spec_repeated(tmp_path):
+    assert specs_problems(tmp_path, ["Calcium", 3.6, None], ["calcium (%)", None, 4.1]) == [
+        'Specs!A3: "calcium" already has a spec in Specs!A2; put both bounds in one row and delete the other'
+    ]
+
+
+def test_spec_row_without_a_nutrient(tmp_path):
+    assert specs_problems(tmp_path, [None, 1, 2]) == [
+        "Specs!A2: this row has values but no nutrient; type the nutrient's name as in the "
+        "Ingredients header, or clear the row"
+    ]
+
+
+def test_specs_notes_column_is_ignored(tmp_path):
+    specs = [["Nutrient", "Min", "Max", "Why"], ["Calcium", 3.6, 4.1, "shell strength"]]
+    blend = read_workbook(make_workbook(tmp_path, INGREDIENTS, specs))
+    assert [s.nutrient for s in blend.specs] == ["Calcium"]
+
+
+# --- Settings ---------------------------------------------------------------------------
+
+
+def settings_problems(tmp_path: Path, *rows: list) -> list[str]:
+    """Problems for a Settings sheet with these rows, alongside the demo sheets."""
+    return problems_of(make_workbook(tmp_path, INGREDIENTS, SPECS, [["Setting", "Value"], *rows]))
+
+
+def test_unknown_setting(tmp_path):
+    assert settings_problems(tmp_path, ["Batch", 500], ["Colour", "red"]) == [
+        'Settings!A2: unknown setting "Batch"; the settings are: Batch size, Mass unit, Cost per, '
+        'Currency, Name; did you mean "Batch size"?',
+        'Settings!A3: unknown setting "Colour"; the settings are: Batch size, Mass unit, Cost per, '
+        "Currency, Name",
+    ]
+
+
+def test_repeated_setting(tmp_path):
+    assert settings_problems(tmp_path, ["Currency", "EUR"], ["CURRENCY", "USD"]) == [
+        'Settings!A3: "Currency" is already set in Settings!A2; keep one of the two rows'
+    ]
+
+
+@pytest.mark.parametrize(
+    ("size", "message"),
+    [
+        (0, "batch size 0 must be more than 0; it is the mass of one batch in the mass unit"),
+        (-5, "batch size -5 must be more than 0; it is the mass of one batch in the mass unit"),
+        ("big", 'batch size "big" is not a number'),
+    ],
+)
+def test_batch_size_must_be_positive(tmp_path, size, message):
+    assert settings_problems(tmp_path, ["Batch size", size]) == [f"Settings!B2: {message}"]
+
+
+def test_mass_units_must_be_known(tmp_path):
+    known = "g, kg, t, tonne, metric ton, lb, cwt, ton, short ton"
+    assert settings_problems(tmp_path, ["Mass unit", "stone"], ["Cost per", 5]) == [
+        f'Settings!B2: mass unit "stone" is not a unit blendkit knows; use one of: {known}',
+        f'Settings!B3: cost per "5" is not a unit blendkit knows; use one of: {known}',
+    ]
+
+
+def test_setting_value_without_a_name(tmp_path):
+    assert settings_problems(tmp_path, [None, 5]) == [
+        "Settings!A2: this row has a value but no setting name; type one of Batch size, Mass unit, "
+        "Cost per, Currency, Name, or clear the row"
+    ]
+
+
+# --- Missing sheets and columns ---------------------------------------------------------
+
+
+def test_missing_sheets(tmp_path):
+    path = make_workbook(tmp_path, sheets={"Sheet1": [["a"]], "Prices": [["b"]]}, name="feeds.xlsx")
+    assert problems_of(path) == [
+        'feeds.xlsx: no sheet named "Ingredients"; add a sheet named "Ingredients" with the columns '
+        "Ingredient and Cost (Min, Max and Use are optional) and one column per nutrient; sheets "
+        'present: "Sheet1", "Prices"',
+        'feeds.xlsx: no sheet named "Specs"; add a sheet named "Specs" with the columns Nutrient, Min '
+        'and Max (it may have no rows); sheets present: "Sheet1", "Prices"',
+    ]
+
+
+def test_missing_specs_sheet_still_checks_ingredients(tmp_path):
+    path = make_workbook(tmp_path, with_row(["Oats", "cheap", None, None, None, 11]), name="x.xlsx")
+    assert problems_of(path) == [
+        'x.xlsx: no sheet named "Specs"; add a sheet named "Specs" with the columns Nutrient, Min and '
+        'Max (it may have no rows); sheets present: "Ingredients"',
+        'Ingredients!B2: cost "cheap" is not a number',
+    ]
+
+
+def test_two_sheets_with_the_same_name(tmp_path):
+    path = make_workbook(tmp_path, INGREDIENTS, SPECS, sheets={" specs": NO_SPECS}, name="x.xlsx")
+    assert problems_of(path) == [
+        'x.xlsx: two sheets are named "Specs": "Specs" and " specs" (sheet names are compared '
+        "ignoring case and spaces); rename or delete one"
+    ]
+
+
+def test_empty_required_sheets(tmp_path):
+    assert problems_of(make_workbook(tmp_path, [], [[], [None]])) == [
+        "Ingredients: the sheet is empty; put the column headers in its first row: Ingredient, Cost",
+        "Specs: the sheet is empty; put the column headers in its first row: Nutrient, Min, Max",
+    ]
+
+
+def test_missing_required_columns(tmp_path):
+    ingredients = [[], ["Name", "Price", "Protein"], ["Oats", 190, 11]]
+    specs = [["Nutrient", "Minimum", "Max"], ["Protein", 10, None]]
+    settings = [["Setting", "Amount"], ["Currency", "EUR"]]
+    assert problems_of(make_workbook(tmp_path, ingredients, specs, settings)) == [
+        'Ingredients!2:2: no column "Ingredient" (the name of each ingredient) in the header row; '
+        'add a column headed "Ingredient"',
+        'Ingredients!2:2: no column "Cost" (the price of each ingredient per Cost per unit of mass) in '
+        'the header row; add a column headed "Cost"',
+        'Specs!1:1: no column "Min" (the least level of the nutrient in the blend) in the header row; '
+        'add a column headed "Min"; is "Minimum" meant to be "Min"?',
+        'Settings!1:1: no column "Value" (the value of each setting) in the header row; add a column '
+        'headed "Value"',
+    ]
+
+
+def test_missing_column_suggests_a_near_header(tmp_path):
+    ingredients = [["Ingredients", "Cost"], ["Oats", 190]]
+    assert only_problem(make_workbook(tmp_path, ingredients, NO_SPECS)).message == (
+        'no column "Ingredient" (the name of each ingredient) in the header row; add a column headed '
+        '"Ingredient"; is "Ingredients" meant to be "Ingredient"?'
+    )
+
+
+def test_missing_cost_column_still_checks_the_rows(tmp_path):
+    ingredients = [["Ingredient", "Protein"], ["Oats", "lots"]]
+    assert problems_of(make_workbook(tmp_path, ingredients, NO_SPECS)) == [
+        'Ingredients!1:1: no column "Cost" (the price of each ingredient per Cost per unit of mass) in '
+        'the header row; add a column headed "Cost"',
+        'Ingredients!B2: Protein "lots" is not a number',
+    ]
+
+
+# --- Formulas ---------------------------------------------------------------------------
+
+
+def test_formula_without_a_saved_value(tmp_path):
+    ingredients = with_row(
+        ["Maize", 200, None, None, None, 8],
+        ["Maize screenings", "=B2*2", None, None, None, 8],
+    )
+    assert only_problem(make_workbook(tmp_path, ingredients, NO_SPECS)) == Problem(
+        "Ingredients!B3",
+        'formula "=B2*2" has no saved value; open the workbook in a spreadsheet program and save it '
+        "so the result is stored",
+    )
+
+
+def test_formula_without_a_saved_value_in_a_header(tmp_path):
+    ingredients = [["Ingredient", "Cost", '="Pro"&"tein"'], ["Maize", 200, 8]]
+    assert only_problem(make_workbook(tmp_path, ingredients, NO_SPECS)).where == "Ingredients!C1"
+
+
+def test_saved_error_values_are_not_numbers(tmp_path):
+    ingredients = with_row(["Maize", "=1/0", None, None, None, "=NA()"])
+    path = make_workbook(tmp_path, ingredients, NO_SPECS)
+    store_saved_values(path, "Ingredients", {"B2": "#DIV/0!", "F2": "#N/A"})
+    assert problems_of(path) == [
+        'Ingredients!B2: cost "#DIV/0!" is not a number',
+        'Ingredients!F2: Protein "#N/A" is not a number',
+    ]
+
+
+def test_saved_error_value_as_a_name(tmp_path):
+    ingredients = with_row(["=Z99", 200, None, None, None, 8])
+    path = make_workbook(tmp_path, ingredients, NO_SPECS)
+    store_saved_values(path, "Ingredients", {"A2": "#REF!"})
+    assert only_problem(path) == Problem(
+        "Ingredients!A2",
+        'ingredient name "#REF!" is an error value from a formula; fix the formula or type the '
+        "ingredient name",
+    )
+
+
+# --- Many problems at once --------------------------------------------------------------
+
+
+def test_every_problem_in_the_workbook_is_reported_together(tmp_path):
+    ingredients = with_row(
+        ["Maize", "n/a", None, None, "yes", 8],
+        ["maize", 200, 30, 20, "perhaps", "=F2+1"],
+        [None, 100, None, None, None, 5],
+    )
+    specs = [["Nutrient", "Min", "Max"], ["Lysine", 0.7, None], ["Protein", None, None]]
+    settings = [["Setting", "Value"], ["Batch size", -1], ["Mass unit", "stone"]]
+    path = make_workbook(tmp_path, ingredients, specs, settings, name="mill.xlsx")
+    with pytest.raises(WorkbookError) as caught:
+        read_workbook(path)
+    assert [problem.where for problem in caught.value.problems] == [
+        "Ingredients!B2",
+        "Ingredients!A3", "Ingredients!D3", "Ingredients!E3", "Ingredients!F3",
+        "Ingredients!A4",
+        "Specs!A2", "Specs!A3",
+        "Settings!B2", "Settings!B3",
+    ]
+    assert str(caught.value).startswith(
+        '10 problems in the workbook:\n  Ingredients!B2: cost "n/a" is not a number\n'
+    )
+
+
+# --- Files that are not workbooks -------------------------------------------------------
+
+
+def test_missing_file(tmp_path):
+    problem = only_problem(tmp_path / "nowhere.xlsx")
+    assert problem.where == "nowhere.xlsx"
+    assert problem.message == (
+        f'cannot find the file "{tmp_path / "nowhere.xlsx"}"; check the file name and folder'
+    )
+
+
+def test_a_folder(tmp_path):
+    folder = tmp_path / "blends.xlsx"
+    folder.mkdir()
+    assert only_problem(folder) == Problem(
+        "blends.xlsx", f'"{folder}" is a folder, not a workbook; give the path of an .xlsx file'
+    )
+
+
+@pytest.mark.parametrize(
+    ("name", "data", "message"),
+    [
+        (
+            "empty.xlsx", b"",
+            "the file is empty; give an .xlsx workbook with the Ingredients and Specs sheets",
+        ),
+        (
+            "prices.csv", b"Ingredient,Cost\nMaize,200\n",
+            "the file is not an .xlsx workbook (it is a text file, perhaps CSV); open it in a spreadsheet "
+            "program and save it as an Excel workbook (.xlsx)",
+        ),
+        (
+            "old.xls", bytes.fromhex("D0CF11E0A1B11AE1") + bytes(504),  # the OLE2 signature (from memory)
+            "the file is an old binary Excel workbook (.xls) or a password-protected one; blendkit reads "
+            ".xlsx workbooks: open it in a spreadsheet program and save it as an Excel workbook (.xlsx) "
+            "without a password",
+        ),
+        (
+            "noise.xlsx", bytes(range(256)) * 4,
+            "the file is not an .xlsx workbook (it is not a zip archive, as .xlsx files are); open it in a "
+            "spreadsheet program and save it as an Excel workbook (.xlsx)",
+        ),
+    ],
+)
+def test_files_that_are_not_xlsx(tmp_path, name, data, message):
+    path = tmp_path / name
+    path.write_bytes(data)
+    assert only_problem(path) == Problem(name, message)
+
+
+def test_a_zip_that_is_not_a_workbook(tmp_path):
+    path = tmp_path / "notes.xlsx"
+    with zipfile.ZipFile(path, "w") as archive:
+        archive.writestr("readme.txt", "not a workbook")
+    problem = only_problem(path)
+    assert problem.where == "notes.xlsx"
+    assert problem.message.startswith("the file is a zip archive but not a readable .xlsx workbook (")
+    assert problem.message.endswith(
+        "it may be damaged or another kind of file: open it in a spreadsheet program and save it as an "
+        "Excel workbook (.xlsx)"
+    )
+
+
+@pytest.mark.parametrize("keep", [0.3, 0.6, 0.9])
+def test_a_truncated_workbook(tmp_path, keep):
+    good = make_workbook(tmp_path, INGREDIENTS, SPECS).read_bytes()
+    path = tmp_path / "cut.xlsx"
+    path.write_bytes(good[: int(len(good) * keep)])
+    assert only_problem(path).where == "cut.xlsx"
+
+
+def test_damaged_sheet_xml(tmp_path):
+    path = make_workbook(tmp_path, INGREDIENTS, SPECS)
+    with zipfile.ZipFile(path) as archive:
+        members = {info.filename: archive.read(info) for info in archive.infolist()}
+    members["xl/worksheets/sheet1.xml"] = members["xl/worksheets/sheet1.xml"][:200]
+    with zipfile.ZipFile(path, "w") as archive:
+        for member, data in members.items():
+            archive.writestr(member, data)
+    assert only_problem(path).where == "blend.xlsx"
