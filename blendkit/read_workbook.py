@@ -217,15 +217,15 @@ def _load(path: Path) -> tuple[openpyxl.Workbook, openpyxl.Workbook]:
         return WorkbookError([Problem(path.name or str(path), message)])
 
     save_as = "open it in a spreadsheet program and save it as an Excel workbook (.xlsx)"
-    if not path.exists():
-        raise fail(f'cannot find the file "{path}"; check the file name and folder')
-    if path.is_dir():
-        raise fail(f'"{path}" is a folder, not a workbook; give the path of an .xlsx file')
     try:
+        if not path.exists():
+            raise fail(f'cannot find the file "{path}"; check the file name and folder')
+        if path.is_dir():
+            raise fail(f'"{path}" is a folder, not a workbook; give the path of an .xlsx file')
         data = path.read_bytes()
-    except OSError as error:
-        reason = error.strerror or error
-        raise fail(f"cannot read the file ({reason}); check that you may read it") from None
+    except (OSError, ValueError) as error:  # ValueError: a path the system cannot hold
+        reason = getattr(error, "strerror", None) or error
+        raise fail(f"cannot read the file ({reason}); check its name and that you may read it") from None
     if not data:
         raise fail("the file is empty; give an .xlsx workbook with the Ingredients and Specs sheets")
     if data.startswith(_OLE_MAGIC):

@@ -75,7 +75,8 @@ def _nutrients(formula: Formula) -> list[str]:
                 line.position,
             ]
         )
-    return _table(["Nutrient", "Unit", "Min", "Max", "Level", "Position"], rows, left=2, last_left=True)
+    headers = ["Nutrient", "Unit", "Min", "Max", "Level", "Position"]
+    return _table(headers, rows, left=2, last_left=True)
 
 
 def _binding_limits(formula: Formula) -> list[str]:
@@ -100,7 +101,9 @@ def _binding_limits(formula: Formula) -> list[str]:
     return ["Shadow price: change in cost when the bound is raised by 1 unit.", *lines]
 
 
-def _table(headers: list[str], rows: list[list[str]], left: int, last_left: bool = False) -> list[str]:
+def _table(
+    headers: list[str], rows: list[list[str]], left: int, last_left: bool = False
+) -> list[str]:
     """Fixed-width columns: the first `left` columns (and optionally the last) left-aligned,
     the rest right-aligned, with a rule under the header."""
     widths = [max(len(row[i]) for row in [headers, *rows]) for i in range(len(headers))]

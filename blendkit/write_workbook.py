@@ -26,6 +26,7 @@ import tempfile
 import zipfile
 from pathlib import Path
 from xml.etree import ElementTree
+from xml.sax.saxutils import escape as xml_escape
 
 from openpyxl import load_workbook
 from openpyxl.styles import Alignment, Border, Font, Side
@@ -53,6 +54,10 @@ _LITERAL_FORMAT_PARTS = re.compile(r'"[^"]*"|\\.|\[[^\]]*\]')
 # Namespaces of the spreadsheet package parts we touch.
 _MAIN_NS = "http://schemas.openxmlformats.org/spreadsheetml/2006/main"
 _REL_NS = "http://schemas.openxmlformats.org/officeDocument/2006/relationships"
+# A cell element (empty or not), its formula and its value, in a worksheet part.
+_CELL_ELEMENT = re.compile(r"<c\b(?P<attrs>[^>]*?)(?:/>|>(?P<body>.*?)</c>)", re.DOTALL)
+_FORMULA_ELEMENT = re.compile(r"<f\b[^>]*?(?:/>|>.*?</f>)", re.DOTALL)
+_VALUE_ELEMENT = re.compile(r"<v\b[^>]*?(?:/>|>.*?</v>)", re.DOTALL)
 # The error values a formula can leave as its result.
 _ERROR_VALUES = {"#NULL!", "#DIV/0!", "#VALUE!", "#REF!", "#NAME?", "#NUM!", "#N/A",
                  "#GETTING_DATA"}
@@ -220,29 +225,38 @@ def _worksheet_parts(members: dict[str, bytes]) -> dict[str, str]:
 
 
 def _restore_results(xml: bytes, results: dict[str, object]) -> bytes:
-    """Fill the empty <v> of each formula cell in one worksheet part with its result."""
-    root = ElementTree.fromstring(xml)
-    for cell in root.iter(f"{{{_MAIN_NS}}}c"):
-        value = results.get(cell.get("r", ""))
-        if value is None or cell.find(f"{{{_MAIN_NS}}}f") is None:
-            continue
-        if isinstance(value, bool):
-            kind, text = "b", "1" if value else "0"
-        elif isinstance(value, (int, float)):
-            kind, text = "n", repr(float(value)) if isinstance(value, float) else str(value)
-        elif isinstance(value, str) and value in _ERROR_VALUES:
-            kind, text = "e", value
-        else:
-            kind, text = "str", str(value)
-        cell.set("t", kind)
-        slot = cell.find(f"{{{_MAIN_NS}}}v")
-        if slot is None:
-            slot = ElementTree.SubElement(cell, f"{{{_MAIN_NS}}}v")
-        slot.text = text
-    # Spreadsheet programs expect the main namespace as the default one, as openpyxl wrote it.
-    return ElementTree.tostring(
-        root, encoding="UTF-8", xml_declaration=True, default_namespace=_MAIN_NS
-    )
+    """Fill in the result of each formula cell of one worksheet part.
+
+    The part is patched as text, cell by cell, rather than parsed and written again, so
+    everything else in it stays exactly as openpyxl wrote it.
+    """
+
+    def patch(match: re.Match) -> str:
+        attrs, body = match.group("attrs"), match.group("body")
+        where = re.search(r'\br="\$?([A-Z]+)\$?([0-9]+)"', attrs)
+        formula = body and _FORMULA_ELEMENT.search(body)
+        value = results.get(where.group(1) + where.group(2)) if where else None
+        if value is None or not formula:
+            return match.group(0)
+        kind, text = _result_text(value)
+        attrs = re.sub(r'\s+t="[^"]*"', "", attrs) + f' t="{kind}"'
+        rest = _VALUE_ELEMENT.sub("", body[formula.end():])
+        return f"<c{attrs}>{body[:formula.end()]}<v>{text}</v>{rest}</c>"
+
+    return _CELL_ELEMENT.sub(patch, xml.decode("utf-8")).encode("utf-8")
+
+
+def _result_text(value: object) -> tuple[str, str]:
+    """A saved result as a cell type code and the text of its <v> element."""
+    if isinstance(value, bool):
+        return "b", "1" if value else "0"
+    if isinstance(value, int):
+        return "n", str(value)
+    if isinstance(value, float):
+        return "n", repr(value)
+    if isinstance(value, str) and value in _ERROR_VALUES:
+        return "e", value
+    return "str", xml_escape(str(value))
 
 
 def _remove_output_sheets(workbook: Workbook) -> None:
@@ -272,13 +286,13 @@ def _write_result(workbook: Workbook, formula: Formula, title: str) -> Worksheet
     for column in range(2, _RESULT_COLUMNS + 1):
         sheet.column_dimensions[get_column_letter(column)].width = _NUMBER_WIDTH
 
-    sheet["A1"] = title
+    _put(sheet, 1, 1, title)
     sheet["A1"].font = _TITLE
     _write_caution(sheet, row=2)
     sheet["A4"] = "Status"
-    sheet["B4"] = formula.status
+    _put(sheet, 4, 2, formula.status)
     sheet["A5"] = "Message"
-    sheet["B5"] = formula.message
+    _put(sheet, 5, 2, formula.message)
     for cell in ("A4", "A5"):
         sheet[cell].font = _BOLD
 
@@ -300,26 +314,26 @@ def _write_result(workbook: Workbook, formula: Formula, title: str) -> Worksheet
 
     sheet["A6"] = "Blend cost"
     _number(sheet.cell(6, 2), formula.cost, MONEY_FORMAT)
-    sheet["C6"] = cost_unit
+    _put(sheet, 6, 3, cost_unit)
     sheet["A7"] = "Blend cost from input prices"
     cost_check = _recompute_formula(
         formula, inclusion_rows, workbook, lambda item: item.cells.get("cost")
     )
     if cost_check is not None:
         _live(sheet.cell(7, 2), cost_check, MONEY_FORMAT)
-        sheet["C7"] = f"{cost_unit} (live formula: inclusions below x Cost column)"
+        _put(sheet, 7, 3, f"{cost_unit} (live formula: inclusions below x Cost column)")
     else:
         sheet["C7"] = "not available: input cells unknown or formula too long"
     sheet["A8"] = "Batch"
     whole = float(settings.batch_size).is_integer()
     _number(sheet.cell(8, 2), settings.batch_size, "#,##0" if whole else AMOUNT_FORMAT)
-    sheet["C8"] = settings.mass_unit
+    _put(sheet, 8, 3, settings.mass_unit)
     for cell in ("A6", "A7", "A8"):
         sheet[cell].font = _BOLD
 
     _write_ingredients(sheet, formula, ingredient_header, settings)
     total_row = last + 1
-    sheet.cell(total_row, 1, "Total").font = _BOLD
+    _put(sheet, total_row, 1, "Total").font = _BOLD
     if formula.ingredients:
         for column, number_format in ((2, PERCENT_FORMAT), (3, AMOUNT_FORMAT), (4, MONEY_FORMAT)):
             letter = get_column_letter(column)
@@ -339,7 +353,7 @@ def _write_result(workbook: Workbook, formula: Formula, title: str) -> Worksheet
 
 def _write_caution(sheet: Worksheet, row: int) -> None:
     """The caution in a boxed, wrapped cell across the table's width."""
-    cell = sheet.cell(row, 1, CAUTION)
+    cell = _put(sheet, row, 1, CAUTION)
     cell.font = _BOLD
     cell.alignment = _WRAP_TOP
     sheet.merge_cells(start_row=row, start_column=1, end_row=row, end_column=_RESULT_COLUMNS)
@@ -372,14 +386,14 @@ def _write_ingredients(
     )
     for offset, line in enumerate(formula.ingredients, start=1):
         row = header_row + offset
-        sheet.cell(row, 1, line.name)
+        _put(sheet, row, 1, line.name)
         _number(sheet.cell(row, 2), line.inclusion, PERCENT_FORMAT)
         _number(sheet.cell(row, 3), line.amount, AMOUNT_FORMAT)
         _number(sheet.cell(row, 4), line.batch_cost, MONEY_FORMAT)
         _number(sheet.cell(row, 5), line.cost, MONEY_FORMAT)
         _number(sheet.cell(row, 6), line.reduced_cost, REDUCED_COST_FORMAT)
         if not line.used:
-            sheet.cell(row, 7, "not in use (Use = no)")
+            _put(sheet, row, 7, "not in use (Use = no)")
         elif line.entry_price is not None:
             _number(sheet.cell(row, 7), line.entry_price, MONEY_FORMAT)
 
@@ -400,12 +414,12 @@ def _write_nutrients(
     for offset, line in enumerate(formula.nutrients, start=1):
         row = header_row + offset
         number_format = _nutrient_format(line)
-        sheet.cell(row, 1, line.name)
-        sheet.cell(row, 2, line.unit)
+        _put(sheet, row, 1, line.name)
+        _put(sheet, row, 2, line.unit)
         _number(sheet.cell(row, 3), line.minimum, number_format)
         _number(sheet.cell(row, 4), line.maximum, number_format)
         _number(sheet.cell(row, 5), line.level, number_format)
-        sheet.cell(row, 6, line.position)
+        _put(sheet, row, 6, line.position)
         check = _recompute_formula(
             formula,
             inclusion_rows,
@@ -420,9 +434,9 @@ def _write_notes(sheet: Worksheet, notes: tuple[str, ...], row: int) -> None:
     """Advisory notes, one per row, under a bold heading."""
     if not notes:
         return
-    sheet.cell(row, 1, "Notes").font = _BOLD
+    _put(sheet, row, 1, "Notes").font = _BOLD
     for offset, note in enumerate(notes, start=1):
-        sheet.cell(row + offset, 1, note)
+        _put(sheet, row + offset, 1, note)
 
 
 def _recompute_formula(
@@ -522,7 +536,10 @@ def _write_shadow_prices(workbook: Workbook, formula: Formula) -> None:
     """One row per limit the user wrote: how much the cost moves per unit of its bound."""
     sheet = workbook.create_sheet(SHADOW_PRICES)
     settings = formula.blend.settings
-    sheet["A1"] = (
+    _put(
+        sheet,
+        1,
+        1,
         f"Shadow price: change in blend cost ({_cost_unit(settings)}) when the bound is "
         "raised by 1 unit; 0 where the bound does not bind. It holds for small changes only."
     )
@@ -547,21 +564,21 @@ def _write_shadow_prices(workbook: Workbook, formula: Formula) -> None:
             number_format = nutrient_formats.get(limit.name) or _format_by_size(
                 [limit.bound, limit.level], 1
             )
-        sheet.cell(row, 1, limit.kind)
-        sheet.cell(row, 2, limit.name)
-        sheet.cell(row, 3, limit.side)
+        _put(sheet, row, 1, limit.kind)
+        _put(sheet, row, 2, limit.name)
+        _put(sheet, row, 3, limit.side)
         _number(sheet.cell(row, 4), limit.bound, number_format)
         _number(sheet.cell(row, 5), limit.level, number_format)
-        sheet.cell(row, 6, "yes" if limit.binding else "no")
+        _put(sheet, row, 6, "yes" if limit.binding else "no")
         _number(sheet.cell(row, 7), limit.shadow_price, _format_by_size([limit.shadow_price], 2))
-        sheet.cell(row, 8, _shadow_price_unit(limit, formula.blend))
-        sheet.cell(row, 9, limit.cell)
+        _put(sheet, row, 8, _shadow_price_unit(limit, formula.blend))
+        _put(sheet, row, 9, limit.cell)
     if not formula.limits:
         if formula.solved:
             empty = "No limits to show: the workbook sets no specs or inclusion limits."
         else:
             empty = f"No shadow prices: the solve ended with status {formula.status!r}."
-        sheet.cell(4, 1, empty)
+        _put(sheet, 4, 1, empty)
     widths = [12, 28, 8, 14, 14, 9, 14, 44, 16]
     for column, width in enumerate(widths, start=1):
         sheet.column_dimensions[get_column_letter(column)].width = width
@@ -598,8 +615,8 @@ def _write_run_info(workbook: Workbook, formula: Formula, run: RunInfo, title: s
     ]
     _header(sheet, 1, ["Item", "Value"])
     for offset, (key, value) in enumerate(rows, start=2):
-        sheet.cell(offset, 1, key).font = _BOLD
-        cell = sheet.cell(offset, 2, value)
+        _put(sheet, offset, 1, key).font = _BOLD
+        cell = _put(sheet, offset, 2, value)
         if key == "Caution":
             cell.alignment = _WRAP_TOP
             cell.font = _BOLD
@@ -615,13 +632,21 @@ def _write_run_info(workbook: Workbook, formula: Formula, run: RunInfo, title: s
 def _header(sheet: Worksheet, row: int, labels: list[str]) -> None:
     """Bold, wrapped header labels with a rule underneath."""
     for column, label in enumerate(labels, start=1):
-        cell = sheet.cell(row, column, label)
+        cell = _put(sheet, row, column, label)
         cell.font = _BOLD
         cell.border = _HEADER_BORDER
         cell.alignment = Alignment(wrap_text=True, vertical="bottom")
     longest = max(len(label) for label in labels[1:]) if len(labels) > 1 else 0
     lines = max(1, math.ceil(longest / _NUMBER_WIDTH))
     sheet.row_dimensions[row].height = 15 * min(lines, 4) + 2
+
+
+def _put(sheet: Worksheet, row: int, column: int, value: object):
+    """Write a plain value; text starting with "=" stays text, never becomes a formula."""
+    cell = sheet.cell(row, column, value)
+    if isinstance(value, str) and cell.data_type == "f":
+        cell.data_type = "s"
+    return cell
 
 
 def _number(cell, value: float | None, number_format: str) -> None:

@@ -25,7 +25,7 @@ from blendkit.model import Blend, Ingredient, Settings, Spec
 
 NUTRIENTS = ("Crude protein", "Energy", "Calcium", "Fibre")
 UNITS = {"Crude protein": "%", "Energy": "MJ/kg", "Calcium": "%", "Fibre": "%"}
-FIRST_NUTRIENT_COLUMN = "F"  # Ingredients sheet: Name, Cost, Min, Max, Use, then nutrients
+FIRST_NUTRIENT_COLUMN = "F"  # Ingredients sheet: Ingredient, Cost, Min, Max, Use, then nutrients
 
 # name, cost, min, max, use, contents (None = blank cell), inclusion %
 ROWS = (
@@ -186,7 +186,7 @@ def write_source(path: Path, extra_sheets: tuple[str, ...] = ()) -> Path:
     workbook = Workbook()
     sheet = workbook.active
     sheet.title = "Ingredients"
-    sheet.append(["Name", "Cost (EUR/t)", "Min", "Max", "Use",
+    sheet.append(["Ingredient", "Cost (EUR/t)", "Min (%)", "Max (%)", "Use",
                   *(f"{n} ({UNITS[n]})" for n in NUTRIENTS)])
     for name, cost, minimum, maximum, use, contents, _ in ROWS:
         sheet.append([name, cost, minimum, maximum, "yes" if use else "no", *contents])

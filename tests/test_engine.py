@@ -213,3 +213,129 @@ def test_random_lps_agree_with_highs(lp):
 @given(random_lps())
 def test_many_random_lps_agree_with_highs(lp):
     check_against_highs(lp)
+
+
+# ----- warm starts, certificates, badly scaled data ------------------------------------
+
+
+def _blend_lp(seed, n=30, k=12):
+    """A blend-shaped LP: inclusions summing to 100, nutrient mins, inclusion limits."""
+    rng = np.random.default_rng(seed)
+    contents = rng.uniform(0, 1, (k, n)) * 10.0 ** rng.integers(-1, 4, (k, 1))
+    contents[rng.random((k, n)) < 0.3] = 0.0
+    mixture = rng.dirichlet(np.ones(n)) * 100
+    levels = contents @ mixture / 100
+    A_ub = -contents / 100
+    b_ub = -levels * rng.uniform(0.9, 1.0, k)
+    c = rng.uniform(50, 3000, n) / 100
+    bounds = [(0, float(hi)) for hi in rng.uniform(20, 100, n)]
+    return dict(c=c, A_ub=A_ub, b_ub=b_ub, A_eq=np.ones((1, n)), b_eq=[100.0], bounds=bounds)
+
+
+def test_warm_start_after_a_price_change_skips_phase_one():
+    lp = _blend_lp(7)
+    first = solve(**lp)
+    assert_optimal(first, highs(**lp).objective)
+    rng = np.random.default_rng(8)
+    changed = dict(lp, c=lp["c"] * rng.uniform(0.8, 1.2, lp["c"].size))
+    cold = solve(**changed)
+    warm = solve(**changed, basis=first.basis)
+    assert warm.warm_start and warm.phase_one_iterations == 0
+    assert warm.iterations < cold.iterations
+    # The warm solve reaches the optimum HiGHS finds for the new prices.
+    assert_optimal(warm, highs(**changed).objective)
+
+
+def test_unusable_basis_falls_back_to_a_cold_start():
+    lp = _blend_lp(7)
+    first = solve(**lp)
+    # Cap each basic ingredient at half its old inclusion: with the nonbasics where they
+    # were, the old basis now puts its basic variables above their bounds.
+    bounds = list(lp["bounds"])
+    for j in first.basis.head[first.basis.head < len(bounds)]:
+        if first.x[j] > 1e-6:
+            bounds[j] = (0, first.x[j] / 2)
+    tighter = dict(lp, bounds=bounds)
+    result = solve(**tighter, basis=first.basis)
+    assert not result.warm_start
+    ref = highs(**tighter)
+    assert result.status == ref.status
+    if ref.status == "optimal":
+        assert_optimal(result, ref.objective)
+
+
+def _certificate_checks(lp, result):
+    """Farkas: the listed constraints' multipliers x bounds add up to the infeasibility,
+    and those constraints alone are infeasible according to HiGHS."""
+    cert = result.certificate
+    assert cert is not None and cert.infeasibility > 0 and cert.parts
+    n = len(lp["c"])
+    lower = np.array([-np.inf if lo is None else lo for lo, _ in lp["bounds"]])
+    upper = np.array([np.inf if hi is None else hi for _, hi in lp["bounds"]])
+    total = 0.0
+    keep_ub, keep_eq = [], []
+    sub_lower, sub_upper = np.full(n, -np.inf), np.full(n, np.inf)
+    for part in cert.parts:
+        if part.kind == "ub":
+            total += part.multiplier * lp["b_ub"][part.index]
+            keep_ub.append(part.index)
+        elif part.kind == "eq":
+            total += part.multiplier * lp["b_eq"][part.index]
+            keep_eq.append(part.index)
+        else:
+            bound = upper[part.index] if part.side == "upper" else lower[part.index]
+            total += part.multiplier * bound
+            if part.side in ("upper", "eq"):
+                sub_upper[part.index] = upper[part.index]
+            if part.side in ("lower", "eq"):
+                sub_lower[part.index] = lower[part.index]
+    assert total == pytest.approx(cert.infeasibility, rel=1e-6, abs=1e-9)
+    sub = highs(
+        np.zeros(n),
+        A_ub=np.asarray(lp["A_ub"])[keep_ub] if keep_ub else None,
+        b_ub=np.asarray(lp["b_ub"])[keep_ub] if keep_ub else None,
+        A_eq=np.asarray(lp["A_eq"])[keep_eq] if keep_eq else None,
+        b_eq=np.asarray(lp["b_eq"])[keep_eq] if keep_eq else None,
+        bounds=list(zip(sub_lower, sub_upper)),
+    )
+    assert sub.status == "infeasible"
+
+
+def test_infeasible_blend_certificate_names_the_conflict():
+    # Protein at least 30 % from feeds of at most 20 % and 44 %, with the 44 % one capped
+    # at 10 % inclusion: at most 0.9*20 + 0.1*44 = 22.4 %.
+    lp = dict(c=[2.0, 4.0], A_ub=[[-0.20, -0.44]], b_ub=[-0.30],
+              A_eq=[[1.0, 1.0]], b_eq=[1.0], bounds=[(0, None), (0, 0.1)])
+    result = solve(**lp)
+    assert result.status == "infeasible"
+    kinds = {(p.kind, p.index, p.side) for p in result.certificate.parts}
+    assert kinds == {("ub", 0, "upper"), ("eq", 0, "eq"), ("bound", 1, "upper")}
+    _certificate_checks(lp, result)
+
+
+@settings(max_examples=300, deadline=None, suppress_health_check=[HealthCheck.too_slow])
+@given(random_lps())
+def test_certificates_of_random_infeasible_lps(lp):
+    result = solve(**lp)
+    if result.status == "infeasible" and "lower bound above" not in result.message:
+        _certificate_checks(lp, result)
+
+
+@pytest.mark.parametrize("seed", range(5))
+def test_badly_scaled_blends_agree_with_highs(seed):
+    # Contents from 1e-3 to 1e5 (ppm, mg/kg, %, MJ/kg) in one LP.
+    rng = np.random.default_rng(seed)
+    n, k = 40, 15
+    contents = rng.uniform(0, 1, (k, n)) * 10.0 ** rng.integers(-3, 6, (k, 1))
+    contents[rng.random((k, n)) < 0.4] = 0.0
+    mixture = rng.dirichlet(np.ones(n)) * 100
+    levels = contents @ mixture / 100
+    lp = dict(
+        c=rng.uniform(50, 3000, n) / 100,
+        A_ub=np.vstack([-contents / 100, contents / 100]),
+        b_ub=np.concatenate([-levels * 0.95, levels * 1.2]),
+        A_eq=np.ones((1, n)),
+        b_eq=[100.0],
+        bounds=[(0, 60)] * n,
+    )
+    check_against_highs(lp)

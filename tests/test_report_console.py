@@ -54,7 +54,8 @@ def test_fixed_width_columns_line_up():
     nutrients = block(render_summary(formulas.optimal_formula()), "Nutrient")
     rule = nutrients[1]
     # Right-aligned number columns all end where the rule's dashes end.
-    level_end = [i for i, ch in enumerate(rule) if ch == "-" and (i + 1 == len(rule) or rule[i + 1] == " ")][4]
+    ends = [i for i, ch in enumerate(rule) if ch == "-" and rule[i + 1 : i + 2] in ("", " ")]
+    level_end = ends[4]
     for line in nutrients[2:]:
         assert line[level_end] != " " and line[level_end + 1] == " "
 

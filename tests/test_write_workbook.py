@@ -2,6 +2,7 @@
 
 from __future__ import annotations
 
+import dataclasses
 import hashlib
 import io
 import math
@@ -15,9 +16,12 @@ import pytest
 from openpyxl import load_workbook
 from openpyxl.workbook.workbook import Workbook
 
-from tests import formulas
+import blendkit.write_workbook
 from blendkit import CAUTION
+from blendkit.read_workbook import read_workbook
 from blendkit.write_workbook import OUTPUT_SHEETS, write_workbook
+from tests import formulas
+from tests.workbooks import store_saved_values
 
 INPUT_SHEETS = ["Ingredients", "Specs", "Settings"]
 
@@ -215,9 +219,9 @@ def test_result_top_block(source: Path, tmp_path: Path):
 
 def test_title_falls_back_to_file_stem(source: Path, tmp_path: Path):
     formula = formulas.optimal_formula()
-    unnamed = formula.blend.settings.__class__(name="")
-    blend = formula.blend.__class__(**{**formula.blend.__dict__, "settings": unnamed})
-    formula = formula.__class__(**{**formula.__dict__, "blend": blend})
+    unnamed = dataclasses.replace(formula.blend.settings, name="")
+    blend = dataclasses.replace(formula.blend, settings=unnamed)
+    formula = dataclasses.replace(formula, blend=blend)
     result = load_workbook(write(formula, source, tmp_path / "out.xlsx"))["Result"]
     assert result["A1"].value == "meadowbank"
 
@@ -253,7 +257,8 @@ def test_nutrient_table_numbers(source: Path, tmp_path: Path):
         "Nutrient", "Unit", "Min", "Max", "Level", "Position"]
     for offset, line in enumerate(formula.nutrients, start=1):
         row = header + offset
-        assert [result.cell(row, c).value for c in (1, 2, 6)] == [line.name, line.unit, line.position]
+        texts = [result.cell(row, c).value for c in (1, 2, 6)]
+        assert texts == [line.name, line.unit, line.position]
         assert result.cell(row, 3).value == line.minimum
         assert result.cell(row, 4).value == line.maximum
         assert result.cell(row, 5).value == pytest.approx(line.level)
@@ -287,18 +292,17 @@ def test_live_formulas_quote_sheet_names_that_need_it(tmp_path: Path):
     workbook = load_workbook(source)
     workbook["Ingredients"].title = "Feed list"
     workbook.save(source)
-    blend = formula.blend
+    # The reader writes references as "<sheet title>!<cell>", spaces and all.
+    def moved(cells: dict[str, str]) -> dict[str, str]:
+        return {key: ref.replace("Ingredients!", "Feed list!") for key, ref in cells.items()}
+
     renamed = tuple(
-        item.__class__(**{
-            **item.__dict__,
-            "cells": {k: v.replace("Ingredients!", "'Feed list'!") for k, v in item.cells.items()},
-            "content_cells": {k: v.replace("Ingredients!", "'Feed list'!")
-                              for k, v in item.content_cells.items()},
-        })
-        for item in blend.ingredients
+        dataclasses.replace(item, cells=moved(item.cells), content_cells=moved(item.content_cells))
+        for item in formula.blend.ingredients
     )
-    blend = blend.__class__(**{**blend.__dict__, "ingredients": renamed})
-    formula = formula.__class__(**{**formula.__dict__, "blend": blend})
+    formula = dataclasses.replace(
+        formula, blend=dataclasses.replace(formula.blend, ingredients=renamed)
+    )
     workbook = load_workbook(write(formula, source, tmp_path / "out.xlsx"))
     result = workbook["Result"]
     text = result.cell(row_of(result, "Nutrient") + 1, 7).value
@@ -311,7 +315,12 @@ def test_live_formulas_quote_sheet_names_that_need_it(tmp_path: Path):
     reason="LibreOffice is not installed",
 )
 def test_spreadsheet_program_agrees_with_written_levels(source: Path, tmp_path: Path):
-    # Outside reference: LibreOffice's own formula engine, run headless.
+    # Outside reference: LibreOffice's own formula engine, run headless. Limestone's
+    # Calcium is shown as a percentage, so the scaled operand is checked too.
+    workbook = load_workbook(source)
+    workbook["Ingredients"]["H5"] = 0.38
+    workbook["Ingredients"]["H5"].number_format = "0.0%"
+    workbook.save(source)
     formula = formulas.optimal_formula()
     output = write(formula, source, tmp_path / "out.xlsx")
     converted = tmp_path / "converted"
@@ -327,6 +336,8 @@ def test_spreadsheet_program_agrees_with_written_levels(source: Path, tmp_path: 
         assert result.cell(header + offset, 7).value == pytest.approx(line.level, rel=1e-9)
     cost_row = row_of(result, "Blend cost from input prices")
     assert result.cell(cost_row, 2).value == pytest.approx(formula.cost, rel=1e-9)
+    total = row_of(result, "Total")
+    assert result.cell(total, 2).value == pytest.approx(100.0)
 
 
 def test_not_optimal_shows_status_and_no_tables(source: Path, tmp_path: Path):
@@ -410,11 +421,22 @@ def test_refuses_to_overwrite_the_source(source: Path, tmp_path: Path, monkeypat
 
 def test_failed_save_leaves_no_file(source: Path, tmp_path: Path, monkeypatch):
     def broken_save(self, filename):
-        Path(filename).write_bytes(b"half a workbook")
         raise OSError("disk full")
 
     monkeypatch.setattr(Workbook, "save", broken_save)
     with pytest.raises(OSError, match="disk full"):
+        write(formulas.optimal_formula(), source, tmp_path / "out.xlsx")
+    assert list(tmp_path.iterdir()) == [source]
+
+
+def test_failed_move_removes_the_temporary_file(source: Path, tmp_path: Path, monkeypatch):
+    # The temporary file is complete by now; the failure is in moving it into place.
+    def broken_replace(src, dst):
+        assert Path(src).parent == tmp_path and Path(src).stat().st_size > 0
+        raise PermissionError("output is open in another program")
+
+    monkeypatch.setattr(blendkit.write_workbook.os, "replace", broken_replace)
+    with pytest.raises(PermissionError):
         write(formulas.optimal_formula(), source, tmp_path / "out.xlsx")
     assert list(tmp_path.iterdir()) == [source]
 
@@ -465,10 +487,58 @@ def test_live_formulas_read_percent_cells_as_shown(source: Path, tmp_path: Path)
 
 @pytest.mark.parametrize(
     "number_format",
-    ["General", "0%", "0.00%", '0.0" %"', "0\\%", "[Red]0.0", "[$%-409]0.0", "#,##0.00", "0.0%;-0.0%"],
+    ["General", "0%", "0.00%", '0.0" %"', "0\\%", "[Red]0.0", "[$%-409]0.0", "#,##0.00",
+     "0.0%;-0.0%"],
 )
 def test_percent_rule_matches_the_reader(number_format: str):
     from blendkit.read_workbook import _is_percent_format
     from blendkit.write_workbook import _scaled_as_percent
 
     assert _scaled_as_percent(1.0, number_format) == _is_percent_format(number_format)
+
+
+# --- saved formula results ---------------------------------------------------------------
+
+
+def test_saved_results_of_input_formulas_are_kept(tmp_path: Path):
+    source = formulas.write_source(tmp_path / "in.xlsx")
+    workbook = load_workbook(source)
+    checks = workbook.create_sheet("Checks")
+    for row, text in enumerate(['=1/0', '="a"&"<b>"', "=1>0", "=Ingredients!B2*2"], start=1):
+        checks.cell(row, 1, text)
+    workbook.save(source)
+    store_saved_values(source, "Ingredients", {"B2": 210})
+    saved = {"A1": "#DIV/0!", "A2": "a<b>", "A3": True, "A4": 420.5}
+    store_saved_values(source, "Checks", saved)
+
+    output = write(formulas.optimal_formula(), source, tmp_path / "out.xlsx")
+    for sheet in [*INPUT_SHEETS, "Checks"]:
+        for data_only in (False, True):
+            before = load_workbook(source, data_only=data_only)[sheet]
+            after = load_workbook(output, data_only=data_only)[sheet]
+            assert [[c.value for c in row] for row in after.iter_rows()] == [
+                [c.value for c in row] for row in before.iter_rows()], (sheet, data_only)
+    assert load_workbook(output, data_only=True)["Checks"]["A4"].value == 420.5
+
+
+def test_solving_the_output_again_reads_the_same_blend(tmp_path: Path):
+    # The reader needs saved results for formula cells; the output must still have them.
+    source = formulas.write_source(tmp_path / "in.xlsx")
+    store_saved_values(source, "Ingredients", {"B2": 210})
+    output = write(formulas.optimal_formula(), source, tmp_path / "out.xlsx")
+    again = read_workbook(output)
+    assert again.ingredients == read_workbook(source).ingredients
+    assert again.ingredients == formulas.make_blend().ingredients
+    assert again.specs == formulas.make_blend().specs
+
+
+def test_text_starting_with_equals_stays_text(source: Path, tmp_path: Path):
+    formula = formulas.optimal_formula()
+    formula = dataclasses.replace(formula, message="=1+1", notes=("=HYPERLINK(\"x\")",))
+    workbook = load_workbook(write(formula, source, tmp_path / "out.xlsx"))
+    result = workbook["Result"]
+    assert (result["B5"].value, result["B5"].data_type) == ("=1+1", "s")
+    note = result.cell(row_of(result, "Notes") + 1, 1)
+    assert (note.value, note.data_type) == ('=HYPERLINK("x")', "s")
+    message = workbook["Run info"].cell(row_of(workbook["Run info"], "Message"), 2)
+    assert message.data_type == "s"

@@ -6,7 +6,8 @@ Stages, one module each: `standard_form` (check and convert the arguments),
 """
 
 from blendkit.engine.result import STATUSES, LPResult
-from blendkit.engine.solve import solve
+from blendkit.engine.solve import solve, solve_form
+from blendkit.engine.standard_form import StandardForm
 from blendkit.engine.tolerances import Tolerances
 
-__all__ = ["LPResult", "STATUSES", "Tolerances", "solve"]
+__all__ = ["LPResult", "STATUSES", "StandardForm", "Tolerances", "solve", "solve_form"]

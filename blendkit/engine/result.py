@@ -10,15 +10,64 @@ STATUSES = ("optimal", "infeasible", "unbounded", "iteration_limit", "numerical_
 
 
 @dataclass(frozen=True)
+class Basis:
+    """A simplex basis, to start a later solve of a problem of the same shape from.
+
+    `head[r]` is the variable basic in position r: j < n for structural x_j, n + i for
+    the logical of row i (its activity). `at_upper` says, for each of the n + m
+    variables, whether it sat at its upper bound when nonbasic.
+    """
+
+    head: np.ndarray
+    at_upper: np.ndarray
+    shape: tuple[int, int]  # (rows, columns) of the problem it came from
+
+
+@dataclass(frozen=True)
+class ConflictPart:
+    """One constraint that takes part in an infeasibility certificate.
+
+    `kind` is "ub" (row of A_ub), "eq" (row of A_eq), "row" (row of a general form)
+    or "bound" (a variable's bound); `side` is "lower", "upper" or "eq" (an equality
+    row, or a fixed variable); `multiplier` is
+    d(infeasibility)/d(that bound), never zero.
+    """
+
+    kind: str
+    index: int
+    side: str
+    multiplier: float
+
+
+@dataclass(frozen=True)
+class Certificate:
+    """Why a problem is infeasible, from the phase-one optimum.
+
+    `infeasibility` is the least total violation phase one could reach (measured in the
+    engine's scaled rows);
+    `row_multipliers` (y) and `bound_multipliers` (reduced costs of the variables) are the
+    phase-one duals, d(infeasibility)/d(bound). The constraints listed in `parts` alone are
+    already infeasible together (Farkas): sum(multiplier x bound) over them equals
+    `infeasibility` > 0. Conflict diagnosis starts from them.
+    """
+
+    infeasibility: float
+    row_multipliers: np.ndarray
+    bound_multipliers: np.ndarray
+    parts: tuple[ConflictPart, ...]
+
+
+@dataclass(frozen=True)
 class LPResult:
     """The outcome of `blendkit.engine.solve`.
 
     `status` is one of STATUSES. When optimal, `x` is the solution, `objective` is c·x,
     `marginals_ub` / `marginals_eq` are d(objective)/d(b_ub) and d(objective)/d(b_eq)
     (the sign convention of scipy's linprog), and `reduced_costs` is c - A^T y per
-    variable (d(objective)/d(bound) for a variable held at a bound). Otherwise those
-    are None, except `farkas`, the phase-one duals that prove infeasibility, and `ray`,
-    a direction along which an unbounded objective falls.
+    variable (d(objective)/d(bound) for a variable held at a bound); `basis` can start a
+    later solve (`solve(..., basis=result.basis)`). Otherwise those are None, except
+    `certificate` (and `farkas`, its row multipliers) when infeasible, and `ray`, a
+    direction along which an unbounded objective falls.
     `residual` is the largest relative violation of the original constraints found by
     the check after solving.
     """
@@ -32,9 +81,17 @@ class LPResult:
     marginals_ub: np.ndarray | None
     marginals_eq: np.ndarray | None
     reduced_costs: np.ndarray | None
+    row_marginals: np.ndarray | None = None
     residual: float | None = None
-    farkas: np.ndarray | None = None
+    certificate: Certificate | None = None
     ray: np.ndarray | None = None
+    basis: Basis | None = None
+    warm_start: bool = False  # True when phase two started from the given basis
+
+    @property
+    def farkas(self) -> np.ndarray | None:
+        """The phase-one dual vector (one entry per row) that proves infeasibility."""
+        return None if self.certificate is None else self.certificate.row_multipliers
 
     @property
     def success(self) -> bool:

@@ -29,7 +29,7 @@ moves again.
 
 from __future__ import annotations
 
-from dataclasses import dataclass
+from dataclasses import dataclass, replace
 
 import numpy as np
 
@@ -52,10 +52,14 @@ class SimplexOutcome:
     d: np.ndarray | None  # phase-two reduced costs of the structurals
     iterations: int
     phase_one_iterations: int
-    farkas: np.ndarray | None = None  # phase-one duals when infeasible
+    farkas: np.ndarray | None = None  # phase-one duals (one per row) when infeasible
+    farkas_d: np.ndarray | None = None  # phase-one reduced costs of the structurals
+    farkas_at_upper: np.ndarray | None = None  # which bound each nonbasic x and s sat at
+    infeasibility: float | None = None  # the phase-one minimum (sum of artificials)
     ray: np.ndarray | None = None  # direction of unboundedness of x
     head: np.ndarray | None = None  # final basis: variable in each position
     at_upper: np.ndarray | None = None  # final nonbasic position of x and s
+    warm: bool = False  # phase two started straight from a given basis
 
 
 class _Simplex:
@@ -72,6 +76,7 @@ class _Simplex:
         self.art_row = np.zeros(0, dtype=int)
         self.art_sign = np.zeros(0)
         self.iterations = 0
+        self.warm = False
         self.factor = BasisFactor(refactor_every=max(8, min(64, int(np.sqrt(self.m) * 3))))
 
     # ----- the matrix M = [A, -I, artificial columns] -------------------------------
@@ -100,6 +105,38 @@ class _Simplex:
         return np.concatenate([self.A.T @ y, -y, self.art_sign * y[self.art_row]])
 
     # ----- start ------------------------------------------------------------------
+
+    def start_from(self, head: np.ndarray, at_upper: np.ndarray) -> bool:
+        """Take a given basis; True when it is primal feasible, so phase one can be skipped.
+
+        The basis is dropped (False) when it does not fit this problem, is singular, or
+        leaves a basic variable outside its bounds.
+        """
+        n, m, tp = self.n, self.m, self.tol.primal_feasibility
+        head = np.asarray(head, dtype=int)
+        at_upper = np.asarray(at_upper, dtype=bool)
+        if head.shape != (m,) or at_upper.shape != (n + m,) or np.any(head < 0) or np.any(head >= n + m):
+            return False
+        if np.unique(head).size != m:
+            return False
+        lo, up = self.lower, self.upper
+        at_upper = (at_upper & np.isfinite(up)) | (~np.isfinite(lo) & np.isfinite(up))
+        z = np.where(at_upper, up, np.where(np.isfinite(lo), lo, 0.0))
+        self.art_row = np.zeros(0, dtype=int)
+        self.art_sign = np.zeros(0)
+        self.z = z
+        self.at_upper = at_upper.copy()
+        self.head = head.copy()
+        self.basic = np.zeros(n + m, dtype=bool)
+        self.basic[self.head] = True
+        self.at_upper[self.head] = False
+        try:
+            self.refactor()
+        except SingularBasis:
+            return False
+        xb = self.z[self.head]
+        lb, ub = lo[self.head], up[self.head]
+        return bool(np.all(xb >= lb - tp * (1 + np.abs(lb))) and np.all(xb <= ub + tp * (1 + np.abs(ub))))
 
     def start(self) -> None:
         """Nonbasics at a bound, logicals basic where they fit, artificials elsewhere."""
@@ -262,15 +299,21 @@ class _Simplex:
 
     # ----- both phases --------------------------------------------------------------
 
-    def solve(self) -> SimplexOutcome:
-        """Run phase one (if needed) and phase two; see the module docstring."""
+    def solve(self, basis=None) -> SimplexOutcome:
+        """Run phase one (if needed) and phase two; see the module docstring.
+
+        `basis` is an optional (head, at_upper) pair from an earlier solve of a problem of
+        the same shape; when it is primal feasible here, phase one is skipped.
+        """
         n, m = self.n, self.m
         if np.any(self.lower > self.upper):
             j = int(np.flatnonzero(self.lower > self.upper)[0])
             what = f"variable {j}" if j < n else f"row {j - n}"
             return self._stop("infeasible", f"{what} has a lower bound above its upper bound")
         try:
-            self.start()
+            self.warm = basis is not None and self.start_from(*basis)
+            if not self.warm:
+                self.start()
             k = self.art_row.size
             if k:
                 phase_one_cost = np.concatenate([np.zeros(n + m), np.ones(k)])
@@ -284,13 +327,21 @@ class _Simplex:
                 finite = finite[np.isfinite(finite)]
                 scale = 1.0 + (np.abs(finite).max() if finite.size else 0.0)
                 if infeasibility > self.tol.infeasibility * scale:
-                    return self._stop(
+                    outcome = self._stop(
                         "infeasible",
                         f"no point meets every constraint: phase one left a total "
                         f"infeasibility of {infeasibility:.3g}",
+                    )
+                    return replace(
+                        outcome,
                         farkas=self.y.copy(),
+                        farkas_d=self.d[:n].copy(),
+                        farkas_at_upper=self.at_upper[: n + m].copy(),
+                        infeasibility=infeasibility,
                     )
             phase_one_iterations = self.iterations
+            if self.basic[n + m :].any():
+                self._drive_out_artificials()
             self.lower[n + m :] = 0.0
             self.upper[n + m :] = 0.0
             self.z[n + m :] = 0.0
@@ -317,7 +368,33 @@ class _Simplex:
             phase_one_iterations=phase_one_iterations,
             head=self.head.copy(),
             at_upper=self.at_upper[: n + m].copy(),
+            warm=self.warm,
         )
+
+    def _drive_out_artificials(self) -> None:
+        """Swap artificials still basic (at zero) for structurals or logicals where possible.
+
+        A degenerate pivot: nothing moves, but the basis then describes the real problem,
+        so a later warm start can reuse it. A row whose artificial cannot leave is
+        redundant; the artificial stays basic, fixed at zero.
+        """
+        n, m = self.n, self.m
+        for r in np.flatnonzero(self.head >= n + m):
+            e = np.zeros(m)
+            e[r] = 1.0
+            row = self.times_transpose(self.factor.btran(e))[: n + m]  # row r of B^-1 M
+            row[self.basic[: n + m]] = 0.0
+            q = int(np.argmax(np.abs(row)))
+            if abs(row[q]) <= 1e-7:
+                continue
+            alpha = self.factor.ftran(self.column(q))
+            p = int(self.head[r])
+            self.z[p] = 0.0
+            self.basic[p] = False
+            self.basic[q] = True
+            self.head[r] = q
+            self.factor.update(r, alpha)
+        self.refactor()
 
     def _stop(self, status: str, message: str, *, farkas=None, ray=None, phase_one=None) -> SimplexOutcome:
         """An outcome without a solution."""
@@ -334,6 +411,9 @@ class _Simplex:
         )
 
 
-def run_simplex(sf: StandardForm, tol: Tolerances, max_iterations: int) -> SimplexOutcome:
-    """Solve the internal-form LP `sf` with the two-phase simplex method."""
-    return _Simplex(sf, tol, max_iterations).solve()
+def run_simplex(sf: StandardForm, tol: Tolerances, max_iterations: int, basis=None) -> SimplexOutcome:
+    """Solve the internal-form LP `sf` with the two-phase simplex method.
+
+    `basis` is an optional (head, at_upper) pair from an earlier outcome to start from.
+    """
+    return _Simplex(sf, tol, max_iterations).solve(basis)

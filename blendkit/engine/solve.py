@@ -1,12 +1,13 @@
-"""The engine's public entry point: check arguments, solve, check the answer."""
+"""The engine's public entry point: check arguments, scale, solve, unscale, check the answer."""
 
 from __future__ import annotations
 
 import numpy as np
 
-from blendkit.engine.result import LPResult
-from blendkit.engine.simplex import run_simplex
-from blendkit.engine.standard_form import to_standard_form
+from blendkit.engine.result import Basis, Certificate, ConflictPart, LPResult
+from blendkit.engine.scaling import Scaling, find_scaling, scale_form
+from blendkit.engine.simplex import SimplexOutcome, run_simplex
+from blendkit.engine.standard_form import StandardForm, to_standard_form
 from blendkit.engine.tolerances import Tolerances
 from blendkit.engine.verify import worst_violation
 
@@ -19,22 +20,46 @@ def solve(
     b_eq=None,
     bounds=None,
     *,
+    basis: Basis | None = None,
     tolerances: Tolerances | None = None,
     max_iterations: int | None = None,
+    scale: bool = True,
 ) -> LPResult:
     """Minimise c·x subject to A_ub x <= b_ub, A_eq x == b_eq and bounds on x.
 
     The arguments mean what they mean to `scipy.optimize.linprog`: `bounds` is None
     (every x >= 0), one (lower, upper) pair for all variables, or a pair per variable,
-    with None for "no bound". Inputs are never modified. Infeasible, unbounded and
-    other outcomes come back as the result's `status`; only malformed arguments raise
-    ValueError.
+    with None for "no bound". `basis` (from an earlier result of a problem of the same
+    shape) starts from that basis: after a change of costs only, the solve goes straight
+    to phase two. Inputs are never modified. Infeasible, unbounded and other outcomes come
+    back as the result's `status`; only malformed arguments raise ValueError.
+    """
+    form = to_standard_form(c, A_ub, b_ub, A_eq, b_eq, bounds)
+    return solve_form(form, basis=basis, tolerances=tolerances, max_iterations=max_iterations, scale=scale)
+
+
+def solve_form(
+    form: StandardForm,
+    *,
+    basis: Basis | None = None,
+    tolerances: Tolerances | None = None,
+    max_iterations: int | None = None,
+    scale: bool = True,
+) -> LPResult:
+    """Minimise c·x subject to row_lower <= A x <= row_upper and col_lower <= x <= col_upper.
+
+    The general form behind `solve`, with ranged rows; MPS models come in this form.
+    `row_marginals` of the result holds d(objective)/d(active row bound) for every row.
     """
     tol = tolerances or Tolerances()
-    sf = to_standard_form(c, A_ub, b_ub, A_eq, b_eq, bounds)
-    m, n = sf.shape
+    m, n = form.shape
     limit = max_iterations if max_iterations is not None else max(10_000, 50 * (m + n))
-    outcome = run_simplex(sf, tol, limit)
+    scaling = find_scaling(form.A) if scale else Scaling(np.ones(m), np.ones(n))
+    scaled = scale_form(form, scaling)
+    start = None
+    if basis is not None and tuple(basis.shape) == (m, n):
+        start = (basis.head, basis.at_upper)
+    outcome = run_simplex(scaled, tol, limit, basis=start)
     if outcome.status != "optimal":
         return LPResult(
             status=outcome.status,
@@ -46,11 +71,13 @@ def solve(
             marginals_ub=None,
             marginals_eq=None,
             reduced_costs=None,
-            farkas=outcome.farkas,
-            ray=outcome.ray,
+            certificate=_certificate(form, scaling, outcome, tol) if outcome.farkas is not None else None,
+            ray=None if outcome.ray is None else outcome.ray * scaling.cols,
         )
-    x = outcome.x
-    residual, where = worst_violation(sf, x)
+    x = outcome.x * scaling.cols
+    y = outcome.y * scaling.rows
+    d = outcome.d / scaling.cols
+    residual, where = worst_violation(form, x)
     status, message = outcome.status, outcome.message
     if residual > tol.residual:
         status = "numerical_trouble"
@@ -62,11 +89,49 @@ def solve(
         status=status,
         message=message,
         x=x,
-        objective=float(sf.c @ x),
+        objective=float(form.c @ x),
         iterations=outcome.iterations,
         phase_one_iterations=outcome.phase_one_iterations,
-        marginals_ub=outcome.y[: sf.n_ub].copy(),
-        marginals_eq=outcome.y[sf.n_ub :].copy(),
-        reduced_costs=outcome.d.copy(),
+        marginals_ub=y[: form.n_ub].copy(),
+        marginals_eq=y[form.n_ub :].copy(),
+        reduced_costs=d,
+        row_marginals=y,
         residual=residual,
+        basis=Basis(head=outcome.head, at_upper=outcome.at_upper, shape=(m, n)),
+        warm_start=outcome.warm,
     )
+
+
+def _certificate(form: StandardForm, scaling: Scaling, outcome: SimplexOutcome, tol: Tolerances) -> Certificate:
+    """The phase-one duals in original units, and the constraints they involve."""
+    m, n = form.shape
+    y = outcome.farkas * scaling.rows
+    d = outcome.farkas_d / scaling.cols
+    at_upper = outcome.farkas_at_upper
+    small = tol.dual_feasibility
+    parts = []
+    for i in np.flatnonzero(np.abs(outcome.farkas) > small):
+        if not form.from_linprog:
+            kind, index = "row", int(i)
+        elif i < form.n_ub:
+            kind, index = "ub", int(i)
+        else:
+            kind, index = "eq", int(i - form.n_ub)
+        if form.row_lower[i] == form.row_upper[i]:
+            side = "eq"
+        else:
+            side = "upper" if at_upper[n + i] else "lower"
+        parts.append(ConflictPart(kind, index, side, float(y[i])))
+    for j in np.flatnonzero(np.abs(outcome.farkas_d) > small):
+        if form.col_lower[j] == form.col_upper[j]:
+            side = "eq"
+        else:
+            side = "upper" if at_upper[j] else "lower"
+        parts.append(ConflictPart("bound", int(j), side, float(d[j])))
+    return Certificate(
+        infeasibility=float(outcome.infeasibility),
+        row_multipliers=y,
+        bound_multipliers=d,
+        parts=tuple(parts),
+    )
+

@@ -27,7 +27,8 @@ class StandardForm:
     row_upper: np.ndarray
     col_lower: np.ndarray
     col_upper: np.ndarray
-    n_ub: int  # the first n_ub rows came from A_ub, the rest from A_eq
+    n_ub: int = 0  # the first n_ub rows came from A_ub, the rest from A_eq
+    from_linprog: bool = False  # rows are A_ub's then A_eq's (else a general form)
 
     @property
     def shape(self) -> tuple[int, int]:
@@ -116,4 +117,5 @@ def to_standard_form(c, A_ub=None, b_ub=None, A_eq=None, b_eq=None, bounds=None)
         col_lower=col_lower,
         col_upper=col_upper,
         n_ub=A_ub.shape[0],
+        from_linprog=True,
     )
