@@ -11,8 +11,8 @@ formulation (see `make_blend`): inclusions in %, one row fixing the total at 100
 specs as level rows, contents on mixed scales (%, MJ/kg, mg/kg, ppm) with many zeros, and
 specs set around the levels of a known feasible mixture, some of them tight, so that the
 LPs are feasible by construction and many limits bind at the optimum. A price sweep (the
-same LP with prices nudged step by step) is measured too; today every step is a cold
-solve, the baseline for measuring warm starts.
+same LP with prices nudged step by step) is measured twice: every step solved cold, and
+every step started from the previous step's basis (a warm start; HiGHS stays cold).
 
 NETLIB problems are solved when the reference folder and the MPS reader are both there;
 otherwise a line says why they were skipped.
@@ -41,6 +41,7 @@ import numpy as np
 from scipy.optimize import linprog
 
 from blendkit.engine import solve, solve_form
+from blendkit.engine.result import Basis
 
 TOTAL = 100.0  # inclusions are in % of the blend, as in build_lp
 
@@ -54,9 +55,9 @@ DEFAULT_SEED = 20240611
 # Per size (ingredients): LPs generated and timed repeats of each solve. Chosen so the
 # default run stays within about two minutes on a 2-core machine; `--repeat` overrides.
 INSTANCES = {20: 10, 60: 10, 150: 8, 300: 6}
-REPEATS = {20: 9, 60: 7, 150: 5, 300: 5}
+REPEATS = {20: 15, 60: 11, 150: 7, 300: 5}
 SWEEP_STEPS = 8
-NETLIB_REPEATS = 3
+NETLIB_REPEATS = 5
 
 # scipy's linprog status codes, in the engine's vocabulary.
 LINPROG_STATUS = {0: "optimal", 1: "iteration_limit", 2: "infeasible", 3: "unbounded", 4: "numerical_trouble"}
@@ -278,7 +279,7 @@ def make_blend(n_ingredients: int, n_nutrients: int, seed: int, index: int = 0) 
 def price_sweep(instance: BlendInstance, steps: int, seed: int) -> list[BlendInstance]:
     """The same LP `steps` times with prices changed step by step, as a weekly price
     update does: each step moves a third of the prices by a few percent."""
-    rng = np.random.default_rng([seed, *instance.shape, 7919])
+    rng = np.random.default_rng([seed, *instance.shape, 7919])  # a stream apart from make_blend's
     prices = instance.prices.copy()
     out = []
     for step in range(steps):
@@ -331,14 +332,22 @@ def _agree(status: str, objective, ref_status: str, ref_objective) -> str:
     return ""
 
 
-def measure(label: str, instances: Sequence[BlendInstance], repeat: int) -> Measurement:
-    """Solve every instance `repeat` times with each solver and compare the answers."""
+def measure(label: str, instances: Sequence[BlendInstance], repeat: int, warm_from: Basis | None = None) -> Measurement:
+    """Solve every instance `repeat` times with each solver and compare the answers.
+
+    With `warm_from`, our engine starts each LP from the basis of the one before it (the
+    first from `warm_from`), as re-solving a price sweep would; HiGHS solves each cold.
+    """
     ours_times, highs_times, iterations, statuses = [], [], [], {}
-    mismatches, first = 0, ""
+    mismatches, first, warm = 0, "", 0
+    basis = warm_from
     for lp in instances:
         args = (lp.c, lp.A_ub, lp.b_ub, lp.A_eq, lp.b_eq, lp.bounds)
-        ours, t_ours = _timed(lambda: solve(*args), repeat)
+        ours, t_ours = _timed(lambda: solve(*args, basis=basis), repeat)
         ref, t_highs = _timed(lambda: linprog(*args, method="highs"), repeat)
+        if warm_from is not None:
+            basis = ours.basis or basis
+            warm += bool(ours.warm_start)
         ours_times.append(t_ours)
         highs_times.append(t_highs)
         iterations.append(ours.iterations)
@@ -346,7 +355,7 @@ def measure(label: str, instances: Sequence[BlendInstance], repeat: int) -> Meas
         differs = _agree(ours.status, ours.objective, LINPROG_STATUS.get(ref.status, str(ref.status)), ref.fun)
         if differs:
             mismatches += 1
-            first = first or f"{lp.name}: {differs}"
+            first = first or f"{lp.name}: {differs} (ours said: {ours.message})"
     return Measurement(
         label=label,
         lps=len(instances),
@@ -355,7 +364,8 @@ def measure(label: str, instances: Sequence[BlendInstance], repeat: int) -> Meas
         highs_seconds=statistics.median(highs_times),
         mean_iterations=float(np.mean(iterations)),
         mismatches=mismatches,
-        statuses=", ".join(f"{s} {k}" for s, k in sorted(statuses.items())),
+        statuses=", ".join(f"{s} {k}" for s, k in sorted(statuses.items()))
+        + (f"; started warm {warm} of {len(instances)}" if warm_from is not None else ""),
         first_mismatch=first,
     )
 
@@ -395,6 +405,7 @@ class NetlibRow:
     highs_seconds: float
     iterations: int
     agrees: str  # empty when the answers agree, else what differs
+    message: str = ""  # our engine's message
 
     @property
     def ratio(self) -> float:
@@ -479,6 +490,7 @@ def solve_netlib(path: Path, repeat: int, mps) -> NetlibRow:
         highs_seconds=t_highs,
         iterations=result.iterations,
         agrees=_agree(result.status, objective, h_status, h_objective),
+        message=result.message,
     )
 
 
@@ -517,6 +529,8 @@ def netlib_lines(rows: Sequence[NetlibRow]) -> list[str]:
             f"{r.ours_seconds * 1e3:>10.2f}{r.highs_seconds * 1e3:>10.2f}{r.ratio:>11.2f}x{r.iterations:>7}  "
             + ("yes" if not r.agrees else f"NO: {r.agrees}")
         )
+        if r.agrees:
+            lines.append(f"    ours said: {r.message}")
     if rows:
         ratios = [r.ratio for r in rows]
         lines.append(f"median ratio ours/HiGHS {statistics.median(ratios):.2f}x; "
@@ -598,11 +612,19 @@ def run(sizes, seed: int, repeat: int | None, quick: bool, netlib: str | None, o
         count, reps = _plan(n_ing, repeat, quick)
         instances = [make_blend(n_ing, n_nut, seed, k) for k in range(count)]
         sweep = price_sweep(instances[0], 3 if quick else SWEEP_STEPS, seed)
-        for label, group in ((f"{n_ing}x{n_nut}", instances), (f"{n_ing}x{n_nut} price sweep", sweep)):
-            for line in measurement_lines([measure(label, group, reps)], head=False):
+        size = f"{n_ing}x{n_nut}"
+        first = instances[0]
+        start = solve(first.c, first.A_ub, first.b_ub, first.A_eq, first.b_eq, first.bounds).basis
+        for row in (
+            lambda: measure(size, instances, reps),
+            lambda: measure(f"{size} sweep, cold", sweep, reps),
+            lambda: measure(f"{size} sweep, warm", sweep, reps, warm_from=start),
+        ):
+            for line in measurement_lines([row()], head=False):
                 out(line)
             sys.stdout.flush()
-    out("(price sweep: the first LP of the size re-solved from scratch after each price change)")
+    out("(sweep: the first LP of the size after each of a series of price changes; cold solves")
+    out(" each from scratch, warm starts each from the previous solve's basis; HiGHS is cold)")
     out("")
     out("NETLIB: ours = solve_form on the parsed model; HiGHS = passModel + run on its own parse")
     netlib_repeat = 1 if quick else (repeat if repeat is not None else NETLIB_REPEATS)

@@ -339,3 +339,34 @@ def test_badly_scaled_blends_agree_with_highs(seed):
         bounds=[(0, 60)] * n,
     )
     check_against_highs(lp)
+
+
+def test_large_sparse_problem_uses_sparse_factors_and_agrees_with_highs():
+    # 450 rows at 2 % density: above the engine's sparse threshold (SPARSE_ROWS).
+    import scipy.sparse as sp
+
+    from blendkit.engine import simplex
+
+    rng = np.random.default_rng(3)
+    m, n = 450, 700
+    assert m >= simplex.SPARSE_ROWS
+    A = sp.random(m, n, density=0.02, random_state=3, format="csr")
+    A.data = rng.uniform(-1, 1, A.nnz) * 10
+    b = A @ rng.uniform(0, 2, n) + rng.uniform(0, 1, m)
+    c = rng.uniform(-1, 1, n)
+    result = solve(c, A_ub=A, b_ub=b, bounds=(0, 3))
+    assert_optimal(result, highs(c, A_ub=A, b_ub=b, bounds=(0, 3)).objective)
+
+
+@pytest.mark.parametrize("size", [8, 15])
+def test_degenerate_assignment_problems(size):
+    # Assignment problems are as degenerate as LPs get (n of the 2n - 1 basic variables sit
+    # at zero at every vertex); the optimum is checked against HiGHS.
+    rng = np.random.default_rng(size)
+    cost = rng.integers(1, 20, (size, size)).astype(float)
+    rows = np.kron(np.eye(size), np.ones(size))
+    cols = np.kron(np.ones(size), np.eye(size))
+    A_eq = np.vstack([rows, cols])
+    b_eq = np.ones(2 * size)
+    result = solve(cost.ravel(), A_eq=A_eq, b_eq=b_eq)
+    assert_optimal(result, highs(cost.ravel(), A_eq=A_eq, b_eq=b_eq).objective)

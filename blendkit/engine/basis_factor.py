@@ -10,7 +10,9 @@ refactorises from scratch, which also bounds the growth of rounding error.
 from __future__ import annotations
 
 import numpy as np
+import scipy.sparse as sp
 from scipy.linalg import lapack
+from scipy.sparse.linalg import splu
 
 
 class SingularBasis(Exception):
@@ -54,11 +56,16 @@ class BasisFactor:
             raise SingularBasis("basis matrix is singular to working precision")
         self._lu, self._piv = lu, piv
 
+    def _solve(self, a: np.ndarray, transpose: bool) -> np.ndarray:
+        """Solve B0 z = a (or B0^T z = a) with the stored LU factors."""
+        z, _ = lapack.dgetrs(self._lu, self._piv, a, trans=1 if transpose else 0)
+        return z
+
     def ftran(self, a: np.ndarray) -> np.ndarray:
         """Solve B z = a for the current basis."""
         if self._m == 0:
             return np.zeros(0)
-        z, _ = lapack.dgetrs(self._lu, self._piv, a, trans=0)
+        z = self._solve(a, False)
         for r, alpha in zip(self._eta_rows, self._eta_cols):
             zr = z[r] / alpha[r]
             z -= zr * alpha
@@ -73,10 +80,32 @@ class BasisFactor:
         for r, alpha in zip(reversed(self._eta_rows), reversed(self._eta_cols)):
             # E^T w_new = w: only entry r changes.
             w[r] = (w[r] - (alpha @ w - alpha[r] * w[r])) / alpha[r]
-        y, _ = lapack.dgetrs(self._lu, self._piv, w, trans=1)
-        return y
+        return self._solve(w, True)
 
     def update(self, r: int, alpha: np.ndarray) -> None:
         """Record that column r of the basis was replaced; alpha = B_old^{-1} a_new."""
         self._eta_rows.append(r)
         self._eta_cols.append(np.array(alpha, copy=True))
+
+
+class SparseBasisFactor(BasisFactor):
+    """The same interface over a sparse LU (SuperLU via scipy.sparse), for large bases."""
+
+    def factor(self, B) -> None:
+        """Factorise the sparse basis B afresh and clear the update file."""
+        self._m = B.shape[0]
+        self._eta_rows.clear()
+        self._eta_cols.clear()
+        if self._m == 0:
+            return
+        try:
+            self._lu = splu(sp.csc_matrix(B), permc_spec="COLAMD")
+        except RuntimeError as error:
+            raise SingularBasis(f"basis matrix is singular ({error})") from None
+        diag = np.abs(self._lu.U.diagonal())
+        if diag.min() <= 1e-13 * max(1.0, diag.max()):
+            raise SingularBasis("basis matrix is singular to working precision")
+
+    def _solve(self, a: np.ndarray, transpose: bool) -> np.ndarray:
+        """Solve B0 z = a (or B0^T z = a) with SuperLU's factors."""
+        return self._lu.solve(np.asarray(a, dtype=float), trans="T" if transpose else "N")

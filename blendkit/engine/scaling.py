@@ -14,6 +14,7 @@ from __future__ import annotations
 from dataclasses import dataclass
 
 import numpy as np
+import scipy.sparse as sp
 
 from blendkit.engine.standard_form import StandardForm
 
@@ -29,35 +30,45 @@ class Scaling:
     cols: np.ndarray
 
 
-def _power_of_two(factor: np.ndarray) -> np.ndarray:
-    """The power of two nearest to each factor (in log scale)."""
-    return np.exp2(np.round(np.log2(factor)))
+def _entries(A) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
+    """Row indices, column indices and log2 magnitudes of the nonzeros of A."""
+    if sp.issparse(A):
+        coo = A.tocoo()
+        rows, cols, values = coo.row, coo.col, coo.data
+    else:
+        rows, cols = np.nonzero(A)
+        values = A[rows, cols]
+    keep = values != 0
+    return rows[keep], cols[keep], np.log2(np.abs(values[keep]))
 
 
-def find_scaling(A: np.ndarray) -> Scaling:
+def _middle(index: np.ndarray, logs: np.ndarray, size: int) -> np.ndarray:
+    """Per row (or column) the midpoint of the largest and smallest log magnitude; 0 if empty."""
+    high = np.full(size, -np.inf)
+    low = np.full(size, np.inf)
+    np.maximum.at(high, index, logs)
+    np.minimum.at(low, index, logs)
+    middle = np.zeros(size)
+    seen = np.isfinite(high)
+    middle[seen] = (high[seen] + low[seen]) / 2
+    return middle
+
+
+def find_scaling(A) -> Scaling:
     """Scale factors that bring the nonzeros of A near 1."""
     m, n = A.shape
-    rows, cols = np.ones(m), np.ones(n)
-    magnitude = np.abs(A)
-    nonzero = magnitude > 0
-    if not nonzero.any():
-        return Scaling(rows, cols)
-    logs = np.where(nonzero, np.log2(np.where(nonzero, magnitude, 1.0)), 0.0)
+    rows, cols, logs = _entries(A)
     log_r, log_c = np.zeros(m), np.zeros(n)
+    if logs.size == 0:
+        return Scaling(np.ones(m), np.ones(n))
     for _ in range(GEOMETRIC_PASSES):
-        scaled = np.where(nonzero, logs + log_r[:, None] + log_c[None, :], np.nan)
-        with np.errstate(all="ignore"):
-            row_mid = (np.nanmax(scaled, axis=1, initial=-np.inf) + np.nanmin(scaled, axis=1, initial=np.inf)) / 2
-        log_r -= np.where(np.isfinite(row_mid), row_mid, 0.0)
-        scaled = np.where(nonzero, logs + log_r[:, None] + log_c[None, :], np.nan)
-        with np.errstate(all="ignore"):
-            col_mid = (np.nanmax(scaled, axis=0, initial=-np.inf) + np.nanmin(scaled, axis=0, initial=np.inf)) / 2
-        log_c -= np.where(np.isfinite(col_mid), col_mid, 0.0)
+        log_r -= _middle(rows, logs + log_r[rows] + log_c[cols], m)
+        log_c -= _middle(cols, logs + log_r[rows] + log_c[cols], n)
     # Equilibrate: the largest entry of each column becomes about 1.
-    scaled = np.where(nonzero, logs + log_r[:, None] + log_c[None, :], -np.inf)
-    col_max = scaled.max(axis=0)
-    log_c -= np.where(np.isfinite(col_max), col_max, 0.0)
-    return Scaling(rows=_power_of_two(np.exp2(log_r)), cols=_power_of_two(np.exp2(log_c)))
+    high = np.full(n, -np.inf)
+    np.maximum.at(high, cols, logs + log_r[rows] + log_c[cols])
+    log_c -= np.where(np.isfinite(high), high, 0.0)
+    return Scaling(rows=np.exp2(np.round(log_r)), cols=np.exp2(np.round(log_c)))
 
 
 def scale_form(form: StandardForm, scaling: Scaling) -> StandardForm:
@@ -65,7 +76,7 @@ def scale_form(form: StandardForm, scaling: Scaling) -> StandardForm:
     R, C = scaling.rows, scaling.cols
     return StandardForm(
         c=form.c * C,
-        A=form.A * R[:, None] * C[None, :],
+        A=(sp.diags(R) @ form.A @ sp.diags(C)).tocsr() if sp.issparse(form.A) else form.A * R[:, None] * C[None, :],
         row_lower=form.row_lower * R,
         row_upper=form.row_upper * R,
         col_lower=form.col_lower / C,

@@ -33,12 +33,18 @@ from dataclasses import dataclass, replace
 
 import numpy as np
 
-from blendkit.engine.basis_factor import BasisFactor, SingularBasis
+import scipy.sparse as sp
+
+from blendkit.engine.basis_factor import BasisFactor, SingularBasis, SparseBasisFactor
 from blendkit.engine.standard_form import StandardForm
 from blendkit.engine.tolerances import Tolerances
 
 # Degenerate (objective-neutral) iterations in a row before Bland's rule takes over.
 STALL_LIMIT = 30
+# Problems with at least this many rows, and a matrix at most SPARSE_DENSITY full, are
+# held and factorised as sparse matrices; smaller or denser ones as dense arrays.
+SPARSE_ROWS = 400
+SPARSE_DENSITY = 0.1
 
 
 @dataclass(frozen=True)
@@ -77,32 +83,49 @@ class _Simplex:
         self.art_sign = np.zeros(0)
         self.iterations = 0
         self.warm = False
-        self.factor = BasisFactor(refactor_every=max(8, min(64, int(np.sqrt(self.m) * 3))))
+        nonzeros = self.A.nnz if sp.issparse(self.A) else np.count_nonzero(self.A)
+        density = nonzeros / max(1, self.m * self.n)
+        self.sparse = self.m >= SPARSE_ROWS and density <= SPARSE_DENSITY
+        if self.sparse:
+            self.factor = SparseBasisFactor(refactor_every=50)
+            self.M = sp.hstack([sp.csc_matrix(self.A), -sp.identity(self.m, format="csc")], format="csc")
+        else:
+            # Refactorising costs about m^3 and each stored update about m per solve;
+            # this interval balances the two for dense bases of the sizes blends have.
+            self.factor = BasisFactor(refactor_every=int(np.clip(np.sqrt(self.m) * 0.75, 4, 64)))
+            dense = self.A.toarray() if sp.issparse(self.A) else self.A
+            self.M = np.hstack([dense, -np.eye(self.m)])
 
     # ----- the matrix M = [A, -I, artificial columns] -------------------------------
 
     def column(self, j: int) -> np.ndarray:
-        """Column j of M."""
-        if j < self.n:
-            return self.A[:, j]
-        col = np.zeros(self.m)
-        if j < self.n + self.m:
-            col[j - self.n] = -1.0
-        else:
-            k = j - self.n - self.m
-            col[self.art_row[k]] = self.art_sign[k]
-        return col
+        """Column j of M, as a dense vector."""
+        if self.sparse:
+            M = self.M
+            col = np.zeros(self.m)
+            start, stop = M.indptr[j], M.indptr[j + 1]
+            col[M.indices[start:stop]] = M.data[start:stop]
+            return col
+        return self.M[:, j]
 
     def times(self, z: np.ndarray) -> np.ndarray:
         """M z."""
-        n, m = self.n, self.m
-        out = self.A @ z[:n] - z[n : n + m]
-        np.add.at(out, self.art_row, self.art_sign * z[n + m :])
-        return out
+        return self.M @ z
 
     def times_transpose(self, y: np.ndarray) -> np.ndarray:
         """M^T y."""
-        return np.concatenate([self.A.T @ y, -y, self.art_sign * y[self.art_row]])
+        return self.M.T @ y
+
+    def add_artificials(self, rows: np.ndarray, signs: np.ndarray) -> None:
+        """Append one artificial column sign * e_row per given row to M."""
+        self.art_row, self.art_sign = rows, signs
+        if self.sparse:
+            columns = sp.csc_matrix((signs, (rows, np.arange(rows.size))), shape=(self.m, rows.size))
+            self.M = sp.hstack([self.M[:, : self.n + self.m], columns], format="csc")
+        else:
+            columns = np.zeros((self.m, rows.size))
+            columns[rows, np.arange(rows.size)] = signs
+            self.M = np.hstack([self.M[:, : self.n + self.m], columns])
 
     # ----- start ------------------------------------------------------------------
 
@@ -122,8 +145,7 @@ class _Simplex:
         lo, up = self.lower, self.upper
         at_upper = (at_upper & np.isfinite(up)) | (~np.isfinite(lo) & np.isfinite(up))
         z = np.where(at_upper, up, np.where(np.isfinite(lo), lo, 0.0))
-        self.art_row = np.zeros(0, dtype=int)
-        self.art_sign = np.zeros(0)
+        self.add_artificials(np.zeros(0, dtype=int), np.zeros(0))
         self.z = z
         self.at_upper = at_upper.copy()
         self.head = head.copy()
@@ -153,8 +175,7 @@ class _Simplex:
         s = np.where(fits, activity, np.where(below, rl, ru))
         at_upper[n:] = above
         rows = np.flatnonzero(~fits)
-        self.art_row = rows
-        self.art_sign = np.where(below[rows], 1.0, -1.0)
+        self.add_artificials(rows, np.where(below[rows], 1.0, -1.0))
         k = rows.size
         self.lower = np.concatenate([lo, np.zeros(k)])
         self.upper = np.concatenate([up, np.full(k, np.inf)])
@@ -168,53 +189,57 @@ class _Simplex:
 
     def refactor(self) -> None:
         """Factorise the basis afresh and recompute the basic values from the nonbasics."""
-        B = np.column_stack([self.column(j) for j in self.head]) if self.m else np.zeros((0, 0))
+        B = self.M[:, self.head]
         self.factor.factor(B)
         nonbasic_z = np.where(self.basic, 0.0, self.z)
         self.z[self.head] = self.factor.ftran(-self.times(nonbasic_z))
 
     # ----- one phase ----------------------------------------------------------------
 
+    def fresh_duals(self, cost: np.ndarray) -> np.ndarray:
+        """Recompute y and return d = cost - M^T y from the current factorisation."""
+        self.y = self.factor.btran(cost[self.head])
+        return cost - self.times_transpose(self.y)
+
     def run(self, cost: np.ndarray) -> str:
-        """Iterate with objective `cost` until optimal, unbounded or out of iterations."""
+        """Iterate with objective `cost` until optimal, unbounded or out of iterations.
+
+        Pricing is Devex (approximate steepest edge, Forrest & Goldfarb 1992): the
+        entering variable maximises d_j^2 / w_j over reference weights w. Reduced costs
+        are updated from the pivot row each iteration and recomputed on every
+        refactorisation, which also bounds their drift.
+        """
         tol = self.tol
         stall = 0
         bland = False
-        objective = float(cost @ self.z)
         self.ray = None
+        d = self.fresh_duals(cost)
+        objective = float(cost @ self.z)
+        weights = np.ones_like(d)
+        free = ~np.isfinite(self.lower) & ~np.isfinite(self.upper)
         while True:
             if self.iterations >= self.max_iterations:
                 return "iteration_limit"
-            y = self.factor.btran(cost[self.head])
-            d = cost - self.times_transpose(y)
-            fixed = self.lower == self.upper
-            free = ~np.isfinite(self.lower) & ~np.isfinite(self.upper)
-            movable = ~self.basic & ~fixed
-            up_gain = np.where(movable & ~self.at_upper, -d, 0.0)
-            down_gain = np.where(movable & (self.at_upper | free), d, 0.0)
-            gain = np.maximum(up_gain, down_gain)
-            if bland:
-                eligible = np.flatnonzero(gain > tol.dual_feasibility)
-                q = int(eligible[0]) if eligible.size else -1
-            else:
-                q = int(np.argmax(gain)) if gain.size else -1
-                if q >= 0 and gain[q] <= tol.dual_feasibility:
-                    q = -1
-            if q < 0:
+            movable = ~self.basic & (self.lower != self.upper)
+            can_rise = movable & ~self.at_upper
+            can_fall = movable & (self.at_upper | free)
+            gain = np.maximum(np.where(can_rise, -d, 0.0), np.where(can_fall, d, 0.0))
+            eligible = gain > tol.dual_feasibility
+            if not eligible.any():
                 if self.factor.updates:
                     # Confirm optimality on a fresh factorisation before stopping.
                     self.refactor()
-                    y = self.factor.btran(cost[self.head])
-                    d = cost - self.times_transpose(y)
-                    gain = np.maximum(
-                        np.where(movable & ~self.at_upper, -d, 0.0),
-                        np.where(movable & (self.at_upper | free), d, 0.0),
-                    )
-                    if gain.size and gain.max() > tol.dual_feasibility:
+                    d = self.fresh_duals(cost)
+                    gain = np.maximum(np.where(can_rise, -d, 0.0), np.where(can_fall, d, 0.0))
+                    if np.any(gain > tol.dual_feasibility):
                         continue
-                self.y, self.d = y, d
+                self.d = d
                 return "optimal"
-            direction = 1.0 if up_gain[q] >= down_gain[q] else -1.0
+            if bland:
+                q = int(np.flatnonzero(eligible)[0])
+            else:
+                q = int(np.argmax(np.where(eligible, gain * gain / weights, -1.0)))
+            direction = 1.0 if d[q] < 0 else -1.0
             alpha = self.factor.ftran(self.column(q))
             delta = -direction * alpha
             step = self.ratio_test(q, delta, bland)
@@ -226,11 +251,23 @@ class _Simplex:
                 return "unbounded"
             theta, r, hits_upper = step
             self.iterations += 1
-            self.z[self.head] += theta * delta
+            if theta > 0:
+                self.z[self.head] += theta * delta
+            progress = theta * abs(d[q])
             if r < 0:  # the entering variable runs to its other bound: no basis change
                 self.at_upper[q] = direction > 0
                 self.z[q] = self.upper[q] if direction > 0 else self.lower[q]
             else:
+                # The pivot row: row r of B^-1 M, for the reduced-cost and weight updates.
+                e_r = np.zeros(self.m)
+                e_r[r] = 1.0
+                row = self.times_transpose(self.factor.btran(e_r))
+                pivot = alpha[r]
+                if abs(row[q] - pivot) > 1e-7 * (1 + abs(pivot)):
+                    # The row and column disagree about the pivot: rounding has built up.
+                    self.refactor()
+                    d = self.fresh_duals(cost)
+                    continue
                 self.z[q] += direction * theta
                 p = int(self.head[r])
                 self.z[p] = self.upper[p] if hits_upper else self.lower[p]
@@ -238,6 +275,14 @@ class _Simplex:
                 self.basic[p] = False
                 self.basic[q] = True
                 self.head[r] = q
+                d = d - (d[q] / pivot) * row
+                d[q] = 0.0
+                ratio = row / pivot
+                weight_q = max(weights[q], 1.0)
+                weights = np.maximum(weights, ratio * ratio * weight_q)
+                weights[p] = max(weight_q / (pivot * pivot), 1.0)
+                if weights.max() > 1e8:
+                    weights[:] = 1.0  # a new reference framework
                 if p >= self.n + self.m:  # an artificial that leaves never returns
                     self.lower[p] = self.upper[p] = 0.0
                     self.z[p] = 0.0
@@ -245,14 +290,14 @@ class _Simplex:
                 self.factor.update(r, alpha)
                 if self.factor.due:
                     self.refactor()
-            new_objective = float(cost @ self.z)
-            if objective - new_objective > 1e-12 * (1 + abs(objective)):
+                    d = self.fresh_duals(cost)
+            objective -= progress
+            if progress > 1e-12 * (1 + abs(objective)):
                 stall = 0
                 bland = False
             else:
                 stall += 1
                 bland = bland or stall >= STALL_LIMIT
-            objective = new_objective
 
     def ratio_test(self, q: int, delta: np.ndarray, bland: bool):
         """Step length and leaving position for entering variable q.
@@ -262,26 +307,24 @@ class _Simplex:
         """
         tol = self.tol
         head = self.head
-        xb, lb, ub = self.z[head], self.lower[head], self.upper[head]
-        falling = delta < -tol.pivot
+        xb = self.z[head]
         rising = delta > tol.pivot
+        blocking = rising | (delta < -tol.pivot)
+        bound = np.where(rising, self.upper[head], self.lower[head])
+        rate = np.abs(delta)
         with np.errstate(divide="ignore", invalid="ignore"):
-            exact = np.full(self.m, np.inf)
-            exact[falling] = (xb[falling] - lb[falling]) / -delta[falling]
-            exact[rising] = (ub[rising] - xb[rising]) / delta[rising]
-        exact = np.maximum(exact, 0.0)
+            room = np.where(blocking, (bound - xb) * np.sign(delta), np.inf)
+            exact = np.maximum(np.where(blocking, room / rate, np.inf), 0.0)
+            exact[np.isnan(exact)] = np.inf
+            if bland:
+                theta_max = exact.min() if self.m else np.inf
+            else:
+                # Harris pass one: the largest step that keeps every basic variable
+                # within its bound relaxed by the primal tolerance.
+                slack = tol.primal_feasibility * (1 + np.abs(bound))
+                relaxed = np.where(blocking, (room + slack) / rate, np.inf)
+                theta_max = np.nanmin(relaxed) if self.m else np.inf
         span = self.upper[q] - self.lower[q]
-        if bland:
-            theta_max = exact.min() if self.m else np.inf
-        else:
-            # Harris pass one: the largest step that keeps every basic variable within
-            # its bound relaxed by the primal tolerance.
-            slack = tol.primal_feasibility * (1 + np.abs(np.where(falling, lb, ub)))
-            with np.errstate(divide="ignore", invalid="ignore"):
-                relaxed = np.full(self.m, np.inf)
-                relaxed[falling] = (xb[falling] - lb[falling] + slack[falling]) / -delta[falling]
-                relaxed[rising] = (ub[rising] - xb[rising] + slack[rising]) / delta[rising]
-            theta_max = relaxed.min() if self.m else np.inf
         if not np.isfinite(theta_max):
             if np.isfinite(span):
                 return span, -1, False
@@ -293,9 +336,8 @@ class _Simplex:
             r = int(ties[np.argmin(head[ties])])
         else:
             # Harris pass two: among rows blocking within theta_max, the largest pivot.
-            candidates = np.flatnonzero(exact <= theta_max)
-            r = int(candidates[np.argmax(np.abs(delta[candidates]))])
-        return float(exact[r]), r, bool(delta[r] > 0)
+            r = int(np.argmax(np.where(exact <= theta_max, rate, -1.0)))
+        return float(exact[r]), r, bool(rising[r])
 
     # ----- both phases --------------------------------------------------------------
 

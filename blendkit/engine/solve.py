@@ -11,6 +11,21 @@ from blendkit.engine.standard_form import StandardForm, to_standard_form
 from blendkit.engine.tolerances import Tolerances
 from blendkit.engine.verify import worst_violation
 
+# The engine's matrices are small: threaded BLAS only adds overhead, and on a busy
+# machine far more (a 480 x 480 LU took 50 times longer with two threads than with one
+# on our 2-core development machine). Each solve runs with one BLAS thread.
+_blas = None
+
+
+def _one_blas_thread():
+    """A context manager holding BLAS to one thread (threadpoolctl), made on first use."""
+    global _blas
+    if _blas is None:
+        from threadpoolctl import ThreadpoolController
+
+        _blas = ThreadpoolController()
+    return _blas.limit(limits=1, user_api="blas")
+
 
 def solve(
     c,
@@ -59,7 +74,8 @@ def solve_form(
     start = None
     if basis is not None and tuple(basis.shape) == (m, n):
         start = (basis.head, basis.at_upper)
-    outcome = run_simplex(scaled, tol, limit, basis=start)
+    with _one_blas_thread():
+        outcome = run_simplex(scaled, tol, limit, basis=start)
     if outcome.status != "optimal":
         return LPResult(
             status=outcome.status,

@@ -22,7 +22,7 @@ class StandardForm:
     """An LP with row bounds and column bounds; see the module docstring."""
 
     c: np.ndarray
-    A: np.ndarray
+    A: np.ndarray  # or a scipy.sparse matrix, for large sparse problems
     row_lower: np.ndarray
     row_upper: np.ndarray
     col_lower: np.ndarray
@@ -36,12 +36,17 @@ class StandardForm:
         return self.A.shape
 
 
-def _matrix(name: str, A, n: int) -> np.ndarray:
-    """A dense float copy of A (m x n), or a (0 x n) matrix for None."""
+def _matrix(name: str, A, n: int):
+    """A float copy of A (m x n; a sparse matrix stays sparse), or a (0 x n) matrix for None."""
     if A is None:
         return np.zeros((0, n))
     if sp.issparse(A):
-        A = A.toarray()
+        A = sp.csr_matrix(A, dtype=float, copy=True)
+        if A.ndim != 2 or A.shape[1] != n:
+            raise ValueError(f"{name} must be a 2-D array with {n} columns, got shape {A.shape}")
+        if not np.all(np.isfinite(A.data)):
+            raise ValueError(f"{name} must contain only finite numbers")
+        return A
     A = np.array(A, dtype=float, copy=True)
     if A.ndim == 1 and A.size == 0:
         A = A.reshape(0, n)
@@ -111,7 +116,7 @@ def to_standard_form(c, A_ub=None, b_ub=None, A_eq=None, b_eq=None, bounds=None)
     col_lower, col_upper = _bounds(bounds, n)
     return StandardForm(
         c=c,
-        A=np.vstack([A_ub, A_eq]),
+        A=sp.vstack([A_ub, A_eq], format="csr") if sp.issparse(A_ub) or sp.issparse(A_eq) else np.vstack([A_ub, A_eq]),
         row_lower=np.concatenate([np.full(A_ub.shape[0], -np.inf), b_eq]),
         row_upper=np.concatenate([b_ub, b_eq]),
         col_lower=col_lower,

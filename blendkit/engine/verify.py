@@ -7,6 +7,7 @@ original units so that rounding trouble shows up as a status, not as a wrong ans
 from __future__ import annotations
 
 import numpy as np
+import scipy.sparse as sp
 
 from blendkit.engine.standard_form import StandardForm
 
@@ -19,8 +20,12 @@ def worst_violation(sf: StandardForm, x: np.ndarray) -> tuple[float, str]:
     """
     worst, where = 0.0, ""
     activity = sf.A @ x
+    if sp.issparse(sf.A):
+        terms = np.asarray(abs(sf.A.multiply(x[None, :])).max(axis=1).todense()).ravel()
+    else:
+        terms = np.abs(sf.A * x).max(axis=1, initial=0.0)
     size = 1.0 + np.maximum(
-        np.abs(sf.A * x).max(axis=1, initial=0.0),
+        terms,
         np.maximum(np.abs(np.where(np.isfinite(sf.row_lower), sf.row_lower, 0.0)),
                    np.abs(np.where(np.isfinite(sf.row_upper), sf.row_upper, 0.0))),
     )
