@@ -8,7 +8,7 @@ from __future__ import annotations
 
 from dataclasses import dataclass
 
-from blendkit.model import Blend
+from blendkit.model import Blend, Settings
 
 # Statuses a formula can have; the engine's statuses pass through unchanged.
 OPTIMAL = "optimal"
@@ -105,3 +105,19 @@ class RunInfo:
     started_utc: str  # ISO 8601, e.g. "2026-12-01T21:41:45Z"
     input_name: str
     input_sha256: str
+
+
+def cost_unit(settings: Settings) -> str:
+    """The blend cost's unit, e.g. "EUR per tonne"; "per tonne" when no currency is given."""
+    return f"{settings.currency} per {settings.cost_per}".strip()
+
+
+def shadow_price_unit(limit: Limit, blend: Blend) -> str:
+    """E.g. "EUR/tonne per 1 unit of Crude protein (%)" or "EUR/tonne per 1 % inclusion"."""
+    settings = blend.settings
+    per = f"{settings.currency or 'cost'}/{settings.cost_per}"
+    if limit.kind == "ingredient":
+        return f"{per} per 1 % inclusion"
+    unit = blend.nutrient_units.get(limit.name, "")
+    label = f"{limit.name} ({unit})" if unit else limit.name
+    return f"{per} per 1 unit of {label}"

@@ -9,8 +9,7 @@ from __future__ import annotations
 import math
 
 from blendkit import CAUTION
-from blendkit.formula import Formula, Limit
-from blendkit.model import Blend
+from blendkit.formula import Formula, cost_unit, shadow_price_unit
 
 # Gap between columns, in spaces.
 _GAP = "  "
@@ -31,7 +30,7 @@ def render_summary(formula: Formula) -> str:
     if formula.message:
         status.append(f"Message: {formula.message}")
     if formula.solved and formula.cost is not None:
-        status.append(f"Cost: {formula.cost:,.2f} {_cost_unit(blend)}")
+        status.append(f"Cost: {formula.cost:,.2f} {cost_unit(blend.settings)}")
         status.append(f"Batch: {settings.batch_size:g} {settings.mass_unit}")
     blocks.append(status)
 
@@ -93,7 +92,7 @@ def _binding_limits(formula: Formula) -> list[str]:
             _fixed(limit.bound, _INCLUSION_DECIMALS if limit.kind == "ingredient"
                    else places.get(limit.name, _decimals([limit.bound]))),
             f"{limit.shadow_price:+.{_decimals([limit.shadow_price], least=2)}f}",
-            _shadow_price_unit(limit, formula.blend),
+            shadow_price_unit(limit, formula.blend),
         ]
         for limit in binding
     ]
@@ -135,18 +134,5 @@ def _decimals(values: list[float | None], least: int = 1) -> int:
     return min(6, max(least, 3 - math.floor(math.log10(max(sizes)))))
 
 
-def _cost_unit(blend: Blend) -> str:
-    """E.g. "EUR per tonne"; "per tonne" when no currency is given."""
-    settings = blend.settings
-    return f"{settings.currency} per {settings.cost_per}".strip()
 
 
-def _shadow_price_unit(limit: Limit, blend: Blend) -> str:
-    """E.g. "EUR/tonne per 1 unit of Crude protein (%)" or "EUR/tonne per 1 % inclusion"."""
-    settings = blend.settings
-    per = f"{settings.currency or 'cost'}/{settings.cost_per}"
-    if limit.kind == "ingredient":
-        return f"{per} per 1 % inclusion"
-    unit = blend.nutrient_units.get(limit.name, "")
-    label = f"{limit.name} ({unit})" if unit else limit.name
-    return f"{per} per 1 unit of {label}"

@@ -37,8 +37,8 @@ from openpyxl.workbook.workbook import Workbook
 from openpyxl.worksheet.worksheet import Worksheet
 
 from blendkit import CAUTION
-from blendkit.formula import Formula, Limit, NutrientLine, RunInfo
-from blendkit.model import Blend, Settings
+from blendkit.formula import Formula, NutrientLine, RunInfo, cost_unit, shadow_price_unit
+from blendkit.model import Settings
 
 # Sheets this writer owns; any sheet with one of these names (any case) is replaced.
 OUTPUT_SHEETS = ("Result", "Shadow prices", "Run info")
@@ -306,7 +306,7 @@ def _write_result(workbook: Workbook, formula: Formula, title: str) -> Worksheet
         _write_notes(sheet, formula.notes, row=9)
         return sheet
 
-    cost_unit = _cost_unit(settings)
+    unit_of_cost = cost_unit(settings)
     ingredient_header = 10
     first = ingredient_header + 1
     last = first + len(formula.ingredients) - 1
@@ -314,14 +314,14 @@ def _write_result(workbook: Workbook, formula: Formula, title: str) -> Worksheet
 
     sheet["A6"] = "Blend cost"
     _number(sheet.cell(6, 2), formula.cost, MONEY_FORMAT)
-    _put(sheet, 6, 3, cost_unit)
+    _put(sheet, 6, 3, unit_of_cost)
     sheet["A7"] = "Blend cost from input prices"
     cost_check = _recompute_formula(
         formula, inclusion_rows, workbook, lambda item: item.cells.get("cost")
     )
     if cost_check is not None:
         _live(sheet.cell(7, 2), cost_check, MONEY_FORMAT)
-        _put(sheet, 7, 3, f"{cost_unit} (live formula: inclusions below x Cost column)")
+        _put(sheet, 7, 3, f"{unit_of_cost} (live formula: inclusions below x Cost column)")
     else:
         sheet["C7"] = "not available: input cells unknown or formula too long"
     sheet["A8"] = "Batch"
@@ -368,7 +368,7 @@ def _write_ingredients(
     sheet: Worksheet, formula: Formula, header_row: int, settings: Settings
 ) -> None:
     """One row per ingredient line, numbers as numbers."""
-    cost_unit = _cost_unit(settings)
+    unit_of_cost = cost_unit(settings)
     money = settings.currency or "currency"
     batch = f"{_plain(settings.batch_size)} {settings.mass_unit}"
     _header(
@@ -379,9 +379,9 @@ def _write_ingredients(
             "Inclusion (%)",
             f"Amount ({settings.mass_unit} per {batch} batch)",
             f"Cost per batch ({money})",
-            f"Price ({cost_unit})",
-            f"Reduced cost ({cost_unit} per 1 % inclusion)",
-            f"Price at which it would come in ({cost_unit})",
+            f"Price ({unit_of_cost})",
+            f"Reduced cost ({unit_of_cost} per 1 % inclusion)",
+            f"Price at which it would come in ({unit_of_cost})",
         ],
     )
     for offset, line in enumerate(formula.ingredients, start=1):
@@ -540,7 +540,7 @@ def _write_shadow_prices(workbook: Workbook, formula: Formula) -> None:
         sheet,
         1,
         1,
-        f"Shadow price: change in blend cost ({_cost_unit(settings)}) when the bound is "
+        f"Shadow price: change in blend cost ({cost_unit(settings)}) when the bound is "
         "raised by 1 unit; 0 where the bound does not bind. It holds for small changes only."
     )
     headers = [
@@ -571,7 +571,7 @@ def _write_shadow_prices(workbook: Workbook, formula: Formula) -> None:
         _number(sheet.cell(row, 5), limit.level, number_format)
         _put(sheet, row, 6, "yes" if limit.binding else "no")
         _number(sheet.cell(row, 7), limit.shadow_price, _format_by_size([limit.shadow_price], 2))
-        _put(sheet, row, 8, _shadow_price_unit(limit, formula.blend))
+        _put(sheet, row, 8, shadow_price_unit(limit, formula.blend))
         _put(sheet, row, 9, limit.cell)
     if not formula.limits:
         if formula.solved:
@@ -585,15 +585,6 @@ def _write_shadow_prices(workbook: Workbook, formula: Formula) -> None:
     sheet.freeze_panes = "A4"
 
 
-def _shadow_price_unit(limit: Limit, blend: Blend) -> str:
-    """E.g. "EUR/tonne per 1 unit of Crude protein (%)" or "EUR/tonne per 1 % inclusion"."""
-    settings = blend.settings
-    per = f"{settings.currency or 'cost'}/{settings.cost_per}"
-    if limit.kind == "ingredient":
-        return f"{per} per 1 % inclusion"
-    unit = blend.nutrient_units.get(limit.name, "")
-    label = f"{limit.name} ({unit})" if unit else limit.name
-    return f"{per} per 1 unit of {label}"
 
 
 # --- Run info sheet ------------------------------------------------------------------------
@@ -679,9 +670,6 @@ def _format_by_size(values: list[float | None], least: int) -> str:
     return "#,##0." + "0" * decimals
 
 
-def _cost_unit(settings: Settings) -> str:
-    """E.g. "EUR per tonne"; just "per tonne" when no currency is given."""
-    return f"{settings.currency} per {settings.cost_per}".strip()
 
 
 def _plain(value: float) -> str:

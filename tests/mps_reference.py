@@ -50,7 +50,9 @@ def highs_read(path) -> HighsModel:
     lp = _highs(path).getLp()
     m, n = lp.num_row_, lp.num_col_
     A = np.zeros((m, n))
-    start, index, value = (np.asarray(v) for v in (lp.a_matrix_.start_, lp.a_matrix_.index_, lp.a_matrix_.value_))
+    start = np.asarray(lp.a_matrix_.start_, dtype=int)
+    index = np.asarray(lp.a_matrix_.index_, dtype=int)
+    value = np.asarray(lp.a_matrix_.value_, dtype=float)
     assert lp.a_matrix_.format_ == highspy.MatrixFormat.kColwise
     for j in range(n):
         A[index[start[j] : start[j + 1]], j] = value[start[j] : start[j + 1]]

@@ -9,7 +9,6 @@ import subprocess
 import sys
 from pathlib import Path
 
-import numpy as np
 import openpyxl
 import pytest
 from typer.testing import CliRunner

@@ -370,3 +370,18 @@ def test_degenerate_assignment_problems(size):
     b_eq = np.ones(2 * size)
     result = solve(cost.ravel(), A_eq=A_eq, b_eq=b_eq)
     assert_optimal(result, highs(cost.ravel(), A_eq=A_eq, b_eq=b_eq).objective)
+
+
+@settings(max_examples=300, deadline=None, suppress_health_check=[HealthCheck.too_slow])
+@given(random_lps())
+def test_blands_rule_after_every_stall_still_agrees_with_highs(lp):
+    # With a stall limit of 1, Bland's smallest-index rule takes over after every
+    # degenerate step, so this exercises the anti-cycling path on the same families.
+    from blendkit.engine import simplex
+
+    saved = simplex.STALL_LIMIT
+    simplex.STALL_LIMIT = 1
+    try:
+        check_against_highs(lp)
+    finally:
+        simplex.STALL_LIMIT = saved

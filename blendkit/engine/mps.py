@@ -68,7 +68,9 @@ hold names with blanks: those names have each run of blanks replaced by ``_``, a
 that makes two names of a kind equal, that kind gets generated names (R0001..., C0001...).
 Numbers are written in their shortest text that reads back to the same float. Rows are
 written as E, L or G rows, ranged rows as a G row (or an L row) with a RANGES entry whose
-value reproduces both bounds exactly; rows with no finite bound are written as extra N
+value reproduces both bounds exactly; when no float range can (bounds far apart in
+magnitude, such as -1 and 1e-13), the far bound reads back a unit in the last place or so
+of the larger bound away. Rows with no finite bound are written as extra N
 rows, which readers ignore, so reading drops them. Bounds go to BOUNDS only where they
 differ from 0 <= x < inf (UP before LO, so a lower bound of 0 under a negative upper bound
 survives the convention above). A bound or row side of magnitude 1e30 or more is written
@@ -372,8 +374,13 @@ class _Reader:
         kind = words[0].upper()
         if len(words) == 4:
             return words[0], words[1], words[2], words[3]
-        if len(words) == 3:
-            if kind in VALUELESS_BOUNDS and (words[2] in self.column_index or words[1] not in self.column_index):
+        if len(words) == 3:  # vector and column, or column and value: the names decide
+            first, second = (w in self.column_index for w in words[1:])
+            if first != second:
+                with_vector = second
+            else:
+                with_vector = kind in VALUELESS_BOUNDS
+            if with_vector:
                 return words[0], words[1], words[2], None
             return words[0], "", words[1], words[2]
         if len(words) == 2 and kind in VALUELESS_BOUNDS:
@@ -770,11 +777,11 @@ def _row_records(lower: np.ndarray, upper: np.ndarray):
 
 
 def _range(lo: float, up: float) -> tuple[str, float, float]:
-    """A G or L row with a range that reproduces lo <= a·x <= up exactly, shortest text first.
+    """A G or L row whose range gives lo <= a·x <= up, exactly when any float range can.
 
     The range is tried at up - lo and a few floats either side, as a G row (lo + r == up)
-    and as an L row (up - r == lo); when none reproduces both bounds (rare), the G row
-    with r = up - lo, a unit in the last place away at most.
+    and as an L row (up - r == lo); of the exact ones the shortest text wins. When none is
+    exact (bounds far apart in magnitude, such as -1 and 1e-13), the closest is taken.
     """
     width = up - lo
     candidates = [width]
@@ -782,11 +789,10 @@ def _range(lo: float, up: float) -> tuple[str, float, float]:
     for _ in range(4):
         below, above = float(np.nextafter(below, 0.0)), float(np.nextafter(above, np.inf))
         candidates += [below, above]
-    exact = [("G", lo, r) for r in candidates if r > 0 and lo + r == up]
-    exact += [("L", up, r) for r in candidates if r > 0 and up - r == lo]
-    if not exact:
-        return "G", lo, width
-    return min(exact, key=lambda t: len(_number_text(t[1])) + len(_number_text(t[2])))
+    options = [("G", lo, r, abs(lo + r - up)) for r in candidates if r > 0]
+    options += [("L", up, r, abs(up - r - lo)) for r in candidates if r > 0]
+    kind, b, r, _ = min(options, key=lambda t: (t[3], len(_number_text(t[1])) + len(_number_text(t[2]))))
+    return kind, b, r
 
 
 def _bound_records(lower: np.ndarray, upper: np.ndarray) -> list[tuple[str, int, float | None]]:

@@ -40,7 +40,9 @@ from blendkit.engine.standard_form import StandardForm
 from blendkit.engine.tolerances import Tolerances
 
 # Degenerate (objective-neutral) iterations in a row before Bland's rule takes over.
-STALL_LIMIT = 30
+# Bland's rule cannot cycle but is slow, so it waits for a long stall: on the NETLIB
+# set a limit of 30 cost four times the iterations of a limit of 200.
+STALL_LIMIT = 250
 # Problems with at least this many rows, and a matrix at most SPARSE_DENSITY full, are
 # held and factorised as sparse matrices; smaller or denser ones as dense arrays.
 SPARSE_ROWS = 400
@@ -308,10 +310,13 @@ class _Simplex:
         tol = self.tol
         head = self.head
         xb = self.z[head]
-        rising = delta > tol.pivot
-        blocking = rising | (delta < -tol.pivot)
-        bound = np.where(rising, self.upper[head], self.lower[head])
         rate = np.abs(delta)
+        # Entries below the pivot tolerance, relative to the column's largest, never
+        # block: pivoting on them would make the basis nearly singular.
+        smallest = tol.pivot * max(1.0, rate.max(initial=0.0))
+        rising = delta > smallest
+        blocking = rising | (delta < -smallest)
+        bound = np.where(rising, self.upper[head], self.lower[head])
         with np.errstate(divide="ignore", invalid="ignore"):
             room = np.where(blocking, (bound - xb) * np.sign(delta), np.inf)
             exact = np.maximum(np.where(blocking, room / rate, np.inf), 0.0)
@@ -323,7 +328,9 @@ class _Simplex:
                 # within its bound relaxed by the primal tolerance.
                 slack = tol.primal_feasibility * (1 + np.abs(bound))
                 relaxed = np.where(blocking, (room + slack) / rate, np.inf)
-                theta_max = np.nanmin(relaxed) if self.m else np.inf
+                # A basic variable already beyond its relaxed bound (rounding) allows
+                # no step at all, never a negative one.
+                theta_max = max(np.nanmin(relaxed), 0.0) if self.m else np.inf
         span = self.upper[q] - self.lower[q]
         if not np.isfinite(theta_max):
             if np.isfinite(span):

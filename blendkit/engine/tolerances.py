@@ -12,7 +12,8 @@ from dataclasses import dataclass
 PRIMAL_FEASIBILITY = 1e-9
 # A reduced cost this close to zero (with the wrong sign) still counts as optimal.
 DUAL_FEASIBILITY = 1e-9
-# Pivot elements smaller than this (in absolute value) are never chosen.
+# Pivot elements smaller than this, relative to the largest entry of the entering
+# column (or absolute, when that is below 1), are never chosen.
 PIVOT = 1e-9
 # Phase one reports "infeasible" when the sum of artificial variables stays above
 # this, relative to 1 + the largest finite bound or right-hand side.
