@@ -73,12 +73,26 @@ def highs_read(path) -> HighsModel:
 def highs_optimum(path) -> tuple[str, float | None]:
     """HiGHS's status and objective (with the file's constant and sense) for the file.
 
-    Presolve is off so that infeasible and unbounded come back told apart.
+    Presolve is off first, so that infeasible and unbounded come back told apart; when
+    HiGHS still answers "unknown" or "infeasible or unbounded" (it does on some tiny
+    degenerate LPs), the file is solved again with presolve, and then with a zero
+    objective: feasible means unbounded.
     """
-    h = _highs(path)
-    h.setOptionValue("presolve", "off")
-    h.run()
-    status = _STATUS.get(h.getModelStatus(), str(h.getModelStatus()))
-    if status != "optimal":
-        return status, None
-    return status, float(h.getInfo().objective_function_value)
+    for presolve in ("off", "on"):
+        h = _highs(path)
+        h.setOptionValue("presolve", presolve)
+        h.run()
+        status = _STATUS.get(h.getModelStatus(), str(h.getModelStatus()))
+        if status == "optimal":
+            return status, float(h.getInfo().objective_function_value)
+        if status in ("infeasible", "unbounded"):
+            return status, None
+    if status == "infeasible_or_unbounded":
+        n = h.getLp().num_col_
+        h.changeColsCost(n, np.arange(n, dtype=np.int32), np.zeros(n))
+        h.run()
+        if h.getModelStatus() == highspy.HighsModelStatus.kOptimal:
+            return "unbounded", None
+        if h.getModelStatus() == highspy.HighsModelStatus.kInfeasible:
+            return "infeasible", None
+    return status, None

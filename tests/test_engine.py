@@ -182,14 +182,14 @@ def _nondegenerate(lp, x, tol=1e-9):
     return active == len(x)
 
 
-def check_against_highs(lp):
+def check_against_highs(lp, algorithm="auto"):
     """Same status as HiGHS; when optimal, same objective, a feasible x, equal duals if unique."""
-    ours = solve(**lp)
+    ours = solve(**lp, algorithm=algorithm)
     ref = highs(**lp)
     assert ours.status in STATUSES
     assert ours.status == ref.status, ours.message
     if ref.status != "optimal":
-        return
+        return ours
     assert ours.objective == pytest.approx(ref.objective, rel=RTOL, abs=RTOL)
     x = ours.x
     if lp["A_ub"] is not None:
@@ -200,6 +200,7 @@ def check_against_highs(lp):
         np.testing.assert_allclose(ours.marginals_ub, ref.marginals_ub, atol=1e-7)
         np.testing.assert_allclose(ours.marginals_eq, ref.marginals_eq, atol=1e-7)
         np.testing.assert_allclose(ours.reduced_costs, ref.reduced_costs, atol=1e-7)
+    return ours
 
 
 @settings(max_examples=1200, deadline=None, suppress_health_check=[HealthCheck.too_slow])
@@ -208,10 +209,74 @@ def test_random_lps_agree_with_highs(lp):
     check_against_highs(lp)
 
 
+@settings(max_examples=600, deadline=None, suppress_health_check=[HealthCheck.too_slow])
+@given(random_lps())
+def test_random_lps_two_phase_primal_agrees_with_highs(lp):
+    check_against_highs(lp, algorithm="primal")
+
+
+@st.composite
+def random_blends(draw):
+    """Blend-shaped LPs: inclusions summing to 100, nutrient min/max rows on mixed scales,
+    inclusion limits; about one in five made infeasible by an unreachable spec."""
+    seed = draw(st.integers(0, 2**32 - 1))
+    rng = np.random.default_rng(seed)
+    n, k = int(rng.integers(2, 25)), int(rng.integers(1, 12))
+    contents = rng.uniform(0, 1, (k, n)) * 10.0 ** rng.integers(-2, 4, (k, 1))
+    contents[rng.random((k, n)) < 0.35] = 0.0
+    mixture = rng.dirichlet(np.ones(n)) * 100
+    levels = contents @ mixture / 100
+    low = levels * rng.uniform(0.8, 1.0, k)
+    high = levels * rng.uniform(1.0, 1.5, k)
+    if rng.random() < 0.2:
+        low[int(rng.integers(k))] = contents.max() * 1.01  # no blend reaches it
+    has_low, has_high = rng.random(k) < 0.8, rng.random(k) < 0.4
+    A_ub = np.vstack([-contents[has_low] / 100, contents[has_high] / 100])
+    b_ub = np.concatenate([-low[has_low], high[has_high]])
+    upper = np.where(rng.random(n) < 0.5, np.maximum(mixture * rng.uniform(1, 3, n), 1), 100.0)
+    lower = np.where(rng.random(n) < 0.15, mixture * rng.uniform(0, 1, n), 0.0)
+    return dict(
+        c=rng.uniform(50, 3000, n) / 100,
+        A_ub=A_ub if A_ub.size else None,
+        b_ub=b_ub if A_ub.size else None,
+        A_eq=np.ones((1, n)),
+        b_eq=np.array([100.0]),
+        bounds=list(zip(lower, upper)),
+    )
+
+
+@settings(max_examples=400, deadline=None, suppress_health_check=[HealthCheck.too_slow])
+@given(random_blends())
+def test_random_blends_agree_with_highs(lp):
+    ours = check_against_highs(lp)
+    if ours.status == "optimal":
+        assert ours.algorithm == "dual"  # costs >= 0: the basis of logicals is dual feasible
+
+
+@settings(max_examples=200, deadline=None, suppress_health_check=[HealthCheck.too_slow])
+@given(random_blends())
+def test_random_blends_two_phase_primal_agrees_with_highs(lp):
+    check_against_highs(lp, algorithm="primal")
+
+
 @pytest.mark.long
 @settings(max_examples=6000, deadline=None, suppress_health_check=[HealthCheck.too_slow])
 @given(random_lps())
 def test_many_random_lps_agree_with_highs(lp):
+    check_against_highs(lp)
+
+
+@pytest.mark.long
+@settings(max_examples=3000, deadline=None, suppress_health_check=[HealthCheck.too_slow])
+@given(random_lps())
+def test_many_random_lps_two_phase_primal_agree_with_highs(lp):
+    check_against_highs(lp, algorithm="primal")
+
+
+@pytest.mark.long
+@settings(max_examples=3000, deadline=None, suppress_health_check=[HealthCheck.too_slow])
+@given(random_blends())
+def test_many_random_blends_agree_with_highs(lp):
     check_against_highs(lp)
 
 
@@ -246,22 +311,31 @@ def test_warm_start_after_a_price_change_skips_phase_one():
     assert_optimal(warm, highs(**changed).objective)
 
 
-def test_unusable_basis_falls_back_to_a_cold_start():
+def test_warm_start_after_a_bound_change_uses_the_dual_simplex():
     lp = _blend_lp(7)
     first = solve(**lp)
     # Cap each basic ingredient at half its old inclusion: with the nonbasics where they
-    # were, the old basis now puts its basic variables above their bounds.
+    # were, the old basis now puts its basic variables above their bounds, but its
+    # reduced costs still have the right signs, so the dual simplex can start from it.
     bounds = list(lp["bounds"])
     for j in first.basis.head[first.basis.head < len(bounds)]:
         if first.x[j] > 1e-6:
             bounds[j] = (0, first.x[j] / 2)
     tighter = dict(lp, bounds=bounds)
     result = solve(**tighter, basis=first.basis)
-    assert not result.warm_start
     ref = highs(**tighter)
     assert result.status == ref.status
     if ref.status == "optimal":
+        assert result.warm_start and result.algorithm == "dual"
         assert_optimal(result, ref.objective)
+
+
+def test_a_basis_of_another_shape_is_ignored():
+    first = solve(**_blend_lp(7))
+    other = _blend_lp(8, n=20, k=6)
+    result = solve(**other, basis=first.basis)
+    assert not result.warm_start
+    assert_optimal(result, highs(**other).objective)
 
 
 def _certificate_checks(lp, result):

@@ -12,6 +12,7 @@ from dataclasses import replace
 
 import numpy as np
 import pytest
+import scipy.sparse as sp
 from hypothesis import HealthCheck, given, settings
 from hypothesis import strategies as st
 
@@ -186,6 +187,21 @@ def test_fixed_file_with_a_blank_rhs_vector_name(tmp_path):
     np.testing.assert_array_equal(model.form.row_upper, [0, 4, 6, 0, 0])
 
 
+def test_auto_falls_back_to_free_when_fixed_reading_fails(tmp_path):
+    # Every data line keeps to the fixed columns, but "x cost 1" sits inside columns
+    # 5-12, so the fixed reading finds no row name; the free reading succeeds.
+    text = "NAME\nROWS\n N  cost\n L  cap\nCOLUMNS\n    x cost 1\n    x cap 2\nRHS\n    R cap 4\nENDATA\n"
+    path = mps_file(tmp_path, text)
+    with pytest.raises(MPSError, match="line 6: a row name is missing before a value"):
+        read(path, format="fixed")
+    model = read(path)
+    assert (model.row_names, model.column_names, model.objective_name) == (("cap",), ("x",), "cost")
+    assert_same_form(model.form, form(c=[1], A=[[2]], row_lower=[-INF], row_upper=[4]))
+    # When both readings fail, the error is the one from the reading that got further.
+    with pytest.raises(MPSError, match="line 9: RHS names row 'cop'"):
+        read(mps_file(tmp_path, text.replace("R cap 4", "R cop 4")))
+
+
 def test_fixed_mps_keeps_blanks_inside_names_free_mps_cannot(tmp_path):
     path = mps_file(tmp_path, FIXED)
     with pytest.raises(MPSError, match="line 6: a ROWS line holds a type and a name, got 3 fields"):
@@ -346,6 +362,7 @@ def edited(replace: dict[int, str] | None = None, insert: dict[int, str] | None 
         (edited({5: "COLUMNS now"}), 5, "unexpected text 'now' after COLUMNS"),
         (edited(insert={2: "OBJSENSE\n    UP"}), 3, "OBJSENSE must be MAX or MIN, got 'UP'"),
         (edited(insert={2: "OBJSENSE MAX\n    MIN"}), 3, "OBJSENSE gives the sense twice"),
+        (edited(insert={2: "OBJSENSE"}), 3, "OBJSENSE gives no sense; put MAX or MIN on the line after it"),
         ("\n".join(BASE[:-1]) + "\n", 9, "the file ends without ENDATA"),
     ],
 )
@@ -515,6 +532,14 @@ def test_writing_bad_forms_raises_and_writes_nothing(tmp_path):
     assert not path.exists()
 
 
+def test_sparse_matrix_written_like_dense(tmp_path):
+    sparse = replace(SMALL, A=sp.csr_matrix(SMALL.A))
+    data = sparse.A.data.copy()
+    write(tmp_path / "sparse.mps", sparse, objective_constant=1.5)
+    assert (tmp_path / "sparse.mps").read_text() == SMALL_FIXED
+    np.testing.assert_array_equal(sparse.A.data, data)
+
+
 def test_writing_leaves_the_form_alone(tmp_path):
     sf = form(c=[1, -2], A=[[1, 1], [1, -1]], row_lower=[1, -INF], row_upper=[5, 2],
               col_lower=[-INF, 0], col_upper=[3, -1])
@@ -549,7 +574,7 @@ def forms(draw, nice: bool):
         a, b = sorted([draw(number), draw(number)]) if nice else (draw(number), draw(number))
         if not nice and draw(st.booleans()):
             a, b = min(a, b), max(a, b)
-        kinds = ["le", "ge", "eq", "range", "default"] + (["free", "mi_up", "upper_below_zero"] if free_ok else ["free"])
+        kinds = ["le", "ge", "eq", "range", "default", "free"] + (["mi_up", "upper_below_zero"] if free_ok else [])
         kind = draw(st.sampled_from(kinds))
         if kind == "range" and a == b:
             kind = "eq"

@@ -2,8 +2,9 @@
 
 `read(path)` returns an `MPSModel` whose `form` the engine solves with `solve_form`;
 `write(path, form_or_model)` writes a `StandardForm` (or a model read earlier) so that
-reading it back gives the same form, bit for bit. Malformed files raise `MPSError`
-(a ValueError) naming the file and line.
+reading it back gives the same form, bit for bit, within the limits of the format listed
+under "What the writer produces". Malformed files raise `MPSError` (a ValueError) naming
+the file and line.
 
 What the reader accepts
 =======================
@@ -46,7 +47,8 @@ BOUNDS
     UP (upper), LO (lower), FX (both), FR (free), MI (lower -inf), PL (upper +inf),
     BV (0..1), LI (lower), UI (upper); integrality is ignored. UP or UI with a negative
     value on a column whose lower bound is still the default 0 also sets the lower bound
-    to -inf (the common convention; write LO after UP to keep a lower bound of 0).
+    to -inf (the common convention; write LO after UP to keep a lower bound of 0). Readers
+    differ on this point (some keep the 0), so `write` never relies on it.
 Numbers
     Decimal numbers with an optional exponent (E or D); ``inf`` and ``infinity`` with a
     sign. In RHS, RANGES and BOUNDS a magnitude of 1e30 or more means infinity (the common
@@ -70,8 +72,8 @@ Numbers are written in their shortest text that reads back to the same float. Ro
 written as E, L or G rows, ranged rows as a G row (or an L row) with a RANGES entry whose
 value reproduces both bounds exactly; when no float range can (bounds far apart in
 magnitude, such as -1 and 1e-13), the far bound reads back a unit in the last place or so
-of the larger bound away. Rows with no finite bound are written as extra N
-rows, which readers ignore, so reading drops them. Bounds go to BOUNDS only where they
+of the larger bound away. Rows with no finite bound are written as extra N rows, which
+readers ignore, so reading drops them. Bounds go to BOUNDS only where they
 differ from 0 <= x < inf (UP before LO, so a lower bound of 0 under a negative upper bound
 survives the convention above). A bound or row side of magnitude 1e30 or more is written
 as infinite. A maximising model gets ``OBJSENSE`` / ``MAX`` and its own objective.
@@ -157,7 +159,9 @@ def read(path, format: str = "auto") -> MPSModel:
         text = Path(path).read_text(encoding="utf-8")
     except UnicodeDecodeError as exc:
         raise MPSError(f"not a UTF-8 text file ({exc.reason} at byte {exc.start})", path=source) from None
-    lines = text.splitlines()
+    lines = [line.rstrip("\r") for line in text.split("\n")]  # only newlines end lines
+    if lines and not lines[-1]:
+        lines.pop()
     if format == "fixed":
         return _Reader(lines, fixed=True, source=source).parse()
     if format == "free" or not _keeps_fixed_columns(lines):
@@ -211,7 +215,7 @@ class _Reader:
         self.range_vector: str | None = None
         self.ranges: dict[int, float] = {}
         self.bound_vector: str | None = None
-        self.bounds: list[tuple[str, int, float, int]] = []  # (type, column, value, line)
+        self.bounds: list[tuple[str, int, float]] = []  # (type, column, value), in file order
 
     def error(self, message: str) -> MPSError:
         """An MPSError at the current line."""
@@ -219,7 +223,8 @@ class _Reader:
 
     def parse(self) -> MPSModel:
         """Read every line up to ENDATA and build the model."""
-        for self.lineno, raw in enumerate(self.lines, start=1):
+        for lineno, raw in enumerate(self.lines, start=1):
+            self.lineno = lineno
             line = raw.rstrip()
             if not line or line.startswith("*"):
                 continue
@@ -238,6 +243,8 @@ class _Reader:
         """Start the section named at column 1."""
         parts = line.split(None, 1)
         word, rest = parts[0], parts[1] if len(parts) > 1 else ""
+        if self.section == "OBJSENSE" and self.maximise is None:
+            raise self.error("OBJSENSE gives no sense; put MAX or MIN on the line after it")
         if word not in SECTIONS:
             if word.upper() in UNSUPPORTED:
                 raise self.error(f"section {word} is not supported: this reader takes linear models only")
@@ -385,7 +392,9 @@ class _Reader:
             return words[0], "", words[1], words[2]
         if len(words) == 2 and kind in VALUELESS_BOUNDS:
             return words[0], "", words[1], None
-        raise self.error(f"a BOUNDS line holds a type, an optional vector name, a column and a value, got {len(words)} fields")
+        raise self.error(
+            f"a BOUNDS line holds a type, an optional vector name, a column and a value, got {len(words)} fields"
+        )
 
     # ----- meaning of the fields ---------------------------------------------------------
 
@@ -393,8 +402,7 @@ class _Reader:
         """A number field; `what` says what it is for the message."""
         if not _NUMBER.fullmatch(text):
             raise self.error(f"{what} {text!r} is not a number")
-        value = float(text.replace("D", "E").replace("d", "e")) if "inf" not in text.lower() else float(text)
-        return value
+        return float(text.replace("D", "E").replace("d", "e"))
 
     def row(self, kind: str, name: str) -> None:
         """Declare one row."""
@@ -420,7 +428,9 @@ class _Reader:
         for row, text in pairs:
             value = self.number(text, f"the coefficient of column {name!r} in row {row!r}")
             if not abs(value) < INFINITY:
-                raise self.error(f"the coefficient of column {name!r} in row {row!r} must be finite (below 1e30), got {text}")
+                raise self.error(
+                    f"the coefficient of column {name!r} in row {row!r} must be finite (below 1e30), got {text}"
+                )
             if row in self.ignored_rows:
                 continue
             if row == self.objective_name:
@@ -490,7 +500,7 @@ class _Reader:
             raise self.error(f"an upper bound of -infinity on column {column!r} admits no value")
         if kind == "FX" and math.isinf(value):
             raise self.error(f"column {column!r} is fixed at an infinite value")
-        self.bounds.append((kind, self.column_index[column], value, self.lineno))
+        self.bounds.append((kind, self.column_index[column], value))
 
     def model(self) -> MPSModel:
         """The MPSModel of everything read (called at ENDATA)."""
@@ -524,9 +534,9 @@ class _Reader:
         col_lower = np.zeros(n)
         col_upper = np.full(n, math.inf)
         lower_set = np.zeros(n, dtype=bool)
-        for kind, j, value, _line in self.bounds:
+        for kind, j, value in self.bounds:
             if kind in ("UP", "UI"):
-                if value < 0 and col_lower[j] == 0 and not lower_set[j]:
+                if value < 0 and not lower_set[j]:
                     col_lower[j] = -math.inf
                 col_upper[j] = value
             elif kind in ("LO", "LI"):
@@ -614,7 +624,7 @@ def write(
 
     row_kinds, rhs, ranges = _row_records(row_lower, row_upper)
     bound_lines = _bound_records(col_lower, col_upper)
-    A = sp.csc_matrix(A)
+    A = sp.csc_matrix(A, copy=True)  # a copy: eliminate_zeros works in place
     A.eliminate_zeros()
     A.sort_indices()
     numbers = [c[c != 0], A.data, [v for v in rhs if v != 0], ranges[ranges > 0] if ranges.size else [],
@@ -653,30 +663,37 @@ def write(
     if bound_lines:
         lines.append("BOUNDS")
         for kind, j, value in bound_lines:
-            fields = [kind, "BND", columns[j]] + ([_number_text(value)] if value is not None else [])
+            number = "" if value is None else _number_text(value)
             if fits:
-                text = f" {kind:<2} {'BND':<8}  {columns[j]:<8}"
-                if value is not None:
-                    text += f"  {_number_text(value):>12}"
-                lines.append(text.rstrip())
+                lines.append(f" {kind:<2} {'BND':<8}  {columns[j]:<8}  {number:>12}".rstrip())
             else:
-                lines.append(" " + " ".join(fields))
+                lines.append(f" {kind} BND {columns[j]} {number}".rstrip())
     lines.append("ENDATA")
     Path(path).write_text("\n".join(lines) + "\n", encoding="utf-8")
     return "fixed" if fits else "free"
 
 
 def _checked(form: StandardForm):
-    """The form's arrays as floats, checked for what MPS can hold; |v| >= 1e30 is infinite."""
+    """The form's arrays as floats (A dense or sparse), checked for what MPS can hold.
+
+    Bounds of magnitude 1e30 or more become infinite.
+    """
     c = np.asarray(form.c, dtype=float).reshape(-1)
-    A = form.A.toarray() if sp.issparse(form.A) else np.asarray(form.A, dtype=float)
     n = c.shape[0]
-    if A.ndim != 2 or A.shape[1] != n:
+    if sp.issparse(form.A):
+        A = sp.csc_matrix(form.A, dtype=float, copy=True)
+        entries = A.data
+    else:
+        A = np.asarray(form.A, dtype=float)
+        entries = A
+        if A.ndim != 2:
+            raise ValueError(f"A must be a 2-D array with {n} columns, got shape {A.shape}")
+    if A.shape[1] != n:
         raise ValueError(f"A must be a 2-D array with {n} columns, got shape {A.shape}")
     m = A.shape[0]
     if not (np.all(np.isfinite(c)) and np.all(np.abs(c) < INFINITY)):
         raise ValueError("c must hold finite numbers below 1e30 in magnitude")
-    if not (np.all(np.isfinite(A)) and np.all(np.abs(A) < INFINITY)):
+    if not (np.all(np.isfinite(entries)) and np.all(np.abs(entries) < INFINITY)):
         raise ValueError("A must hold finite numbers below 1e30 in magnitude")
     arrays = []
     for label, values, size in (("row_lower", form.row_lower, m), ("row_upper", form.row_upper, m),
@@ -695,7 +712,9 @@ def _checked(form: StandardForm):
     crossed = np.flatnonzero(row_lower > row_upper)
     if crossed.size:
         i = crossed[0]
-        raise ValueError(f"row {i} has lower bound {row_lower[i]} above upper bound {row_upper[i]}; MPS cannot express it")
+        raise ValueError(
+            f"row {i} has lower bound {row_lower[i]} above upper bound {row_upper[i]}; MPS cannot express it"
+        )
     return c, A, row_lower, row_upper, col_lower, col_upper
 
 

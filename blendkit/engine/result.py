@@ -86,7 +86,8 @@ class LPResult:
     certificate: Certificate | None = None
     ray: np.ndarray | None = None
     basis: Basis | None = None
-    warm_start: bool = False  # True when phase two started from the given basis
+    warm_start: bool = False  # True when the solve started from the given basis
+    algorithm: str = "primal"  # "primal" (two-phase) or "dual" (dual simplex); see the engine docs
 
     @property
     def farkas(self) -> np.ndarray | None:

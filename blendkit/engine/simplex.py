@@ -68,6 +68,7 @@ class SimplexOutcome:
     head: np.ndarray | None = None  # final basis: variable in each position
     at_upper: np.ndarray | None = None  # final nonbasic position of x and s
     warm: bool = False  # phase two started straight from a given basis
+    algorithm: str = "primal"  # "primal" (two-phase) or "dual" (dual simplex from a dual feasible basis)
 
 
 class _Simplex:
@@ -81,6 +82,8 @@ class _Simplex:
         self.c_struct = sf.c
         self.lower = np.concatenate([sf.col_lower, sf.row_lower])
         self.upper = np.concatenate([sf.col_upper, sf.row_upper])
+        self.allow_dual = True
+        self.algorithm = "primal"
         self.art_row = np.zeros(0, dtype=int)
         self.art_sign = np.zeros(0)
         self.iterations = 0
@@ -165,7 +168,7 @@ class _Simplex:
     def start(self) -> None:
         """Nonbasics at a bound, logicals basic where they fit, artificials elsewhere."""
         n, m, tp = self.n, self.m, self.tol.primal_feasibility
-        lo, up = self.lower, self.upper
+        lo, up = self.lower[: n + m], self.upper[: n + m]
         x = np.where(np.isfinite(lo[:n]), lo[:n], np.where(np.isfinite(up[:n]), up[:n], 0.0))
         at_upper = np.zeros(n + m, dtype=bool)
         at_upper[:n] = ~np.isfinite(lo[:n]) & np.isfinite(up[:n])
@@ -203,6 +206,17 @@ class _Simplex:
         self.y = self.factor.btran(cost[self.head])
         return cost - self.times_transpose(self.y)
 
+    def mobility(self) -> tuple[np.ndarray, np.ndarray]:
+        """1.0 where a variable may rise (fall) from where it sits, 0.0 where it may not.
+
+        Basic and fixed variables may do neither; a free nonbasic variable may do both.
+        """
+        movable = ~self.basic & (self.lower != self.upper)
+        free = ~np.isfinite(self.lower) & ~np.isfinite(self.upper)
+        rise = (movable & ~self.at_upper).astype(float)
+        fall = (movable & (self.at_upper | free)).astype(float)
+        return rise, fall
+
     def run(self, cost: np.ndarray) -> str:
         """Iterate with objective `cost` until optimal, unbounded or out of iterations.
 
@@ -211,6 +225,11 @@ class _Simplex:
         are updated from the pivot row each iteration and recomputed on every
         refactorisation, which also bounds their drift.
         """
+        with np.errstate(divide="ignore", invalid="ignore", over="ignore"):
+            return self._run(cost)
+
+    def _run(self, cost: np.ndarray) -> str:
+        """The body of `run`, with floating-point warnings silenced (infinite bounds)."""
         tol = self.tol
         stall = 0
         bland = False
@@ -218,29 +237,27 @@ class _Simplex:
         d = self.fresh_duals(cost)
         objective = float(cost @ self.z)
         weights = np.ones_like(d)
-        free = ~np.isfinite(self.lower) & ~np.isfinite(self.upper)
+        rise, fall = self.mobility()
+        e_r = np.zeros(self.m)
         while True:
             if self.iterations >= self.max_iterations:
                 return "iteration_limit"
-            movable = ~self.basic & (self.lower != self.upper)
-            can_rise = movable & ~self.at_upper
-            can_fall = movable & (self.at_upper | free)
-            gain = np.maximum(np.where(can_rise, -d, 0.0), np.where(can_fall, d, 0.0))
-            eligible = gain > tol.dual_feasibility
-            if not eligible.any():
+            gain = np.maximum(-d * rise, d * fall)
+            gain[gain <= tol.dual_feasibility] = 0.0
+            if bland:
+                eligible = np.flatnonzero(gain)
+                q = int(eligible[0]) if eligible.size else 0
+            else:
+                q = int(np.argmax(gain * gain / weights))
+            if gain[q] == 0.0:
                 if self.factor.updates:
                     # Confirm optimality on a fresh factorisation before stopping.
                     self.refactor()
                     d = self.fresh_duals(cost)
-                    gain = np.maximum(np.where(can_rise, -d, 0.0), np.where(can_fall, d, 0.0))
-                    if np.any(gain > tol.dual_feasibility):
+                    if np.any(np.maximum(-d * rise, d * fall) > tol.dual_feasibility):
                         continue
                 self.d = d
                 return "optimal"
-            if bland:
-                q = int(np.flatnonzero(eligible)[0])
-            else:
-                q = int(np.argmax(np.where(eligible, gain * gain / weights, -1.0)))
             direction = 1.0 if d[q] < 0 else -1.0
             alpha = self.factor.ftran(self.column(q))
             delta = -direction * alpha
@@ -252,6 +269,17 @@ class _Simplex:
                 self.ray = ray
                 return "unbounded"
             theta, r, hits_upper = step
+            if r >= 0:
+                # The pivot row: row r of B^-1 M, for the reduced-cost and weight updates.
+                e_r[r] = 1.0
+                row = self.times_transpose(self.factor.btran(e_r))
+                e_r[r] = 0.0
+                pivot = alpha[r]
+                if abs(row[q] - pivot) > 1e-7 * (1 + abs(pivot)):
+                    # Row and column disagree about the pivot: rounding has built up.
+                    self.refactor()
+                    d = self.fresh_duals(cost)
+                    continue
             self.iterations += 1
             if theta > 0:
                 self.z[self.head] += theta * delta
@@ -259,17 +287,8 @@ class _Simplex:
             if r < 0:  # the entering variable runs to its other bound: no basis change
                 self.at_upper[q] = direction > 0
                 self.z[q] = self.upper[q] if direction > 0 else self.lower[q]
+                rise[q], fall[q] = float(direction < 0), float(direction > 0)
             else:
-                # The pivot row: row r of B^-1 M, for the reduced-cost and weight updates.
-                e_r = np.zeros(self.m)
-                e_r[r] = 1.0
-                row = self.times_transpose(self.factor.btran(e_r))
-                pivot = alpha[r]
-                if abs(row[q] - pivot) > 1e-7 * (1 + abs(pivot)):
-                    # The row and column disagree about the pivot: rounding has built up.
-                    self.refactor()
-                    d = self.fresh_duals(cost)
-                    continue
                 self.z[q] += direction * theta
                 p = int(self.head[r])
                 self.z[p] = self.upper[p] if hits_upper else self.lower[p]
@@ -277,18 +296,25 @@ class _Simplex:
                 self.basic[p] = False
                 self.basic[q] = True
                 self.head[r] = q
-                d = d - (d[q] / pivot) * row
+                d -= (d[q] / pivot) * row
                 d[q] = 0.0
                 ratio = row / pivot
                 weight_q = max(weights[q], 1.0)
-                weights = np.maximum(weights, ratio * ratio * weight_q)
+                np.maximum(weights, ratio * ratio * weight_q, out=weights)
                 weights[p] = max(weight_q / (pivot * pivot), 1.0)
-                if weights.max() > 1e8:
+                if weights[p] > 1e8 or weights[q] > 1e8:
                     weights[:] = 1.0  # a new reference framework
                 if p >= self.n + self.m:  # an artificial that leaves never returns
                     self.lower[p] = self.upper[p] = 0.0
                     self.z[p] = 0.0
                     self.at_upper[p] = False
+                    rise[p] = fall[p] = 0.0
+                else:
+                    movable = self.lower[p] != self.upper[p]
+                    free = not (np.isfinite(self.lower[p]) or np.isfinite(self.upper[p]))
+                    rise[p] = float(movable and not hits_upper)
+                    fall[p] = float(movable and (hits_upper or free))
+                rise[q] = fall[q] = 0.0
                 self.factor.update(r, alpha)
                 if self.factor.due:
                     self.refactor()
@@ -309,31 +335,29 @@ class _Simplex:
         """
         tol = self.tol
         head = self.head
+        m = self.m
         xb = self.z[head]
         rate = np.abs(delta)
         # Entries below the pivot tolerance, relative to the column's largest, never
         # block: pivoting on them would make the basis nearly singular.
-        smallest = tol.pivot * max(1.0, rate.max(initial=0.0))
-        rising = delta > smallest
-        blocking = rising | (delta < -smallest)
+        blocking = rate > tol.pivot * max(1.0, rate.max(initial=0.0))
+        rising = delta > 0
         bound = np.where(rising, self.upper[head], self.lower[head])
-        with np.errstate(divide="ignore", invalid="ignore"):
-            room = np.where(blocking, (bound - xb) * np.sign(delta), np.inf)
-            exact = np.maximum(np.where(blocking, room / rate, np.inf), 0.0)
-            exact[np.isnan(exact)] = np.inf
-            if bland:
-                theta_max = exact.min() if self.m else np.inf
-            else:
-                # Harris pass one: the largest step that keeps every basic variable
-                # within its bound relaxed by the primal tolerance.
-                slack = tol.primal_feasibility * (1 + np.abs(bound))
-                relaxed = np.where(blocking, (room + slack) / rate, np.inf)
-                # A basic variable already beyond its relaxed bound (rounding) allows
-                # no step at all, never a negative one.
-                theta_max = max(np.nanmin(relaxed), 0.0) if self.m else np.inf
+        room = np.where(rising, bound - xb, xb - bound)
+        exact = np.divide(room, rate, out=np.full(m, np.inf), where=blocking)
+        np.maximum(exact, 0.0, out=exact)
+        if bland:
+            theta_max = exact.min(initial=np.inf)
+        else:
+            # Harris pass one: the largest step that keeps every basic variable within
+            # its bound relaxed by the primal tolerance; never negative, even when a
+            # basic variable already sits beyond its relaxed bound through rounding.
+            relaxed = np.divide(room + tol.primal_feasibility * (1 + np.abs(bound)), rate,
+                                out=np.full(m, np.inf), where=blocking)
+            theta_max = max(relaxed.min(initial=np.inf), 0.0)
         span = self.upper[q] - self.lower[q]
-        if not np.isfinite(theta_max):
-            if np.isfinite(span):
+        if theta_max == np.inf:
+            if span < np.inf:
                 return span, -1, False
             return None
         if span <= theta_max:
@@ -345,6 +369,189 @@ class _Simplex:
             # Harris pass two: among rows blocking within theta_max, the largest pivot.
             r = int(np.argmax(np.where(exact <= theta_max, rate, -1.0)))
         return float(exact[r]), r, bool(rising[r])
+
+    # ----- dual simplex, from a dual feasible basis ----------------------------------
+
+    def dual_start(self, basis=None) -> bool:
+        """Set up a dual feasible basis without artificials; False when there is none at hand.
+
+        From `basis` (head, at_upper) when given, else from the basis of logicals (all
+        duals zero, so d = c). A nonbasic variable with both bounds finite is put at the
+        bound its reduced cost favours; one with a single finite bound must already be
+        on the right side, and a free one must have a zero reduced cost.
+        """
+        n, m, td = self.n, self.m, self.tol.dual_feasibility
+        lo, up = self.lower[: n + m], self.upper[: n + m]
+        self.add_artificials(np.zeros(0, dtype=int), np.zeros(0))
+        if basis is not None:
+            head, at_upper = (np.asarray(b) for b in basis)
+            if head.shape != (m,) or np.any(head >= n + m) or np.unique(head).size != m:
+                return False
+        else:
+            head, at_upper = n + np.arange(m), np.zeros(n + m, dtype=bool)
+        self.head = np.array(head, dtype=int)
+        self.basic = np.zeros(n + m, dtype=bool)
+        self.basic[self.head] = True
+        self.z = np.zeros(n + m)
+        cost = np.concatenate([self.c_struct, np.zeros(m)])
+        try:
+            self.factor.factor(self.M[:, self.head])
+        except SingularBasis:
+            return False
+        d = cost - self.times_transpose(self.factor.btran(cost[self.head]))
+        low_ok, up_ok = np.isfinite(lo), np.isfinite(up)
+        nonbasic = ~self.basic & (lo != up)
+        wants_upper = d < -td
+        wants_lower = d > td
+        if np.any(nonbasic & wants_upper & ~up_ok) or np.any(nonbasic & wants_lower & ~low_ok):
+            return False
+        if np.any(nonbasic & ~low_ok & ~up_ok & (np.abs(d) > td)):
+            return False
+        self.at_upper = np.where(wants_upper, True, np.where(wants_lower, False, np.asarray(at_upper, bool)))
+        self.at_upper &= up_ok
+        self.at_upper |= ~low_ok & up_ok
+        self.at_upper[self.head] = False
+        self.z = np.where(self.at_upper, up, np.where(low_ok, lo, 0.0))
+        self.refactor()
+        return True
+
+    def try_dual(self, basis=None) -> SimplexOutcome | None:
+        """Solve with the dual simplex when a dual feasible basis is at hand.
+
+        Returns the outcome, or None to hand over to the two-phase primal method: when
+        no dual feasible basis is at hand, when the dual simplex finds the problem
+        infeasible (phase one then proves it and gives the certificate), or when it
+        stalls or runs into trouble.
+        """
+        n, m = self.n, self.m
+        if not self.dual_start(basis):
+            return None
+        cost = np.concatenate([self.c_struct, np.zeros(m)])
+        status = self.run_dual(cost)
+        if status == "optimal":
+            # A primal pass from this primal feasible basis removes any dual
+            # infeasibility left by rounding (usually no iteration at all).
+            status = self.run(cost)
+        if status != "optimal":
+            if status == "unbounded":
+                return self._stop(status, "the objective can fall without limit", ray=self.ray[:n].copy(), phase_one=0)
+            return None
+        self.algorithm = "dual"
+        return SimplexOutcome(
+            status="optimal",
+            message="optimal solution found",
+            x=self.z[:n].copy(),
+            y=self.y.copy(),
+            d=self.d[:n].copy(),
+            iterations=self.iterations,
+            phase_one_iterations=0,
+            head=self.head.copy(),
+            at_upper=self.at_upper[: n + m].copy(),
+            warm=basis is not None,
+            algorithm="dual",
+        )
+
+    def run_dual(self, cost: np.ndarray) -> str:
+        """Dual simplex iterations until primal feasible ("optimal"), or a reason to stop.
+
+        Each iteration picks the basic variable furthest outside its bounds (weighted by
+        dual Devex weights) to leave, and the entering variable by a two-pass (Harris)
+        ratio test on the reduced costs, so the basis stays dual feasible throughout.
+        Returns "optimal", "infeasible" (no entering variable: the dual is unbounded),
+        "stalled" or "iteration_limit".
+        """
+        with np.errstate(divide="ignore", invalid="ignore", over="ignore"):
+            return self._run_dual(cost)
+
+    def _run_dual(self, cost: np.ndarray) -> str:
+        """The body of `run_dual`, with floating-point warnings silenced."""
+        tol = self.tol
+        d = self.fresh_duals(cost)
+        rise, fall = self.mobility()
+        weights = np.ones(self.m)
+        e_r = np.zeros(self.m)
+        stall = 0
+        while True:
+            if self.iterations >= self.max_iterations:
+                return "iteration_limit"
+            head = self.head
+            xb = self.z[head]
+            lb, ub = self.lower[head], self.upper[head]
+            below, above = lb - xb, xb - ub
+            infeasibility = np.maximum(np.maximum(below, above), 0.0)
+            infeasibility[infeasibility <= tol.primal_feasibility * (1 + np.minimum(np.abs(lb), np.abs(ub)))] = 0.0
+            r = int(np.argmax(infeasibility * infeasibility / weights)) if self.m else 0
+            if not self.m or infeasibility[r] == 0.0:
+                if self.factor.updates:
+                    self.refactor()
+                    d = self.fresh_duals(cost)
+                    xb = self.z[self.head]
+                    lb, ub = self.lower[self.head], self.upper[self.head]
+                    slack = tol.primal_feasibility * (1 + np.minimum(np.abs(lb), np.abs(ub)))
+                    if np.any(lb - xb > slack) or np.any(xb - ub > slack):
+                        continue
+                self.d = d
+                return "optimal"
+            p = int(head[r])
+            rises = below[r] > 0  # the leaving variable moves up to its lower bound
+            target = lb[r] if rises else ub[r]
+            e_r[r] = 1.0
+            row = self.times_transpose(self.factor.btran(e_r))
+            e_r[r] = 0.0
+            # Change of the leaving variable per unit rise of each nonbasic variable.
+            gain = -row if rises else row
+            size = np.abs(gain)
+            smallest = tol.pivot * max(1.0, size.max(initial=0.0))
+            up_ok = (rise > 0) & (gain > smallest)
+            down_ok = (fall > 0) & (gain < -smallest)
+            candidate = up_ok | down_ok
+            if not candidate.any():
+                return "infeasible"
+            room = np.maximum(np.where(up_ok, d, -d), 0.0)  # distance of d from changing sign
+            relaxed = np.divide(room + tol.dual_feasibility, size, out=np.full(size.size, np.inf), where=candidate)
+            theta_max = relaxed.min()
+            exact = np.divide(room, size, out=np.full(size.size, np.inf), where=candidate)
+            q = int(np.argmax(np.where(exact <= theta_max, size, -1.0)))
+            alpha = self.factor.ftran(self.column(q))
+            pivot = alpha[r]
+            if abs(row[q] - pivot) > 1e-7 * (1 + abs(pivot)):
+                self.refactor()
+                d = self.fresh_duals(cost)
+                continue
+            self.iterations += 1
+            step = (xb[r] - target) / pivot  # how far q moves
+            self.z[head] -= step * alpha
+            self.z[q] += step
+            self.z[p] = target
+            theta_d = d[q] / row[q]
+            d -= theta_d * row
+            d[q] = 0.0
+            progress = abs(theta_d) * abs(xb[r] - target)
+            self.at_upper[p] = not rises
+            self.basic[p] = False
+            self.basic[q] = True
+            head[r] = q
+            movable = self.lower[p] != self.upper[p]
+            rise[p] = float(movable and rises)
+            fall[p] = float(movable and not rises)
+            rise[q] = fall[q] = 0.0
+            # Dual Devex weights of the basic positions.
+            ratio = alpha / pivot
+            weight_r = max(weights[r], 1.0)
+            np.maximum(weights, ratio * ratio * weight_r, out=weights)
+            weights[r] = max(weight_r / (pivot * pivot), 1.0)
+            if weights[r] > 1e8:
+                weights[:] = 1.0
+            self.factor.update(r, alpha)
+            if self.factor.due:
+                self.refactor()
+                d = self.fresh_duals(cost)
+            if progress > 1e-12 * (1 + abs(cost @ self.z)):
+                stall = 0
+            else:
+                stall += 1
+                if stall >= STALL_LIMIT:
+                    return "stalled"
 
     # ----- both phases --------------------------------------------------------------
 
@@ -361,6 +568,10 @@ class _Simplex:
             return self._stop("infeasible", f"{what} has a lower bound above its upper bound")
         try:
             self.warm = basis is not None and self.start_from(*basis)
+            if not self.warm and self.allow_dual:
+                outcome = self.try_dual(basis)
+                if outcome is not None:
+                    return outcome
             if not self.warm:
                 self.start()
             k = self.art_row.size
@@ -418,6 +629,7 @@ class _Simplex:
             head=self.head.copy(),
             at_upper=self.at_upper[: n + m].copy(),
             warm=self.warm,
+            algorithm=self.algorithm,
         )
 
     def _drive_out_artificials(self) -> None:
@@ -460,9 +672,14 @@ class _Simplex:
         )
 
 
-def run_simplex(sf: StandardForm, tol: Tolerances, max_iterations: int, basis=None) -> SimplexOutcome:
-    """Solve the internal-form LP `sf` with the two-phase simplex method.
+def run_simplex(
+    sf: StandardForm, tol: Tolerances, max_iterations: int, basis=None, allow_dual: bool = True
+) -> SimplexOutcome:
+    """Solve the internal-form LP `sf`; see the module docstring.
 
-    `basis` is an optional (head, at_upper) pair from an earlier outcome to start from.
+    `basis` is an optional (head, at_upper) pair from an earlier outcome to start from;
+    `allow_dual=False` keeps to the two-phase primal method.
     """
-    return _Simplex(sf, tol, max_iterations).solve(basis)
+    simplex = _Simplex(sf, tol, max_iterations)
+    simplex.allow_dual = allow_dual
+    return simplex.solve(basis)

@@ -39,6 +39,7 @@ def solve(
     tolerances: Tolerances | None = None,
     max_iterations: int | None = None,
     scale: bool = True,
+    algorithm: str = "auto",
 ) -> LPResult:
     """Minimise c·x subject to A_ub x <= b_ub, A_eq x == b_eq and bounds on x.
 
@@ -50,7 +51,9 @@ def solve(
     back as the result's `status`; only malformed arguments raise ValueError.
     """
     form = to_standard_form(c, A_ub, b_ub, A_eq, b_eq, bounds)
-    return solve_form(form, basis=basis, tolerances=tolerances, max_iterations=max_iterations, scale=scale)
+    return solve_form(
+        form, basis=basis, tolerances=tolerances, max_iterations=max_iterations, scale=scale, algorithm=algorithm
+    )
 
 
 def solve_form(
@@ -60,12 +63,17 @@ def solve_form(
     tolerances: Tolerances | None = None,
     max_iterations: int | None = None,
     scale: bool = True,
+    algorithm: str = "auto",
 ) -> LPResult:
     """Minimise c·x subject to row_lower <= A x <= row_upper and col_lower <= x <= col_upper.
 
     The general form behind `solve`, with ranged rows; MPS models come in this form.
     `row_marginals` of the result holds d(objective)/d(active row bound) for every row.
+    `algorithm` is "auto" (the dual simplex when a dual feasible basis is at hand, else
+    the two-phase primal method) or "primal" (always the two-phase primal method).
     """
+    if algorithm not in ("auto", "primal"):
+        raise ValueError(f'algorithm must be "auto" or "primal", not {algorithm!r}')
     tol = tolerances or Tolerances()
     m, n = form.shape
     limit = max_iterations if max_iterations is not None else max(10_000, 50 * (m + n))
@@ -75,7 +83,7 @@ def solve_form(
     if basis is not None and tuple(basis.shape) == (m, n):
         start = (basis.head, basis.at_upper)
     with _one_blas_thread():
-        outcome = run_simplex(scaled, tol, limit, basis=start)
+        outcome = run_simplex(scaled, tol, limit, basis=start, allow_dual=algorithm == "auto")
     if outcome.status != "optimal":
         return LPResult(
             status=outcome.status,
@@ -115,6 +123,7 @@ def solve_form(
         residual=residual,
         basis=Basis(head=outcome.head, at_upper=outcome.at_upper, shape=(m, n)),
         warm_start=outcome.warm,
+        algorithm=outcome.algorithm,
     )
 
 
