@@ -74,10 +74,11 @@ def solve(
     book: Path = typer.Argument(..., help="The input workbook (.xlsx); it is never modified."),
     output: Path = typer.Option(None, "-o", "--output", help="Where to write the output workbook [default: BOOK.result.xlsx beside the input]."),
     as_json: bool = typer.Option(False, "--json", help="Print one JSON document on stdout instead of the summary."),
+    export_mps: Path = typer.Option(None, "--export-mps", help="Also write the blend's LP to this MPS file, for re-solving with any LP solver."),
 ) -> None:
     """Find the least-cost blend and write the output workbook."""
     with _reporting(as_json):
-        outcome = solve_workbook(book, output)
+        outcome = solve_workbook(book, output, mps_file=export_mps)
     if as_json:
         typer.echo(json.dumps(formula_to_dict(outcome.formula), indent=2))
     else:

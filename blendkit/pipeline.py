@@ -11,10 +11,14 @@ from dataclasses import dataclass
 from datetime import datetime, timezone
 from pathlib import Path
 
+import numpy as np
+
 from blendkit import __version__
 from blendkit.analyse import analyse
-from blendkit.build_lp import build_lp
+from blendkit.build_lp import TOTAL, build_lp
 from blendkit.engine import solve
+from blendkit.engine import mps
+from blendkit.engine.standard_form import StandardForm
 from blendkit.errors import OutputError
 from blendkit.formula import Formula, RunInfo
 from blendkit.model import Blend
@@ -43,6 +47,41 @@ def formulate(blend: Blend) -> Formula:
     return analyse(blend, lp, result)
 
 
+def export_mps(blend: Blend, path: str | Path) -> Path:
+    """Write the blend's LP as an MPS file, so any LP solver can re-solve it.
+
+    Columns are the ingredients (inclusion in %, with their limits as bounds); there is
+    one row per spec, its level as a ranged row between the spec's min and max (a G or L
+    row when only one is given), and the row `TOTAL` (inclusions sum to 100). The
+    objective `COST` is the blend cost per `Cost per` unit. Names that the fixed format
+    cannot hold make the file free MPS, with blanks turned into underscores.
+    """
+    lp = build_lp(blend)
+    index = {name: i for i, name in enumerate(blend.nutrients)}
+    levels = [lp.nutrient_matrix[index[spec.nutrient]] / TOTAL for spec in blend.specs]
+    n = len(blend.ingredients)
+    form = StandardForm(
+        c=lp.c,
+        A=np.vstack([np.array(levels).reshape(len(levels), n), np.ones((1, n))]),
+        row_lower=np.array([-np.inf if s.minimum is None else s.minimum for s in blend.specs] + [TOTAL]),
+        row_upper=np.array([np.inf if s.maximum is None else s.maximum for s in blend.specs] + [TOTAL]),
+        col_lower=np.array([lo for lo, _ in lp.bounds], dtype=float),
+        col_upper=np.array([np.inf if hi is None else hi for _, hi in lp.bounds], dtype=float),
+    )
+    target = Path(path)
+    try:
+        mps.write(
+            target,
+            form,
+            name=(blend.settings.name or "BLEND")[:8].strip().replace(" ", "_") or "BLEND",
+            row_names=[spec.nutrient for spec in blend.specs] + ["TOTAL"],
+            column_names=[item.name for item in blend.ingredients],
+        )
+    except OSError as error:
+        raise OutputError(f"{target}: could not write the MPS file ({error.strerror or error})") from None
+    return target
+
+
 def default_output(book: Path) -> Path:
     """`<name>.result.xlsx` beside the input (an output solved again keeps its name)."""
     stem = book.name[: -len(".xlsx")] if book.name.lower().endswith(".xlsx") else book.stem
@@ -63,8 +102,12 @@ def _check_output(book: Path, output: Path) -> None:
         raise OutputError(f"{output}: is a folder, not a file name")
 
 
-def solve_workbook(book: str | Path, output: str | Path | None = None) -> Outcome:
+def solve_workbook(
+    book: str | Path, output: str | Path | None = None, *, mps_file: str | Path | None = None
+) -> Outcome:
     """Read `book`, find the least-cost blend and write the output workbook.
+
+    With `mps_file`, the blend's LP is also written there as an MPS file.
 
     Raises WorkbookError for problems in the workbook and OutputError when the output
     cannot be written; an infeasible blend is a status of the returned formula, and
@@ -75,6 +118,8 @@ def solve_workbook(book: str | Path, output: str | Path | None = None) -> Outcom
     blend = read_workbook(book)
     target = Path(output) if output is not None else default_output(book)
     _check_output(book, target)
+    if mps_file is not None and Path(mps_file).resolve() == book.resolve():
+        raise OutputError(f"{mps_file}: the MPS file would overwrite the input workbook")
     formula = formulate(blend)
     run = RunInfo(
         tool_version=__version__,
@@ -86,4 +131,6 @@ def solve_workbook(book: str | Path, output: str | Path | None = None) -> Outcom
         written = write_workbook(formula, run, book, target)
     except OSError as error:
         raise OutputError(f"{target}: could not write the output workbook ({error.strerror or error})") from None
+    if mps_file is not None:
+        export_mps(blend, mps_file)
     return Outcome(formula=formula, run=run, output=Path(written))
