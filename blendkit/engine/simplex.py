@@ -508,10 +508,22 @@ class _Simplex:
             if not candidate.any():
                 return "infeasible"
             room = np.maximum(np.where(up_ok, d, -d), 0.0)  # distance of d from changing sign
-            relaxed = np.divide(room + tol.dual_feasibility, size, out=np.full(size.size, np.inf), where=candidate)
-            theta_max = relaxed.min()
             exact = np.divide(room, size, out=np.full(size.size, np.inf), where=candidate)
-            q = int(np.argmax(np.where(exact <= theta_max, size, -1.0)))
+            # Bound flipping (the "long step"): walking the breakpoints in order, a boxed
+            # variable whose reduced cost would change sign is moved to its other bound
+            # instead of entering, as long as the leaving variable stays infeasible.
+            order = np.flatnonzero(candidate)
+            order = order[np.argsort(exact[order], kind="stable")]
+            span = self.upper[order] - self.lower[order]
+            left = abs(xb[r] - target) - np.cumsum(size[order] * span)
+            passed = int(np.argmax(left <= 0)) if np.any(left <= 0) else order.size
+            if passed == order.size:
+                return "infeasible"  # every breakpoint passed: the dual is unbounded
+            rest = order[passed:]
+            relaxed = (room[rest] + tol.dual_feasibility) / size[rest]
+            pick = np.flatnonzero(exact[rest] <= relaxed.min())
+            q = int(rest[pick[np.argmax(size[rest[pick]])]])
+            flipped = order[:passed]
             alpha = self.factor.ftran(self.column(q))
             pivot = alpha[r]
             if abs(row[q] - pivot) > 1e-7 * (1 + abs(pivot)):
@@ -519,6 +531,13 @@ class _Simplex:
                 d = self.fresh_duals(cost)
                 continue
             self.iterations += 1
+            if flipped.size:
+                change = np.where(self.at_upper[flipped], -1.0, 1.0) * (self.upper[flipped] - self.lower[flipped])
+                self.z[flipped] += change
+                self.at_upper[flipped] = ~self.at_upper[flipped]
+                rise[flipped], fall[flipped] = fall[flipped], rise[flipped]
+                self.z[head] -= self.factor.ftran(self.M[:, flipped] @ change)
+                xb = self.z[head]
             step = (xb[r] - target) / pivot  # how far q moves
             self.z[head] -= step * alpha
             self.z[q] += step
