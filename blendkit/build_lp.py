@@ -1,16 +1,25 @@
-"""Turn a validated blend into a linear program for the engine.
+"""Turn a validated blend into one linear program in the engine's general form.
 
-The decision is the inclusion of each ingredient in % of the blend (x_j). Then
+Variables: x[p, j] for each product p and ingredient j — the inclusion of j in p in % of
+the product (blend mode), or the amount of food j in its own unit (diet mode, one
+product). With `per` = 1/100 in blend mode and 1 in diet mode, a nutrient's level in
+product p is level_n = per * sum_j x[p, j] * content[n, j], and the rows are:
 
-    cost   = sum_j x_j / 100 * cost_j                      (minimised)
-    total  : sum_j x_j = 100                               (one equality row)
-    level  : sum_j x_j / 100 * content_nj                  (one row per spec side)
-             -level <= -min   and   level <= max
-    bounds : min_j <= x_j <= max_j, x_j = 0 when Use = no
+    total      sum_j x[p, j] = 100                              (blend mode only)
+    nutrient   min <= level_n <= max                            (as fed)
+    dry matter per * sum_j x[p, j] * (content[n, j] - L * dm_j / 100) >= 0 (L = min)
+               and <= 0 (L = max): level per unit of dry matter, made linear
+    ratio      per * sum_j x[p, j] * (content[A, j] - r * content[B, j]) >= 0 (r = min)
+               and <= 0 (r = max): level_A / level_B, made linear
+    group      min <= sum_{j in group} x[p, j] <= max
+    stock      sum_p amount_p * per * x[p, j] <= stock_j        (shared by all products)
+    bounds     min_pj <= x[p, j] <= max_pj (Limits sheet, else Ingredients), 0 for Use = no
 
-Every row and every column bound carries a `LimitSource` saying which workbook cell it
-came from, so the analysis can report shadow prices in the workbook's own words.
-The builder never sees a spreadsheet and never solves anything.
+The objective is the blend's cost per `Cost per` unit (one blend) or, with a Products
+sheet, the whole run's cost: sum_p amount_p / (mass of one Cost per unit) * cost_p.
+Every row keeps the workbook words and cells it came from (`LPRow`), so the analysis
+can report levels and shadow prices in the workbook's terms. The builder never sees a
+spreadsheet and never solves anything.
 """
 
 from __future__ import annotations
@@ -19,76 +28,198 @@ from dataclasses import dataclass
 
 import numpy as np
 
-from blendkit.model import Blend
+from blendkit.engine import StandardForm
+from blendkit.model import DRY_MATTER, Blend
 
 TOTAL = 100.0  # inclusions are in % of the blend
 
+TOTAL_ROW = "total"
+NUTRIENT = "nutrient"
+RATIO = "ratio"
+GROUP = "group"
+STOCK = "stock"
+
 
 @dataclass(frozen=True)
-class LimitSource:
-    """Where a row or bound came from: kind, name, side, bound value and cell."""
+class Side:
+    """One bound the user wrote: "min" or "max", its value and the cell it came from."""
 
-    kind: str  # "nutrient" | "ingredient"
-    name: str
-    side: str  # "min" | "max"
+    side: str
     bound: float
     cell: str
 
 
 @dataclass(frozen=True)
-class BlendLP:
-    """The LP of one blend in the engine's (linprog-style) arguments, with row meanings.
+class LPRow:
+    """What one LP row means in the workbook's words.
 
-    Row i of A_ub is `ub_rows[i]`; its sign is -1 for a min row (stored negated).
-    `nutrient_matrix[n, j]` is the content of nutrient n in ingredient j, so levels are
-    nutrient_matrix @ x / 100.
+    `kind` is "total", "nutrient", "ratio", "group" or "stock"; `name` the nutrient, the
+    ratio as written, the group or the ingredient; `product` the product's index (None
+    for a stock, which spans products); `sides` the workbook bounds the row carries (a
+    ranged row carries both; a dry-matter or ratio row exactly one, with row bound 0).
     """
 
-    c: np.ndarray
-    A_ub: np.ndarray
-    b_ub: np.ndarray
-    A_eq: np.ndarray
-    b_eq: np.ndarray
-    bounds: list[tuple[float, float | None]]
-    ub_rows: tuple[LimitSource, ...]
-    nutrient_matrix: np.ndarray
+    kind: str
+    name: str
+    product: int | None
+    sides: tuple[Side, ...]
+    basis: str = "as fed"
+    ratio: tuple[int, int] | None = None  # nutrient indices (A, B) of a ratio row
+    nutrient: int | None = None  # nutrient index of a nutrient row
+    ingredient: int | None = None  # ingredient index of a stock row
+
+
+@dataclass(frozen=True)
+class BlendLP:
+    """The LP of a whole blend run, with the meaning of every row and column.
+
+    Column k is ingredient `k % J` in product `k // J` (J ingredients). `products` lists
+    (name, amount) with name None for a single blend; `tonnes[p]` is product p's amount
+    in `Cost per` units, by which shadow prices of the whole run are divided to give
+    them per unit of that product. `per` is 1/100 in blend mode, 1 in diet mode.
+    """
+
+    form: StandardForm
+    rows: tuple[LPRow, ...]
+    products: tuple[tuple[str | None, float], ...]
+    cost_units: np.ndarray  # product amounts in Cost per units (objective weights)
+    contents: np.ndarray  # nutrient x ingredient
     costs: np.ndarray
+    per: float
+    dry_matter: int | None  # index of the dry-matter nutrient, if the blend has it
+    multi: bool  # True with a Products sheet: the objective is the run's total cost
+
+    @property
+    def n_ingredients(self) -> int:
+        """How many ingredients (columns per product)."""
+        return self.costs.size
+
+
+def _limits(blend: Blend, product: str | None, j: int) -> tuple[float, float, dict[str, str]]:
+    """Bounds of ingredient j in a product, and the cells they came from."""
+    item = blend.ingredients[j]
+    for limit in blend.limits:
+        if limit.product == product and limit.ingredient == item.name:
+            return limit.minimum, limit.maximum, {"min": limit.cells.get("min"), "max": limit.cells.get("max")}
+    return item.minimum, item.maximum, {"min": item.cells.get("min"), "max": item.cells.get("max")}
+
+
+def column_bounds(blend: Blend, product: str | None, j: int) -> tuple[float, float]:
+    """The LP bounds of ingredient j in a product (Use = no holds it at 0)."""
+    if not blend.ingredients[j].use:
+        return 0.0, 0.0
+    low, high, _ = _limits(blend, product, j)
+    return (low or 0.0), (np.inf if high is None else high)
+
+
+def ingredient_limits(blend: Blend, product: str | None, j: int) -> list[Side]:
+    """The workbook inclusion limits of ingredient j in a product, with their cells."""
+    item = blend.ingredients[j]
+    if not item.use:
+        return [Side("max", 0.0, item.cells.get("use", item.cells["name"]))]
+    low, high, cells = _limits(blend, product, j)
+    sides = []
+    if low is not None:
+        sides.append(Side("min", low, cells["min"]))
+    if high is not None:
+        sides.append(Side("max", high, cells["max"]))
+    return sides
 
 
 def build_lp(blend: Blend) -> BlendLP:
     """The least-cost LP for `blend`; see the module docstring for the formulation."""
-    ingredients = blend.ingredients
-    costs = np.array([item.cost for item in ingredients], dtype=float)
+    J = len(blend.ingredients)
+    names = list(blend.nutrients)
+    index = {name: i for i, name in enumerate(names)}
     contents = np.array(
-        [[item.contents.get(n, 0.0) for item in ingredients] for n in blend.nutrients], dtype=float
-    ).reshape(len(blend.nutrients), len(ingredients))
-    index = {name: i for i, name in enumerate(blend.nutrients)}
-    rows, rhs, sources = [], [], []
-    for spec in blend.specs:
-        level_row = contents[index[spec.nutrient]] / TOTAL
-        if spec.minimum is not None:
-            rows.append(-level_row)
-            rhs.append(-spec.minimum)
-            sources.append(LimitSource("nutrient", spec.nutrient, "min", spec.minimum, spec.cells["min"]))
-        if spec.maximum is not None:
-            rows.append(level_row)
-            rhs.append(spec.maximum)
-            sources.append(LimitSource("nutrient", spec.nutrient, "max", spec.maximum, spec.cells["max"]))
-    bounds = []
-    for item in ingredients:
-        if not item.use:
-            bounds.append((0.0, 0.0))
-        else:
-            bounds.append((item.minimum or 0.0, item.maximum))
-    n = len(ingredients)
+        [[item.contents.get(n, 0.0) for item in blend.ingredients] for n in names], dtype=float
+    ).reshape(len(names), J)
+    costs = np.array([item.cost for item in blend.ingredients], dtype=float)
+    per = 1.0 if blend.diet else 1.0 / TOTAL
+    multi = bool(blend.products)
+    products = tuple((p.name, p.amount) for p in blend.products) or ((None, blend.settings.batch_size),)
+    P = len(products)
+    unit_mass = blend.settings.cost_unit_in_mass_units
+    cost_units = np.array([amount / unit_mass for _, amount in products])
+    dm = index.get(blend.settings.dry_matter)
+
+    rows: list[np.ndarray] = []
+    lower: list[float] = []
+    upper: list[float] = []
+    meaning: list[LPRow] = []
+
+    def add(coefficients: np.ndarray, low: float, high: float, row: LPRow) -> None:
+        rows.append(coefficients)
+        lower.append(low)
+        upper.append(high)
+        meaning.append(row)
+
+    def in_product(p: int, values: np.ndarray) -> np.ndarray:
+        """A full-width row with `values` in product p's columns."""
+        full = np.zeros(P * J)
+        full[p * J : (p + 1) * J] = values
+        return full
+
+    for p, (product, _) in enumerate(products):
+        if not blend.diet:
+            add(in_product(p, np.ones(J)), TOTAL, TOTAL, LPRow(TOTAL_ROW, "total", p, ()))
+        for spec in blend.specs:
+            if spec.product is not None and spec.product != product:
+                continue
+            sides = [Side(s, b, spec.cells.get(s)) for s, b in (("min", spec.minimum), ("max", spec.maximum)) if b is not None]
+            if spec.ratio is not None:
+                a, b = index[spec.ratio[0]], index[spec.ratio[1]]
+                for side in sides:
+                    values = per * (contents[a] - side.bound * contents[b])
+                    low, high = (0.0, np.inf) if side.side == "min" else (-np.inf, 0.0)
+                    add(in_product(p, values), low, high, LPRow(RATIO, spec.nutrient, p, (side,), spec.basis, ratio=(a, b)))
+            elif spec.basis == DRY_MATTER:
+                n = index[spec.nutrient]
+                for side in sides:
+                    values = per * (contents[n] - side.bound * contents[dm] / TOTAL)
+                    low, high = (0.0, np.inf) if side.side == "min" else (-np.inf, 0.0)
+                    add(in_product(p, values), low, high, LPRow(NUTRIENT, spec.nutrient, p, (side,), DRY_MATTER, nutrient=n))
+            else:
+                n = index[spec.nutrient]
+                low = -np.inf if spec.minimum is None else spec.minimum
+                high = np.inf if spec.maximum is None else spec.maximum
+                add(in_product(p, per * contents[n]), low, high, LPRow(NUTRIENT, spec.nutrient, p, tuple(sides), nutrient=n))
+        members = {item.name: j for j, item in enumerate(blend.ingredients)}
+        for group in blend.groups:
+            if group.product is not None and group.product != product:
+                continue
+            values = np.zeros(J)
+            values[[members[name] for name in group.ingredients]] = 1.0
+            sides = [Side(s, b, group.cells.get(s)) for s, b in (("min", group.minimum), ("max", group.maximum)) if b is not None]
+            low = -np.inf if group.minimum is None else group.minimum
+            high = np.inf if group.maximum is None else group.maximum
+            add(in_product(p, values), low, high, LPRow(GROUP, group.name, p, tuple(sides)))
+    for j, item in enumerate(blend.ingredients):
+        if item.stock is None:
+            continue
+        values = np.zeros(P * J)
+        for p, (_, amount) in enumerate(products):
+            values[p * J + j] = amount * per if not blend.diet else 1.0
+        add(values, -np.inf, item.stock, LPRow(STOCK, item.name, None, (Side("max", item.stock, item.cells.get("stock")),), ingredient=j))
+
+    bounds = [column_bounds(blend, product, j) for product, _ in products for j in range(J)]
+    weights = np.repeat(cost_units, J) if multi else np.ones(P * J)
+    form = StandardForm(
+        c=np.tile(costs, P) * per * weights,
+        A=np.array(rows, dtype=float).reshape(len(rows), P * J),
+        row_lower=np.array(lower, dtype=float),
+        row_upper=np.array(upper, dtype=float),
+        col_lower=np.array([low for low, _ in bounds], dtype=float),
+        col_upper=np.array([high for _, high in bounds], dtype=float),
+    )
     return BlendLP(
-        c=costs / TOTAL,
-        A_ub=np.array(rows, dtype=float).reshape(len(rows), n),
-        b_ub=np.array(rhs, dtype=float),
-        A_eq=np.ones((1, n)),
-        b_eq=np.array([TOTAL]),
-        bounds=bounds,
-        ub_rows=tuple(sources),
-        nutrient_matrix=contents,
+        form=form,
+        rows=tuple(meaning),
+        products=products,
+        cost_units=cost_units,
+        contents=contents,
         costs=costs,
+        per=per,
+        dry_matter=dm,
+        multi=multi,
     )

@@ -41,24 +41,34 @@ class NutrientLine:
     """One nutrient's level in the blend against its spec (if any).
 
     `position` is "at min", "at max", "within", "below min" or "above max";
-    "no spec" where the nutrient has no spec row.
+    "no spec" where the nutrient has no spec row. `kind` is "nutrient" or "ratio" (the
+    level is then level(A) / level(B)); `basis` is "as fed" or "dry matter" (the level
+    per unit of dry matter). Every nutrient column has an as-fed line; a dry-matter or
+    ratio spec adds a line of its own.
     """
 
     name: str
     unit: str
     minimum: float | None
     maximum: float | None
-    level: float
+    level: float | None
     position: str
+    kind: str = "nutrient"
+    basis: str = "as fed"
 
 
 @dataclass(frozen=True)
 class Limit:
-    """One bound the user wrote: a spec min/max or an ingredient inclusion limit.
+    """One bound the user wrote: a spec, group, stock or ingredient inclusion limit.
 
-    `shadow_price` is d(blend cost)/d(bound): the change in cost per unit increase of
-    the bound; 0 where the bound does not bind. `cell` is where the bound was read.
-    `kind` is "nutrient" or "ingredient"; `side` is "min" or "max".
+    `shadow_price` is d(cost)/d(bound): the change in cost per unit increase of the
+    bound; 0 where the bound does not bind. For one blend the cost is the blend's cost
+    per `Cost per` unit; with several products, a product's own limits are priced per
+    `Cost per` unit of that product and stocks in the run's total cost per unit of
+    stock. `cell` is where the bound was read. `kind` is "nutrient", "ratio", "group",
+    "stock" or "ingredient"; `side` is "min" or "max"; `product` the product's name
+    (None for one blend, and for stocks, which all products share); `basis` "as fed"
+    or "dry matter" for nutrient limits.
     """
 
     kind: str
@@ -69,16 +79,55 @@ class Limit:
     binding: bool
     shadow_price: float
     cell: str
+    product: str | None = None
+    basis: str = "as fed"
+
+
+@dataclass(frozen=True)
+class ProductFormula:
+    """One product's formula: its cost per `Cost per` unit, lines and limits.
+
+    `amount` is the mass to make (the batch size for one blend; unused in diet mode).
+    """
+
+    name: str | None
+    amount: float
+    cost: float
+    ingredients: tuple[IngredientLine, ...]
+    nutrients: tuple[NutrientLine, ...]
+    limits: tuple[Limit, ...]
+
+
+@dataclass(frozen=True)
+class StockLine:
+    """Use of one ingredient's stock by all products together (mass unit).
+
+    `shadow_price` is d(total cost)/d(stock): negative where more stock would lower the
+    run's cost; minus it is what one more unit of that ingredient is worth to the plant.
+    """
+
+    ingredient: str
+    used: float
+    available: float
+    binding: bool
+    shadow_price: float
+    cell: str
 
 
 @dataclass(frozen=True)
 class Formula:
-    """The full outcome for one blend.
+    """The full outcome of one run.
 
     `status` is "optimal", "infeasible", "unbounded", "iteration_limit" or
     "numerical_trouble". Numbers are only meaningful when status is "optimal":
     otherwise `cost` is None and the line tuples are empty. `notes` are advisory
     remarks for the user (such as blank nutrient cells in used ingredients).
+
+    `products` holds one ProductFormula per product (one, named None, for a single
+    blend). For a single blend `cost`, `ingredients`, `nutrients` and `limits` are that
+    product's; with a Products sheet `cost` is the run's total cost (currency),
+    `ingredients` and `nutrients` are empty, and `limits` holds every product's limits
+    and the stocks.
     """
 
     blend: Blend
@@ -90,6 +139,13 @@ class Formula:
     limits: tuple[Limit, ...]
     iterations: int
     notes: tuple[str, ...] = ()
+    products: tuple[ProductFormula, ...] = ()
+    stocks: tuple[StockLine, ...] = ()
+
+    @property
+    def several(self) -> bool:
+        """True when the run made several products (a Products sheet)."""
+        return bool(self.blend.products)
 
     @property
     def solved(self) -> bool:
@@ -116,8 +172,21 @@ def shadow_price_unit(limit: Limit, blend: Blend) -> str:
     """E.g. "EUR/tonne per 1 unit of Crude protein (%)" or "EUR/tonne per 1 % inclusion"."""
     settings = blend.settings
     per = f"{settings.currency or 'cost'}/{settings.cost_per}"
-    if limit.kind == "ingredient":
+    if blend.diet:
+        per = f"{settings.currency or 'cost'}"
+    if limit.kind == "stock":
+        total = settings.currency or "cost"
+        unit = blend.ingredient(limit.name).unit if blend.diet else settings.mass_unit
+        return f"{total} per 1 {unit or 'unit'} of stock"
+    if limit.kind in ("ingredient", "group"):
+        if blend.diet:
+            unit = blend.ingredient(limit.name).unit if limit.kind == "ingredient" else ""
+            return f"{per} per 1 {unit or 'unit'}"
         return f"{per} per 1 % inclusion"
+    if limit.kind == "ratio":
+        return f"{per} per 1 unit of the ratio {limit.name}"
     unit = blend.nutrient_units.get(limit.name, "")
     label = f"{limit.name} ({unit})" if unit else limit.name
+    if limit.basis == "dry matter":
+        label += " in dry matter"
     return f"{per} per 1 unit of {label}"

@@ -28,11 +28,14 @@ MASS_UNITS_KG: dict[str, float] = {
 class Ingredient:
     """One row of the Ingredients sheet.
 
-    `minimum` / `maximum` are inclusion limits in % of the blend (None = no limit).
-    `contents` maps every nutrient column to this ingredient's content, as fed;
-    a blank cell is 0 and its nutrient name is listed in `blanks`.
-    `cells` maps "name", "cost", "min", "max", "use" to the cell each was read from,
-    and `content_cells` maps each nutrient to the cell holding this ingredient's content.
+    `minimum` / `maximum` are inclusion limits in % of the blend (None = no limit); in
+    diet mode they are amounts in the ingredient's `unit`, and `cost` is per `unit`.
+    `contents` maps every nutrient column to this ingredient's content, as fed (per
+    `unit` in diet mode); a blank cell is 0 and its nutrient name is listed in `blanks`.
+    `stock` is the quantity on hand in the mass unit, shared by all products (None = no
+    limit). `cells` maps "name", "cost", "min", "max", "use", "unit", "stock" to the cell
+    each was read from (a key is absent when its column is), and `content_cells` maps
+    each nutrient to the cell holding this ingredient's content.
     """
 
     name: str
@@ -44,16 +47,73 @@ class Ingredient:
     blanks: tuple[str, ...]
     cells: dict[str, str]
     content_cells: dict[str, str] = field(default_factory=dict)
+    unit: str = ""  # diet mode: what one unit of amount is ("100 g", "serving")
+    stock: float | None = None
+
+
+AS_FED = "as fed"
+DRY_MATTER = "dry matter"
+BASES = (AS_FED, DRY_MATTER)
 
 
 @dataclass(frozen=True)
 class Spec:
-    """One row of the Specs sheet: bounds on a nutrient's level in the blend."""
+    """One row of the Specs sheet: bounds on a nutrient's level, or on a ratio of two.
+
+    For a plain spec `nutrient` is the nutrient's name (as in the Ingredients header)
+    and `ratio` is None; for a ratio spec (written "A / B") `ratio` is (A, B) and
+    `nutrient` the text as written, and the bounds apply to level(A) / level(B).
+    `basis` is AS_FED or DRY_MATTER (level per unit of dry matter; ratios are the same
+    on both bases). `product` names the product the spec applies to (None = every
+    product). `cells`: "nutrient", "min", "max", "basis", "product" -> cell reference.
+    """
 
     nutrient: str
     minimum: float | None
     maximum: float | None
-    cells: dict[str, str]  # "nutrient", "min", "max" -> cell reference
+    cells: dict[str, str]
+    basis: str = AS_FED
+    ratio: tuple[str, str] | None = None
+    product: str | None = None
+
+
+@dataclass(frozen=True)
+class Group:
+    """One row of the Groups sheet: bounds on the total inclusion of some ingredients.
+
+    `minimum` / `maximum` are in % of the blend (amounts in diet mode). `product` as
+    for Spec. `cells`: "group", "ingredients", "min", "max", "product" -> cell.
+    """
+
+    name: str
+    ingredients: tuple[str, ...]
+    minimum: float | None
+    maximum: float | None
+    cells: dict[str, str]
+    product: str | None = None
+
+
+@dataclass(frozen=True)
+class Product:
+    """One row of the Products sheet: a product to make and how much (mass unit)."""
+
+    name: str
+    amount: float
+    cells: dict[str, str]  # "product", "amount" -> cell
+
+
+@dataclass(frozen=True)
+class ProductLimit:
+    """One row of the Limits sheet: inclusion limits of one ingredient in one product.
+
+    They replace the ingredient's own Min / Max (from Ingredients) in that product.
+    """
+
+    product: str
+    ingredient: str
+    minimum: float | None
+    maximum: float | None
+    cells: dict[str, str]  # "product", "ingredient", "min", "max" -> cell
 
 
 @dataclass(frozen=True)
@@ -65,6 +125,9 @@ class Settings:
     cost_per: str = "tonne"
     currency: str = ""
     name: str = ""
+    mode: str = "blend"  # "blend" (inclusions in %, summing to 100) or "diet" (amounts)
+    dry_matter: str = "Dry matter"  # the nutrient column (in %) that dry-matter specs use
+    cells: dict[str, str] = field(default_factory=dict)  # setting key -> cell of its value
 
     @property
     def cost_unit_in_mass_units(self) -> float:
@@ -82,6 +145,14 @@ class Blend:
     settings: Settings = field(default_factory=Settings)
     source: Path | None = None
     nutrient_units: dict[str, str] = field(default_factory=dict)  # from "(unit)" in headers
+    groups: tuple[Group, ...] = ()
+    products: tuple[Product, ...] = ()  # empty: one blend of `settings.batch_size`
+    limits: tuple[ProductLimit, ...] = ()
+
+    @property
+    def diet(self) -> bool:
+        """True in diet mode: amounts in each food's unit, no sum-to-100 row."""
+        return self.settings.mode == "diet"
 
     def ingredient(self, name: str) -> Ingredient:
         """The ingredient called `name` (exact match)."""

@@ -11,14 +11,10 @@ from dataclasses import dataclass
 from datetime import datetime, timezone
 from pathlib import Path
 
-import numpy as np
-
 from blendkit import __version__
 from blendkit.analyse import analyse
-from blendkit.build_lp import TOTAL, build_lp
-from blendkit.engine import solve
-from blendkit.engine import mps
-from blendkit.engine.standard_form import StandardForm
+from blendkit.build_lp import build_lp
+from blendkit.engine import mps, solve_form
 from blendkit.errors import OutputError
 from blendkit.formula import Formula, RunInfo
 from blendkit.model import Blend
@@ -43,39 +39,47 @@ def check_workbook(book: str | Path) -> Blend:
 def formulate(blend: Blend) -> Formula:
     """The least-cost formula for a validated blend."""
     lp = build_lp(blend)
-    result = solve(lp.c, A_ub=lp.A_ub, b_ub=lp.b_ub, A_eq=lp.A_eq, b_eq=lp.b_eq, bounds=lp.bounds)
-    return analyse(blend, lp, result)
+    return analyse(blend, lp, solve_form(lp.form))
+
+
+def _row_name(blend: Blend, lp, i: int) -> str:
+    """An MPS row name from a row's meaning, e.g. "Grower: min Lysine / ME"."""
+    row = lp.rows[i]
+    product = lp.products[row.product][0] if row.product is not None else None
+    text = row.name if row.kind != "stock" else f"stock {row.name}"
+    if row.kind == "total":
+        text = "TOTAL"
+    elif len(row.sides) == 1 and row.kind != "stock":
+        text = f"{row.sides[0].side} {text}"
+    if row.basis == "dry matter":
+        text += " DM"
+    return f"{product}: {text}" if product else text
 
 
 def export_mps(blend: Blend, path: str | Path) -> Path:
     """Write the blend's LP as an MPS file, so any LP solver can re-solve it.
 
-    Columns are the ingredients (inclusion in %, with their limits as bounds); there is
-    one row per spec, its level as a ranged row between the spec's min and max (a G or L
-    row when only one is given), and the row `TOTAL` (inclusions sum to 100). The
-    objective `COST` is the blend cost per `Cost per` unit. Names that the fixed format
-    cannot hold make the file free MPS, with blanks turned into underscores.
+    Columns are the ingredients (inclusion in %, or diet amounts, with their limits as
+    bounds; prefixed by the product with several products); rows are the spec, group and
+    stock rows as the engine solves them (a ranged row where a spec has both a min and a
+    max) and `TOTAL` (inclusions sum to 100). The objective `COST` is the blend cost per
+    `Cost per` unit, or the run's total cost with several products. Names that the fixed
+    format cannot hold make the file free MPS, with blanks turned into underscores.
     """
     lp = build_lp(blend)
-    index = {name: i for i, name in enumerate(blend.nutrients)}
-    levels = [lp.nutrient_matrix[index[spec.nutrient]] / TOTAL for spec in blend.specs]
-    n = len(blend.ingredients)
-    form = StandardForm(
-        c=lp.c,
-        A=np.vstack([np.array(levels).reshape(len(levels), n), np.ones((1, n))]),
-        row_lower=np.array([-np.inf if s.minimum is None else s.minimum for s in blend.specs] + [TOTAL]),
-        row_upper=np.array([np.inf if s.maximum is None else s.maximum for s in blend.specs] + [TOTAL]),
-        col_lower=np.array([lo for lo, _ in lp.bounds], dtype=float),
-        col_upper=np.array([np.inf if hi is None else hi for _, hi in lp.bounds], dtype=float),
-    )
+    names = [item.name for item in blend.ingredients]
+    if lp.multi:
+        columns = [f"{product}: {name}" for product, _ in lp.products for name in names]
+    else:
+        columns = names
     target = Path(path)
     try:
         mps.write(
             target,
-            form,
+            lp.form,
             name=(blend.settings.name or "BLEND")[:8].strip().replace(" ", "_") or "BLEND",
-            row_names=[spec.nutrient for spec in blend.specs] + ["TOTAL"],
-            column_names=[item.name for item in blend.ingredients],
+            row_names=[_row_name(blend, lp, i) for i in range(len(lp.rows))],
+            column_names=columns,
         )
     except OSError as error:
         raise OutputError(f"{target}: could not write the MPS file ({error.strerror or error})") from None

@@ -1,12 +1,24 @@
 """Render a `Formula` as JSON for other programs.
 
-The shape is fixed (keys in this order)::
+The shape is fixed (keys in this order). One blend (or one diet)::
 
     {"status": str, "message": str, "cost": float | null,
-     "ingredients": {name: inclusion %}, "nutrients": {name: level},
-     "limits": [{"kind", "name", "side", "bound", "level", "binding", "shadow_price", "cell"}],
+     "ingredients": {name: inclusion % (diet: amount)}, "nutrients": {name: level},
+     "limits": [{"kind", "name", "product", "side", "bound", "level", "binding",
+                 "shadow_price", "cell"}],
+     "stocks": {ingredient: {"used", "available", "shadow_price"}},
      "notes": [str]}
 
+With a Products sheet::
+
+    {"status": str, "message": str, "total_cost": float | null,
+     "products": {name: {"cost", "ingredients", "nutrients", "limits"}},
+     "stocks": {ingredient: {"used", "available", "shadow_price"}},
+     "notes": [str]}
+
+A nutrient's dry-matter level is keyed "<nutrient> (dry matter)"; a ratio by its text
+("Calcium / Phosphorus"). `kind` is "nutrient", "ratio", "group", "stock" or
+"ingredient"; `product` is null for one blend and for stocks (shared by all products).
 `cost` is null unless the status is "optimal". Numbers are plain floats; a value that
 is not finite becomes null, so the output is always strict JSON (NaN is never emitted).
 """
@@ -17,20 +29,51 @@ import json
 import math
 from typing import Any
 
-from blendkit.formula import Formula, Limit
+from blendkit.formula import Formula, Limit, NutrientLine
 
 
 def formula_to_dict(formula: Formula) -> dict[str, Any]:
     """The formula as plain Python data: str, float, bool, None, dict and list only."""
+    stocks = {
+        str(line.ingredient): {
+            "used": _number(line.used),
+            "available": _number(line.available),
+            "shadow_price": _number(line.shadow_price),
+        }
+        for line in formula.stocks
+    }
+    if formula.several:
+        return {
+            "status": str(formula.status),
+            "message": str(formula.message),
+            "total_cost": _number(formula.cost) if formula.solved else None,
+            "products": {
+                str(product.name): {
+                    "cost": _number(product.cost),
+                    "ingredients": {str(line.name): _number(line.inclusion) for line in product.ingredients},
+                    "nutrients": {_key(line): _number(line.level) for line in product.nutrients},
+                    "limits": [_limit(limit) for limit in product.limits],
+                }
+                for product in formula.products
+            },
+            "stocks": stocks,
+            "notes": [str(note) for note in formula.notes],
+        }
     return {
         "status": str(formula.status),
         "message": str(formula.message),
         "cost": _number(formula.cost) if formula.solved else None,
         "ingredients": {str(line.name): _number(line.inclusion) for line in formula.ingredients},
-        "nutrients": {str(line.name): _number(line.level) for line in formula.nutrients},
+        "nutrients": {_key(line): _number(line.level) for line in formula.nutrients},
         "limits": [_limit(limit) for limit in formula.limits],
+        "stocks": stocks,
         "notes": [str(note) for note in formula.notes],
     }
+
+
+def _key(line: NutrientLine) -> str:
+    """A nutrient line's key: its name, with " (dry matter)" for a dry-matter level."""
+    return f"{line.name} (dry matter)" if line.basis == "dry matter" and line.kind == "nutrient" else str(line.name)
 
 
 def formula_to_json(formula: Formula) -> str:
@@ -43,6 +86,7 @@ def _limit(limit: Limit) -> dict[str, Any]:
     return {
         "kind": str(limit.kind),
         "name": str(limit.name),
+        "product": None if limit.product is None else str(limit.product),
         "side": str(limit.side),
         "bound": _number(limit.bound),
         "level": _number(limit.level),

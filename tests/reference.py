@@ -46,3 +46,38 @@ def highs(c, A_ub=None, b_ub=None, A_eq=None, b_eq=None, bounds=None) -> Referen
         marginals_eq=np.asarray(res.eqlin.marginals) if A_eq is not None else np.zeros(0),
         reduced_costs=np.asarray(res.lower.marginals) + np.asarray(res.upper.marginals),
     )
+
+
+def highs_form(form) -> Reference:
+    """Solve a general-form LP (row bounds, column bounds) with linprog's HiGHS.
+
+    The ranged rows become one or two linprog rows; `marginals_eq` of the answer then
+    holds, per original row, d(objective)/d(its active bound) (our `row_marginals`).
+    """
+    A = np.asarray(form.A.toarray() if hasattr(form.A, "toarray") else form.A)
+    lower, upper = np.asarray(form.row_lower), np.asarray(form.row_upper)
+    equal = lower == upper
+    low_rows = np.flatnonzero(~equal & np.isfinite(lower))
+    high_rows = np.flatnonzero(~equal & np.isfinite(upper))
+    eq_rows = np.flatnonzero(equal)
+    A_ub = np.vstack([-A[low_rows], A[high_rows]])
+    b_ub = np.concatenate([-lower[low_rows], upper[high_rows]])
+    bounds = [
+        (None if not np.isfinite(lo) else lo, None if not np.isfinite(hi) else hi)
+        for lo, hi in zip(form.col_lower, form.col_upper)
+    ]
+    ref = highs(
+        form.c,
+        A_ub=A_ub if A_ub.size else None,
+        b_ub=b_ub if A_ub.size else None,
+        A_eq=A[eq_rows] if eq_rows.size else None,
+        b_eq=upper[eq_rows] if eq_rows.size else None,
+        bounds=bounds,
+    )
+    if ref.status != "optimal":
+        return ref
+    row = np.zeros(A.shape[0])
+    row[low_rows] -= ref.marginals_ub[: low_rows.size]
+    row[high_rows] += ref.marginals_ub[low_rows.size :]
+    row[eq_rows] += ref.marginals_eq
+    return Reference(ref.status, ref.objective, ref.x, None, row, ref.reduced_costs)

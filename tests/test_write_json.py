@@ -11,8 +11,8 @@ import pytest
 from blendkit.write_json import formula_to_dict, formula_to_json
 from tests import formulas
 
-KEYS = ["status", "message", "cost", "ingredients", "nutrients", "limits", "notes"]
-LIMIT_KEYS = ["kind", "name", "side", "bound", "level", "binding", "shadow_price", "cell"]
+KEYS = ["status", "message", "cost", "ingredients", "nutrients", "limits", "stocks", "notes"]
+LIMIT_KEYS = ["kind", "name", "product", "side", "bound", "level", "binding", "shadow_price", "cell"]
 
 
 def test_exact_shape_of_an_optimal_formula():
@@ -29,11 +29,11 @@ def test_exact_shape_of_an_optimal_formula():
     assert data["nutrients"] == pytest.approx(formulas.levels())
     assert list(data["nutrients"]) == list(formulas.NUTRIENTS)
     assert data["limits"][0] == {
-        "kind": "nutrient", "name": "Crude protein", "side": "min", "bound": 17.12,
+        "kind": "nutrient", "name": "Crude protein", "product": None, "side": "min", "bound": 17.12,
         "level": pytest.approx(17.12), "binding": True, "shadow_price": 4.5, "cell": "Specs!B2",
     }
     assert data["limits"][5] == {
-        "kind": "ingredient", "name": "Rapeseed meal", "side": "max", "bound": 18.0,
+        "kind": "ingredient", "name": "Rapeseed meal", "product": None, "side": "max", "bound": 18.0,
         "level": 18.0, "binding": True, "shadow_price": -1.25, "cell": "Ingredients!D4",
     }
     assert all(list(limit) == LIMIT_KEYS for limit in data["limits"])
@@ -109,6 +109,7 @@ def test_not_optimal_has_null_cost_and_empty_tables():
         "ingredients": {},
         "nutrients": {},
         "limits": [],
+        "stocks": {},
         "notes": list(formula.notes),
     }
     # Even if a cost were left on the formula, it means nothing unless optimal.
