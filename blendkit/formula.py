@@ -141,6 +141,9 @@ class Formula:
     notes: tuple[str, ...] = ()
     products: tuple[ProductFormula, ...] = ()
     stocks: tuple[StockLine, ...] = ()
+    conflicts: tuple["ConflictLine", ...] = ()  # when infeasible: the conflicting limits
+    conflicts_complete: bool = True  # False when more conflicts may remain unreported
+    relaxation: "Relaxation | None" = None  # when infeasible: the least-cost way out
 
     @property
     def several(self) -> bool:
@@ -168,6 +171,17 @@ def cost_unit(settings: Settings) -> str:
     return f"{settings.currency} per {settings.cost_per}".strip()
 
 
+def run_cost_unit(blend: Blend) -> str:
+    """The unit of `Formula.cost`: "EUR per tonne" for one blend, "EUR per diet" for a
+    diet (the whole diet's cost) and "EUR" (the run's total) with several products."""
+    settings = blend.settings
+    if blend.diet:
+        return f"{settings.currency} per diet".strip()
+    if blend.products:
+        return settings.currency
+    return cost_unit(settings)
+
+
 def shadow_price_unit(limit: Limit, blend: Blend) -> str:
     """E.g. "EUR/tonne per 1 unit of Crude protein (%)" or "EUR/tonne per 1 % inclusion"."""
     settings = blend.settings
@@ -190,3 +204,33 @@ def shadow_price_unit(limit: Limit, blend: Blend) -> str:
     if limit.basis == "dry matter":
         label += " in dry matter"
     return f"{per} per 1 unit of {label}"
+
+
+@dataclass(frozen=True)
+class ConflictLine:
+    """One member of a conflicting set of limits, in the workbook's words.
+
+    `conflict` numbers the set (1, 2, ... for independent conflicts); `kind` is
+    "nutrient", "ratio", "ingredient", "use", "group", "stock" or "total" (a product's
+    sum-to-100 row); `relax_to` is the value this bound alone would have to move to for
+    the workbook to become feasible (None where no move of it alone is enough).
+    `text` reads like "Specs!C5  Crude protein  min 24".
+    """
+
+    conflict: int
+    kind: str
+    name: str
+    product: str | None
+    side: str
+    bound: float
+    cell: str | None
+    relax_to: float | None
+    text: str
+
+
+@dataclass(frozen=True)
+class Relaxation:
+    """The least-cost way out: bounds to move, and the formula that then results."""
+
+    changes: tuple[ConflictLine, ...]  # `conflict` is 0; relax_to is the new bound
+    formula: "Formula | None"

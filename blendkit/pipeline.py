@@ -6,6 +6,7 @@ behave the same.
 
 from __future__ import annotations
 
+import dataclasses
 import hashlib
 from dataclasses import dataclass
 from datetime import datetime, timezone
@@ -14,9 +15,10 @@ from pathlib import Path
 from blendkit import __version__
 from blendkit.analyse import analyse
 from blendkit.build_lp import build_lp
+from blendkit.diagnose import change_lines, conflict_lines, diagnose
 from blendkit.engine import mps, solve_form
 from blendkit.errors import OutputError
-from blendkit.formula import Formula, RunInfo
+from blendkit.formula import Formula, Relaxation, RunInfo
 from blendkit.model import Blend
 from blendkit.read_workbook import read_workbook
 from blendkit.write_workbook import write_workbook
@@ -36,10 +38,28 @@ def check_workbook(book: str | Path) -> Blend:
     return read_workbook(book)
 
 
-def formulate(blend: Blend) -> Formula:
-    """The least-cost formula for a validated blend."""
+def formulate(blend: Blend, *, explain: bool = True) -> Formula:
+    """The least-cost formula for a validated blend.
+
+    When the limits cannot all be met (and `explain` is on), the formula carries the
+    conflicting sets of limits and the least-cost relaxation with its formula.
+    """
     lp = build_lp(blend)
-    return analyse(blend, lp, solve_form(lp.form))
+    formula = analyse(blend, lp, solve_form(lp.form))
+    if formula.status != "infeasible" or not explain:
+        return formula
+    diagnosis = diagnose(blend, lp)
+    relaxed = None
+    if diagnosis.relaxed_blend is not None:
+        relaxed = formulate(diagnosis.relaxed_blend, explain=False)
+        if not relaxed.solved:
+            relaxed = None
+    return dataclasses.replace(
+        formula,
+        conflicts=conflict_lines(diagnosis),
+        conflicts_complete=diagnosis.complete,
+        relaxation=Relaxation(change_lines(diagnosis), relaxed) if diagnosis.changes else None,
+    )
 
 
 def _row_name(blend: Blend, lp, i: int) -> str:

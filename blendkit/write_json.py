@@ -16,6 +16,19 @@ With a Products sheet::
      "stocks": {ingredient: {"used", "available", "shadow_price"}},
      "notes": [str]}
 
+When the status is "infeasible" two more keys follow "notes"::
+
+    "conflicts": [{"kind", "name", "product", "side", "bound", "cell", "relax_to",
+                   "conflict"}],
+    "relaxation": {"changes": [{"kind", "name", "product", "side", "bound", "cell",
+                                "relax_to"}], "cost": float | null} | null
+
+Each conflicts entry is one member of an irreducible conflicting set (`conflict`
+numbers the sets); `relax_to` is the value that bound alone would have to move to (null
+where no move of it alone is enough). `kind` there may also be "use" (a Use = no) or
+"total" (a sum-to-100 row). `relaxation` is the least-cost way out: the bounds to move
+and the blend's cost (total cost with products) once they are moved.
+
 A nutrient's dry-matter level is keyed "<nutrient> (dry matter)"; a ratio by its text
 ("Calcium / Phosphorus"). `kind` is "nutrient", "ratio", "group", "stock" or
 "ingredient"; `product` is null for one blend and for stocks (shared by all products).
@@ -29,7 +42,7 @@ import json
 import math
 from typing import Any
 
-from blendkit.formula import Formula, Limit, NutrientLine
+from blendkit.formula import ConflictLine, Formula, Limit, NutrientLine
 
 
 def formula_to_dict(formula: Formula) -> dict[str, Any]:
@@ -43,7 +56,7 @@ def formula_to_dict(formula: Formula) -> dict[str, Any]:
         for line in formula.stocks
     }
     if formula.several:
-        return {
+        return _conflicts(formula, {
             "status": str(formula.status),
             "message": str(formula.message),
             "total_cost": _number(formula.cost) if formula.solved else None,
@@ -58,8 +71,8 @@ def formula_to_dict(formula: Formula) -> dict[str, Any]:
             },
             "stocks": stocks,
             "notes": [str(note) for note in formula.notes],
-        }
-    return {
+        })
+    return _conflicts(formula, {
         "status": str(formula.status),
         "message": str(formula.message),
         "cost": _number(formula.cost) if formula.solved else None,
@@ -68,6 +81,32 @@ def formula_to_dict(formula: Formula) -> dict[str, Any]:
         "limits": [_limit(limit) for limit in formula.limits],
         "stocks": stocks,
         "notes": [str(note) for note in formula.notes],
+    })
+
+
+def _conflicts(formula: Formula, data: dict[str, Any]) -> dict[str, Any]:
+    """`data` with the conflicts and relaxation keys added, for an infeasible formula."""
+    if formula.status != "infeasible":
+        return data
+    data["conflicts"] = [dict(_member(line), conflict=line.conflict) for line in formula.conflicts]
+    relaxation = formula.relaxation
+    data["relaxation"] = None
+    if relaxation is not None:
+        cost = relaxation.formula.cost if relaxation.formula is not None else None
+        data["relaxation"] = {"changes": [_member(line) for line in relaxation.changes], "cost": _number(cost)}
+    return data
+
+
+def _member(line: ConflictLine) -> dict[str, Any]:
+    """One conflict member or change, keys as a limit's plus relax_to."""
+    return {
+        "kind": str(line.kind),
+        "name": str(line.name),
+        "product": None if line.product is None else str(line.product),
+        "side": str(line.side),
+        "bound": _number(line.bound),
+        "cell": None if line.cell is None else str(line.cell),
+        "relax_to": _number(line.relax_to),
     }
 
 

@@ -111,6 +111,8 @@ def test_not_optimal_has_null_cost_and_empty_tables():
         "limits": [],
         "stocks": {},
         "notes": list(formula.notes),
+        "conflicts": [],
+        "relaxation": None,
     }
     # Even if a cost were left on the formula, it means nothing unless optimal.
     assert formula_to_dict(dataclasses.replace(formula, cost=12.5))["cost"] is None
