@@ -463,6 +463,7 @@ def diagnose(blend: Blend, lp: BlendLP) -> Diagnosis:
     """Conflicting sets, single-bound moves and the least-cost relaxation of an infeasible LP."""
     members = members_of(blend, lp)
     everything = np.ones(len(members), dtype=bool)
+    totals = np.array([member.kind == "total" for member in members])
     set_aside = np.zeros(len(members), dtype=bool)
     found = []
     complete = True
@@ -475,14 +476,15 @@ def diagnose(blend: Blend, lp: BlendLP) -> Diagnosis:
             break
         conflict = _deletion_filter(lp, members, _seed(lp, members, active))
         found.append(conflict)
-        set_aside |= conflict
+        # Sum-to-100 rows can be part of several conflicts; they stay on.
+        set_aside |= conflict & ~totals
     conflicts = []
     for conflict in found:
         # Each member's least move alone, with the other conflicts set aside.
         others = np.zeros(len(members), dtype=bool)
         for other in found:
             if other is not conflict:
-                others |= other
+                others |= other & ~totals
         moves = []
         for k in np.flatnonzero(conflict):
             active = everything & ~others

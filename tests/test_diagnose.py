@@ -1,0 +1,189 @@
+"""Conflict diagnosis on constructed conflicts with known answers.
+
+Irreducibility and every proposed move are checked independently: the subsets and moved
+workbooks are re-solved with scipy's HiGHS (tests/reference.py). The scenarios (the
+"Marram Bay" co-op) are invented and the numbers made up for the tests.
+"""
+
+from __future__ import annotations
+
+import dataclasses
+import json
+
+import numpy as np
+import pytest
+from typer.testing import CliRunner
+
+from blendkit.build_lp import build_lp
+from blendkit.cli import app
+from blendkit.diagnose import diagnose, form_with, members_of, relaxed_blend
+from blendkit.read_workbook import read_workbook
+from tests.reference import highs_form
+from tests.workbooks import make_workbook
+
+runner = CliRunner()
+
+HEADER = ["Ingredient", "Cost", "Min", "Max", "Crude protein (%)", "Calcium (%)", "Phosphorus (%)", "Stock"]
+FEEDS = [
+    ["Barley", 180, None, None, 11.0, 0.05, 0.35, None],
+    ["Soybean meal", 420, None, 25, 46.0, 0.30, 0.65, None],
+    ["Limestone", 60, None, 3, 0.0, 38.0, 0.0, None],
+    ["Wheat bran", 150, None, 20, 15.5, 0.10, 1.10, None],
+]
+
+
+def feasible_in_highs(form) -> bool:
+    """HiGHS's verdict on the form (objective ignored)."""
+    return highs_form(dataclasses.replace(form, c=np.zeros_like(form.c))).status == "optimal"
+
+
+def check_irreducible(blend, diagnosis):
+    """Each reported set is infeasible in HiGHS, and feasible without any one member."""
+    lp = build_lp(blend)
+    members = members_of(blend, lp)
+    for conflict in diagnosis.conflicts:
+        chosen = np.array([m in conflict.members for m in members])
+        assert not feasible_in_highs(form_with(lp, members, chosen))
+        for k in np.flatnonzero(chosen):
+            without = chosen.copy()
+            without[k] = False
+            assert feasible_in_highs(form_with(lp, members, without)), members[k].describe()
+
+
+def check_moves(blend, diagnosis):
+    """Each single move makes the workbook feasible (HiGHS) when it is the only conflict."""
+    if len(diagnosis.conflicts) != 1:
+        return
+    conflict = diagnosis.conflicts[0]
+    for member, value in zip(conflict.members, conflict.relax_to):
+        if value is None:
+            continue
+        from blendkit.diagnose import Change
+
+        moved = relaxed_blend(blend, (Change(member, value),))
+        assert feasible_in_highs(build_lp(moved).form), member.describe()
+        # A move a little short of it is not enough: the move is the least one.
+        short = value + 1e-4 * (1 + abs(value)) if member.side == "min" else value - 1e-4 * (1 + abs(value))
+        if member.kind != "use" and (member.side == "min") == (value < member.bound):
+            moved = relaxed_blend(blend, (Change(member, short),))
+            assert not feasible_in_highs(build_lp(moved).form), member.describe()
+
+
+def diagnosis_of(tmp_path, ingredients, specs, **sheets):
+    """Read, build and diagnose a workbook."""
+    blend = read_workbook(make_workbook(tmp_path, ingredients, specs, sheets=sheets or None))
+    return blend, diagnose(blend, build_lp(blend))
+
+
+def texts(conflict):
+    return {member.describe() for member in conflict.members}
+
+
+def test_a_spec_against_inclusion_limits(tmp_path):
+    # 30 % protein needs more soybean meal than its 25 % cap allows: even with the rest
+    # all wheat bran, 0.25*46 + 0.75*15.5 = 23.1 % at most (by hand), so the bran cap is
+    # not part of the conflict.
+    specs = [["Nutrient", "Min", "Max"], ["Crude protein", 30, None]]
+    blend, diagnosis = diagnosis_of(tmp_path, [HEADER, *FEEDS], specs)
+    assert len(diagnosis.conflicts) == 1 and diagnosis.complete
+    conflict = diagnosis.conflicts[0]
+    assert texts(conflict) == {
+        "total  inclusions sum to 100 %",
+        "Specs!B2  Crude protein  min 30",
+        "Ingredients!D3  Soybean meal  max 25",
+    }
+    moves = dict(zip((m.describe() for m in conflict.members), conflict.relax_to))
+    # The best protein the limits allow: 25 % soybean meal, 20 % bran, 55 % barley.
+    assert moves["Specs!B2  Crude protein  min 30"] == pytest.approx(0.25 * 46 + 0.20 * 15.5 + 0.55 * 11.0)
+    check_irreducible(blend, diagnosis)
+    check_moves(blend, diagnosis)
+    relaxed = diagnosis.relaxed_blend
+    assert relaxed is not None and feasible_in_highs(build_lp(relaxed).form)
+
+
+def test_a_ratio_against_a_spec(tmp_path):
+    # Calcium / Phosphorus at most 1.0 while calcium is at least 2 %: limestone (Ca 38) is
+    # capped at 3 %, so P would have to reach 2 % -- more than any feed holds.
+    specs = [["Nutrient", "Min", "Max"], ["Calcium", 1.2, None], ["Calcium / Phosphorus", None, 1.0]]
+    blend, diagnosis = diagnosis_of(tmp_path, [HEADER, *FEEDS], specs)
+    assert len(diagnosis.conflicts) == 1
+    kinds = {member.kind for member in diagnosis.conflicts[0].members}
+    assert {"ratio", "nutrient"} <= kinds
+    check_irreducible(blend, diagnosis)
+    check_moves(blend, diagnosis)
+    ratio = next(m for m in diagnosis.conflicts[0].members if m.kind == "ratio")
+    move = diagnosis.conflicts[0].relax_to[diagnosis.conflicts[0].members.index(ratio)]
+    assert move is not None and move > 1.0
+
+
+def test_a_stock_against_product_amounts(tmp_path):
+    feeds = [row[:] for row in FEEDS]
+    feeds[2][7] = 500  # 500 kg of limestone for 40 t of feed needing >= 2 % of it
+    specs = [["Nutrient", "Min", "Max"], ["Calcium", 0.8, None]]
+    products = [["Product", "Amount"], ["Layer mash", 30000], ["Pullet mash", 10000]]
+    blend, diagnosis = diagnosis_of(tmp_path, [HEADER, *feeds], specs, Products=products)
+    assert len(diagnosis.conflicts) == 1
+    members = diagnosis.conflicts[0].members
+    kinds = [member.kind for member in members]
+    assert "stock" in kinds
+    totals = [m for m in members if m.kind == "total"]
+    assert {m.cell for m in totals} <= {"Products!B2", "Products!B3"}
+    check_irreducible(blend, diagnosis)
+    stock = next(m for m in members if m.kind == "stock")
+    move = diagnosis.conflicts[0].relax_to[members.index(stock)]
+    assert move is not None and move > 500
+
+
+def test_two_independent_conflicts_are_both_reported(tmp_path):
+    feeds = [row[:] for row in FEEDS]
+    feeds[0][5:7] = [0.05, 0.35]
+    specs = [["Nutrient", "Min", "Max"], ["Crude protein", 30, None], ["Phosphorus", None, 0.1]]
+    blend, diagnosis = diagnosis_of(tmp_path, [HEADER, *feeds], specs)
+    assert len(diagnosis.conflicts) == 2
+    first, second = (texts(c) for c in diagnosis.conflicts)
+    assert any("Crude protein" in t for t in first | second)
+    assert any("Phosphorus" in t for t in first | second)
+    check_irreducible(blend, diagnosis)
+
+
+def test_use_no_takes_part(tmp_path):
+    # The only calcium source is switched off.
+    feeds = [row[:] for row in FEEDS]
+    header = [*HEADER, "Use"]
+    feeds = [[*row, "yes"] for row in feeds]
+    feeds[2][-1] = "no"
+    specs = [["Nutrient", "Min", "Max"], ["Calcium", 1.0, None]]
+    blend, diagnosis = diagnosis_of(tmp_path, [header, *feeds], specs)
+    members = diagnosis.conflicts[0].members
+    use = next(m for m in members if m.kind == "use")
+    assert use.cell == "Ingredients!I4"
+    check_irreducible(blend, diagnosis)
+
+
+def test_cli_reports_conflicts_exit_3_and_json(tmp_path):
+    specs = [["Nutrient", "Min", "Max"], ["Crude protein", 30, None]]
+    book = make_workbook(tmp_path, [HEADER, *FEEDS], specs)
+    result = runner.invoke(app, ["solve", str(book), "--json"])
+    assert result.exit_code == 3
+    doc = json.loads(result.stdout)
+    assert doc["status"] == "infeasible"
+    entry = next(item for item in doc["conflicts"] if item["kind"] == "nutrient")
+    assert entry == {
+        "kind": "nutrient", "name": "Crude protein", "product": None, "side": "min", "bound": 30.0,
+        "cell": "Specs!B2", "relax_to": pytest.approx(0.25 * 46 + 0.20 * 15.5 + 0.55 * 11.0), "conflict": 1,
+    }
+    assert doc["relaxation"]["changes"]
+    assert doc["relaxation"]["cost"] > 0
+
+
+def test_diagnosis_of_a_large_blend_is_quick_enough_to_run_in_tests(tmp_path):
+    # Not a timing assertion: the benchmark prints times. This checks the result on a
+    # 60-ingredient blend with one hidden conflict.
+    rng = np.random.default_rng(5)
+    header = ["Ingredient", "Cost", "Max", *[f"N{k}" for k in range(20)]]
+    rows = [[f"Feed {j}", float(rng.uniform(100, 900)), 30.0, *map(float, rng.uniform(0, 10, 20))] for j in range(60)]
+    specs = [["Nutrient", "Min", "Max"], *[[f"N{k}", 2.0, None] for k in range(20)], ["N3", None, None]][:-1]
+    specs[4] = ["N3", 9.99, None]  # above what any mix under the caps reaches
+    blend, diagnosis = diagnosis_of(tmp_path, [header, *rows], specs)
+    assert diagnosis.conflicts
+    check_irreducible(blend, diagnosis)
