@@ -598,6 +598,57 @@ def _plan(n_ingredients: int, repeat: int | None, quick: bool) -> tuple[int, int
     return count, repeat if repeat is not None else reps
 
 
+def infeasible_blend(n_ingredients: int, n_nutrients: int, seed: int):
+    """A workbook-level blend (domain model) of the given size whose specs conflict.
+
+    Ingredients and contents come from `make_blend`; specs sit around a feasible
+    mixture's levels, then the first spec's minimum is set above every ingredient's
+    content of that nutrient, which no blend can reach.
+    """
+    from blendkit.model import Blend, Ingredient, Settings, Spec
+
+    instance = make_blend(n_ingredients, n_nutrients, seed)
+    names = [f"N{i + 1}" for i in range(n_nutrients)]
+    ingredients = []
+    for j, (low, high) in enumerate(instance.bounds):
+        contents = {name: float(instance.contents[i, j]) for i, name in enumerate(names)}
+        cells = {"name": f"Ingredients!A{j + 2}", "cost": f"Ingredients!B{j + 2}",
+                 "min": f"Ingredients!C{j + 2}", "max": f"Ingredients!D{j + 2}"}
+        ingredients.append(Ingredient(f"Feed {j + 1}", float(instance.prices[j]), low or None, high, True,
+                                      contents, (), cells))
+    levels = instance.contents @ instance.x0 / TOTAL
+    specs = []
+    for i, name in enumerate(names):
+        if levels[i] <= 0:
+            continue
+        low = float(levels[i] * 0.95)
+        high = float(levels[i] * 1.25) if i % 3 == 0 else None
+        if not specs:
+            low, high = float(instance.contents[i].max() * 1.01), None  # out of reach
+        cells = {"nutrient": f"Specs!A{len(specs) + 2}", "min": f"Specs!B{len(specs) + 2}",
+                 "max": f"Specs!C{len(specs) + 2}"}
+        specs.append(Spec(name, low, high, cells))
+    return Blend(tuple(ingredients), tuple(names), tuple(specs), Settings())
+
+
+def diagnosis_lines(sizes, seed: int, repeat: int) -> list[str]:
+    """Time one plain solve and the full conflict diagnosis of infeasible blends."""
+    from blendkit.build_lp import build_lp
+    from blendkit.diagnose import diagnose
+    from blendkit.engine import solve_form
+
+    lines = [f"{'blend':<14}{'plain solve ms':>16}{'diagnosis ms':>14}{'conflicts':>11}{'members':>9}"]
+    for n_ing, n_nut in sizes:
+        blend = infeasible_blend(n_ing, n_nut, seed)
+        lp = build_lp(blend)
+        plain, plain_time = _timed(lambda: solve_form(lp.form), repeat)
+        found, diagnosis_time = _timed(lambda: diagnose(blend, lp), repeat)
+        members = sum(len(conflict.members) for conflict in found.conflicts)
+        lines.append(f"{n_ing}x{n_nut:<10}{plain_time * 1e3:>16.1f}{diagnosis_time * 1e3:>14.1f}"
+                     f"{len(found.conflicts):>11}{members:>9}   ({plain.status})")
+    return lines
+
+
 def run(sizes, seed: int, repeat: int | None, quick: bool, netlib: str | None, out=print) -> None:
     """The whole benchmark, printing as it goes."""
     started = time.perf_counter()
@@ -625,6 +676,11 @@ def run(sizes, seed: int, repeat: int | None, quick: bool, netlib: str | None, o
             sys.stdout.flush()
     out("(sweep: the first LP of the size after each of a series of price changes; cold solves")
     out(" each from scratch, warm starts each from the previous solve's basis; HiGHS is cold)")
+    out("")
+    out("Conflict diagnosis of infeasible blends (one spec out of reach): the whole diagnosis")
+    out("(conflicting sets, each bound's least move, least-cost relaxation) beside one plain solve")
+    for line in diagnosis_lines(sizes, seed, 1 if quick else 3):
+        out(line)
     out("")
     out("NETLIB: ours = solve_form on the parsed model; HiGHS = passModel + run on its own parse")
     netlib_repeat = 1 if quick else (repeat if repeat is not None else NETLIB_REPEATS)
