@@ -77,6 +77,19 @@ def _blank_notes(blend: Blend, used: np.ndarray | None) -> tuple[str, ...]:
     return tuple(notes)
 
 
+def _violation_notes(limits: list[Limit]) -> tuple[str, ...]:
+    """One note per soft limit the formula breaks, first among the notes."""
+    notes = []
+    for limit in limits:
+        if limit.violation > 0:
+            where = f"{limit.product}: " if limit.product else ""
+            notes.append(
+                f"SOFT LIMIT BROKEN: {where}{limit.name} {limit.side} {limit.bound:g} is missed by "
+                f"{limit.violation:.4g} (level {limit.level:.4g}) at a penalty of {limit.penalty:g} per unit ({limit.cell})"
+            )
+    return tuple(notes)
+
+
 def _ratio(top: float, bottom: float) -> float | None:
     """top / bottom, or None when the bottom is zero."""
     return None if bottom == 0 else top / bottom
@@ -113,10 +126,12 @@ def analyse(blend: Blend, lp: BlendLP, result: LPResult) -> Formula:
         )
     J = lp.n_ingredients
     P = len(lp.products)
-    x = np.where(np.abs(result.x) < ZERO_INCLUSION, 0.0, result.x).reshape(P, J)
-    d = result.reduced_costs.reshape(P, J)
+    full = np.where(np.abs(result.x) < ZERO_INCLUSION, 0.0, result.x)
+    x = full[: P * J].reshape(P, J)
+    d = result.reduced_costs[: P * J].reshape(P, J)
     y = result.row_marginals
-    activity = lp.form.A @ x.ravel()
+    activity = lp.form.A[:, : P * J] @ x.ravel()
+    broken = {(i, side): float(full[column]) for i, side, column in lp.elastic if full[column] > 0}
     settings = blend.settings
     products = []
     stock_lines = []
@@ -150,7 +165,8 @@ def analyse(blend: Blend, lp: BlendLP, result: LPResult) -> Formula:
                 level, factor = _row_level(lp, row, levels, side.bound)
                 if row.kind == GROUP:
                     level = float(activity[i])
-                binding = _at(level, side.bound)
+                violation = broken.get((i, side.side), 0.0)
+                binding = _at(level, side.bound) or violation > 0
                 price = 0.0
                 if binding:
                     marginal = float(y[i]) * factor / scale
@@ -158,7 +174,7 @@ def analyse(blend: Blend, lp: BlendLP, result: LPResult) -> Formula:
                         price = marginal
                 limits.append(Limit(row.kind, row.name, side.side, side.bound,
                                     float("nan") if level is None else float(level), binding, price,
-                                    side.cell, name, row.basis))
+                                    side.cell, name, row.basis, violation, row.penalty))
             if row.kind == NUTRIENT and row.basis == AS_FED:
                 for side in row.sides:
                     target = low_of if side.side == "min" else high_of
@@ -208,12 +224,13 @@ def analyse(blend: Blend, lp: BlendLP, result: LPResult) -> Formula:
         stock_lines.append(StockLine(row.name, used, side.bound, binding, price, side.cell))
         every_limit.append(Limit(STOCK, row.name, "max", side.bound, used, binding, price, side.cell, None))
     used = (x > 0).any(axis=0)
+    notes = _violation_notes(every_limit) + _blank_notes(blend, used)
     if lp.multi:
         total = float(sum(lp.cost_units[p] * products[p].cost for p in range(P)))
         return Formula(
             blend=blend, status="optimal", message="least-cost products found", cost=total,
             ingredients=(), nutrients=(), limits=tuple(every_limit), iterations=result.iterations,
-            notes=_blank_notes(blend, used), products=tuple(products), stocks=tuple(stock_lines),
+            notes=notes, products=tuple(products), stocks=tuple(stock_lines),
         )
     only = products[0]
     stock_limits = tuple(limit for limit in every_limit if limit.kind == STOCK)
@@ -226,7 +243,7 @@ def analyse(blend: Blend, lp: BlendLP, result: LPResult) -> Formula:
         nutrients=only.nutrients,
         limits=only.limits + stock_limits,
         iterations=result.iterations,
-        notes=_blank_notes(blend, used),
+        notes=notes,
         products=tuple(products),
         stocks=tuple(stock_lines),
     )

@@ -14,6 +14,8 @@ product p is level_n = per * sum_j x[p, j] * content[n, j], and the rows are:
     group      min <= sum_{j in group} x[p, j] <= max
     stock      sum_p amount_p * per * x[p, j] <= stock_j        (shared by all products)
     bounds     min_pj <= x[p, j] <= max_pj (Limits sheet, else Ingredients), 0 for Use = no
+    soft       a spec with a Penalty gets two more columns, e_lo and e_hi >= 0, in its row
+               (min <= level + e_lo - e_hi <= max), each costing the penalty per unit
 
 The objective is the blend's cost per `Cost per` unit (one blend) or, with a Products
 sheet, the whole run's cost: sum_p amount_p / (mass of one Cost per unit) * cost_p.
@@ -67,6 +69,7 @@ class LPRow:
     ratio: tuple[int, int] | None = None  # nutrient indices (A, B) of a ratio row
     nutrient: int | None = None  # nutrient index of a nutrient row
     ingredient: int | None = None  # ingredient index of a stock row
+    penalty: float | None = None  # a soft spec's cost per unit of violation
 
 
 @dataclass(frozen=True)
@@ -88,6 +91,7 @@ class BlendLP:
     per: float
     dry_matter: int | None  # index of the dry-matter nutrient, if the blend has it
     multi: bool  # True with a Products sheet: the objective is the run's total cost
+    elastic: tuple[tuple[int, str, int], ...] = ()  # (row, "min" | "max", column) of soft specs
 
     @property
     def n_ingredients(self) -> int:
@@ -183,7 +187,8 @@ def build_lp(blend: Blend) -> BlendLP:
                 n = index[spec.nutrient]
                 low = -np.inf if spec.minimum is None else spec.minimum
                 high = np.inf if spec.maximum is None else spec.maximum
-                add(in_product(p, per * contents[n]), low, high, LPRow(NUTRIENT, spec.nutrient, p, tuple(sides), nutrient=n))
+                add(in_product(p, per * contents[n]), low, high,
+                    LPRow(NUTRIENT, spec.nutrient, p, tuple(sides), nutrient=n, penalty=spec.penalty))
         members = {item.name: j for j, item in enumerate(blend.ingredients)}
         for group in blend.groups:
             if group.product is not None and group.product != product:
@@ -204,9 +209,28 @@ def build_lp(blend: Blend) -> BlendLP:
 
     bounds = [column_bounds(blend, product, j) for product, _ in products for j in range(J)]
     weights = np.repeat(cost_units, J) if multi else np.ones(P * J)
+    A = np.array(rows, dtype=float).reshape(len(rows), P * J)
+    c = np.tile(costs, P) * per * weights
+    # Soft specs: an elastic column per side, costing the penalty per unit of violation
+    # (per Cost per unit of the product, so times its amount with several products).
+    elastic = []
+    extra_columns, extra_costs = [], []
+    for i, row in enumerate(meaning):
+        if row.penalty is None:
+            continue
+        for side in row.sides:
+            column = np.zeros(len(rows))
+            column[i] = 1.0 if side.side == "min" else -1.0
+            extra_columns.append(column)
+            extra_costs.append(row.penalty * (cost_units[row.product] if multi else 1.0))
+            elastic.append((i, side.side, P * J + len(extra_columns) - 1))
+    if extra_columns:
+        A = np.hstack([A, np.array(extra_columns).T])
+        c = np.concatenate([c, extra_costs])
+        bounds = bounds + [(0.0, np.inf)] * len(extra_columns)
     form = StandardForm(
-        c=np.tile(costs, P) * per * weights,
-        A=np.array(rows, dtype=float).reshape(len(rows), P * J),
+        c=c,
+        A=A,
         row_lower=np.array(lower, dtype=float),
         row_upper=np.array(upper, dtype=float),
         col_lower=np.array([low for low, _ in bounds], dtype=float),
@@ -222,4 +246,5 @@ def build_lp(blend: Blend) -> BlendLP:
         per=per,
         dry_matter=dm,
         multi=multi,
+        elastic=tuple(elastic),
     )

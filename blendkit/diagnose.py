@@ -130,6 +130,8 @@ def members_of(blend: Blend, lp: BlendLP) -> list[Member]:
                 cell = next(p.cells.get("amount") for p in blend.products if p.name == product)
             members.append(Member("total", "total", product, "eq", TOTAL, cell, "as fed", "row", i, "both", np.inf))
             continue
+        if row.penalty is not None:
+            continue  # a soft spec gives way at its penalty; it cannot conflict
         single = row.kind == RATIO or (row.kind == NUTRIENT and row.basis == DRY_MATTER)
         for side in row.sides:
             kind = row.kind

@@ -81,6 +81,13 @@ class Limit:
     cell: str
     product: str | None = None
     basis: str = "as fed"
+    violation: float = 0.0  # a soft limit's shortfall (min) or excess (max); 0 when met
+    penalty: float | None = None  # a soft limit's cost per unit of violation
+
+    @property
+    def broken(self) -> bool:
+        """True when a soft limit is not met."""
+        return self.violation > 0
 
 
 @dataclass(frozen=True)

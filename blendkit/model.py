@@ -75,6 +75,8 @@ class Spec:
     basis: str = AS_FED
     ratio: tuple[str, str] | None = None
     product: str | None = None
+    penalty: float | None = None  # soft spec: cost per unit of violation (None = hard)
+    priority: float | None = None  # which limits give way first when in conflict
 
 
 @dataclass(frozen=True)
@@ -91,6 +93,7 @@ class Group:
     maximum: float | None
     cells: dict[str, str]
     product: str | None = None
+    priority: float | None = None
 
 
 @dataclass(frozen=True)
@@ -114,6 +117,7 @@ class ProductLimit:
     minimum: float | None
     maximum: float | None
     cells: dict[str, str]  # "product", "ingredient", "min", "max" -> cell
+    priority: float | None = None
 
 
 @dataclass(frozen=True)

@@ -7,14 +7,19 @@ The shape is fixed (keys in this order). One blend (or one diet)::
      "limits": [{"kind", "name", "product", "side", "bound", "level", "binding",
                  "shadow_price", "cell"}],
      "stocks": {ingredient: {"used", "available", "shadow_price"}},
+     "violations": [{"kind", "name", "product", "side", "bound", "level", "cell",
+                     "violation", "penalty"}],
      "notes": [str]}
+
+`violations` lists the soft limits (specs with a Penalty) that the formula breaks, with
+the shortfall or excess and the penalty per unit; it is empty when every limit is met.
 
 With a Products sheet::
 
     {"status": str, "message": str, "total_cost": float | null,
      "products": {name: {"cost", "ingredients", "nutrients", "limits"}},
      "stocks": {ingredient: {"used", "available", "shadow_price"}},
-     "notes": [str]}
+     "violations": [...], "notes": [str]}
 
 When the status is "infeasible" two more keys follow "notes"::
 
@@ -70,6 +75,7 @@ def formula_to_dict(formula: Formula) -> dict[str, Any]:
                 for product in formula.products
             },
             "stocks": stocks,
+            "violations": _violations(formula),
             "notes": [str(note) for note in formula.notes],
         })
     return _conflicts(formula, {
@@ -80,6 +86,7 @@ def formula_to_dict(formula: Formula) -> dict[str, Any]:
         "nutrients": {_key(line): _number(line.level) for line in formula.nutrients},
         "limits": [_limit(limit) for limit in formula.limits],
         "stocks": stocks,
+        "violations": _violations(formula),
         "notes": [str(note) for note in formula.notes],
     })
 
@@ -95,6 +102,25 @@ def _conflicts(formula: Formula, data: dict[str, Any]) -> dict[str, Any]:
         cost = relaxation.formula.cost if relaxation.formula is not None else None
         data["relaxation"] = {"changes": [_member(line) for line in relaxation.changes], "cost": _number(cost)}
     return data
+
+
+def _violations(formula: Formula) -> list[dict[str, Any]]:
+    """The soft limits the formula breaks."""
+    return [
+        {
+            "kind": str(limit.kind),
+            "name": str(limit.name),
+            "product": None if limit.product is None else str(limit.product),
+            "side": str(limit.side),
+            "bound": _number(limit.bound),
+            "level": _number(limit.level),
+            "cell": str(limit.cell),
+            "violation": _number(limit.violation),
+            "penalty": _number(limit.penalty),
+        }
+        for limit in formula.limits
+        if limit.broken
+    ]
 
 
 def _member(line: ConflictLine) -> dict[str, Any]:
