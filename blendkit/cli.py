@@ -15,6 +15,8 @@ import typer
 
 from blendkit import __version__
 from blendkit.errors import OutputError, WorkbookError
+from blendkit.examples import EXAMPLES
+from blendkit.new_workbook import write_new
 from blendkit.pipeline import check_workbook, solve_workbook
 from blendkit.report_console import render_summary
 from blendkit.write_json import formula_to_dict
@@ -101,6 +103,30 @@ def check(
     for item in blend.ingredients:
         if item.use and item.blanks:
             typer.echo(f"  {item.name}: {len(item.blanks)} blank nutrient cells counted as 0 ({', '.join(item.blanks)})")
+
+
+@app.command()
+def new(
+    path: Path = typer.Argument(..., help="Where to write the new workbook (.xlsx); an existing file is never replaced."),
+    example: str = typer.Option(None, "--example", help=f"Write a worked example instead of the blank template: {', '.join(EXAMPLES)}."),
+) -> None:
+    """Write a blank workbook template, or a worked example, to start from."""
+    if path.suffix.lower() != ".xlsx":
+        typer.echo(f"{path}: the new workbook must be an .xlsx file", err=True)
+        raise typer.Exit(EXIT_USAGE)
+    try:
+        written = write_new(path, example)
+    except KeyError:
+        typer.echo(f"no example called {example!r}; the examples are: {', '.join(EXAMPLES)}", err=True)
+        raise typer.Exit(EXIT_USAGE) from None
+    except FileExistsError:
+        typer.echo(f"{path}: already exists; blendkit new never replaces a file, choose another name", err=True)
+        raise typer.Exit(EXIT_USAGE) from None
+    except OSError as error:
+        typer.echo(f"{path}: could not write the workbook ({error.strerror or error})", err=True)
+        raise typer.Exit(EXIT_USAGE) from None
+    what = f"the {example} example" if example else "a blank template"
+    typer.echo(f"Wrote {what} to {written}. Fill it in, then run: blendkit solve {written}")
 
 
 def main() -> None:

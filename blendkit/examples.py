@@ -279,7 +279,7 @@ LAYER_FEED = Example(
     specs=_LAYER_SPECS,
     groups=_LAYER_GROUPS,
     notes=(
-        "Scenario (invented): Thornbury Lane Eggs keeps about 9000 brown laying hens on "
+        "Scenario (invented): Wrenbeck Lane Eggs keeps about 9000 brown laying hens on "
         "free range and mixes their mash on the farm in 3000 kg batches. The farm's "
         "feed buyer, Mei Lindqvist, wants the cheapest mash for hens in peak lay (about "
         "22 to 45 weeks of age) that still meets the specs the farm has used for years.",
@@ -332,17 +332,17 @@ _DIET_FOODS = (
     # name                       cost   min   max   use   unit      kcal  prot  fat   sat   carb  fibre   Ca    Fe   vitC    Na     K
     ("Rolled oats",              0.15,  None, 1.0,  True, "100 g",   375, 13.0,  7.0,  1.2, 60.0, 10.0,   50,  4.0,    0,     5,  370),
     ("Wholemeal bread",          0.25,  None, 3.0,  True, "100 g",   245, 10.0,  3.0,  0.6, 42.0,  7.0,  100,  2.5,    0,   400,  250),
-    ("White rice, dry",          0.20,  None, 1.5,  True, "100 g",   355,  7.0,  0.6,  0.2, 79.0,  1.3,   10,  0.8,    0,     2,  100),
-    ("Pasta, dry",               0.18,  None, 1.5,  True, "100 g",   355, 12.5,  1.5,  0.3, 72.0,  3.0,   20,  1.5,    0,     5,  200),
+    ("Dry white rice",           0.20,  None, 1.5,  True, "100 g",   355,  7.0,  0.6,  0.2, 79.0,  1.3,   10,  0.8,    0,     2,  100),
+    ("Dry pasta",                0.18,  None, 1.5,  True, "100 g",   355, 12.5,  1.5,  0.3, 72.0,  3.0,   20,  1.5,    0,     5,  200),
     ("Potatoes",                 0.10,  None, 4.0,  True, "100 g",    77,  2.0,  0.1,  0.0, 17.0,  2.0,   10,  0.5,   15,     6,  420),
-    ("Red lentils, dry",         0.35,  None, 1.0,  True, "100 g",   330, 24.0,  1.5,  0.2, 50.0, 11.0,   50,  7.5,    1,     5,  700),
-    ("Chickpeas, canned",        0.30,  None, 2.0,  True, "100 g",   120,  7.0,  2.5,  0.3, 16.0,  5.0,   45,  1.5,    0,   250,  150),
+    ("Dry red lentils",          0.35,  None, 1.0,  True, "100 g",   330, 24.0,  1.5,  0.2, 50.0, 11.0,   50,  7.5,    1,     5,  700),
+    ("Canned chickpeas",         0.30,  None, 2.0,  True, "100 g",   120,  7.0,  2.5,  0.3, 16.0,  5.0,   45,  1.5,    0,   250,  150),
     ("Eggs",                     0.45,  None, 1.2,  True, "100 g",   140, 12.5,  9.5,  2.7,  0.7,  0.0,   55,  1.8,    0,   140,  135),
     ("Semi-skimmed milk",        0.10,  None, 5.0,  True, "100 g",    47,  3.5,  1.7,  1.1,  4.8,  0.0,  120,  0.03,   1,    45,  155),
     ("Plain low-fat yogurt",     0.30,  None, 2.5,  True, "100 g",    56,  5.0,  1.0,  0.7,  7.5,  0.0,  170,  0.1,    1,    70,  230),
     ("Hard cheese",              1.10,  None, 0.5,  True, "100 g",   415, 25.0, 35.0, 22.0,  0.1,  0.0,  720,  0.3,    0,   650,   75),
     ("Chicken breast",           0.90,  None, 1.5,  True, "100 g",   110, 23.5,  1.5,  0.4,  0.0,  0.0,    5,  0.4,    0,    60,  370),
-    ("Sardines, canned",         1.00,  None, 1.0,  True, "100 g",   210, 24.0, 12.0,  3.0,  0.0,  0.0,  380,  2.5,    0,   400,  400),
+    ("Canned sardines",          1.00,  None, 1.0,  True, "100 g",   210, 24.0, 12.0,  3.0,  0.0,  0.0,  380,  2.5,    0,   400,  400),
     ("Peanut butter",            0.60,  None, 0.3,  True, "100 g",   600, 25.0, 50.0, 10.0, 13.0,  6.0,   40,  1.9,    0,   400,  650),
     ("Rapeseed oil",             0.30,  None, 0.4,  True, "100 g",   900,  0.0,100.0,  7.0,  0.0,  0.0,    0,  0.0,    0,     0,    0),
     ("Carrots",                  0.12,  None, 2.0,  True, "100 g",    35,  0.6,  0.3,  0.0,  8.0,  2.6,   30,  0.3,    5,    40,  300),
@@ -377,7 +377,9 @@ _DIET_GROUPS = (
     # group                     ingredients                                                               min   max
     ("Vegetables and fruit",
      "Carrots, Cabbage, Broccoli, Tomatoes, Onions, Frozen peas, Bananas, Apples, Oranges",                 4,    None),
-    ("Cheese and peanut butter", "Hard cheese, Peanut butter",                                              None, 0.6),
+    ("Fruit",                    "Bananas, Apples, Oranges",                                                2,    None),
+    ("Eggs, fish, meat and pulses",
+     "Eggs, Chicken breast, Canned sardines, Dry red lentils, Canned chickpeas",                              1.5,  None),
 )
 # fmt: on
 
@@ -511,14 +513,14 @@ _PLANT_NUTRIENTS = (
 # fmt: off
 _PLANT_INGREDIENTS = (
     # name                    cost   min   max   use   stock(t)  DM    NE    CP    fibre  Ca     dP     Na     Lys    M+C    Thr    Trp
-    ("Barley",                 185,  None, None, True, None,    87.0,  9.3, 10.5,  4.5,  0.06,  0.14,  0.02,  0.30,  0.32,  0.28,  0.10),
-    ("Wheat",                  200,  None, None, True, None,    87.0, 10.3, 11.5,  2.4,  0.05,  0.17,  0.02,  0.27,  0.36,  0.29,  0.12),
+    ("Barley",                 175,  None, None, True, None,    87.0,  9.3, 10.5,  4.5,  0.06,  0.14,  0.02,  0.30,  0.32,  0.28,  0.10),
+    ("Wheat",                  205,  None, 60,   True, None,    87.0, 10.3, 11.5,  2.4,  0.05,  0.17,  0.02,  0.27,  0.36,  0.29,  0.12),
     ("Maize",                  220,  None, None, True, None,    87.0, 11.0,  8.0,  2.2,  0.02,  0.08,  0.02,  0.20,  0.30,  0.23,  0.05),
     ("Wheat middlings",        175,  None, 15,   True, None,    88.0,  7.3, 16.0,  8.0,  0.12,  0.40,  0.02,  0.50,  0.46,  0.40,  0.16),
-    ("Sugar beet pulp",        210,  None, 5,    True, 4,       89.0,  6.5,  9.0, 18.0,  0.90,  0.04,  0.20,  0.30,  0.10,  0.20,  0.05),
+    ("Sugar beet pulp",        210,  None, 5,    True, 3,       89.0,  6.5,  9.0, 18.0,  0.90,  0.04,  0.20,  0.30,  0.10,  0.20,  0.05),
     ("Soybean meal 47",        450,  None, None, True, None,    88.0,  8.1, 47.0,  3.5,  0.30,  0.28,  0.02,  2.65,  1.22,  1.62,  0.58),
     ("Rapeseed meal",          290,  None, 10,   True, None,    89.0,  6.2, 34.0, 12.5,  0.70,  0.35,  0.05,  1.45,  1.25,  1.10,  0.36),
-    ("Field peas",             290,  None, 25,   True, 12,      87.0,  9.6, 21.0,  5.5,  0.10,  0.22,  0.02,  1.30,  0.40,  0.65,  0.16),
+    ("Field peas",             250,  None, 25,   True, 12,      87.0,  9.6, 21.0,  5.5,  0.10,  0.22,  0.02,  1.30,  0.40,  0.65,  0.16),
     ("Rapeseed oil",          1100,  None, 3,    True, None,    99.5, 30.0,  0.0,  0.0,  0.00,  0.00,  0.00,  0.00,  0.00,  0.00,  0.00),
     ("Limestone",               50,  None, None, True, None,    99.0,  0.0,  0.0,  0.0, 38.00,  0.00,  0.05,  0.00,  0.00,  0.00,  0.00),
     ("Monocalcium phosphate",  800,  None, None, True, None,    97.0,  0.0,  0.0,  0.0, 16.50, 19.50,  0.05,  0.00,  0.00,  0.00,  0.00),
@@ -549,18 +551,18 @@ _PLANT_SPECS = (
     ("SID tryptophan / SID lysine",              "as fed",      0.19,  None,  None),
     ("Calcium / Digestible phosphorus",          "as fed",      1.8,   2.4,   None),
     ("Net energy",                               "as fed",      9.70, 10.00,  "Grower"),
-    ("Crude protein",                            "as fed",      None,  17.5,  "Grower"),
+    ("Crude protein",                            "as fed",      15.5,  17.5,  "Grower"),
     ("Crude fibre",                              "as fed",      None,  5.0,   "Grower"),
     ("SID lysine",                               "as fed",      0.95,  None,  "Grower"),
     ("Calcium",                                  "as fed",      0.60,  0.75,  "Grower"),
     ("Digestible phosphorus",                    "as fed",      0.28,  None,  "Grower"),
     ("Net energy",                               "as fed",      9.60,  9.90,  "Finisher"),
-    ("Crude protein",                            "as fed",      None,  15.5,  "Finisher"),
+    ("Crude protein",                            "as fed",      13.5,  15.5,  "Finisher"),
     ("SID lysine",                               "as fed",      0.78,  None,  "Finisher"),
     ("Calcium",                                  "as fed",      0.50,  0.65,  "Finisher"),
     ("Digestible phosphorus",                    "as fed",      0.23,  None,  "Finisher"),
     ("Net energy",                               "as fed",      8.80,  9.30,  "Sow feed"),
-    ("Crude protein",                            "as fed",      None,  14.0,  "Sow feed"),
+    ("Crude protein",                            "as fed",      12.0,  14.0,  "Sow feed"),
     ("Crude fibre",                              "dry matter",  7.0,   None,  "Sow feed"),
     ("SID lysine",                               "as fed",      0.52,  None,  "Sow feed"),
     ("Calcium",                                  "as fed",      0.70,  0.90,  "Sow feed"),
@@ -603,7 +605,7 @@ PIG_PLANT = Example(
         "Scenario (invented): the Oakhollow co-operative mill makes the pig feeds for its "
         "members' farms. This week its planner, Sunita Varga, must make 60 t of grower, "
         "90 t of finisher and 30 t of sow feed at the least total cost, with only 12 t of "
-        "field peas and 4 t of sugar beet pulp left in store until the next delivery.",
+        "field peas and 3 t of sugar beet pulp left in store until the next delivery.",
         "The Products sheet lists each product and the amount to make (t). Each product "
         "is its own blend (inclusions in % of that product, summing to 100), and one "
         "solve finds all three at once, because the Stock column of Ingredients is shared: "

@@ -9,18 +9,33 @@ from __future__ import annotations
 import math
 
 from blendkit import CAUTION
-from blendkit.formula import Formula, cost_unit, shadow_price_unit
+from blendkit.formula import (
+    Formula,
+    IngredientLine,
+    Limit,
+    NutrientLine,
+    ProductFormula,
+    cost_unit,
+    run_cost_unit,
+    shadow_price_unit,
+)
+from blendkit.model import DRY_MATTER, Blend
 
 # Gap between columns, in spaces.
 _GAP = "  "
-# Inclusions (and inclusion limits) are shown to 0.001 % of the blend.
+# Inclusions (and inclusion limits) are shown to 0.001 % of the blend; diet amounts to
+# 0.001 of the food's unit.
 _INCLUSION_DECIMALS = 3
 
 
 def render_summary(formula: Formula) -> str:
-    """A few short blocks: title, status, cost, ingredients used, nutrients, binding limits,
-    notes, then the caution as the last line. For a blend that was not solved to optimality
-    only the status, the message and any notes are shown (and the caution)."""
+    """A few short blocks: title, status, cost, ingredients used, nutrients, stocks,
+    binding limits, notes, then the caution as the last line.
+
+    A diet shows amounts in each food's unit and its cost for the whole diet; several
+    products show the run's total cost, then each product's amount, cost and tables. For
+    a blend that was not solved to optimality only the status, the message and any notes
+    are shown (and the caution)."""
     blend = formula.blend
     settings = blend.settings
     title = settings.name or (blend.source.stem if blend.source else "Blend")
@@ -30,13 +45,22 @@ def render_summary(formula: Formula) -> str:
     if formula.message:
         status.append(f"Message: {formula.message}")
     if formula.solved and formula.cost is not None:
-        status.append(f"Cost: {formula.cost:,.2f} {cost_unit(blend.settings)}")
-        status.append(f"Batch: {settings.batch_size:g} {settings.mass_unit}")
+        label = "Total cost" if formula.several else "Cost"
+        status.append(f"{label}: {formula.cost:,.2f} {run_cost_unit(blend)}".rstrip())
+        if not blend.diet and not formula.several:
+            status.append(f"Batch: {settings.batch_size:g} {settings.mass_unit}")
     blocks.append(status)
 
     if formula.solved:
-        blocks.append(_ingredients(formula))
-        blocks.append(_nutrients(formula))
+        if formula.several:
+            for product in formula.products:
+                blocks.append([_product_heading(blend, product)])
+                blocks.append(_ingredients(blend, product.ingredients))
+                blocks.append(_nutrients(blend, product.nutrients))
+        else:
+            blocks.append(_ingredients(blend, formula.ingredients))
+            blocks.append(_nutrients(blend, formula.nutrients))
+        blocks.append(_stocks(formula))
         blocks.append(_binding_limits(formula))
     if formula.notes:
         blocks.append(["Notes:", *(f"- {note}" for note in formula.notes)])
@@ -44,12 +68,28 @@ def render_summary(formula: Formula) -> str:
     return "\n\n".join("\n".join(block) for block in blocks if block)
 
 
-def _ingredients(formula: Formula) -> list[str]:
-    """The ingredients in the blend (inclusion above 0), with inclusion and batch amount."""
-    unit = formula.blend.settings.mass_unit
-    used = [line for line in formula.ingredients if line.inclusion > 0]
+def _product_heading(blend: Blend, product: ProductFormula) -> str:
+    """E.g. "Product: Starter crumb, 8,000 kg at 312.40 EUR per tonne"."""
+    settings = blend.settings
+    return (f"Product: {product.name}, {product.amount:,.{0 if product.amount.is_integer() else 2}f} "
+            f"{settings.mass_unit} at {product.cost:,.2f} {cost_unit(settings)}")
+
+
+def _ingredients(blend: Blend, lines: tuple[IngredientLine, ...]) -> list[str]:
+    """The ingredients in the blend (inclusion above 0), with inclusion and amount; in a
+    diet, the amount in the food's unit and its cost."""
+    used = [line for line in lines if line.inclusion > 0]
     if not used:
-        return ["No ingredient is in the blend."]
+        return [f"No ingredient is in the {'diet' if blend.diet else 'blend'}."]
+    if blend.diet:
+        money = blend.settings.currency or "cost"
+        rows = [
+            [line.name, _fixed(line.amount, _INCLUSION_DECIMALS), _unit_of(blend, line.name),
+             f"{line.batch_cost:,.2f}"]
+            for line in used
+        ]
+        return _table(["Ingredient", "Amount", "Unit", f"Cost {money}"], rows, left=1, text=(2,))
+    unit = blend.settings.mass_unit
     rows = [
         [line.name, _fixed(line.inclusion, _INCLUSION_DECIMALS), f"{line.amount:,.2f}"]
         for line in used
@@ -57,16 +97,18 @@ def _ingredients(formula: Formula) -> list[str]:
     return _table(["Ingredient", "Inclusion %", f"Amount {unit}"], rows, left=1)
 
 
-def _nutrients(formula: Formula) -> list[str]:
-    """Every nutrient with its spec (- where open) and its level in the blend."""
-    if not formula.nutrients:
+def _nutrients(blend: Blend, lines: tuple[NutrientLine, ...]) -> list[str]:
+    """Every nutrient line with its basis, its spec (- where open) and its level (a
+    diet's total)."""
+    if not lines:
         return []
     rows = []
-    for line in formula.nutrients:
+    for line in lines:
         decimals = _decimals([line.minimum, line.maximum, line.level])
         rows.append(
             [
                 line.name,
+                "ratio" if line.kind == "ratio" else line.basis,
                 line.unit,
                 _fixed(line.minimum, decimals),
                 _fixed(line.maximum, decimals),
@@ -74,45 +116,111 @@ def _nutrients(formula: Formula) -> list[str]:
                 line.position,
             ]
         )
-    headers = ["Nutrient", "Unit", "Min", "Max", "Level", "Position"]
-    return _table(headers, rows, left=2, last_left=True)
+    level = "Total" if blend.diet else "Level"
+    headers = ["Nutrient", "Basis", "Unit", "Min", "Max", level, "Position"]
+    return _table(headers, rows, left=3, last_left=True)
+
+
+def _stocks(formula: Formula) -> list[str]:
+    """Each stock's use against what is on hand, and what one more unit would save."""
+    if not formula.stocks:
+        return []
+    blend = formula.blend
+    money = blend.settings.currency or "cost"
+    rows = [
+        [
+            line.ingredient,
+            _unit_of(blend, line.ingredient) if blend.diet else blend.settings.mass_unit,
+            f"{line.used:,.2f}",
+            f"{line.available:,.2f}",
+            "yes" if line.binding else "no",
+            _fixed(-line.shadow_price, _decimals([line.shadow_price], least=2)),
+        ]
+        for line in formula.stocks
+    ]
+    headers = ["Stock", "Unit", "Used", "Available", "Binding", f"Worth of one more unit {money}"]
+    return _table(headers, rows, left=2)
 
 
 def _binding_limits(formula: Formula) -> list[str]:
-    """Binding limits and what one more unit of each bound would change in cost."""
+    """Binding limits and what one more unit of each bound would change in cost; with
+    several products, the product each belongs to (blank for stocks)."""
     binding = [limit for limit in formula.limits if limit.binding]
     if not binding:
         return ["No limit is binding."]
     # Bounds as in the tables above: a nutrient's own decimals, inclusions to 0.001 %.
-    places = {line.name: _decimals([line.minimum, line.maximum, line.level])
-              for line in formula.nutrients}
-    rows = [
-        [
-            f"{limit.name} {limit.side}",
-            _fixed(limit.bound, _INCLUSION_DECIMALS if limit.kind == "ingredient"
-                   else places.get(limit.name, _decimals([limit.bound]))),
-            f"{limit.shadow_price:+.{_decimals([limit.shadow_price], least=2)}f}",
+    places = {}
+    for product in formula.products if formula.several else ():
+        for line in product.nutrients:
+            places[(product.name, line.kind, line.name, line.basis)] = _line_decimals(line)
+    for line in formula.nutrients:
+        places[(None, line.kind, line.name, line.basis)] = _line_decimals(line)
+    rows = []
+    for limit in binding:
+        if limit.kind in ("ingredient", "group"):
+            decimals = _INCLUSION_DECIMALS
+        elif limit.kind == "stock":
+            decimals = 2
+        else:
+            decimals = places.get((limit.product, limit.kind, limit.name, limit.basis),
+                                  _decimals([limit.bound]))
+        row = [
+            _limit_label(limit),
+            _fixed(limit.bound, decimals),
+            f"{limit.shadow_price + 0.0:+.{_decimals([limit.shadow_price], least=2)}f}",
             shadow_price_unit(limit, formula.blend),
         ]
-        for limit in binding
-    ]
-    lines = _table(["Binding limit", "Bound", "Shadow price", "Unit"], rows, left=1, last_left=True)
+        if formula.several:
+            row.insert(1, limit.product or "")
+        rows.append(row)
+    headers = ["Binding limit", "Bound", "Shadow price", "Unit"]
+    if formula.several:
+        headers.insert(1, "Product")
+    lines = _table(headers, rows, left=2 if formula.several else 1, last_left=True)
     return ["Shadow price: change in cost when the bound is raised by 1 unit.", *lines]
 
 
+def _limit_label(limit: Limit) -> str:
+    """A limit in words: "Crude protein min", "Crude protein (dry matter) min",
+    "Cereals (group) max", "Soybean meal (stock) max"."""
+    name = limit.name
+    if limit.kind == "nutrient" and limit.basis == DRY_MATTER:
+        name += " (dry matter)"
+    elif limit.kind in ("group", "stock"):
+        name += f" ({limit.kind})"
+    return f"{name} {limit.side}"
+
+
+def _unit_of(blend: Blend, name: str) -> str:
+    """A diet food's unit as written in its Unit cell (blank when unknown)."""
+    try:
+        return blend.ingredient(name).unit
+    except KeyError:
+        return ""
+
+
+def _line_decimals(line: NutrientLine) -> int:
+    """The decimals a nutrient line is shown with, for its bounds in the limit list too."""
+    return _decimals([line.minimum, line.maximum, line.level])
+
+
 def _table(
-    headers: list[str], rows: list[list[str]], left: int, last_left: bool = False
+    headers: list[str],
+    rows: list[list[str]],
+    left: int,
+    last_left: bool = False,
+    text: tuple[int, ...] = (),
 ) -> list[str]:
-    """Fixed-width columns: the first `left` columns (and optionally the last) left-aligned,
-    the rest right-aligned, with a rule under the header."""
+    """Fixed-width columns: the first `left` columns, the columns in `text` (and optionally
+    the last) left-aligned, the rest right-aligned, with a rule under the header."""
     widths = [max(len(row[i]) for row in [headers, *rows]) for i in range(len(headers))]
     last = len(headers) - 1
 
     def fit(cells: list[str]) -> str:
         parts = []
-        for i, (text, width) in enumerate(zip(cells, widths)):
-            flush_left = i < left or (last_left and i == last)
-            parts.append(text.ljust(width) if flush_left else text.rjust(width))
+        for i, (cell, width) in enumerate(zip(cells, widths)):
+            flush_left = i < left or i in text or (last_left and i == last)
+            parts.append(cell.ljust(width) if flush_left else cell.rjust(width))
         return _GAP.join(parts).rstrip()
 
     rule = _GAP.join("-" * width for width in widths)

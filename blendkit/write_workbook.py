@@ -6,8 +6,11 @@ input cells, so the numbers can be checked in any spreadsheet program.
 
 Output sheets (replaced, never duplicated, when an output workbook is solved again):
 
-* ``Result``: title, caution, status, cost, the ingredient table and the nutrient table.
-* ``Shadow prices``: one row per limit the user wrote, with its shadow price and unit.
+* ``Result``: title, caution, status, cost, the ingredient table and the nutrient table
+  (a diet shows amounts in each food's unit; with several products, the run's total cost
+  and one block of both tables per product), then the stocks, if the run has any.
+* ``Shadow prices``: one row per limit the user wrote (spec, ratio, group, stock or
+  inclusion limit, with its product), with its shadow price and unit.
 * ``Run info``: tool version, time, input file name and SHA-256, status, caution.
 
 The save is atomic: a temporary file in the output's folder is moved into place, so a
@@ -37,8 +40,17 @@ from openpyxl.workbook.workbook import Workbook
 from openpyxl.worksheet.worksheet import Worksheet
 
 from blendkit import CAUTION
-from blendkit.formula import Formula, NutrientLine, RunInfo, cost_unit, shadow_price_unit
-from blendkit.model import Settings
+from blendkit.formula import (
+    Formula,
+    IngredientLine,
+    NutrientLine,
+    ProductFormula,
+    RunInfo,
+    cost_unit,
+    run_cost_unit,
+    shadow_price_unit,
+)
+from blendkit.model import AS_FED, DRY_MATTER, Blend
 
 # Sheets this writer owns; any sheet with one of these names (any case) is replaced.
 OUTPUT_SHEETS = ("Result", "Shadow prices", "Run info")
@@ -66,7 +78,7 @@ _ERROR_VALUES = {"#NULL!", "#DIV/0!", "#VALUE!", "#REF!", "#NAME?", "#NUM!", "#N
 MAX_FORMULA_LENGTH = 8192
 
 # Fixed number formats; nutrient values and shadow prices get a format by magnitude.
-PERCENT_FORMAT = "0.000"
+INCLUSION_FORMAT = "0.000"  # inclusions in %, and diet amounts
 MONEY_FORMAT = "#,##0.00"
 AMOUNT_FORMAT = "#,##0.00"
 REDUCED_COST_FORMAT = "#,##0.00##"  # two decimals, up to four where the value has them
@@ -74,6 +86,7 @@ REDUCED_COST_FORMAT = "#,##0.00##"  # two decimals, up to four where the value h
 _BOLD = Font(bold=True)
 _TITLE = Font(bold=True, size=14)
 _STATUS_ALERT = Font(bold=True, size=12)
+_SECTION = Font(bold=True, size=12)  # a product's name, the Stocks heading
 _THIN = Side(style="thin")
 _HEADER_BORDER = Border(bottom=_THIN)
 _BOX = Border(left=_THIN, right=_THIN, top=_THIN, bottom=_THIN)
@@ -82,7 +95,9 @@ _WRAP_TOP = Alignment(wrap_text=True, vertical="top")
 # Result sheet column widths, in characters: name column, then the number columns.
 _NAME_WIDTH = 30
 _NUMBER_WIDTH = 16
-_RESULT_COLUMNS = 7
+_RESULT_COLUMNS = 8
+# The nutrient table's column of live formulas; ratio and dry-matter lines divide its cells.
+_LIVE_COLUMN = 8
 
 
 def write_workbook(formula: Formula, run: RunInfo, source: Path, output: Path) -> Path:
@@ -279,9 +294,8 @@ def _show_first(workbook: Workbook, sheet: Worksheet) -> None:
 
 
 def _write_result(workbook: Workbook, formula: Formula, title: str) -> Worksheet:
-    """The reviewer's main sheet: caution and status on top, then the two tables."""
+    """The reviewer's main sheet: caution and status on top, then the tables."""
     sheet = workbook.create_sheet(RESULT)
-    settings = formula.blend.settings
     sheet.column_dimensions["A"].width = _NAME_WIDTH
     for column in range(2, _RESULT_COLUMNS + 1):
         sheet.column_dimensions[get_column_letter(column)].width = _NUMBER_WIDTH
@@ -305,50 +319,128 @@ def _write_result(workbook: Workbook, formula: Formula, title: str) -> Worksheet
         )
         _write_notes(sheet, formula.notes, row=9)
         return sheet
-
-    unit_of_cost = cost_unit(settings)
-    ingredient_header = 10
-    first = ingredient_header + 1
-    last = first + len(formula.ingredients) - 1
-    inclusion_rows = {line.name: first + i for i, line in enumerate(formula.ingredients)}
-
-    sheet["A6"] = "Blend cost"
-    _number(sheet.cell(6, 2), formula.cost, MONEY_FORMAT)
-    _put(sheet, 6, 3, unit_of_cost)
-    sheet["A7"] = "Blend cost from input prices"
-    cost_check = _recompute_formula(
-        formula, inclusion_rows, workbook, lambda item: item.cells.get("cost")
-    )
-    if cost_check is not None:
-        _live(sheet.cell(7, 2), cost_check, MONEY_FORMAT)
-        _put(sheet, 7, 3, f"{unit_of_cost} (live formula: inclusions below x Cost column)")
+    if formula.several:
+        _write_several(sheet, workbook, formula)
     else:
-        sheet["C7"] = "not available: input cells unknown or formula too long"
-    sheet["A8"] = "Batch"
-    whole = float(settings.batch_size).is_integer()
-    _number(sheet.cell(8, 2), settings.batch_size, "#,##0" if whole else AMOUNT_FORMAT)
-    _put(sheet, 8, 3, settings.mass_unit)
-    for cell in ("A6", "A7", "A8"):
+        _write_one(sheet, workbook, formula)
+    return sheet
+
+
+def _write_one(sheet: Worksheet, workbook: Workbook, formula: Formula) -> None:
+    """One blend or one diet: its cost, the cost's live check and the batch, then the tables.
+
+    Rows 6-8 hold the top block; the ingredient table's header is on row 10.
+    """
+    blend = formula.blend
+    settings = blend.settings
+    header = 10
+    rows = _ingredient_rows(formula.ingredients, header)
+    label = "Diet cost" if blend.diet else "Blend cost"
+    _write_cost(sheet, workbook, blend, 6, label, formula.cost, run_cost_unit(blend),
+                formula.ingredients, rows)
+    if blend.diet:
+        sheet["A8"] = "Amounts"
+        _put(sheet, 8, 2, "each in the food's own unit (Unit column); nutrient levels are totals")
+    else:
+        sheet["A8"] = "Batch"
+        _number(sheet.cell(8, 2), settings.batch_size, _whole_format(settings.batch_size))
+        _put(sheet, 8, 3, settings.mass_unit)
+    sheet["A8"].font = _BOLD
+
+    below = _write_tables(sheet, workbook, blend, formula.ingredients, formula.nutrients, header,
+                          settings.batch_size, rows)
+    below = _write_stocks(sheet, formula, below)
+    _write_notes(sheet, formula.notes, below)
+    sheet.freeze_panes = sheet.cell(header + 1, 2)  # top block, table header and names stay
+
+
+def _write_several(sheet: Worksheet, workbook: Workbook, formula: Formula) -> None:
+    """Several products: the run's total cost, one block per product, then the stocks.
+
+    The total's live check adds up each product's live cost check times the amount made
+    in `Cost per` units, so it follows any edit of an inclusion or an input price.
+    """
+    blend = formula.blend
+    settings = blend.settings
+    sheet["A6"] = "Total cost"
+    _number(sheet.cell(6, 2), formula.cost, MONEY_FORMAT)
+    _put(sheet, 6, 3, run_cost_unit(blend))
+    _put(sheet, 6, 4, "all products together")
+    sheet["A7"] = "Total cost from input prices"
+    for cell in ("A6", "A7"):
         sheet[cell].font = _BOLD
 
-    _write_ingredients(sheet, formula, ingredient_header, settings)
-    total_row = last + 1
-    _put(sheet, total_row, 1, "Total").font = _BOLD
-    if formula.ingredients:
-        for column, number_format in ((2, PERCENT_FORMAT), (3, AMOUNT_FORMAT), (4, MONEY_FORMAT)):
-            letter = get_column_letter(column)
-            cell = sheet.cell(total_row, column, f"=SUM({letter}{first}:{letter}{last})")
-            cell.number_format = number_format
-            cell.font = _BOLD
-            cell.border = Border(top=_THIN)
+    row = 9
+    checks: list[tuple[int, int]] = []  # (row of the amount made, row of the live cost)
+    for product in formula.products:
+        row, check = _write_product(sheet, workbook, formula, product, row)
+        if check is not None:
+            checks.append(check)
+    if formula.products and len(checks) == len(formula.products):
+        per = settings.cost_unit_in_mass_units
+        terms = "+".join(f"B{cost}*B{amount}" for amount, cost in checks)
+        _live(sheet.cell(7, 2), f"=({terms})*2/{_plain(per) if per.is_integer() else repr(per)}",
+              MONEY_FORMAT)
+        _put(sheet, 7, 3, f"{run_cost_unit(blend)} (live formula: each product's cost from "
+                          "input prices x amount made)".strip())
+    else:
+        sheet["C7"] = "not available: input cells unknown or formula too long"
+    row = _write_stocks(sheet, formula, row)
+    _write_notes(sheet, formula.notes, row)
+    sheet.freeze_panes = "B1"  # the name column stays; blocks scroll by
 
-    nutrient_header = total_row + 2
-    _write_nutrients(sheet, formula, nutrient_header, inclusion_rows, workbook)
-    notes_row = nutrient_header + len(formula.nutrients) + 2
-    _write_notes(sheet, formula.notes, notes_row)
 
-    sheet.freeze_panes = sheet.cell(first, 2)  # top block, table header and names stay
-    return sheet
+def _write_product(
+    sheet: Worksheet, workbook: Workbook, formula: Formula, product: ProductFormula, row: int
+) -> tuple[int, tuple[int, int] | None]:
+    """One product's block from `row`: name, amount made, cost and its check, the tables.
+
+    Returns the first row after the block, and the rows of its amount and live cost check
+    (None when the check could not be written).
+    """
+    blend = formula.blend
+    settings = blend.settings
+    _put(sheet, row, 1, "Product").font = _SECTION
+    _put(sheet, row, 2, product.name).font = _SECTION
+    _put(sheet, row + 1, 1, "Amount made").font = _BOLD
+    _number(sheet.cell(row + 1, 2), product.amount, _whole_format(product.amount))
+    _put(sheet, row + 1, 3, settings.mass_unit)
+    header = row + 5
+    rows = _ingredient_rows(product.ingredients, header)
+    check = _write_cost(sheet, workbook, blend, row + 2, "Cost", product.cost, cost_unit(settings),
+                        product.ingredients, rows)
+    below = _write_tables(sheet, workbook, blend, product.ingredients, product.nutrients, header,
+                          product.amount, rows, made=True)
+    return below + 1, (row + 1, check) if check is not None else None
+
+
+def _write_cost(
+    sheet: Worksheet,
+    workbook: Workbook,
+    blend: Blend,
+    row: int,
+    label: str,
+    cost: float | None,
+    unit: str,
+    lines: tuple[IngredientLine, ...],
+    rows: dict[str, int],
+) -> int | None:
+    """The cost on `row` and its live check from the input prices on the row below.
+
+    Returns the check's row, or None when it could not be written.
+    """
+    _put(sheet, row, 1, label).font = _BOLD
+    _number(sheet.cell(row, 2), cost, MONEY_FORMAT)
+    _put(sheet, row, 3, unit)
+    _put(sheet, row + 1, 1, f"{label} from input prices").font = _BOLD
+    check = _recompute_formula(blend, lines, rows, workbook, lambda item: item.cells.get("cost"))
+    if check is None:
+        _put(sheet, row + 1, 3, "not available: input cells unknown or formula too long")
+        return None
+    _live(sheet.cell(row + 1, 2), check, MONEY_FORMAT)
+    what = "amounts" if blend.diet else "inclusions"
+    _put(sheet, row + 1, 3, f"{unit} (live formula: {what} below x Cost column)".strip())
+    return row + 1
 
 
 def _write_caution(sheet: Worksheet, row: int) -> None:
@@ -364,31 +456,95 @@ def _write_caution(sheet: Worksheet, row: int) -> None:
     sheet.row_dimensions[row].height = 15 * lines + 4
 
 
+def _ingredient_rows(lines: tuple[IngredientLine, ...], header_row: int) -> dict[str, int]:
+    """Where each ingredient's inclusion (or diet amount) will be: column B below the header."""
+    return {line.name: header_row + offset for offset, line in enumerate(lines, start=1)}
+
+
+def _write_tables(
+    sheet: Worksheet,
+    workbook: Workbook,
+    blend: Blend,
+    lines: tuple[IngredientLine, ...],
+    nutrients: tuple[NutrientLine, ...],
+    header_row: int,
+    amount: float,
+    rows: dict[str, int],
+    made: bool = False,
+) -> int:
+    """The ingredient table with its Total row, then the nutrient table; returns the first
+    free row after a blank one."""
+    _write_ingredients(sheet, blend, lines, header_row, amount, made)
+    first, last = header_row + 1, header_row + len(lines)
+    total_row = last + 1
+    _put(sheet, total_row, 1, "Total").font = _BOLD
+    # Diet amounts are in each food's own unit: only their cost adds up.
+    sums = ((4, MONEY_FORMAT),) if blend.diet else (
+        (2, INCLUSION_FORMAT), (3, AMOUNT_FORMAT), (4, MONEY_FORMAT))
+    if lines:
+        for column, number_format in sums:
+            letter = get_column_letter(column)
+            cell = sheet.cell(total_row, column, f"=SUM({letter}{first}:{letter}{last})")
+            cell.number_format = number_format
+            cell.font = _BOLD
+            cell.border = Border(top=_THIN)
+    nutrient_header = total_row + 2
+    _write_nutrients(sheet, workbook, blend, lines, nutrients, nutrient_header, rows)
+    return nutrient_header + len(nutrients) + 2
+
+
 def _write_ingredients(
-    sheet: Worksheet, formula: Formula, header_row: int, settings: Settings
+    sheet: Worksheet,
+    blend: Blend,
+    lines: tuple[IngredientLine, ...],
+    header_row: int,
+    amount: float,
+    made: bool,
 ) -> None:
-    """One row per ingredient line, numbers as numbers."""
-    unit_of_cost = cost_unit(settings)
+    """One row per ingredient line, numbers as numbers.
+
+    Blend mode: inclusion % in column B; diet mode: the amount in B and the food's unit
+    in C. `made` words the amount and cost columns for a product rather than a batch.
+    """
+    settings = blend.settings
     money = settings.currency or "currency"
-    batch = f"{_plain(settings.batch_size)} {settings.mass_unit}"
-    _header(
-        sheet,
-        header_row,
-        [
+    if blend.diet:
+        labels = [
+            "Ingredient",
+            "Amount",
+            "Unit",
+            f"Cost ({money})",
+            f"Price ({money} per unit)",
+            f"Reduced cost ({money} per 1 unit)",
+            f"Price at which it would come in ({money} per unit)",
+        ]
+    else:
+        unit_of_cost = cost_unit(settings)
+        mass = settings.mass_unit
+        if made:
+            amount_label = f"Amount ({mass} in {_plain(amount)} {mass} made)"
+            cost_label = f"Cost of the amount made ({money})"
+        else:
+            amount_label = f"Amount ({mass} per {_plain(amount)} {mass} batch)"
+            cost_label = f"Cost per batch ({money})"
+        labels = [
             "Ingredient",
             "Inclusion (%)",
-            f"Amount ({settings.mass_unit} per {batch} batch)",
-            f"Cost per batch ({money})",
+            amount_label,
+            cost_label,
             f"Price ({unit_of_cost})",
             f"Reduced cost ({unit_of_cost} per 1 % inclusion)",
             f"Price at which it would come in ({unit_of_cost})",
-        ],
-    )
-    for offset, line in enumerate(formula.ingredients, start=1):
+        ]
+    _header(sheet, header_row, labels)
+    for offset, line in enumerate(lines, start=1):
         row = header_row + offset
         _put(sheet, row, 1, line.name)
-        _number(sheet.cell(row, 2), line.inclusion, PERCENT_FORMAT)
-        _number(sheet.cell(row, 3), line.amount, AMOUNT_FORMAT)
+        _number(sheet.cell(row, 2), line.inclusion, INCLUSION_FORMAT)
+        if blend.diet:
+            _put(sheet, row, 3, _food_unit(blend, line.name))
+        else:
+            _number(sheet.cell(row, 3), line.amount, AMOUNT_FORMAT)
         _number(sheet.cell(row, 4), line.batch_cost, MONEY_FORMAT)
         _number(sheet.cell(row, 5), line.cost, MONEY_FORMAT)
         _number(sheet.cell(row, 6), line.reduced_cost, REDUCED_COST_FORMAT)
@@ -400,34 +556,97 @@ def _write_ingredients(
 
 def _write_nutrients(
     sheet: Worksheet,
-    formula: Formula,
+    workbook: Workbook,
+    blend: Blend,
+    lines: tuple[IngredientLine, ...],
+    nutrients: tuple[NutrientLine, ...],
     header_row: int,
     inclusion_rows: dict[str, int],
-    workbook: Workbook,
 ) -> None:
-    """One row per nutrient, with a live formula recomputing its level from the inputs."""
+    """One row per nutrient line, with a live formula recomputing its level.
+
+    An as-fed level is recomputed from the input contents and the inclusions (amounts) on
+    this sheet; a ratio divides the two recomputed levels it names, and a dry-matter
+    level divides the recomputed level by the recomputed dry matter (in %).
+    """
+    level = "Total" if blend.diet else "Level"
     _header(
         sheet,
         header_row,
-        ["Nutrient", "Unit", "Min", "Max", "Level", "Position", "Level from input contents"],
+        ["Nutrient", "Basis", "Unit", "Min", "Max", level, "Position",
+         f"{level} from input contents"],
     )
-    for offset, line in enumerate(formula.nutrients, start=1):
+    live_rows: dict[str, int] = {}  # as-fed nutrient -> row of its live formula
+    for offset, line in enumerate(nutrients, start=1):
+        if line.kind == "nutrient" and line.basis == AS_FED:
+            check = _recompute_formula(
+                blend, lines, inclusion_rows, workbook,
+                lambda item, nutrient=line.name: item.content_cells.get(nutrient),
+            )
+            if check is not None:
+                _live(sheet.cell(header_row + offset, _LIVE_COLUMN), check, _nutrient_format(line))
+                live_rows.setdefault(line.name, header_row + offset)
+    live = get_column_letter(_LIVE_COLUMN)
+    for offset, line in enumerate(nutrients, start=1):
         row = header_row + offset
         number_format = _nutrient_format(line)
         _put(sheet, row, 1, line.name)
-        _put(sheet, row, 2, line.unit)
-        _number(sheet.cell(row, 3), line.minimum, number_format)
-        _number(sheet.cell(row, 4), line.maximum, number_format)
-        _number(sheet.cell(row, 5), line.level, number_format)
-        _put(sheet, row, 6, line.position)
-        check = _recompute_formula(
-            formula,
-            inclusion_rows,
-            workbook,
-            lambda item, nutrient=line.name: item.content_cells.get(nutrient),
-        )
-        if check is not None:
-            _live(sheet.cell(row, 7), check, number_format)
+        _put(sheet, row, 2, _basis(line.kind, line.basis))
+        _put(sheet, row, 3, line.unit)
+        _number(sheet.cell(row, 4), line.minimum, number_format)
+        _number(sheet.cell(row, 5), line.maximum, number_format)
+        _number(sheet.cell(row, 6), line.level, number_format)
+        _put(sheet, row, 7, line.position)
+        if line.level is None:
+            continue  # an undefined ratio (a zero level below the line) has nothing to check
+        if line.kind == "ratio":
+            parts = _ratio_parts(blend, line.name)
+            if parts and parts[0] in live_rows and parts[1] in live_rows:
+                top, bottom = (live_rows[part] for part in parts)
+                _live(sheet.cell(row, _LIVE_COLUMN), f"={live}{top}/{live}{bottom}", number_format)
+        elif line.basis == DRY_MATTER:
+            dry = blend.settings.dry_matter
+            if line.name in live_rows and dry in live_rows:
+                text = f"={live}{live_rows[line.name]}/{live}{live_rows[dry]}*100"
+                _live(sheet.cell(row, _LIVE_COLUMN), text, number_format)
+
+
+def _write_stocks(sheet: Worksheet, formula: Formula, row: int) -> int:
+    """The Stocks table from `row`, if the run has stocks; returns the first free row after."""
+    if not formula.stocks:
+        return row
+    blend = formula.blend
+    money = blend.settings.currency or "currency"
+    title = "Stocks (shared by all products)" if formula.several else "Stocks"
+    _put(sheet, row, 1, title).font = _SECTION
+    header = row + 1
+    _header(
+        sheet,
+        header,
+        [
+            "Ingredient",
+            "Used",
+            "Available",
+            "Unit",
+            "Binding",
+            f"Shadow price ({money} per 1 unit of stock)",
+            f"Worth of one more unit ({money})",
+            "Stock read from",
+        ],
+    )
+    for offset, line in enumerate(formula.stocks, start=1):
+        at = header + offset
+        unit = _food_unit(blend, line.ingredient) if blend.diet else blend.settings.mass_unit
+        _put(sheet, at, 1, line.ingredient)
+        _number(sheet.cell(at, 2), line.used, AMOUNT_FORMAT)
+        _number(sheet.cell(at, 3), line.available, AMOUNT_FORMAT)
+        _put(sheet, at, 4, unit)
+        _put(sheet, at, 5, "yes" if line.binding else "no")
+        price_format = _format_by_size([line.shadow_price], 2)
+        _number(sheet.cell(at, 6), line.shadow_price, price_format)
+        _number(sheet.cell(at, 7), -line.shadow_price, price_format)
+        _put(sheet, at, 8, line.cell)
+    return header + len(formula.stocks) + 2
 
 
 def _write_notes(sheet: Worksheet, notes: tuple[str, ...], row: int) -> None:
@@ -439,13 +658,39 @@ def _write_notes(sheet: Worksheet, notes: tuple[str, ...], row: int) -> None:
         _put(sheet, row + offset, 1, note)
 
 
+def _food_unit(blend: Blend, name: str) -> str:
+    """A diet food's unit as written in its Unit cell (blank when unknown)."""
+    try:
+        return blend.ingredient(name).unit
+    except KeyError:
+        return ""
+
+
+def _ratio_parts(blend: Blend, name: str) -> tuple[str, str] | None:
+    """The two nutrient columns of the ratio spec written as `name`, if there is one."""
+    for spec in blend.specs:
+        if spec.ratio is not None and spec.nutrient == name:
+            return spec.ratio
+    return None
+
+
+def _basis(kind: str, basis: str) -> str:
+    """The Basis column's word: "ratio" for a ratio, else the line's basis; blank for
+    limits that have none (ingredients, groups, stocks)."""
+    if kind == "ratio":
+        return "ratio"
+    return basis if kind == "nutrient" else ""
+
+
 def _recompute_formula(
-    formula: Formula,
+    blend: Blend,
+    lines: tuple[IngredientLine, ...],
     inclusion_rows: dict[str, int],
     workbook: Workbook,
     input_cell,
 ) -> str | None:
-    """A live formula: sum of (inclusion cell on Result x input cell) / 100.
+    """A live formula: sum of (inclusion cell on Result x input cell) / 100; in diet mode
+    the sum of (amount cell x input cell).
 
     `input_cell(ingredient)` gives the reader's reference for the value to weigh. Every
     ingredient is included, so editing any inclusion cell updates the result; if that
@@ -453,9 +698,9 @@ def _recompute_formula(
     are kept. Returns None when an input cell is unknown.
     """
     terms: list[tuple[float, str]] = []
-    for line in formula.ingredients:
+    for line in lines:
         try:
-            reference = input_cell(formula.blend.ingredient(line.name))
+            reference = input_cell(blend.ingredient(line.name))
         except KeyError:
             return None
         operand = _input_operand(workbook, reference)
@@ -464,15 +709,16 @@ def _recompute_formula(
         terms.append((line.inclusion, f"B{inclusion_rows[line.name]}*{operand}"))
     if not terms:
         return None
-    text = _sum_formula([term for _, term in terms])
+    percent = not blend.diet
+    text = _sum_formula([term for _, term in terms], percent)
     if len(text) > MAX_FORMULA_LENGTH:
-        text = _sum_formula([term for inclusion, term in terms if inclusion != 0] or ["0"])
+        text = _sum_formula([term for inclusion, term in terms if inclusion != 0] or ["0"], percent)
     return text if len(text) <= MAX_FORMULA_LENGTH else None
 
 
-def _sum_formula(terms: list[str]) -> str:
+def _sum_formula(terms: list[str], percent: bool = True) -> str:
     """Plain + and * only, so every spreadsheet program evaluates it the same way."""
-    return "=(" + "+".join(terms) + ")/100"
+    return "=(" + "+".join(terms) + (")/100" if percent else ")")
 
 
 def _input_operand(workbook: Workbook, reference: str | None) -> str | None:
@@ -535,17 +781,12 @@ def _quote_sheet(name: str) -> str:
 def _write_shadow_prices(workbook: Workbook, formula: Formula) -> None:
     """One row per limit the user wrote: how much the cost moves per unit of its bound."""
     sheet = workbook.create_sheet(SHADOW_PRICES)
-    settings = formula.blend.settings
-    _put(
-        sheet,
-        1,
-        1,
-        f"Shadow price: change in blend cost ({cost_unit(settings)}) when the bound is "
-        "raised by 1 unit; 0 where the bound does not bind. It holds for small changes only."
-    )
+    _put(sheet, 1, 1, _shadow_price_intro(formula))
     headers = [
         "Kind",
+        "Product",
         "Name",
+        "Basis",
         "Side",
         "Bound",
         "Level",
@@ -555,36 +796,61 @@ def _write_shadow_prices(workbook: Workbook, formula: Formula) -> None:
         "Bound read from",
     ]
     _header(sheet, 3, headers)
-    nutrient_formats = {line.name: _nutrient_format(line) for line in formula.nutrients}
+    nutrient_formats = {}
+    for product in (formula.products if formula.several else ()):
+        for line in product.nutrients:
+            nutrient_formats[(product.name, line.kind, line.name, line.basis)] = _nutrient_format(line)
+    for line in formula.nutrients:
+        nutrient_formats[(None, line.kind, line.name, line.basis)] = _nutrient_format(line)
     for offset, limit in enumerate(formula.limits, start=1):
         row = 3 + offset
-        if limit.kind == "ingredient":
-            number_format = PERCENT_FORMAT
+        if limit.kind in ("ingredient", "group"):
+            number_format = INCLUSION_FORMAT
+        elif limit.kind == "stock":
+            number_format = AMOUNT_FORMAT
         else:
-            number_format = nutrient_formats.get(limit.name) or _format_by_size(
-                [limit.bound, limit.level], 1
-            )
+            number_format = nutrient_formats.get(
+                (limit.product, limit.kind, limit.name, limit.basis)
+            ) or _format_by_size([limit.bound, limit.level], 1)
         _put(sheet, row, 1, limit.kind)
-        _put(sheet, row, 2, limit.name)
-        _put(sheet, row, 3, limit.side)
-        _number(sheet.cell(row, 4), limit.bound, number_format)
-        _number(sheet.cell(row, 5), limit.level, number_format)
-        _put(sheet, row, 6, "yes" if limit.binding else "no")
-        _number(sheet.cell(row, 7), limit.shadow_price, _format_by_size([limit.shadow_price], 2))
-        _put(sheet, row, 8, shadow_price_unit(limit, formula.blend))
-        _put(sheet, row, 9, limit.cell)
+        _put(sheet, row, 2, limit.product)
+        _put(sheet, row, 3, limit.name)
+        _put(sheet, row, 4, _basis(limit.kind, limit.basis))
+        _put(sheet, row, 5, limit.side)
+        _number(sheet.cell(row, 6), limit.bound, number_format)
+        _number(sheet.cell(row, 7), limit.level, number_format)
+        _put(sheet, row, 8, "yes" if limit.binding else "no")
+        _number(sheet.cell(row, 9), limit.shadow_price, _format_by_size([limit.shadow_price], 2))
+        _put(sheet, row, 10, shadow_price_unit(limit, formula.blend))
+        _put(sheet, row, 11, limit.cell)
     if not formula.limits:
         if formula.solved:
             empty = "No limits to show: the workbook sets no specs or inclusion limits."
         else:
             empty = f"No shadow prices: the solve ended with status {formula.status!r}."
         _put(sheet, 4, 1, empty)
-    widths = [12, 28, 8, 14, 14, 9, 14, 44, 16]
+    widths = [12, 18, 28, 11, 8, 14, 14, 9, 14, 44, 16]
     for column, width in enumerate(widths, start=1):
         sheet.column_dimensions[get_column_letter(column)].width = width
     sheet.freeze_panes = "A4"
 
 
+def _shadow_price_intro(formula: Formula) -> str:
+    """The sheet's first line: whose cost a shadow price moves, in which unit."""
+    blend = formula.blend
+    settings = blend.settings
+    total = settings.currency or "currency"
+    if formula.several:
+        whose = (f"a product's cost ({cost_unit(settings)}) for that product's own limits, or "
+                 f"the run's total cost ({total}) for a stock,")
+    elif blend.diet:
+        whose = f"the diet's cost ({run_cost_unit(blend)})"
+    else:
+        whose = f"the blend cost ({cost_unit(settings)})"
+        if formula.stocks:
+            whose += f", or the batch's cost ({total}) for a stock,"
+    return (f"Shadow price: change in {whose} when the bound is raised by 1 unit; 0 where "
+            "the bound does not bind. It holds for small changes only.")
 
 
 # --- Run info sheet ------------------------------------------------------------------------
@@ -670,6 +936,11 @@ def _format_by_size(values: list[float | None], least: int) -> str:
     return "#,##0." + "0" * decimals
 
 
+
+
+def _whole_format(value: float) -> str:
+    """No decimals for a whole amount (a 2000 kg batch), two otherwise."""
+    return "#,##0" if float(value).is_integer() else AMOUNT_FORMAT
 
 
 def _plain(value: float) -> str:

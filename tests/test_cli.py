@@ -180,7 +180,7 @@ def test_solving_an_output_again_replaces_result_sheets(sample, tmp_path):
 def test_every_command_has_help_and_is_in_readme():
     readme = (ROOT / "README.md").read_text()
     commands = [command.name or command.callback.__name__ for command in app.registered_commands]
-    assert set(commands) == {"solve", "check"}
+    assert set(commands) == {"solve", "check", "new"}
     for name in commands:
         result = run(name, "--help")
         assert result.exit_code == 0
@@ -209,3 +209,26 @@ def test_export_mps_resolves_to_the_same_cost_in_highs(sample, tmp_path):
     assert h.getInfo().objective_function_value == pytest.approx(doc["cost"], rel=1e-9)
     text = mps_file.read_text()
     assert "TOTAL" in text and "Maize" in text
+
+
+@pytest.mark.parametrize("example", [None, "feed", "diet", "fertilizer", "plant", "broiler"])
+def test_new_writes_a_workbook_that_solves(tmp_path, example):
+    target = tmp_path / "new.xlsx"
+    args = ["new", target] + (["--example", example] if example else [])
+    result = run(*args)
+    assert result.exit_code == 0, result.output
+    assert target.exists()
+    solved = run("solve", target, "--json")
+    assert solved.exit_code == 0, solved.output
+    doc = json.loads(solved.stdout)
+    assert doc["status"] == "optimal"
+
+
+def test_new_never_replaces_a_file(tmp_path):
+    target = tmp_path / "mine.xlsx"
+    target.write_bytes(b"precious")
+    result = run("new", target)
+    assert result.exit_code == 2
+    assert "already exists" in result.stderr
+    assert target.read_bytes() == b"precious"
+    assert run("new", tmp_path / "x.xlsx", "--example", "nonsense").exit_code == 2

@@ -11,7 +11,18 @@ import pytest
 from blendkit.errors import Problem, WorkbookError
 from blendkit.model import Settings
 from blendkit.read_workbook import read_workbook
-from tests.workbooks import INGREDIENTS, NO_SPECS, SPECS, Styled, make_workbook, percent, store_saved_values
+from tests.workbooks import (
+    GROUPS,
+    INGREDIENTS,
+    LIMITS,
+    NO_SPECS,
+    PRODUCTS,
+    SPECS,
+    Styled,
+    make_workbook,
+    percent,
+    store_saved_values,
+)
 
 HEADER = ["Ingredient", "Cost", "Min", "Max", "Use", "Protein"]
 
@@ -191,6 +202,8 @@ def test_settings_overrides(tmp_path):
     assert blend.settings == Settings(
         batch_size=2000.0, mass_unit="lb", cost_per="short ton", currency="USD",
         name="Hilltop Hens layer mash",
+        cells={"batch size": "Settings!B2", "mass unit": "Settings!B3", "cost per": "Settings!B4",
+               "currency": "Settings!B5", "name": "Settings!B6"},
     )
     assert blend.settings.cost_unit_in_mass_units == pytest.approx(2000.0)
 
@@ -198,7 +211,7 @@ def test_settings_overrides(tmp_path):
 def test_blank_setting_values_keep_the_defaults(tmp_path):
     settings = [["Setting", "Value"], ["Batch size", None], ["Mass unit", " "], ["Currency", "EUR"]]
     blend = read_workbook(make_workbook(tmp_path, INGREDIENTS, SPECS, settings))
-    assert blend.settings == Settings(currency="EUR")
+    assert blend.settings == Settings(currency="EUR", cells={"currency": "Settings!B4"})
 
 
 def test_empty_settings_sheet_means_defaults(tmp_path):
@@ -472,9 +485,9 @@ def settings_problems(tmp_path: Path, *rows: list) -> list[str]:
 def test_unknown_setting(tmp_path):
     assert settings_problems(tmp_path, ["Batch", 500], ["Colour", "red"]) == [
         'Settings!A2: unknown setting "Batch"; the settings are: Batch size, Mass unit, Cost per, '
-        'Currency, Name; did you mean "Batch size"?',
+        'Currency, Name, Mode, Dry matter; did you mean "Batch size"?',
         'Settings!A3: unknown setting "Colour"; the settings are: Batch size, Mass unit, Cost per, '
-        "Currency, Name",
+        "Currency, Name, Mode, Dry matter",
     ]
 
 
@@ -507,8 +520,625 @@ def test_mass_units_must_be_known(tmp_path):
 def test_setting_value_without_a_name(tmp_path):
     assert settings_problems(tmp_path, [None, 5]) == [
         "Settings!A2: this row has a value but no setting name; type one of Batch size, Mass unit, "
-        "Cost per, Currency, Name, or clear the row"
+        "Cost per, Currency, Name, Mode, Dry matter, or clear the row"
     ]
+
+
+# --- Units and stock --------------------------------------------------------------------
+
+
+def test_unit_and_stock_columns(tmp_path):
+    ingredients = [
+        ["Ingredient", "Cost", "Unit", "Stock (kg)", "Protein"],
+        ["Peas", 260, "sack of 25 kg", 750, 22],
+        ["Barley", 180, None, None, 11],
+        ["Oats", 190, 100, 0, 11],  # a number as the unit is read as its text
+    ]
+    blend = read_workbook(make_workbook(tmp_path, ingredients, NO_SPECS))
+    peas = blend.ingredient("Peas")
+    assert (peas.unit, peas.stock) == ("sack of 25 kg", 750.0)
+    assert peas.cells == {
+        "name": "Ingredients!A2", "cost": "Ingredients!B2",
+        "unit": "Ingredients!C2", "stock": "Ingredients!D2",
+    }
+    assert (blend.ingredient("Barley").unit, blend.ingredient("Barley").stock) == ("", None)
+    assert (blend.ingredient("Oats").unit, blend.ingredient("Oats").stock) == ("100", 0.0)
+    assert blend.nutrients == ("Protein",)  # Unit and Stock are not nutrients
+
+
+@pytest.mark.parametrize(
+    ("stock", "message"),
+    [
+        (-5, "stock -5 is below 0; it is the quantity on hand in kg (blank means no limit)"),
+        ("plenty", 'stock "plenty" is not a number'),
+    ],
+)
+def test_stock_must_be_a_number_at_least_0(tmp_path, stock, message):
+    ingredients = [["Ingredient", "Cost", "Stock"], ["Peas", 260, stock]]
+    assert problems_of(make_workbook(tmp_path, ingredients, NO_SPECS)) == [f"Ingredients!C2: {message}"]
+
+
+# --- Diet mode --------------------------------------------------------------------------
+
+DIET = [["Setting", "Value"], ["Mode", "Diet"]]
+FOODS = [
+    ["Ingredient", "Cost (EUR)", "Unit", "Min", "Max", "Energy (kJ)", "Protein (g)"],
+    ["Oat porridge", 0.35, "bowl", 1, 2, 620, 5.2],
+    ["Lentil soup", 0.9, "serving", None, 250, 830, 9],
+    ["Rye bread", 0.3, "100 g", 0, None, 1000, 8.5],
+]
+
+
+def test_diet_mode_reads_amounts_without_the_100_cap(tmp_path):
+    blend = read_workbook(make_workbook(tmp_path, FOODS, NO_SPECS, DIET))
+    assert blend.diet
+    assert blend.settings.mode == "diet"
+    assert blend.settings.cells == {"mode": "Settings!B2"}
+    soup = blend.ingredient("Lentil soup")
+    assert (soup.unit, soup.minimum, soup.maximum) == ("serving", None, 250.0)
+
+
+def test_diet_mode_limits_are_at_least_0_and_min_is_at_most_max(tmp_path):
+    foods = [
+        FOODS[0],
+        ["Oat porridge", 0.35, "bowl", -1, 2, 620, 5.2],
+        ["Rye bread", 0.3, "100 g", 3, 2, 1000, 8],
+    ]
+    assert problems_of(make_workbook(tmp_path, foods, NO_SPECS, DIET)) == [
+        "Ingredients!D2: min -1 is below 0; in diet mode inclusion limits are amounts in each food's unit, "
+        "0 or more",
+        "Ingredients!E3: max 2 is below min 3 in Ingredients!D3; make max at least min",
+    ]
+
+
+def test_diet_mode_blank_cost_names_the_unit(tmp_path):
+    foods = [
+        FOODS[0],
+        ["Oat porridge", None, "bowl", None, None, 620, 5.2],
+        ["Tea", None, None, None, None, 0, 0],
+    ]
+    settings = [*DIET, ["Currency", "EUR"]]
+    assert problems_of(make_workbook(tmp_path, foods, NO_SPECS, settings)) == [
+        "Ingredients!B2: cost is blank; type the price of this ingredient (EUR per bowl)",
+        "Ingredients!B3: cost is blank; type the price of this ingredient (EUR per unit written in the "
+        "Unit column)",
+    ]
+
+
+@pytest.mark.parametrize("written", ["blend", " BLEND ", None])
+def test_blend_mode_is_the_default(tmp_path, written):
+    settings = [["Setting", "Value"], ["Mode", written]]
+    blend = read_workbook(make_workbook(tmp_path, INGREDIENTS, SPECS, settings))
+    assert blend.settings.mode == "blend"
+    assert not blend.diet
+
+
+def test_unknown_mode(tmp_path):
+    assert settings_problems(tmp_path, ["Mode", "menu"]) == [
+        'Settings!B2: mode "menu" is not blend or diet; write blend (inclusions in % of the blend, the '
+        "default) or diet (amounts of each ingredient in its unit)"
+    ]
+
+
+# --- Ratio specs ------------------------------------------------------------------------
+
+RATIO_INGREDIENTS = [
+    ["Ingredient", "Cost", "Calcium (%)", "Phosphorus (%)", "Ca/P", "Energy (MJ/kg)"],
+    ["Limestone", 48, 37.5, 0.02, 1875, 0],
+    ["Monocalcium phosphate", 610, 16, 21, 0.76, 0],
+]
+
+
+def ratio_problems(tmp_path: Path, *rows: list) -> list[str]:
+    """Problems for Specs rows against RATIO_INGREDIENTS."""
+    return problems_of(make_workbook(tmp_path, RATIO_INGREDIENTS, [["Nutrient", "Min", "Max"], *rows]))
+
+
+def test_ratio_specs(tmp_path):
+    specs = [
+        ["Nutrient", "Min", "Max"],
+        [" calcium /  phosphorus ", 1.8, 2.2],
+        ["Calcium (%) / Energy (MJ/kg)", None, 0.4],  # each side with its unit; the "/" in MJ/kg is no split
+        ["Ca/P", 1.5, None],  # a column of its own, not a ratio
+        ["Phosphorus/Calcium", None, 0.6],
+    ]
+    blend = read_workbook(make_workbook(tmp_path, RATIO_INGREDIENTS, specs))
+    assert [(s.nutrient, s.ratio, s.minimum, s.maximum) for s in blend.specs] == [
+        ("calcium /  phosphorus", ("Calcium", "Phosphorus"), 1.8, 2.2),
+        ("Calcium (%) / Energy (MJ/kg)", ("Calcium", "Energy"), None, 0.4),
+        ("Ca/P", None, 1.5, None),
+        ("Phosphorus/Calcium", ("Phosphorus", "Calcium"), None, 0.6),
+    ]
+    assert blend.specs[0].cells == {"nutrient": "Specs!A2", "min": "Specs!B2", "max": "Specs!C2"}
+    assert {s.basis for s in blend.specs} == {"as fed"}
+
+
+def test_ratio_with_an_unknown_side(tmp_path):
+    columns = '"Calcium", "Phosphorus", "Ca/P", "Energy"'
+    assert ratio_problems(tmp_path, ["Calcum / Phosphorus", 1.8, None], ["Calcium / Lysine", None, 3]) == [
+        'Specs!A2: the ratio "Calcum / Phosphorus" names "Calcum" before the "/", which is not a nutrient '
+        'column of Ingredients; a ratio divides one nutrient column by another; did you mean "Calcium"?; '
+        f"the nutrient columns are: {columns}",
+        'Specs!A3: the ratio "Calcium / Lysine" names "Lysine" after the "/", which is not a nutrient '
+        f"column of Ingredients; a ratio divides one nutrient column by another; the nutrient columns are: "
+        f"{columns}",
+    ]
+
+
+def test_ratio_with_both_sides_unknown_or_missing(tmp_path):
+    problems = ratio_problems(tmp_path, ["Zinc / Copper", 8, None], ["Calcium /", 1, None])
+    assert [problem.split(": ", 1)[0] for problem in problems] == ["Specs!A2", "Specs!A2", "Specs!A3"]
+    assert problems[0].startswith('Specs!A2: the ratio "Zinc / Copper" names "Zinc" before the "/"')
+    assert problems[1].startswith('Specs!A2: the ratio "Zinc / Copper" names "Copper" after the "/"')
+    assert problems[2] == (
+        'Specs!A3: the ratio "Calcium /" has no nutrient after the "/"; write a ratio as two nutrient '
+        'columns around one "/", as in "Calcium / Phosphorus"'
+    )
+
+
+def test_ratio_with_two_slashes(tmp_path):
+    assert ratio_problems(tmp_path, ["Calcium / Phosphorus / Energy", 1, None]) == [
+        'Specs!A2: "Calcium / Phosphorus / Energy" is neither a nutrient column of Ingredients nor a ratio '
+        'of two of them; write a ratio as two nutrient columns around one "/", as in "Calcium / Phosphorus"'
+    ]
+
+
+def test_ratio_of_a_column_named_with_a_slash(tmp_path):
+    blend = read_workbook(make_workbook(tmp_path, RATIO_INGREDIENTS, [
+        ["Nutrient", "Min", "Max"], ["Ca/P / Calcium", None, 50],
+    ]))
+    assert blend.specs[0].ratio == ("Ca/P", "Calcium")
+
+
+def test_ratio_of_a_nutrient_to_itself(tmp_path):
+    assert ratio_problems(tmp_path, ["Calcium / CALCIUM (%)", 1, None]) == [
+        'Specs!A2: the ratio "Calcium / CALCIUM (%)" divides "Calcium" by itself; name two different '
+        "nutrient columns"
+    ]
+
+
+def test_ratio_side_unit_must_agree(tmp_path):
+    assert ratio_problems(tmp_path, ["Calcium (g/kg) / Phosphorus", 1, None]) == [
+        'Specs!A2: the unit "g/kg" differs from the unit "%" of the column "Calcium" in Ingredients!C1; '
+        'give the bounds in "%" and write that unit, or leave the unit out'
+    ]
+
+
+def test_ratio_repeated(tmp_path):
+    rows = [["Calcium / Phosphorus", 1.8, None], ["calcium/phosphorus", None, 2.2]]
+    assert ratio_problems(tmp_path, *rows) == [
+        'Specs!A3: "calcium/phosphorus" already has a spec in Specs!A2; put both bounds in one row and '
+        "delete the other"
+    ]
+
+
+# --- Basis ------------------------------------------------------------------------------
+
+DM_INGREDIENTS = [
+    ["Ingredient", "Cost", "Dry matter (%)", "Crude protein (%)", "NDF (%)"],
+    ["Grass silage", 45, 32, 4.5, 16],
+    ["Barley", 180, 87, 10, 17],
+]
+
+
+def basis_specs(*rows: list) -> list[list]:
+    """A Specs sheet with a Basis column."""
+    return [["Nutrient", "Min", "Max", "Basis"], *rows]
+
+
+def test_basis_column(tmp_path):
+    specs = basis_specs(
+        ["Crude protein", 9, None, None],
+        ["Crude protein", 14, None, " DRY  Matter "],
+        ["NDF", None, 30, "As-Fed"],
+        ["NDF", None, 40, "dry-matter"],
+    )
+    blend = read_workbook(make_workbook(tmp_path, DM_INGREDIENTS, specs))
+    assert [(s.nutrient, s.basis, s.minimum, s.maximum) for s in blend.specs] == [
+        ("Crude protein", "as fed", 9.0, None),
+        ("Crude protein", "dry matter", 14.0, None),
+        ("NDF", "as fed", None, 30.0),
+        ("NDF", "dry matter", None, 40.0),
+    ]
+    assert blend.specs[1].cells == {
+        "nutrient": "Specs!A3", "min": "Specs!B3", "max": "Specs!C3", "basis": "Specs!D3",
+    }
+    assert blend.settings.dry_matter == "Dry matter"
+
+
+def test_unknown_basis(tmp_path):
+    path = make_workbook(tmp_path, DM_INGREDIENTS, basis_specs(["NDF", None, 30, "fresh"]))
+    assert only_problem(path) == Problem(
+        "Specs!D2",
+        'basis "fresh" is not as fed or dry matter; write as fed or dry matter (blank means as fed)',
+    )
+
+
+def test_dry_matter_spec_needs_the_dry_matter_column(tmp_path):
+    path = make_workbook(tmp_path, INGREDIENTS, basis_specs(["Calcium", 4, None, "dry matter"]))
+    assert only_problem(path) == Problem(
+        "Specs!D2",
+        'a dry-matter spec needs the dry-matter column, and Ingredients has no nutrient column "Dry matter"; '
+        "add a column \"Dry matter (%)\" with each ingredient's dry matter in % as fed, or name the column "
+        "that holds it with the Dry matter setting in Settings",
+    )
+
+
+def test_ratio_on_a_dry_matter_basis_needs_no_dry_matter_column(tmp_path):
+    specs = basis_specs(["Calcium / Crude protein", None, 0.3, "dry matter"])
+    blend = read_workbook(make_workbook(tmp_path, INGREDIENTS, specs))
+    assert (blend.specs[0].ratio, blend.specs[0].basis) == (("Calcium", "Crude protein"), "dry matter")
+
+
+def test_dry_matter_setting_names_the_column(tmp_path):
+    ingredients = [
+        ["Ingredient", "Cost", "DM", "Crude protein (%)"],
+        ["Grass silage", 45, 32, 4.5],
+    ]
+    settings = [["Setting", "Value"], ["Dry matter", " dm "]]
+    blend = read_workbook(make_workbook(
+        tmp_path, ingredients, basis_specs(["Crude protein", 14, None, "dry matter"]), settings
+    ))
+    assert blend.settings.dry_matter == "DM"  # as in the header
+    assert blend.settings.cells == {"dry matter": "Settings!B2"}
+
+
+def test_default_dry_matter_is_stored_as_the_header_writes_it(tmp_path):
+    ingredients = [["Ingredient", "Cost", "DRY  MATTER"], ["Hay", 120, 86]]
+    blend = read_workbook(make_workbook(tmp_path, ingredients, NO_SPECS))
+    assert blend.settings.dry_matter == "DRY  MATTER"
+
+
+def test_dry_matter_setting_must_name_a_nutrient_column(tmp_path):
+    settings = [["Setting", "Value"], ["Dry matter", "Dry mater"]]
+    # The dry-matter spec is not reported again: the setting is the one thing to fix.
+    path = make_workbook(tmp_path, DM_INGREDIENTS, basis_specs(["NDF", None, 40, "dry matter"]), settings)
+    assert only_problem(path) == Problem(
+        "Settings!B2",
+        'dry matter "Dry mater" is not a nutrient column of Ingredients; name the column that holds dry '
+        'matter in % as fed; did you mean "Dry matter"?; the nutrient columns are: "Dry matter", '
+        '"Crude protein", "NDF"',
+    )
+
+
+def test_dry_matter_column_must_be_in_percent_for_dry_matter_specs(tmp_path):
+    ingredients = [["Ingredient", "Cost", "Dry matter (g/kg)", "NDF (%)"], ["Barley", 180, 870, 17]]
+    specs = basis_specs(["NDF", None, 30, None], ["NDF", None, 40, "dry matter"])
+    assert read_workbook(make_workbook(tmp_path, ingredients, specs[:2]))  # unused: no problem
+    assert only_problem(make_workbook(tmp_path, ingredients, specs, name="dm.xlsx")) == Problem(
+        "Ingredients!C1",
+        'the dry-matter column "Dry matter" is in "g/kg", but dry-matter specs (as in Specs!D3) need dry '
+        'matter in % as fed; give the column in % and head it "Dry matter (%)"',
+    )
+
+
+def test_dry_matter_contents_must_be_0_to_100_for_dry_matter_specs(tmp_path):
+    ingredients = [
+        ["Ingredient", "Cost", "Dry matter", "NDF (%)"],
+        ["Barley", 180, 870, 17],
+        ["Water", 0, None, 0],  # blank: 0, fine
+        ["Straw", 60, "lots", 70],  # reported once, as not a number
+    ]
+    specs = basis_specs(["NDF", None, 40, "dry matter"])
+    assert problems_of(make_workbook(tmp_path, ingredients, specs)) == [
+        "Ingredients!C2: Dry matter 870 is outside 0 to 100; dry-matter specs (as in Specs!D2) need dry "
+        "matter in % as fed",
+        'Ingredients!C4: Dry matter "lots" is not a number',
+    ]
+
+
+def test_same_nutrient_on_both_bases_is_no_repeat_but_the_same_basis_is(tmp_path):
+    specs = basis_specs(
+        ["NDF", None, 30, None], ["NDF", None, 40, "dry matter"], ["ndf", 20, None, "Dry matter"]
+    )
+    assert problems_of(make_workbook(tmp_path, DM_INGREDIENTS, specs)) == [
+        'Specs!A4: "ndf" on a dry-matter basis already has a spec in Specs!A3; put both bounds in one row '
+        "and delete the other"
+    ]
+
+
+# --- Products ---------------------------------------------------------------------------
+
+
+def test_products_groups_and_limits(tmp_path):
+    specs = [
+        ["Nutrient", "Min", "Max", "Product"],
+        ["Calcium", 3.6, 4.1, "layer MASH"],
+        ["Calcium", 0.9, 1.2, "Pullet grower"],
+        ["Crude protein", 16, None, None],
+    ]
+    path = make_workbook(tmp_path, INGREDIENTS, specs, sheets={
+        "Products": PRODUCTS, "Groups": GROUPS, "Limits": LIMITS,
+    })
+    blend = read_workbook(path)
+
+    assert [(p.name, p.amount) for p in blend.products] == [("Layer mash", 6000.0), ("Pullet grower", 2500.0)]
+    assert blend.products[1].cells == {"product": "Products!A3", "amount": "Products!B3"}
+    assert [(s.nutrient, s.product) for s in blend.specs] == [
+        ("Calcium", "Layer mash"), ("Calcium", "Pullet grower"), ("Crude protein", None),
+    ]
+    assert blend.specs[0].cells["product"] == "Specs!D2"
+    assert [(g.name, g.ingredients, g.minimum, g.maximum, g.product) for g in blend.groups] == [
+        ("Cereals", ("Maize", "Wheat bran"), 40.0, None, None),
+        ("Protein feeds", ("Soybean meal",), None, 25.0, "Pullet grower"),
+    ]
+    assert blend.groups[1].cells == {
+        "group": "Groups!A3", "ingredients": "Groups!B3", "min": "Groups!C3", "max": "Groups!D3",
+        "product": "Groups!E3",
+    }
+    assert [(lim.product, lim.ingredient, lim.minimum, lim.maximum) for lim in blend.limits] == [
+        ("Pullet grower", "Limestone", 1.0, 2.0), ("Layer mash", "Wheat bran", None, 10.0),
+    ]
+    assert blend.limits[0].cells == {
+        "product": "Limits!A2", "ingredient": "Limits!B2", "min": "Limits!C2", "max": "Limits!D2",
+    }
+
+
+@pytest.mark.parametrize("products", [[["Product", "Amount"]], []])
+def test_products_sheet_without_rows_is_one_blend(tmp_path, products):
+    blend = read_workbook(make_workbook(tmp_path, INGREDIENTS, SPECS, sheets={"Products": products}))
+    assert blend.products == ()
+
+
+def test_without_optional_sheets_there_are_no_groups_products_or_limits(tmp_path):
+    blend = read_workbook(make_workbook(tmp_path, INGREDIENTS, SPECS))
+    assert (blend.groups, blend.products, blend.limits) == ((), (), ())
+
+
+def product_problems(tmp_path: Path, *rows: list) -> list[str]:
+    """Problems for a Products sheet with these rows, alongside the demo sheets."""
+    products = [["Product", "Amount"], *rows]
+    return problems_of(make_workbook(tmp_path, INGREDIENTS, SPECS, sheets={"Products": products}))
+
+
+def test_product_rows_are_checked(tmp_path):
+    assert product_problems(
+        tmp_path,
+        ["Layer mash", 6000],
+        [" LAYER mash", 100],
+        ["Grower", None],
+        ["Starter", 0],
+        ["Finisher", "a lot"],
+        [None, 50],
+    ) == [
+        'Products!A3: product "LAYER mash" is already listed in Products!A2 (names are compared ignoring '
+        "case and spaces); give each product its own name, or delete one row",
+        "Products!B4: amount is blank; type how much of this product to make (in kg)",
+        "Products!B5: amount 0 must be more than 0; it is how much of this product to make, in kg",
+        'Products!B6: amount "a lot" is not a number',
+        "Products!A7: this row has values but no product name; type a name, or clear the row",
+    ]
+
+
+def test_products_are_not_allowed_in_diet_mode(tmp_path):
+    products = [[], ["Product", "Amount"], ["Week 1", 7]]
+    path = make_workbook(tmp_path, FOODS, NO_SPECS, DIET, sheets={"Products": products})
+    assert only_problem(path) == Problem(
+        "Products!A3",
+        'products are for blend mode, and the Mode setting in Settings!B2 is "diet"; a diet is planned on '
+        "its own: clear the rows of Products, or set Mode to blend",
+    )
+
+
+def test_products_sheet_missing_a_column(tmp_path):
+    path = make_workbook(tmp_path, INGREDIENTS, SPECS, sheets={"Products": [["Product"], ["A"]]})
+    assert problems_of(path) == [
+        'Products!1:1: no column "Amount" (how much of each product to make, in the mass unit) in the '
+        'header row; add a column headed "Amount"'
+    ]
+
+
+def test_spec_for_an_unknown_product(tmp_path):
+    specs = [["Nutrient", "Min", "Max", "Product"], ["Calcium", 3.6, None, "Layer mesh"]]
+    path = make_workbook(tmp_path, INGREDIENTS, specs, sheets={"Products": PRODUCTS})
+    assert only_problem(path) == Problem(
+        "Specs!D2",
+        'no product "Layer mesh" in Products; name one listed there, or clear the cell (blank means every '
+        'product); did you mean "Layer mash"?; the products are: "Layer mash", "Pullet grower"',
+    )
+
+
+def test_spec_for_a_product_without_a_products_sheet(tmp_path):
+    specs = [["Nutrient", "Min", "Max", "Product"], ["Calcium", 3.6, None, "Layer mash"]]
+    assert only_problem(make_workbook(tmp_path, INGREDIENTS, specs)) == Problem(
+        "Specs!D2",
+        'no product "Layer mash": the workbook has no Products sheet; add a sheet named "Products" with the '
+        "columns Product and Amount listing it, or clear the cell (blank means every product)",
+    )
+
+
+def test_spec_for_a_product_when_products_has_no_rows(tmp_path):
+    specs = [["Nutrient", "Min", "Max", "Product"], ["Calcium", 3.6, None, "Layer mash"]]
+    path = make_workbook(tmp_path, INGREDIENTS, specs, sheets={"Products": [["Product", "Amount"]]})
+    assert only_problem(path) == Problem(
+        "Specs!D2",
+        'no product "Layer mash" in Products, which lists none; add it there, or clear the cell (blank '
+        "means every product)",
+    )
+
+
+def test_spec_repeated_only_within_the_same_product_and_basis(tmp_path):
+    specs = [
+        ["Nutrient", "Min", "Max", "Product", "Basis"],
+        ["Calcium", 3.6, None, None, None],
+        ["Calcium", 3.8, None, "Layer mash", None],
+        ["Calcium", 0.9, None, "Pullet grower", None],
+        ["calcium", None, 4.1, " layer mash ", "as fed"],
+    ]
+    path = make_workbook(tmp_path, INGREDIENTS, specs, sheets={"Products": PRODUCTS})
+    assert only_problem(path) == Problem(
+        "Specs!A5",
+        '"calcium" for product "Layer mash" already has a spec in Specs!A3; put both bounds in one row and '
+        "delete the other",
+    )
+
+
+# --- Groups -----------------------------------------------------------------------------
+
+
+def group_problems(tmp_path: Path, *rows: list, products: bool = False) -> list[str]:
+    """Problems for a Groups sheet with these rows, alongside the demo sheets."""
+    sheets = {"Groups": [["Group", "Ingredients", "Min", "Max", "Product"], *rows]}
+    if products:
+        sheets["Products"] = PRODUCTS
+    return problems_of(make_workbook(tmp_path, INGREDIENTS, SPECS, sheets=sheets))
+
+
+def test_group_ingredient_lists(tmp_path):
+    ingredients = [
+        ["Ingredient", "Cost", "Protein"],
+        ["Maize", 212, 8.6],
+        ["Fat, animal", 900, 0],
+        ["Fat, animal; refined", 1100, 0],
+        ["Wheat", 190, 11],
+    ]
+    groups = [
+        ["Group", "Ingredients", "Min", "Max"],
+        ["Energy", "maize;  FAT, ANIMAL , wheat,", 50, 90],
+        ["Fats", "Fat, animal; refined; Fat, animal", None, 5],  # the longest match wins
+        ["Just maize", "Maize", 10, None],
+    ]
+    blend = read_workbook(make_workbook(tmp_path, ingredients, NO_SPECS, sheets={"Groups": groups}))
+    assert [(g.name, g.ingredients, g.product) for g in blend.groups] == [
+        ("Energy", ("Maize", "Fat, animal", "Wheat"), None),
+        ("Fats", ("Fat, animal; refined", "Fat, animal"), None),
+        ("Just maize", ("Maize",), None),
+    ]
+    assert "product" not in blend.groups[0].cells  # no Product column
+
+
+def test_group_rows_are_checked(tmp_path):
+    assert group_problems(
+        tmp_path,
+        ["Cereals", "Maize, Oats", 40, None, None],
+        ["cereals", "Maize; maize", None, 80, None],
+        ["Minerals", None, 1, 5, None],
+        ["Protein", "Soybean meal", None, None, None],
+        ["Fibre", "Wheat bran", 20, 10, None],
+        ["Extra", "Limestone", -1, 101, None],
+        [None, "Maize", 1, 2, None],
+    ) == [
+        'Groups!B2: no ingredient "Oats" in Ingredients; name one listed there; the ingredients are: '
+        '"Maize", "Soybean meal", "Wheat bran", "Limestone"',
+        'Groups!A3: group "cereals" is already listed in Groups!A2 (names are compared ignoring case and '
+        "spaces); give each group its own name, or delete one row",
+        'Groups!B3: the ingredient "Maize" is listed twice in this group; list each ingredient once',
+        'Groups!B4: the group "Minerals" lists no ingredients; list them separated by commas or semicolons, '
+        'as in "Maize, Wheat"',
+        'Groups!A5: the group "Protein" has neither a min nor a max; give at least one, or delete the row',
+        "Groups!D6: max 10 is below min 20 in Groups!C6; make max at least min",
+        "Groups!C7: min -1 is outside 0 to 100; group limits are % of the blend",
+        "Groups!D7: max 101 is outside 0 to 100; group limits are % of the blend",
+        "Groups!A8: this row has values but no group name; type a name, or clear the row",
+    ]
+
+
+def test_group_for_a_product(tmp_path):
+    assert group_problems(tmp_path, ["Cereals", "Maize", 40, None, "Starter"], products=True) == [
+        'Groups!E2: no product "Starter" in Products; name one listed there, or clear the cell (blank means '
+        'every product); the products are: "Layer mash", "Pullet grower"'
+    ]
+
+
+def test_group_limits_in_diet_mode(tmp_path):
+    groups = [["Group", "Ingredients", "Min", "Max"], ["Grains", "Oat porridge, Rye bread", 2, 400]]
+    blend = read_workbook(make_workbook(tmp_path, FOODS, NO_SPECS, DIET, sheets={"Groups": groups}))
+    assert (blend.groups[0].minimum, blend.groups[0].maximum) == (2.0, 400.0)
+    groups.append(["Soups", "Lentil soup", -1, None])
+    path = make_workbook(tmp_path, FOODS, NO_SPECS, DIET, sheets={"Groups": groups}, name="b.xlsx")
+    assert problems_of(path) == [
+        "Groups!C3: min -1 is below 0; in diet mode group limits are amounts in each food's unit, 0 or more"
+    ]
+
+
+def test_groups_sheet_missing_columns(tmp_path):
+    path = make_workbook(tmp_path, INGREDIENTS, SPECS, sheets={"Groups": [["Group", "Ingredients", "Max"]]})
+    assert problems_of(path) == [
+        'Groups!1:1: no column "Min" (the least total inclusion of the group) in the header row; add a '
+        'column headed "Min"'
+    ]
+
+
+# --- Limits -----------------------------------------------------------------------------
+
+
+def limit_problems(tmp_path: Path, *rows: list, products: list | None = PRODUCTS) -> list[str]:
+    """Problems for a Limits sheet with these rows, alongside the demo sheets and PRODUCTS."""
+    sheets = {"Limits": [["Product", "Ingredient", "Min", "Max"], *rows]}
+    if products is not None:
+        sheets["Products"] = products
+    return problems_of(make_workbook(tmp_path, INGREDIENTS, SPECS, sheets=sheets))
+
+
+def test_limit_rows_are_checked(tmp_path):
+    assert limit_problems(
+        tmp_path,
+        ["Layer mash", "Limestone", 8, None],
+        ["layer mash", " LIMESTONE ", None, 10],
+        ["Starter", "Maize", None, 60],
+        ["Pullet grower", "Maise", None, 60],
+        ["Pullet grower", "Maize", None, None],
+        ["Pullet grower", "Soybean meal", 30, 20],
+        ["Pullet grower", "Wheat bran", None, 120],
+        [None, "Wheat bran", None, 1],
+        ["Layer mash", None, 1, None],
+    ) == [
+        'Limits!B3: "Limestone" already has a limit for product "Layer mash" in Limits!B2; put both bounds '
+        "in one row and delete the other",
+        'Limits!A4: no product "Starter" in Products; name one listed there; the products are: '
+        '"Layer mash", "Pullet grower"',
+        'Limits!B5: no ingredient "Maise" in Ingredients; name one listed there; did you mean "Maize"?; '
+        'the ingredients are: "Maize", "Soybean meal", "Wheat bran", "Limestone"',
+        'Limits!B6: the limit for "Maize" in "Pullet grower" has neither a min nor a max; give at least '
+        "one, or delete the row",
+        "Limits!D7: max 20 is below min 30 in Limits!C7; make max at least min",
+        "Limits!D8: max 120 is outside 0 to 100; inclusion limits are % of the blend",
+        "Limits!A9: this row has no product; type the product the limit applies to, or clear the row",
+        "Limits!B10: this row has no ingredient; type the ingredient to limit, or clear the row",
+    ]
+
+
+def test_limits_need_a_products_sheet(tmp_path):
+    assert limit_problems(tmp_path, ["Layer mash", "Limestone", 8, None], products=None) == [
+        'Limits!A2: no product "Layer mash": the workbook has no Products sheet; add a sheet named '
+        '"Products" with the columns Product and Amount listing it'
+    ]
+
+
+def test_limits_sheet_missing_columns(tmp_path):
+    path = make_workbook(tmp_path, INGREDIENTS, SPECS, sheets={
+        "Limits": [["Product", "Min", "Max"], ["Layer mash", 1, 2]], "Products": PRODUCTS,
+    })
+    assert problems_of(path) == [
+        'Limits!1:1: no column "Ingredient" (the ingredient the row limits) in the header row; add a column '
+        'headed "Ingredient"'
+    ]
+
+
+def test_a_problem_in_a_referenced_row_is_not_reported_again(tmp_path):
+    # A product or ingredient whose own row has a problem still counts as listed.
+    ingredients = with_row(["Oats", "cheap", None, None, None, 11])
+    products = [["Product", "Amount"], ["Layer mash", -1]]
+    limits = [["Product", "Ingredient", "Min", "Max"], ["Layer mash", "oats", None, 5]]
+    path = make_workbook(tmp_path, ingredients, NO_SPECS, sheets={"Products": products, "Limits": limits})
+    assert [problem.split(":")[0] for problem in problems_of(path)] == ["Ingredients!B2", "Products!B2"]
+
+
+# --- Settings cells ---------------------------------------------------------------------
+
+
+def test_settings_cells_name_each_value_read(tmp_path):
+    settings = [
+        [],
+        [None, "Setting", "Value"],
+        [None, "Name", "Hilltop Hens"],
+        [None, "Mode", "blend"],
+        [None, "Batch size", None],  # blank: the default, read from nowhere
+        [None, "Dry matter", "Calcium"],
+    ]
+    blend = read_workbook(make_workbook(tmp_path, INGREDIENTS, SPECS, settings))
+    assert blend.settings.cells == {"name": "Settings!C3", "mode": "Settings!C4", "dry matter": "Settings!C6"}
+    assert blend.settings.dry_matter == "Calcium"
 
 
 # --- Missing sheets and columns ---------------------------------------------------------
@@ -518,7 +1148,8 @@ def test_missing_sheets(tmp_path):
     path = make_workbook(tmp_path, sheets={"Sheet1": [["a"]], "Prices": [["b"]]}, name="feeds.xlsx")
     assert problems_of(path) == [
         'feeds.xlsx: no sheet named "Ingredients"; add a sheet named "Ingredients" with the columns '
-        "Ingredient and Cost (Min, Max and Use are optional) and one column per nutrient; sheets "
+        "Ingredient and Cost (Min, Max, Use, Unit and Stock are optional) and one column per nutrient; "
+        "sheets "
         'present: "Sheet1", "Prices"',
         'feeds.xlsx: no sheet named "Specs"; add a sheet named "Specs" with the columns Nutrient, Min '
         'and Max (it may have no rows); sheets present: "Sheet1", "Prices"',
@@ -647,6 +1278,38 @@ def test_every_problem_in_the_workbook_is_reported_together(tmp_path):
     assert str(caught.value).startswith(
         '10 problems in the workbook:\n  Ingredients!B2: cost "n/a" is not a number\n'
     )
+
+
+def test_problems_of_every_sheet_are_reported_together_in_sheet_order(tmp_path):
+    ingredients = [
+        ["Ingredient", "Cost", "Stock", "Calcium (%)", "Phosphorus (%)"],
+        ["Limestone", 48, -10, 37.5, 0.02],
+        ["Wheat bran", 158, None, 0.12, 1.1],
+    ]
+    specs = [
+        ["Nutrient", "Min", "Max", "Basis", "Product"],
+        ["Calcium / Phosphorous", 1.5, None, None, None],
+        ["Calcium", 3.6, None, "wet", "Layer mash"],
+    ]
+    sheets = {
+        # Sheet order in the file does not change the order of the report.
+        "Limits": [["Product", "Ingredient", "Min", "Max"], ["Grower", "Limestone", None, 3]],
+        "Products": [["Product", "Amount"], ["Layer mash", 6000], ["layer mash", 100]],
+        "Groups": [["Group", "Ingredients", "Min", "Max"], ["Minerals", "Limestone, Salt", None, 4]],
+    }
+    settings = [["Setting", "Value"], ["Mode", "mixer"], ["Dry matter", "DM"]]
+    path = make_workbook(tmp_path, ingredients, specs, settings, sheets=sheets)
+    with pytest.raises(WorkbookError) as caught:
+        read_workbook(path)
+    assert [problem.where for problem in caught.value.problems] == [
+        "Ingredients!C2",
+        "Specs!A2", "Specs!D3",
+        "Groups!B2",
+        "Products!A3",
+        "Limits!A2",
+        "Settings!B2", "Settings!B3",
+    ]
+    assert str(caught.value).startswith("8 problems in the workbook:\n  Ingredients!C2: stock -10 is below 0")
 
 
 # --- Files that are not workbooks -------------------------------------------------------

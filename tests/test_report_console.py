@@ -42,12 +42,12 @@ def test_only_ingredients_in_the_blend_are_listed():
 
 def test_nutrients_with_spec_and_level():
     nutrients = block(render_summary(formulas.optimal_formula()), "Nutrient")
-    assert nutrients[0].split() == ["Nutrient", "Unit", "Min", "Max", "Level", "Position"]
-    by_name = {line[:13].strip(): line.split() for line in nutrients[2:]}
-    assert by_name["Crude protein"][2:] == ["%", "17.12", "-", "17.12", "at", "min"]
-    assert by_name["Energy"][1:] == ["MJ/kg", "11.50", "12.50", "11.99", "within"]
-    assert by_name["Calcium"][1:] == ["%", "0.800", "1.200", "0.916", "within"]
-    assert by_name["Fibre"][1:] == ["%", "-", "-", "6.360", "no", "spec"]
+    assert nutrients[0].split() == ["Nutrient", "Basis", "Unit", "Min", "Max", "Level", "Position"]
+    by_name = {line[:13].strip(): line[13:].split() for line in nutrients[2:]}
+    assert by_name["Crude protein"] == ["as", "fed", "%", "17.12", "-", "17.12", "at", "min"]
+    assert by_name["Energy"] == ["as", "fed", "MJ/kg", "11.50", "12.50", "11.99", "within"]
+    assert by_name["Calcium"] == ["as", "fed", "%", "0.800", "1.200", "0.916", "within"]
+    assert by_name["Fibre"] == ["as", "fed", "%", "-", "-", "6.360", "no", "spec"]
 
 
 def test_fixed_width_columns_line_up():
@@ -55,7 +55,7 @@ def test_fixed_width_columns_line_up():
     rule = nutrients[1]
     # Right-aligned number columns all end where the rule's dashes end.
     ends = [i for i, ch in enumerate(rule) if ch == "-" and rule[i + 1 : i + 2] in ("", " ")]
-    level_end = ends[4]
+    level_end = ends[5]
     for line in nutrients[2:]:
         assert line[level_end] != " " and line[level_end + 1] == " "
 

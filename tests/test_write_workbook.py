@@ -24,6 +24,7 @@ from tests import formulas
 from tests.workbooks import store_saved_values
 
 INPUT_SHEETS = ["Ingredients", "Specs", "Settings"]
+LIVE = 8  # the nutrient table's column of live formulas (H)
 
 
 @pytest.fixture
@@ -253,15 +254,16 @@ def test_nutrient_table_numbers(source: Path, tmp_path: Path):
     formula = formulas.optimal_formula()
     result = load_workbook(write(formula, source, tmp_path / "out.xlsx"))["Result"]
     header = row_of(result, "Nutrient")
-    assert [result.cell(header, c).value for c in range(1, 7)] == [
-        "Nutrient", "Unit", "Min", "Max", "Level", "Position"]
+    assert [result.cell(header, c).value for c in range(1, 9)] == [
+        "Nutrient", "Basis", "Unit", "Min", "Max", "Level", "Position",
+        "Level from input contents"]
     for offset, line in enumerate(formula.nutrients, start=1):
         row = header + offset
-        texts = [result.cell(row, c).value for c in (1, 2, 6)]
-        assert texts == [line.name, line.unit, line.position]
-        assert result.cell(row, 3).value == line.minimum
-        assert result.cell(row, 4).value == line.maximum
-        assert result.cell(row, 5).value == pytest.approx(line.level)
+        texts = [result.cell(row, c).value for c in (1, 2, 3, 7)]
+        assert texts == [line.name, "as fed", line.unit, line.position]
+        assert result.cell(row, 4).value == line.minimum
+        assert result.cell(row, 5).value == line.maximum
+        assert result.cell(row, 6).value == pytest.approx(line.level)
     assert result.cell(row_of(result, "Notes"), 1).font.b
     assert result.cell(row_of(result, "Notes") + 1, 1).value == formulas.NOTES[0]
 
@@ -272,7 +274,7 @@ def test_live_formulas_recompute_levels_and_cost(source: Path, tmp_path: Path):
     result = workbook["Result"]
     header = row_of(result, "Nutrient")
     for offset, line in enumerate(formula.nutrients, start=1):
-        text = result.cell(header + offset, 7).value
+        text = result.cell(header + offset, LIVE).value
         # Plain arithmetic and cell references only, so any spreadsheet program agrees.
         assert re.fullmatch(r"=\(B\d+\*Ingredients!\$?[A-Z]+\d+(\+B\d+\*Ingredients!"
                             r"[A-Z]+\d+)*\)/100", text), text
@@ -305,7 +307,7 @@ def test_live_formulas_quote_sheet_names_that_need_it(tmp_path: Path):
     )
     workbook = load_workbook(write(formula, source, tmp_path / "out.xlsx"))
     result = workbook["Result"]
-    text = result.cell(row_of(result, "Nutrient") + 1, 7).value
+    text = result.cell(row_of(result, "Nutrient") + 1, LIVE).value
     assert "'Feed list'!F2" in text
     assert evaluate(workbook, "Result", text) == pytest.approx(formula.nutrients[0].level)
 
@@ -333,7 +335,7 @@ def test_spreadsheet_program_agrees_with_written_levels(source: Path, tmp_path: 
     result = load_workbook(converted / "out.xlsx", data_only=True)["Result"]
     header = row_of(result, "Nutrient")
     for offset, line in enumerate(formula.nutrients, start=1):
-        assert result.cell(header + offset, 7).value == pytest.approx(line.level, rel=1e-9)
+        assert result.cell(header + offset, LIVE).value == pytest.approx(line.level, rel=1e-9)
     cost_row = row_of(result, "Blend cost from input prices")
     assert result.cell(cost_row, 2).value == pytest.approx(formula.cost, rel=1e-9)
     total = row_of(result, "Total")
@@ -368,14 +370,20 @@ def test_shadow_prices_sheet(source: Path, tmp_path: Path):
     assert sheet.freeze_panes == f"A{header + 1}"
     rows = [[c.value for c in row] for row in sheet.iter_rows(min_row=header + 1)]
     assert len(rows) == len(formula.limits)
+    assert [c.value for c in sheet[header]] == [
+        "Kind", "Product", "Name", "Basis", "Side", "Bound", "Level", "Binding", "Shadow price",
+        "Shadow price unit", "Bound read from"]
     for row, limit in zip(rows, formula.limits):
-        kind, name, side, bound, level, binding, shadow, unit, cell = row
+        kind, product, name, basis, side, bound, level, binding, shadow, unit, cell = row
         assert (kind, name, side, cell) == (limit.kind, limit.name, limit.side, limit.cell)
+        assert product is None  # one blend
+        assert basis == ("as fed" if limit.kind == "nutrient" else None)
         assert bound == limit.bound and level == pytest.approx(limit.level)
         assert binding == ("yes" if limit.binding else "no")
         assert shadow == limit.shadow_price and is_number(shadow)
-    assert rows[0][7] == "EUR/tonne per 1 unit of Crude protein (%)"
-    assert rows[5][7] == "EUR/tonne per 1 % inclusion"
+    assert rows[0][9] == "EUR/tonne per 1 unit of Crude protein (%)"
+    assert rows[5][9] == "EUR/tonne per 1 % inclusion"
+    assert sheet["A1"].value.startswith("Shadow price: change in the blend cost (EUR per tonne) ")
 
 
 def test_run_info_sheet(source: Path, tmp_path: Path):
@@ -479,7 +487,7 @@ def test_live_formulas_read_percent_cells_as_shown(source: Path, tmp_path: Path)
     workbook = load_workbook(write(formula, source, tmp_path / "out.xlsx"))
     result = workbook["Result"]
     calcium = row_of(result, "Calcium")
-    text = result.cell(calcium, 7).value
+    text = result.cell(calcium, LIVE).value
     assert "Ingredients!H5*100" in text and "Ingredients!H4*100" not in text
     expected = next(line.level for line in formula.nutrients if line.name == "Calcium")
     assert evaluate(workbook, "Result", text) == pytest.approx(expected, rel=1e-12)
@@ -542,3 +550,317 @@ def test_text_starting_with_equals_stays_text(source: Path, tmp_path: Path):
     assert (note.value, note.data_type) == ('=HYPERLINK("x")', "s")
     message = workbook["Run info"].cell(row_of(workbook["Run info"], "Message"), 2)
     assert message.data_type == "s"
+
+
+# --- the full model: ratios and dry matter, a diet, several products, stocks ------------
+
+# name -> (writes the source workbook, builds the formula, input sheets in order)
+SCENARIOS = {
+    "ration": (formulas.write_ration_source, formulas.ration_formula,
+               ["Ingredients", "Specs", "Groups", "Settings"]),
+    "diet": (formulas.write_diet_source, formulas.diet_formula,
+             ["Ingredients", "Specs", "Groups", "Settings"]),
+    "products": (formulas.write_mill_source, formulas.mill_formula,
+                 ["Ingredients", "Specs", "Products", "Settings"]),
+}
+
+
+def written(scenario: str, tmp_path: Path):
+    """The scenario's formula and its output workbook, loaded with formulas."""
+    write_source, make, _ = SCENARIOS[scenario]
+    source = write_source(tmp_path / f"{scenario}.xlsx")
+    formula = make()
+    return formula, load_workbook(write(formula, source, tmp_path / f"{scenario}.result.xlsx"))
+
+
+def table(sheet, header_row: int, count: int, columns: int = 8) -> list[list]:
+    """The `count` rows under a table's header, `columns` cells each."""
+    return [[sheet.cell(row, c).value for c in range(1, columns + 1)]
+            for row in range(header_row + 1, header_row + count + 1)]
+
+
+def rows_of(sheet, label: str, column: int = 1) -> list[int]:
+    """Every row whose cell in `column` reads `label`."""
+    return [row for row in range(1, sheet.max_row + 1) if sheet.cell(row, column).value == label]
+
+
+@pytest.mark.parametrize("scenario", list(SCENARIOS))
+def test_every_scenario_keeps_inputs_and_the_caution(scenario: str, tmp_path: Path):
+    formula, workbook = written(scenario, tmp_path)
+    assert workbook.sheetnames == [*SCENARIOS[scenario][2], *OUTPUT_SHEETS]
+    assert workbook["Result"]["A2"].value == CAUTION
+    assert workbook["Result"]["B4"].value == "optimal"
+    info = {row[0]: row[1] for row in workbook["Run info"].iter_rows(min_row=2, values_only=True)}
+    assert info["Caution"] == CAUTION
+    for sheet in OUTPUT_SHEETS:
+        for row in workbook[sheet].iter_rows(values_only=True):
+            assert not any(isinstance(v, float) and not math.isfinite(v) for v in row)
+
+
+@pytest.mark.parametrize("scenario", list(SCENARIOS))
+def test_every_scenario_is_replaced_when_solved_again(scenario: str, tmp_path: Path):
+    write_source, make, inputs = SCENARIOS[scenario]
+    source = write_source(tmp_path / "in.xlsx")
+    first = write(make(), source, tmp_path / "first.xlsx")
+    second = write(make(), first, tmp_path / "second.xlsx")
+    assert load_workbook(second).sheetnames == [*inputs, *OUTPUT_SHEETS]
+    for name in [*inputs, "Result", "Shadow prices"]:
+        assert cell_values(second, name) == cell_values(first, name), name
+    # The output still reads as the same blend, Groups and Products sheets included.
+    again, blend = read_workbook(second), make().blend
+    for field in ("ingredients", "nutrients", "specs", "groups", "products"):
+        assert getattr(again, field) == getattr(blend, field), field
+
+
+def test_ratio_and_dry_matter_lines_with_live_formulas(tmp_path: Path):
+    formula, workbook = written("ration", tmp_path)
+    result = workbook["Result"]
+    header = row_of(result, "Nutrient")
+    rows = table(result, header, len(formula.nutrients))
+    for row, line in zip(rows, formula.nutrients):
+        name, basis, unit, low, high, level, position, _ = row
+        assert (name, unit or "", position) == (line.name, line.unit, line.position)
+        assert basis == {"ratio": "ratio"}.get(line.kind, line.basis)
+        assert (low, high) == (line.minimum, line.maximum)
+        assert level == pytest.approx(line.level) and is_number(level)
+    assert [row[1] for row in rows] == ["as fed"] * 5 + ["dry matter", "dry matter", "ratio"]
+    special = formulas.ration_special_levels()
+    assert rows[5][5] == pytest.approx(special["Crude protein (dry matter)"])
+    assert rows[7][:3] == [formulas.RATIO, "ratio", None]
+    # Dry-matter and ratio levels divide the live as-fed levels above them.
+    live = {name: header + 1 + i for i, name in enumerate(formulas.RATION_NUTRIENTS)}
+    dry, ratio = header + 6, header + 8
+    assert result.cell(dry, LIVE).value == f"=H{live['Crude protein']}/H{live['Dry matter']}*100"
+    assert result.cell(ratio, LIVE).value == f"=H{live['Calcium']}/H{live['Available phosphorus']}"
+    for offset, line in enumerate(formula.nutrients, start=1):
+        text = result.cell(header + offset, LIVE).value
+        assert evaluate(workbook, "Result", text) == pytest.approx(line.level, rel=1e-10)
+
+
+def test_a_ratio_that_cannot_be_worked_out_has_no_live_formula(tmp_path: Path):
+    source = formulas.write_ration_source(tmp_path / "in.xlsx")
+    formula = formulas.ration_formula()
+    undefined = dataclasses.replace(formula.nutrients[-1], level=None, position="undefined")
+    formula = dataclasses.replace(formula, nutrients=(*formula.nutrients[:-1], undefined))
+    result = load_workbook(write(formula, source, tmp_path / "out.xlsx"))["Result"]
+    row = row_of(result, formulas.RATIO)
+    assert result.cell(row, 6).value is None and result.cell(row, LIVE).value is None
+    assert result.cell(row, 7).value == "undefined"
+
+
+def test_stocks_table_for_one_blend(tmp_path: Path):
+    formula, workbook = written("ration", tmp_path)
+    result = workbook["Result"]
+    title = row_of(result, "Stocks")
+    assert title > row_of(result, formulas.RATIO)  # under the nutrient table
+    assert [c.value for c in result[title + 1]] == [
+        "Ingredient", "Used", "Available", "Unit", "Binding",
+        "Shadow price (EUR per 1 unit of stock)", "Worth of one more unit (EUR)", "Stock read from"]
+    rows = table(result, title + 1, len(formula.stocks))
+    assert rows == [
+        ["Barley", 300, 5000, "kg", "no", 0, 0, "Ingredients!F3"],
+        ["Soybean meal", 440, 440, "kg", "yes", -0.0375, 0.0375, "Ingredients!F4"],
+    ]
+    assert all(is_number(v) for row in rows for v in row[1:3] + row[5:7])
+
+
+def test_no_stocks_table_without_stocks(source: Path, tmp_path: Path):
+    workbook = load_workbook(write(formulas.optimal_formula(), source, tmp_path / "out.xlsx"))
+    values = [c.value for row in workbook["Result"].iter_rows() for c in row]
+    assert not any(isinstance(v, str) and v.startswith("Stocks") for v in values)
+
+
+def test_shadow_prices_of_ratio_group_and_stock_limits(tmp_path: Path):
+    formula, workbook = written("ration", tmp_path)
+    sheet = workbook["Shadow prices"]
+    assert "the batch's cost (EUR) for a stock" in sheet["A1"].value
+    rows = table(sheet, 3, len(formula.limits), columns=11)
+    assert sheet.cell(4 + len(formula.limits), 1).value is None
+    by_kind = {}
+    for row, limit in zip(rows, formula.limits):
+        assert (row[0], row[2], row[4], row[10]) == (limit.kind, limit.name, limit.side, limit.cell)
+        assert row[1] is None  # one blend: no product, and stocks have none
+        assert row[8] == limit.shadow_price
+        by_kind.setdefault(limit.kind, []).append(row)
+    dry = by_kind["nutrient"][1]
+    assert dry[3] == "dry matter" and dry[7] == "yes"
+    assert dry[9] == "EUR/tonne per 1 unit of Crude protein (%) in dry matter"
+    ratio = by_kind["ratio"][1]
+    assert ratio[3] == "ratio"
+    assert ratio[9] == "EUR/tonne per 1 unit of the ratio Calcium / Available phosphorus"
+    assert ratio[5] == pytest.approx(formulas.ration_special_levels()[formulas.RATIO])
+    group = by_kind["group"][0]
+    assert group[2:10] == ["Cereals", None, "max", 70, 70, "yes", -0.55, "EUR/tonne per 1 % inclusion"]
+    stock = by_kind["stock"][1]
+    assert stock[2:10] == ["Soybean meal", None, "max", 440, 440, "yes", -0.0375,
+                           "EUR per 1 kg of stock"]
+    assert sheet.cell(3 + len(formula.limits), 6).number_format == "#,##0.00"  # a stock
+
+
+def test_diet_result_shows_amounts_in_each_foods_unit(tmp_path: Path):
+    formula, workbook = written("diet", tmp_path)
+    result = workbook["Result"]
+    assert result["A1"].value == "Wrenhill hostel day menu"
+    cost = row_of(result, "Diet cost")
+    assert [result.cell(cost, c).value for c in (2, 3)] == [pytest.approx(formulas.diet_cost()),
+                                                             "EUR per diet"]
+    values = [c.value for row in result.iter_rows() for c in row]
+    assert "Batch" not in values and "Blend cost" not in values and "Inclusion (%)" not in values
+    header = row_of(result, "Ingredient")
+    assert [c.value for c in result[header]][:7] == [
+        "Ingredient", "Amount", "Unit", "Cost (EUR)", "Price (EUR per unit)",
+        "Reduced cost (EUR per 1 unit)", "Price at which it would come in (EUR per unit)"]
+    rows = table(result, header, len(formula.ingredients), columns=7)
+    for row, food in zip(rows, formulas.DIET_ROWS):
+        assert row[:3] == [food.name, food.x[0], food.unit]
+        assert row[3] == pytest.approx(food.x[0] * food.cost) and is_number(row[3])
+        assert row[4:6] == [food.cost, food.reduced_cost]
+    assert rows[-2][6] == 0.31 and rows[-1][6] == "not in use (Use = no)"
+    total = row_of(result, "Total")
+    # Amounts in different units do not add up: only the cost column has a total.
+    assert result.cell(total, 2).value is None and result.cell(total, 3).value is None
+    assert evaluate(workbook, "Result", result.cell(total, 4).value) == pytest.approx(formula.cost)
+    check = result.cell(row_of(result, "Diet cost from input prices"), 2).value
+    assert "/100" not in check
+    assert evaluate(workbook, "Result", check) == pytest.approx(formula.cost, rel=1e-12)
+    assert result.freeze_panes == f"B{header + 1}"
+
+
+def test_diet_nutrients_are_totals(tmp_path: Path):
+    formula, workbook = written("diet", tmp_path)
+    result = workbook["Result"]
+    header = row_of(result, "Nutrient")
+    assert [c.value for c in result[header]][5:8] == ["Total", "Position", "Total from input contents"]
+    rows = table(result, header, len(formula.nutrients))
+    totals = formulas.diet_levels()
+    for row, line in zip(rows, formula.nutrients):
+        assert row[:3] == [line.name, "as fed", line.unit]
+        assert row[5] == pytest.approx(totals[line.name])
+        assert re.fullmatch(r"=\(B\d+\*Ingredients![A-Z]+\d+(\+B\d+\*Ingredients![A-Z]+\d+)*\)",
+                            row[7]), row[7]
+        assert evaluate(workbook, "Result", row[7]) == pytest.approx(line.level, rel=1e-12)
+    assert rows[3][6] == "at min"
+
+
+def test_diet_shadow_prices(tmp_path: Path):
+    formula, workbook = written("diet", tmp_path)
+    sheet = workbook["Shadow prices"]
+    assert "the diet's cost (EUR per diet)" in sheet["A1"].value
+    rows = table(sheet, 3, len(formula.limits), columns=11)
+    units = {(row[2], row[4]): row[9] for row in rows}
+    assert units[("Vitamin C", "min")] == "EUR per 1 unit of Vitamin C (mg)"
+    assert units[("Wholemeal bread", "max")] == "EUR per 1 slice"
+    assert units[("Fruit", "min")] == "EUR per 1 unit"
+    bread = next(row for row in rows if row[2] == "Wholemeal bread")
+    assert bread[5:9] == [6, 6, "yes", -0.012]
+
+
+def test_products_total_cost_and_its_live_check(tmp_path: Path):
+    formula, workbook = written("products", tmp_path)
+    result = workbook["Result"]
+    total = row_of(result, "Total cost")
+    assert [result.cell(total, c).value for c in (2, 3)] == [pytest.approx(formulas.mill_total()),
+                                                              "EUR"]
+    assert is_number(result.cell(total, 2).value)
+    check = result.cell(row_of(result, "Total cost from input prices"), 2).value
+    assert evaluate(workbook, "Result", check) == pytest.approx(formula.cost, rel=1e-12)
+    values = [c.value for row in result.iter_rows() for c in row]
+    assert "Blend cost" not in values and "Batch" not in values
+
+
+def test_one_block_per_product(tmp_path: Path):
+    formula, workbook = written("products", tmp_path)
+    result = workbook["Result"]
+    starts = rows_of(result, "Product")
+    assert [result.cell(row, 2).value for row in starts] == [name for name, _ in formulas.PRODUCTS]
+    ingredient_headers = rows_of(result, "Ingredient")
+    nutrient_headers = rows_of(result, "Nutrient")
+    for p, (start, product) in enumerate(zip(starts, formula.products)):
+        assert [result.cell(start + 1, c).value for c in (1, 2, 3)] == [
+            "Amount made", product.amount, "kg"]
+        assert [result.cell(start + 2, c).value for c in (1, 2, 3)] == [
+            "Cost", pytest.approx(formulas.mill_costs()[p]), "EUR per tonne"]
+        check = result.cell(start + 3, 2).value
+        assert result.cell(start + 3, 1).value == "Cost from input prices"
+        assert evaluate(workbook, "Result", check) == pytest.approx(product.cost, rel=1e-12)
+
+        header = ingredient_headers[p]
+        assert start < header < (starts + [10**6])[p + 1]
+        assert result.cell(header, 3).value == f"Amount (kg in {product.amount:g} kg made)"
+        rows = table(result, header, len(product.ingredients), columns=6)
+        for row, item in zip(rows, formulas.MILL_ROWS):
+            inclusion = item.x[p]
+            assert row[:3] == [item.name, inclusion, pytest.approx(inclusion / 100 * product.amount)]
+            assert row[3] == pytest.approx(inclusion / 100 * product.amount / 1000 * item.cost)
+            assert all(is_number(v) for v in row[1:])
+        total = header + len(product.ingredients) + 1
+        assert result.cell(total, 1).value == "Total"
+        assert evaluate(workbook, "Result", result.cell(total, 2).value) == pytest.approx(100.0)
+
+        header = nutrient_headers[p]
+        levels = formulas.mill_levels(p)
+        for row, line in zip(table(result, header, len(product.nutrients)), product.nutrients):
+            assert row[:3] == [line.name, "as fed", line.unit]
+            assert row[5] == pytest.approx(levels[line.name]) and row[6] == line.position
+            assert evaluate(workbook, "Result", row[7]) == pytest.approx(line.level, rel=1e-12)
+    starter = table(result, ingredient_headers[0], 5, columns=7)
+    assert starter[2][5:7] == [0.18, 262]  # rapeseed meal is out of the starter
+
+
+def test_stocks_table_for_products(tmp_path: Path):
+    formula, workbook = written("products", tmp_path)
+    result = workbook["Result"]
+    title = row_of(result, "Stocks (shared by all products)")
+    assert title > max(rows_of(result, "Nutrient"))
+    assert result.cell(title + 1, 7).value == "Worth of one more unit (EUR)"
+    assert table(result, title + 1, 2) == [
+        ["Soybean meal", 7000, 7000, "kg", "yes", -0.095, 0.095, "Ingredients!F3"],
+        ["Rapeseed meal", 3820, 4000, "kg", "no", 0, 0, "Ingredients!F4"],
+    ]
+
+
+def test_products_shadow_prices_name_the_product(tmp_path: Path):
+    formula, workbook = written("products", tmp_path)
+    sheet = workbook["Shadow prices"]
+    assert "a product's cost (EUR per tonne)" in sheet["A1"].value
+    assert "the run's total cost (EUR) for a stock" in sheet["A1"].value
+    rows = table(sheet, 3, len(formula.limits), columns=11)
+    assert [row[1] for row in rows] == [limit.product for limit in formula.limits]
+    assert {row[1] for row in rows if row[0] != "stock"} == {name for name, _ in formulas.PRODUCTS}
+    stock = next(row for row in rows if row[0] == "stock" and row[7] == "yes")
+    assert stock[1:10] == [None, "Soybean meal", None, "max", 7000, 7000, "yes", -0.095,
+                           "EUR per 1 kg of stock"]
+    oil = next(row for row in rows if row[1] == "Finisher pellet" and row[2] == "Vegetable oil")
+    assert oil[4:10] == ["max", 6, 6, "yes", -2.4, "EUR/tonne per 1 % inclusion"]
+
+
+@pytest.mark.skipif(
+    not (shutil.which("soffice") or shutil.which("libreoffice")),
+    reason="LibreOffice is not installed",
+)
+def test_spreadsheet_program_agrees_with_every_scenario(tmp_path: Path):
+    # Outside reference: LibreOffice's own formula engine, run headless, on all three
+    # scenarios at once: dry-matter and ratio lines, diet totals and product blocks.
+    outputs, formulas_by_name = [], {}
+    for scenario, (write_source, make, _) in SCENARIOS.items():
+        source = write_source(tmp_path / f"{scenario}.xlsx")
+        formulas_by_name[scenario] = make()
+        outputs.append(write(formulas_by_name[scenario], source, tmp_path / f"{scenario}.out.xlsx"))
+    converted = tmp_path / "converted"
+    program = shutil.which("soffice") or shutil.which("libreoffice")
+    subprocess.run(
+        [program, "--headless", f"-env:UserInstallation=file://{tmp_path / 'profile'}",
+         "--convert-to", "xlsx", "--outdir", str(converted), *map(str, outputs)],
+        check=True, capture_output=True, timeout=300,
+    )
+    for scenario, formula in formulas_by_name.items():
+        result = load_workbook(converted / f"{scenario}.out.xlsx", data_only=True)["Result"]
+        blocks = formula.products if formula.several else (formula,)
+        for header, block in zip(rows_of(result, "Nutrient"), blocks):
+            for offset, line in enumerate(block.nutrients, start=1):
+                assert result.cell(header + offset, LIVE).value == pytest.approx(line.level, rel=1e-9)
+        label = {"ration": "Blend cost from input prices", "diet": "Diet cost from input prices",
+                 "products": "Total cost from input prices"}[scenario]
+        assert result.cell(row_of(result, label), 2).value == pytest.approx(formula.cost, rel=1e-9)
+        for row, product in zip(rows_of(result, "Cost from input prices"), formula.products):
+            assert result.cell(row, 2).value == pytest.approx(product.cost, rel=1e-9)

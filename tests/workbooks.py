@@ -41,6 +41,23 @@ SPECS = [
 # A Specs sheet with its header and no rows: no nutrient limits.
 NO_SPECS = [["Nutrient", "Min", "Max"]]
 
+# Two products from the INGREDIENTS above, with a group and per-product limits.
+PRODUCTS = [
+    ["Product", "Amount (kg)"],
+    ["Layer mash", 6000],
+    ["Pullet grower", 2500],
+]
+GROUPS = [
+    ["Group", "Ingredients", "Min", "Max", "Product"],
+    ["Cereals", "Maize, Wheat bran", 40, None, None],
+    ["Protein feeds", "Soybean meal", None, 25, "Pullet grower"],
+]
+LIMITS = [
+    ["Product", "Ingredient", "Min", "Max"],
+    ["Pullet grower", "Limestone", 1, 2],
+    ["Layer mash", "Wheat bran", None, 10],
+]
+
 
 @dataclass(frozen=True)
 class Styled:
