@@ -72,8 +72,9 @@ Ingredients sheet, one row per ingredient
     At least one ingredient row is required. A row with values but no name is an error.
 
 Specs sheet, one row per bound on a nutrient or on a ratio of two nutrients
-    ``Nutrient``, ``Min``, ``Max`` are required columns; ``Basis`` and ``Product`` are
-    optional; other columns are ignored (use them for notes).
+    ``Nutrient``, ``Min``, ``Max`` are required columns; ``Basis``, ``Product``,
+    ``Penalty`` and ``Priority`` are optional; other columns are ignored (use them for
+    notes).
     ``Nutrient``    a nutrient column of Ingredients, compared like headers; a unit in
                     parentheses may be given and, if both it and the column have one,
                     they must agree. `Spec.nutrient` is the name as written in the
@@ -93,6 +94,12 @@ Specs sheet, one row per bound on a nutrient or on a ratio of two nutrients
                     dry-matter column.
     ``Product``     blank: the spec applies to every product; otherwise the name of a
                     product of the Products sheet, and the spec applies to it alone.
+    ``Penalty``     blank for a spec that must be met; a number above 0 makes an as-fed
+                    nutrient spec soft: it may be missed at that cost per unit of
+                    violation (currency per `Cost per` unit of blend). Ratio and
+                    dry-matter specs cannot be soft.
+    ``Priority``    optional, 1 to 9: when limits conflict, those with a lower priority
+                    give way first (also on Groups and Limits; defaults by kind).
     The same nutrient (or ratio) with the same basis and product at most once.
 
 Groups sheet, optional, one row per bound on the total inclusion of some ingredients
@@ -206,6 +213,8 @@ _SPEC_COLUMNS = {
     "max": ("Max", "the most level of the nutrient in the blend", True),
     "basis": ("Basis", "as fed or dry matter", False),
     "product": ("Product", "the product the row applies to; blank for every product", False),
+    "penalty": ("Penalty", "a soft spec's cost per unit of violation; blank for a hard spec", False),
+    "priority": ("Priority", "which limits give way first when limits conflict", False),
 }
 _GROUP_COLUMNS = {
     "group": ("Group", "the name of each group", True),
@@ -213,6 +222,7 @@ _GROUP_COLUMNS = {
     "min": ("Min", "the least total inclusion of the group", True),
     "max": ("Max", "the most total inclusion of the group", True),
     "product": ("Product", "the product the row applies to; blank for every product", False),
+    "priority": ("Priority", "which limits give way first when limits conflict", False),
 }
 _PRODUCT_COLUMNS = {
     "product": ("Product", "the name of each product", True),
@@ -223,6 +233,7 @@ _LIMIT_COLUMNS = {
     "ingredient": ("Ingredient", "the ingredient the row limits", True),
     "min": ("Min", "the least inclusion of the ingredient in the product", True),
     "max": ("Max", "the most inclusion of the ingredient in the product", True),
+    "priority": ("Priority", "which limits give way first when limits conflict", False),
 }
 _SETTING_COLUMNS = {
     "setting": ("Setting", "the name of each setting", True),
@@ -1032,6 +1043,18 @@ def _read_specs(
 
         minimum = _number(row.get("min"), "min", problems)
         maximum = _number(row.get("max"), "max", problems)
+        penalty = _number(row.get("penalty"), "penalty", problems)
+        priority = _priority(row.get("priority"), problems)
+        if penalty is not None and penalty <= 0:
+            problems.append(Problem(row["penalty"].ref, (
+                f"penalty {penalty:g} must be above 0: it is the cost per unit by which the spec "
+                "may be missed; leave it blank for a spec that must be met"
+            )))
+        elif penalty is not None and target is not None and (target.ratio is not None or basis == DRY_MATTER):
+            problems.append(Problem(row["penalty"].ref, (
+                "a penalty makes only an as-fed nutrient spec soft; ratio and dry-matter specs "
+                "must be met: clear the penalty, or give the limit a low Priority instead"
+            )))
         both_blank = "min" in row and "max" in row and row["min"].kind == row["max"].kind == "blank"
         if both_blank and text is not None:
             problems.append(Problem(name_cell.ref, (
@@ -1049,7 +1072,7 @@ def _read_specs(
         if basis == DRY_MATTER and target.ratio is None and dry_matter_used is None:
             dry_matter_used = row["basis"].ref
         cells = {"nutrient": name_cell.ref, "min": row["min"].ref, "max": row["max"].ref}
-        cells.update({key: row[key].ref for key in ("basis", "product") if key in row})
+        cells.update({key: row[key].ref for key in ("basis", "product", "penalty", "priority") if key in row})
         if target.ratio is None:
             nutrient, ratio = target.column.name, None
         else:
@@ -1062,8 +1085,22 @@ def _read_specs(
             basis=basis,
             ratio=ratio,
             product=product,
+            penalty=penalty,
+            priority=priority,
         ))
     return specs, dry_matter_used
+
+
+def _priority(cell: _Cell | None, problems: list[Problem]) -> float | None:
+    """A Priority cell: a number from 1 to 9, or None when blank (wrong ones are reported)."""
+    value = _number(cell, "priority", problems)
+    if value is not None and not 1 <= value <= 9:
+        problems.append(Problem(cell.ref, (
+            f"priority {value:g} must be from 1 to 9: limits with a lower priority give way first "
+            "when limits conflict (the defaults are in the README)"
+        )))
+        return None
+    return value
 
 
 def _spec_target(cell: _Cell, text: str, context: _SpecContext, problems: list[Problem]) -> _Target:
@@ -1274,6 +1311,7 @@ def _read_groups(
             maximum=maximum,
             cells={key: cell.ref for key, cell in row.items() if key in _GROUP_COLUMNS},
             product=product,
+            priority=_priority(row.get("priority"), problems),
         ))
     return groups
 
@@ -1447,6 +1485,7 @@ def _read_limits(
             minimum=minimum,
             maximum=maximum,
             cells={key: cell.ref for key, cell in row.items() if key in _LIMIT_COLUMNS},
+            priority=_priority(row.get("priority"), problems),
         ))
     return limits
 

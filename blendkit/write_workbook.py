@@ -379,7 +379,7 @@ def _write_several(sheet: Worksheet, workbook: Workbook, formula: Formula) -> No
     if formula.products and len(checks) == len(formula.products):
         per = settings.cost_unit_in_mass_units
         terms = "+".join(f"B{cost}*B{amount}" for amount, cost in checks)
-        _live(sheet.cell(7, 2), f"=({terms})*2/{_plain(per) if per.is_integer() else repr(per)}",
+        _live(sheet.cell(7, 2), f"=({terms})/{_plain(per) if per.is_integer() else repr(per)}",
               MONEY_FORMAT)
         _put(sheet, 7, 3, f"{run_cost_unit(blend)} (live formula: each product's cost from "
                           "input prices x amount made)".strip())

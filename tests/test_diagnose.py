@@ -187,3 +187,49 @@ def test_diagnosis_of_a_large_blend_is_quick_enough_to_run_in_tests(tmp_path):
     blend, diagnosis = diagnosis_of(tmp_path, [header, *rows], specs)
     assert diagnosis.conflicts
     check_irreducible(blend, diagnosis)
+
+
+def test_soft_spec_is_broken_at_its_penalty_and_reported(tmp_path):
+    # Protein min 30 cannot be met (see above); with a penalty of 5 EUR/t per unit it is
+    # missed at that cost instead. Independent elastic LP in HiGHS: minimise
+    # cost + 5 * e subject to level + e >= 30.
+    from scipy.optimize import linprog
+
+    specs = [["Nutrient", "Min", "Max", "Penalty"], ["Crude protein", 30, None, 5], ["Calcium", 0.5, None, None]]
+    book = make_workbook(tmp_path, [HEADER, *FEEDS], specs)
+    result = runner.invoke(app, ["solve", str(book), "--json"])
+    assert result.exit_code == 0, result.output
+    doc = json.loads(result.stdout)
+    cost = np.array([row[1] for row in FEEDS], dtype=float)
+    cp = np.array([row[4] for row in FEEDS], dtype=float)
+    ca = np.array([row[5] for row in FEEDS], dtype=float)
+    c = np.concatenate([cost / 100, [5.0]])
+    A_ub = [np.concatenate([-cp / 100, [-1.0]]), np.concatenate([-ca / 100, [0.0]])]
+    bounds = [(0, None), (0, 25), (0, 3), (0, 20), (0, None)]
+    ref = linprog(c, A_ub=A_ub, b_ub=[-30, -0.5], A_eq=[[1, 1, 1, 1, 0]], b_eq=[100], bounds=bounds, method="highs")
+    assert doc["cost"] == pytest.approx(ref.x[:4] @ cost / 100, rel=1e-9)  # the blend's own cost
+    (broken,) = doc["violations"]
+    assert broken["name"] == "Crude protein" and broken["cell"] == "Specs!B2"
+    assert broken["violation"] == pytest.approx(ref.x[4], rel=1e-7)
+    assert broken["penalty"] == 5
+    assert "SOFT LIMIT BROKEN" in doc["notes"][0]
+
+
+def test_priority_decides_what_gives_way(tmp_path):
+    # Protein 30 against the soybean meal cap: with the cap given priority 1 it is the cap
+    # that moves in the least-cost relaxation; with priority 9 it is the protein spec.
+    def changes(cap_priority):
+        header = [*HEADER[:-1]]
+        feeds = [row[:-1] for row in FEEDS]
+        specs = [["Nutrient", "Min", "Max"], ["Crude protein", 30, None]]
+        # The cap as a one-member group, so that it can carry a Priority.
+        groups = [["Group", "Ingredients", "Min", "Max", "Priority"], ["Soy cap", "Soybean meal", None, 25, cap_priority]]
+        feeds[1][3] = None
+        book = make_workbook(tmp_path / str(cap_priority), [header, *feeds], specs, sheets={"Groups": groups})
+        doc = json.loads(runner.invoke(app, ["solve", str(book), "--json"]).stdout)
+        return {change["kind"] for change in doc["relaxation"]["changes"]}
+
+    (tmp_path / "1").mkdir()
+    (tmp_path / "9").mkdir()
+    assert "group" in changes(1) and "nutrient" not in changes(1)
+    assert "nutrient" in changes(9) and "group" not in changes(9)

@@ -1392,3 +1392,31 @@ def test_damaged_sheet_xml(tmp_path):
         for member, data in members.items():
             archive.writestr(member, data)
     assert only_problem(path).where == "blend.xlsx"
+
+
+def test_penalty_and_priority_are_read(tmp_path):
+    specs = [
+        ["Nutrient", "Min", "Max", "Penalty", "Priority"],
+        ["Crude protein", 16.5, None, 4.5, 2],
+        ["Energy", 11.2, 12.0, None, None],
+    ]
+    groups = [["Group", "Ingredients", "Min", "Max", "Priority"], ["Cereals", "Maize, Wheat bran", 40, None, 7]]
+    blend = read_workbook(make_workbook(tmp_path, INGREDIENTS, specs, sheets={"Groups": groups}))
+    assert blend.specs[0].penalty == 4.5 and blend.specs[0].priority == 2
+    assert blend.specs[1].penalty is None and blend.specs[1].priority is None
+    assert blend.groups[0].priority == 7
+
+
+def test_bad_penalty_and_priority_name_their_cells(tmp_path):
+    specs = [
+        ["Nutrient", "Min", "Max", "Penalty", "Priority"],
+        ["Crude protein", 16.5, None, -1, None],
+        ["Energy", 11.2, 12.0, None, 12],
+        ["Crude protein / Energy", 1.0, None, 3, None],
+    ]
+    with pytest.raises(WorkbookError) as caught:
+        read_workbook(make_workbook(tmp_path, INGREDIENTS, specs))
+    text = str(caught.value)
+    assert "Specs!D2: penalty -1 must be above 0" in text
+    assert "Specs!E3: priority 12 must be from 1 to 9" in text
+    assert "Specs!D4: a penalty makes only an as-fed nutrient spec soft" in text

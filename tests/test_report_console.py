@@ -102,3 +102,113 @@ def test_plain_ascii_text():
     text = render_summary(formulas.optimal_formula())
     assert text.isascii()
     assert "\x1b" not in text  # no terminal colour codes
+
+
+# --- the full model ----------------------------------------------------------------------
+
+
+def test_ratio_and_dry_matter_lines_show_their_basis():
+    nutrients = block(render_summary(formulas.ration_formula()), "Nutrient")
+    width = len("Calcium / Available phosphorus")
+    by_line = [(line[:width].strip(), line[width:].split()) for line in nutrients[2:]]
+    assert by_line[1] == ("Crude protein", ["as", "fed", "%", "16.00", "-", "18.32", "within"])
+    assert by_line[5] == ("Crude protein", ["dry", "matter", "%", "21.74", "-", "21.74", "at", "min"])
+    assert by_line[6] == ("Fibre", ["dry", "matter", "%", "-", "5.000", "4.237", "within"])
+    assert by_line[7] == ("Calcium / Available phosphorus",
+                          ["ratio", "1.800", "2.547", "2.547", "at", "max"])
+
+
+def test_binding_ratio_group_and_stock_limits():
+    limits = block(render_summary(formulas.ration_formula()), "Binding limit")
+    assert limits[0].split() == ["Binding", "limit", "Bound", "Shadow", "price", "Unit"]
+    rows = limits[2:]
+    assert [row[:34].rstrip() for row in rows] == [
+        "Crude protein (dry matter) min",
+        "Calcium / Available phosphorus max",
+        "Cereals (group) max",
+        "Wet brewers' grains max",
+        "Soybean meal (stock) max",
+    ]
+    assert rows[0].endswith("+3.850  EUR/tonne per 1 unit of Crude protein (%) in dry matter")
+    assert rows[1].endswith("-6.200  EUR/tonne per 1 unit of the ratio Calcium / Available phosphorus")
+    assert rows[2].split()[3:] == ["70.000", "-0.5500", "EUR/tonne", "per", "1", "%", "inclusion"]
+    assert rows[4].endswith("440.00      -0.03750  EUR per 1 kg of stock")
+
+
+def test_stocks_of_one_blend():
+    stocks = block(render_summary(formulas.ration_formula()), "Stock ")
+    assert stocks[0].split() == ["Stock", "Unit", "Used", "Available", "Binding", "Worth", "of",
+                                 "one", "more", "unit", "EUR"]
+    assert [line.split() for line in stocks[2:]] == [
+        ["Barley", "kg", "300.00", "5,000.00", "no", "0.00"],
+        ["Soybean", "meal", "kg", "440.00", "440.00", "yes", "0.03750"],
+    ]
+
+
+def test_no_stocks_block_without_stocks():
+    assert "Stock " not in render_summary(formulas.optimal_formula())
+
+
+def test_diet_summary():
+    text = render_summary(formulas.diet_formula())
+    lines = text.splitlines()
+    assert lines[0] == "Wrenhill hostel day menu"
+    assert "Cost: 3.08 EUR per diet" in lines  # 3.075, as stored in binary, rounds up here
+    assert not any(line.startswith("Batch:") for line in lines)
+    foods = block(text, "Ingredient")
+    assert foods[0].split() == ["Ingredient", "Amount", "Unit", "Cost", "EUR"]
+    assert foods[2] == "Porridge oats       2.000  40 g portion        0.16"
+    assert foods[4] == "Semi-skimmed milk   2.500  glass (200 ml)      0.40"
+    assert len(foods) == 2 + 7  # Cheddar and peanut butter are not in the diet
+    nutrients = block(text, "Nutrient")
+    assert nutrients[0].split() == ["Nutrient", "Basis", "Unit", "Min", "Max", "Total", "Position"]
+    assert nutrients[2].split() == ["Energy", "as", "fed", "kcal", "1,900.0", "2,400.0", "1,995.0",
+                                    "within"]
+    limits = block(text, "Binding limit")
+    assert limits[-2].split()[:4] == ["Porridge", "oats", "max", "2.000"]
+    assert limits[-1].endswith("-0.01200  EUR per 1 slice")
+    assert lines[-1] == CAUTION
+
+
+def test_several_products_summary():
+    formula = formulas.mill_formula()
+    text = render_summary(formula)
+    lines = text.splitlines()
+    assert "Total cost: 11,889.80 EUR" in lines
+    assert not any(line.startswith(("Cost:", "Batch:")) for line in lines)
+    assert [line for line in lines if line.startswith("Product:")] == [
+        "Product: Starter crumb, 8,000 kg at 318.50 EUR per tonne",
+        "Product: Grower pellet, 20,000 kg at 300.95 EUR per tonne",
+        "Product: Finisher pellet, 12,000 kg at 276.90 EUR per tonne",
+    ]
+    # One ingredient table and one nutrient table per product, in product order.
+    tables = text.split("\n\n")
+    starts = [i for i, part in enumerate(tables) if part.startswith("Product:")]
+    for start, product in zip(starts, formula.products):
+        ingredients = tables[start + 1].splitlines()
+        used = [line.name for line in product.ingredients if line.inclusion > 0]
+        assert [line[:13].strip() for line in ingredients[2:]] == used
+        nutrients = tables[start + 2].splitlines()
+        assert nutrients[0].startswith("Nutrient")
+        assert len(nutrients) == 2 + len(product.nutrients)
+    starter = tables[starts[0] + 1].splitlines()
+    assert starter[2].split() == ["Wheat", "59.500", "4,760.00"]
+    assert lines[-1] == CAUTION
+
+
+def test_several_products_stocks_and_binding_limits():
+    text = render_summary(formulas.mill_formula())
+    stocks = block(text, "Stock ")
+    assert [line.split() for line in stocks[2:]] == [
+        ["Soybean", "meal", "kg", "7,000.00", "7,000.00", "yes", "0.09500"],
+        ["Rapeseed", "meal", "kg", "3,820.00", "4,000.00", "no", "0.00"],
+    ]
+    limits = block(text, "Binding limit")
+    assert limits[0].split()[:3] == ["Binding", "limit", "Product"]
+    product_column = limits[0].index("Product")
+    products = [line[product_column:product_column + 15].strip() for line in limits[2:]]
+    assert products == ["Starter crumb", "Starter crumb", "Grower pellet", "Finisher pellet",
+                        "Finisher pellet", ""]  # a stock belongs to no one product
+    assert limits[-1].startswith("Soybean meal (stock) max")
+    assert limits[-1].endswith("7,000.00      -0.09500  EUR per 1 kg of stock")
+    assert limits[6].split()[:6] == ["Vegetable", "oil", "max", "Finisher", "pellet", "6.000"]
