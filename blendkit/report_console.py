@@ -71,7 +71,7 @@ def render_summary(formula: Formula) -> str:
 def _product_heading(blend: Blend, product: ProductFormula) -> str:
     """E.g. "Product: Starter crumb, 8,000 kg at 312.40 EUR per tonne"."""
     settings = blend.settings
-    return (f"Product: {product.name}, {product.amount:,.{0 if product.amount.is_integer() else 2}f} "
+    return (f"Product: {product.name}, {product.amount:,.{0 if float(product.amount).is_integer() else 2}f} "
             f"{settings.mass_unit} at {product.cost:,.2f} {cost_unit(settings)}")
 
 

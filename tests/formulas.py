@@ -1,6 +1,8 @@
 """Hand-built blends and formulas for the writer tests, and a source workbook to match.
 
-The scenario is invented: a goat ration for a made-up farm, with round made-up prices.
+The scenarios are invented: a goat ration for a made-up farm, with round made-up prices;
+further down, a grower pig ration with dry-matter and ratio specs, a group and stocks, a
+hostel's day menu (diet mode) and three broiler feeds made from shared stocks.
 Nutrient levels, amounts and costs are worked out here from the contents and inclusions,
 so the numbers agree with the source workbook the live formulas read; the reduced costs
 and shadow prices are simply chosen, since the writers only render them.
@@ -9,9 +11,11 @@ and shadow prices are simply chosen, since the writers only render them.
 from __future__ import annotations
 
 import dataclasses
+from dataclasses import dataclass
 from pathlib import Path
 
 from openpyxl import Workbook
+from openpyxl.utils import get_column_letter
 
 from blendkit.formula import (
     INFEASIBLE,
@@ -20,9 +24,11 @@ from blendkit.formula import (
     IngredientLine,
     Limit,
     NutrientLine,
+    ProductFormula,
     RunInfo,
+    StockLine,
 )
-from blendkit.model import Blend, Ingredient, Settings, Spec
+from blendkit.model import DRY_MATTER, Blend, Group, Ingredient, Product, Settings, Spec
 
 NUTRIENTS = ("Crude protein", "Energy", "Calcium", "Fibre")
 UNITS = {"Crude protein": "%", "Energy": "MJ/kg", "Calcium": "%", "Fibre": "%"}
@@ -220,12 +226,8 @@ def _nutrient_column(index: int) -> str:
 # inclusions (amounts), so they agree with the source workbook the live formulas read;
 # reduced costs and shadow prices are chosen.
 
-from dataclasses import dataclass  # noqa: E402
 
-from openpyxl.utils import get_column_letter  # noqa: E402
 
-from blendkit.formula import ProductFormula, StockLine  # noqa: E402
-from blendkit.model import DRY_MATTER, Group, Product  # noqa: E402
 
 # Ingredients sheet headers of the fixed columns, by the key the reader gives their cells.
 _HEADERS = {"name": "Ingredient", "unit": "Unit", "cost": "Cost", "min": "Min", "max": "Max",
