@@ -220,7 +220,10 @@ def analyse(blend: Blend, lp: BlendLP, result: LPResult) -> Formula:
         side = row.sides[0]
         used = float(activity[i])
         binding = _at(used, side.bound)
-        price = float(y[i]) * (1.0 if lp.multi else lp.cost_units[0]) if binding else 0.0
+        # In the run's total cost: one blend's objective is per Cost per unit of it (a
+        # diet's is already its total).
+        per_run = 1.0 if lp.multi or blend.diet else lp.cost_units[0]
+        price = float(y[i]) * per_run if binding else 0.0
         stock_lines.append(StockLine(row.name, used, side.bound, binding, price, side.cell))
         every_limit.append(Limit(STOCK, row.name, "max", side.bound, used, binding, price, side.cell, None))
     used = (x > 0).any(axis=0)

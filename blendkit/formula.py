@@ -197,12 +197,14 @@ def shadow_price_unit(limit: Limit, blend: Blend) -> str:
         per = f"{settings.currency or 'cost'}"
     if limit.kind == "stock":
         total = settings.currency or "cost"
-        unit = blend.ingredient(limit.name).unit if blend.diet else settings.mass_unit
-        return f"{total} per 1 {unit or 'unit'} of stock"
+        if blend.diet:
+            unit = blend.ingredient(limit.name).unit
+            return f"{total} per unit ({unit}) of stock" if unit else f"{total} per unit of stock"
+        return f"{total} per 1 {settings.mass_unit} of stock"
     if limit.kind in ("ingredient", "group"):
         if blend.diet:
             unit = blend.ingredient(limit.name).unit if limit.kind == "ingredient" else ""
-            return f"{per} per 1 {unit or 'unit'}"
+            return f"{per} per unit ({unit})" if unit else f"{per} per unit"
         return f"{per} per 1 % inclusion"
     if limit.kind == "ratio":
         return f"{per} per 1 unit of the ratio {limit.name}"

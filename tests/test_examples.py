@@ -353,7 +353,6 @@ def test_every_example_solves_with_highs_to_its_recorded_optimum(example):
     assert_specs_met(reference)
 
 
-@pytest.mark.xfail(strict=False, reason="the reader does not read every new construct yet")
 def test_every_example_solves_in_blendkit_to_the_highs_optimum(example):
     from blendkit.pipeline import formulate
     from blendkit.read_workbook import read_workbook

@@ -145,7 +145,6 @@ def test_committed_template_is_current(template: Path):
         assert validations(stored_book[sheet]) == validations(fresh_book[sheet]), sheet
 
 
-@pytest.mark.xfail(strict=False, reason="the reader does not read every new construct yet")
 def test_template_reads_and_solves_in_blendkit(template: Path):
     from blendkit.pipeline import formulate
     from blendkit.read_workbook import read_workbook
