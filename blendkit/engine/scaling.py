@@ -54,8 +54,31 @@ def _middle(index: np.ndarray, logs: np.ndarray, size: int) -> np.ndarray:
     return middle
 
 
+def _dense_scaling(A: np.ndarray) -> Scaling:
+    """`find_scaling` for a dense matrix: the same passes as whole-array operations."""
+    m, n = A.shape
+    nonzero = A != 0
+    logs = np.log2(np.abs(np.where(nonzero, A, 1.0)))
+    log_r, log_c = np.zeros(m), np.zeros(n)
+    high_fill, low_fill = -np.inf, np.inf
+    for _ in range(GEOMETRIC_PASSES):
+        scaled = logs + log_c
+        high = np.where(nonzero, scaled, high_fill).max(axis=1, initial=-np.inf)
+        low = np.where(nonzero, scaled, low_fill).min(axis=1, initial=np.inf)
+        log_r = -np.where(np.isfinite(high), (high + np.where(np.isfinite(low), low, 0)) / 2, 0.0)
+        scaled = logs + log_r[:, None]
+        high = np.where(nonzero, scaled, high_fill).max(axis=0, initial=-np.inf)
+        low = np.where(nonzero, scaled, low_fill).min(axis=0, initial=np.inf)
+        log_c = -np.where(np.isfinite(high), (high + np.where(np.isfinite(low), low, 0)) / 2, 0.0)
+    high = np.where(nonzero, logs + log_r[:, None] + log_c, -np.inf).max(axis=0, initial=-np.inf)
+    log_c = log_c - np.where(np.isfinite(high), high, 0.0)
+    return Scaling(rows=np.exp2(np.round(log_r)), cols=np.exp2(np.round(log_c)))
+
+
 def find_scaling(A) -> Scaling:
     """Scale factors that bring the nonzeros of A near 1."""
+    if not sp.issparse(A):
+        return _dense_scaling(np.asarray(A, dtype=float))
     m, n = A.shape
     rows, cols, logs = _entries(A)
     log_r, log_c = np.zeros(m), np.zeros(n)

@@ -464,31 +464,43 @@ class _Simplex:
             return self._run_dual(cost)
 
     def _run_dual(self, cost: np.ndarray) -> str:
-        """The body of `run_dual`, with floating-point warnings silenced."""
+        """The body of `run_dual`, with floating-point warnings silenced.
+
+        The basic values, their bounds and tolerances are kept as position arrays (xb,
+        lb, ub, slack) between refactorisations, so each iteration touches few arrays.
+        """
         tol = self.tol
         d = self.fresh_duals(cost)
-        rise, fall = self.mobility()
+        rise_f, fall_f = self.mobility()
+        rise, fall = rise_f > 0, fall_f > 0
+        span = self.upper - self.lower
         weights = np.ones(self.m)
         e_r = np.zeros(self.m)
         stall = 0
+        objective = float(cost @ self.z)
+        head = self.head
+
+        def positions():
+            """Basic values, bounds and feasibility slack by basis position."""
+            low, high = self.lower[head], self.upper[head]
+            slack = tol.primal_feasibility * (1 + np.minimum(np.abs(low), np.abs(high)))
+            return self.z[head].copy(), low, high, slack
+
+        xb, lb, ub, slack = positions()
         while True:
             if self.iterations >= self.max_iterations:
+                self.z[head] = xb
                 return "iteration_limit"
-            head = self.head
-            xb = self.z[head]
-            lb, ub = self.lower[head], self.upper[head]
-            below, above = lb - xb, xb - ub
-            infeasibility = np.maximum(np.maximum(below, above), 0.0)
-            infeasibility[infeasibility <= tol.primal_feasibility * (1 + np.minimum(np.abs(lb), np.abs(ub)))] = 0.0
-            r = int(np.argmax(infeasibility * infeasibility / weights)) if self.m else 0
-            if not self.m or infeasibility[r] == 0.0:
+            below = lb - xb
+            worst = np.maximum(below, xb - ub) - slack
+            r = int(np.argmax(np.maximum(worst, 0.0) ** 2 / weights)) if self.m else 0
+            if not self.m or worst[r] <= 0.0:
+                self.z[head] = xb
                 if self.factor.updates:
                     self.refactor()
                     d = self.fresh_duals(cost)
-                    xb = self.z[self.head]
-                    lb, ub = self.lower[self.head], self.upper[self.head]
-                    slack = tol.primal_feasibility * (1 + np.minimum(np.abs(lb), np.abs(ub)))
-                    if np.any(lb - xb > slack) or np.any(xb - ub > slack):
+                    xb, lb, ub, slack = positions()
+                    if np.any(np.maximum(lb - xb, xb - ub) > slack):
                         continue
                 self.d = d
                 return "optimal"
@@ -500,60 +512,63 @@ class _Simplex:
             e_r[r] = 0.0
             # Change of the leaving variable per unit rise of each nonbasic variable.
             gain = -row if rises else row
-            size = np.abs(gain)
-            smallest = tol.pivot * max(1.0, size.max(initial=0.0))
-            up_ok = (rise > 0) & (gain > smallest)
-            down_ok = (fall > 0) & (gain < -smallest)
-            candidate = up_ok | down_ok
-            if not candidate.any():
+            smallest = tol.pivot * max(1.0, row.max(initial=0.0), -row.min(initial=0.0))
+            up = np.flatnonzero(rise & (gain > smallest))
+            down = np.flatnonzero(fall & (gain < -smallest))
+            if not (up.size or down.size):
+                self.z[head] = xb
                 return "infeasible"
-            room = np.maximum(np.where(up_ok, d, -d), 0.0)  # distance of d from changing sign
-            exact = np.divide(room, size, out=np.full(size.size, np.inf), where=candidate)
+            order = np.concatenate([up, down])
+            room = np.maximum(np.concatenate([d[up], -d[down]]), 0.0)  # distance of d from changing sign
+            size = np.abs(gain[order])
+            exact = room / size
             # Bound flipping (the "long step"): walking the breakpoints in order, a boxed
             # variable whose reduced cost would change sign is moved to its other bound
             # instead of entering, as long as the leaving variable stays infeasible.
-            order = np.flatnonzero(candidate)
-            order = order[np.argsort(exact[order], kind="stable")]
-            span = self.upper[order] - self.lower[order]
-            left = abs(xb[r] - target) - np.cumsum(size[order] * span)
-            passed = int(np.argmax(left <= 0)) if np.any(left <= 0) else order.size
-            if passed == order.size:
+            sort = np.argsort(exact, kind="stable")
+            order, room, size, exact = order[sort], room[sort], size[sort], exact[sort]
+            left = abs(xb[r] - target) - np.cumsum(size * span[order])
+            passed = int(np.argmax(left <= 0))
+            if left[passed] > 0:
+                self.z[head] = xb
                 return "infeasible"  # every breakpoint passed: the dual is unbounded
-            rest = order[passed:]
-            relaxed = (room[rest] + tol.dual_feasibility) / size[rest]
-            pick = np.flatnonzero(exact[rest] <= relaxed.min())
-            q = int(rest[pick[np.argmax(size[rest[pick]])]])
+            relaxed = ((room[passed:] + tol.dual_feasibility) / size[passed:]).min()
+            pick = passed + np.flatnonzero(exact[passed:] <= relaxed)
+            q = int(order[pick[np.argmax(size[pick])]])
             flipped = order[:passed]
             alpha = self.factor.ftran(self.column(q))
             pivot = alpha[r]
             if abs(row[q] - pivot) > 1e-7 * (1 + abs(pivot)):
+                self.z[head] = xb
                 self.refactor()
                 d = self.fresh_duals(cost)
+                xb, lb, ub, slack = positions()
                 continue
             self.iterations += 1
             if flipped.size:
-                change = np.where(self.at_upper[flipped], -1.0, 1.0) * (self.upper[flipped] - self.lower[flipped])
+                change = np.where(self.at_upper[flipped], -span[flipped], span[flipped])
                 self.z[flipped] += change
                 self.at_upper[flipped] = ~self.at_upper[flipped]
                 rise[flipped], fall[flipped] = fall[flipped], rise[flipped]
-                self.z[head] -= self.factor.ftran(self.M[:, flipped] @ change)
-                xb = self.z[head]
+                xb -= self.factor.ftran(self.M[:, flipped] @ change)
             step = (xb[r] - target) / pivot  # how far q moves
-            self.z[head] -= step * alpha
-            self.z[q] += step
+            xb -= step * alpha
+            xb[r] = self.z[q] + step  # q takes p's position
             self.z[p] = target
             theta_d = d[q] / row[q]
             d -= theta_d * row
             d[q] = 0.0
-            progress = abs(theta_d) * abs(xb[r] - target)
+            progress = abs(theta_d * step * pivot)
             self.at_upper[p] = not rises
             self.basic[p] = False
             self.basic[q] = True
             head[r] = q
-            movable = self.lower[p] != self.upper[p]
-            rise[p] = float(movable and rises)
-            fall[p] = float(movable and not rises)
-            rise[q] = fall[q] = 0.0
+            lb[r], ub[r] = self.lower[q], self.upper[q]
+            slack[r] = tol.primal_feasibility * (1 + min(abs(lb[r]), abs(ub[r])))
+            movable = span[p] != 0
+            rise[p] = movable and rises
+            fall[p] = movable and not rises
+            rise[q] = fall[q] = False
             # Dual Devex weights of the basic positions.
             ratio = alpha / pivot
             weight_r = max(weights[r], 1.0)
@@ -563,13 +578,17 @@ class _Simplex:
                 weights[:] = 1.0
             self.factor.update(r, alpha)
             if self.factor.due:
+                self.z[head] = xb
                 self.refactor()
                 d = self.fresh_duals(cost)
-            if progress > 1e-12 * (1 + abs(cost @ self.z)):
+                xb, lb, ub, slack = positions()
+            objective += progress
+            if progress > 1e-12 * (1 + abs(objective)):
                 stall = 0
             else:
                 stall += 1
                 if stall >= STALL_LIMIT:
+                    self.z[head] = xb
                     return "stalled"
 
     # ----- both phases --------------------------------------------------------------

@@ -87,6 +87,9 @@ def _bounds(bounds, n: int) -> tuple[np.ndarray, np.ndarray]:
             pairs = pairs * n
     if len(pairs) != n:
         raise ValueError(f"bounds must give one (lower, upper) pair per variable ({n}), got {len(pairs)}")
+    fast = _pairs_at_once(pairs, n)
+    if fast is not None:
+        return fast
     for j, pair in enumerate(pairs):
         try:
             lo, hi = pair
@@ -98,6 +101,29 @@ def _bounds(bounds, n: int) -> tuple[np.ndarray, np.ndarray]:
             raise ValueError(f"bounds[{j}] must not be NaN")
         if lower[j] == np.inf or upper[j] == -np.inf:
             raise ValueError(f"bounds[{j}] = {pair!r}: a lower bound of +inf or upper bound of -inf admits no value")
+    return lower, upper
+
+
+def _pairs_at_once(pairs, n: int) -> tuple[np.ndarray, np.ndarray] | None:
+    """The bounds of a well-formed list of pairs in a few array operations, or None to
+    fall back to the pair-by-pair reading that names the bad pair."""
+    try:
+        table = np.array(pairs, dtype=object)
+    except (TypeError, ValueError):
+        return None
+    if table.shape != (n, 2):
+        return None
+    missing = table == None  # noqa: E711 (element-wise comparison with None)
+    try:
+        values = np.where(missing, 0.0, table).astype(float)
+    except (TypeError, ValueError):
+        return None
+    if np.isnan(values).any():
+        return None
+    lower = np.where(missing[:, 0], -np.inf, values[:, 0])
+    upper = np.where(missing[:, 1], np.inf, values[:, 1])
+    if np.any(lower == np.inf) or np.any(upper == -np.inf):
+        return None
     return lower, upper
 
 
