@@ -437,19 +437,7 @@ class _Simplex:
                 return self._stop(status, "the objective can fall without limit", ray=self.ray[:n].copy(), phase_one=0)
             return None
         self.algorithm = "dual"
-        return SimplexOutcome(
-            status="optimal",
-            message="optimal solution found",
-            x=self.z[:n].copy(),
-            y=self.y.copy(),
-            d=self.d[:n].copy(),
-            iterations=self.iterations,
-            phase_one_iterations=0,
-            head=self.head.copy(),
-            at_upper=self.at_upper[: n + m].copy(),
-            warm=basis is not None,
-            algorithm="dual",
-        )
+        return self._optimal(phase_one=0, warm=basis is not None)
 
     def run_dual(self, cost: np.ndarray) -> str:
         """Dual simplex iterations until primal feasible ("optimal"), or a reason to stop.
@@ -656,6 +644,11 @@ class _Simplex:
         if status == "iteration_limit":
             return self._stop(status, f"iteration limit ({self.max_iterations}) reached in phase two",
                               phase_one=phase_one_iterations)
+        return self._optimal(phase_one=phase_one_iterations, warm=self.warm)
+
+    def _optimal(self, phase_one: int, warm: bool) -> SimplexOutcome:
+        """The outcome at an optimal basis (duals and reduced costs already computed)."""
+        n, m = self.n, self.m
         return SimplexOutcome(
             status="optimal",
             message="optimal solution found",
@@ -663,10 +656,10 @@ class _Simplex:
             y=self.y.copy(),
             d=self.d[:n].copy(),
             iterations=self.iterations,
-            phase_one_iterations=phase_one_iterations,
+            phase_one_iterations=phase_one,
             head=self.head.copy(),
             at_upper=self.at_upper[: n + m].copy(),
-            warm=self.warm,
+            warm=warm,
             algorithm=self.algorithm,
         )
 
