@@ -22,7 +22,15 @@ import numpy as np
 
 from blendkit.build_lp import GROUP, NUTRIENT, RATIO, STOCK, TOTAL, BlendLP, LPRow, ingredient_limits
 from blendkit.engine import LPResult
-from blendkit.formula import Formula, IngredientLine, Limit, NutrientLine, ProductFormula, StockLine
+from blendkit.formula import (
+    SOFT_LIMIT_NOTE,
+    Formula,
+    IngredientLine,
+    Limit,
+    NutrientLine,
+    ProductFormula,
+    StockLine,
+)
 from blendkit.model import AS_FED, DRY_MATTER, Blend
 
 # A level within this distance (relative to 1 + |bound|) of a bound sits at it.
@@ -84,7 +92,7 @@ def _violation_notes(limits: list[Limit]) -> tuple[str, ...]:
         if limit.violation > 0:
             where = f"{limit.product}: " if limit.product else ""
             notes.append(
-                f"SOFT LIMIT BROKEN: {where}{limit.name} {limit.side} {limit.bound:g} is missed by "
+                f"{SOFT_LIMIT_NOTE} {where}{limit.name} {limit.side} {limit.bound:g} is missed by "
                 f"{limit.violation:.4g} (level {limit.level:.4g}) at a penalty of {limit.penalty:g} per unit ({limit.cell})"
             )
     return tuple(notes)
@@ -113,10 +121,12 @@ def analyse(blend: Blend, lp: BlendLP, result: LPResult) -> Formula:
     """The Formula for `blend` from the engine's `result` on `lp`."""
     if result.status != "optimal":
         message = MESSAGES.get(result.status, result.status)
+        if result.status != "infeasible":
+            message = f"{message} ({result.message})"  # the engine's detail helps a bug report
         return Formula(
             blend=blend,
             status=result.status,
-            message=f"{message} ({result.message})",
+            message=message,
             cost=None,
             ingredients=(),
             nutrients=(),

@@ -26,6 +26,7 @@ from __future__ import annotations
 
 import dataclasses
 from dataclasses import dataclass
+from decimal import ROUND_CEILING, ROUND_FLOOR, Decimal
 
 import numpy as np
 
@@ -40,7 +41,10 @@ DEFAULT_PRIORITY = {"nutrient": 3, "ratio": 3, "group": 3, "ingredient": 2, "use
 # How many independent conflicts to look for before saying more may remain.
 MOST_CONFLICTS = 8
 # A violation below this (relative to 1 + |bound|) is rounding, not a change.
-CHANGED = 1e-7
+CHANGED = 1e-6
+# Reported moves keep this many significant digits, rounded outward (a lower min, a
+# higher max), so a move is never short by rounding.
+DIGITS = 7
 
 
 @dataclass(frozen=True)
@@ -402,8 +406,21 @@ def least_cost_relaxation(blend: Blend, lp: BlendLP, members: list[Member]) -> t
         if x[column] <= CHANGED * (1 + abs(member.bound)):
             continue
         level = _level(lp, member, levels_x, base)
-        changes.append(Change(member, level))
+        changes.append(Change(member, _outward(level, member.side)))
     return tuple(changes)
+
+
+def _outward(value: float | None, side: str) -> float | None:
+    """`value` for a report: a round number when `value` only differs from it by solver
+    noise, else DIGITS significant digits rounded outward (down for a min, up for a max)."""
+    if value is None or not np.isfinite(value) or value == 0:
+        return value
+    near = float(f"{value:.{DIGITS - 1}g}")
+    if abs(near - value) <= 1e-7 * abs(value):
+        return near
+    exponent = Decimal(value).adjusted() - DIGITS + 1
+    rounding = ROUND_FLOOR if side == "min" else ROUND_CEILING
+    return float(Decimal(value).quantize(Decimal(1).scaleb(exponent), rounding=rounding))
 
 
 def _level(lp: BlendLP, member: Member, x: np.ndarray, form: StandardForm) -> float:
@@ -491,7 +508,7 @@ def diagnose(blend: Blend, lp: BlendLP) -> Diagnosis:
         for k in np.flatnonzero(conflict):
             active = everything & ~others
             active[k] = False
-            moves.append(_best_level(lp, members, active, members[k]))
+            moves.append(_outward(_best_level(lp, members, active, members[k]), members[k].side))
         conflicts.append(Conflict(tuple(members[k] for k in np.flatnonzero(conflict)), tuple(moves)))
     changes = least_cost_relaxation(blend, lp, members)
     return Diagnosis(

@@ -10,6 +10,10 @@ from dataclasses import dataclass
 
 from blendkit.model import Blend, Settings
 
+# How the analysis starts a note about a broken soft spec; writers that show such specs
+# in a block of their own leave these notes out of the notes list.
+SOFT_LIMIT_NOTE = "SOFT LIMIT BROKEN:"
+
 # Statuses a formula can have; the engine's statuses pass through unchanged.
 OPTIMAL = "optimal"
 INFEASIBLE = "infeasible"

@@ -2,6 +2,10 @@
 
 Fixed-width columns, no colours and no dependencies, so the text reads the same in a
 terminal, a log file or an e-mail. The caution is always the last line.
+
+Broken soft specs come right after the cost, before the tables. An infeasible blend shows
+its conflicting sets of limits (each member with the value it alone would have to move
+to) and the cheapest way out, kept within 80 columns where the names allow.
 """
 
 from __future__ import annotations
@@ -10,6 +14,8 @@ import math
 
 from blendkit import CAUTION
 from blendkit.formula import (
+    SOFT_LIMIT_NOTE,
+    ConflictLine,
     Formula,
     IngredientLine,
     Limit,
@@ -26,16 +32,23 @@ _GAP = "  "
 # Inclusions (and inclusion limits) are shown to 0.001 % of the blend; diet amounts to
 # 0.001 of the food's unit.
 _INCLUSION_DECIMALS = 3
+# Lines are kept within this width where the names in them allow it.
+_WIDTH = 80
+# Plain ASCII, like the rest of the summary: the text must survive any console encoding.
+_ARROW = "->"
+# How the analysis starts a broken soft limit's note; the summary shows those in a block
+# of their own, so the notes list skips them.
 
 
 def render_summary(formula: Formula) -> str:
-    """A few short blocks: title, status, cost, ingredients used, nutrients, stocks,
-    binding limits, notes, then the caution as the last line.
+    """A few short blocks: title, status, cost, broken soft limits, ingredients used,
+    nutrients, stocks, binding limits, notes, then the caution as the last line.
 
     A diet shows amounts in each food's unit and its cost for the whole diet; several
     products show the run's total cost, then each product's amount, cost and tables. For
     a blend that was not solved to optimality only the status, the message and any notes
-    are shown (and the caution)."""
+    are shown (and the caution); an infeasible one adds its conflicting limits and the
+    cheapest way out."""
     blend = formula.blend
     settings = blend.settings
     title = settings.name or (blend.source.stem if blend.source else "Blend")
@@ -50,6 +63,11 @@ def render_summary(formula: Formula) -> str:
         if not blend.diet and not formula.several:
             status.append(f"Batch: {settings.batch_size:g} {settings.mass_unit}")
     blocks.append(status)
+    broken = _broken_limits(formula)
+    blocks.append(_soft_limits(formula, broken))
+    if formula.status == "infeasible":
+        blocks.append(_conflicts(formula))
+        blocks.append(_way_out(formula))
 
     if formula.solved:
         if formula.several:
@@ -62,10 +80,140 @@ def render_summary(formula: Formula) -> str:
             blocks.append(_nutrients(blend, formula.nutrients))
         blocks.append(_stocks(formula))
         blocks.append(_binding_limits(formula))
-    if formula.notes:
-        blocks.append(["Notes:", *(f"- {note}" for note in formula.notes)])
+    notes = [note for note in formula.notes if not (broken and note.startswith(SOFT_LIMIT_NOTE))]
+    if notes:
+        blocks.append(["Notes:", *(f"- {note}" for note in notes)])
     blocks.append([CAUTION])
     return "\n\n".join("\n".join(block) for block in blocks if block)
+
+
+def _broken_limits(formula: Formula) -> list[Limit]:
+    """The soft limits the formula breaks, each once (a product's limits are also the run's)."""
+    every = [*formula.limits, *(limit for product in formula.products for limit in product.limits)]
+    return [limit for limit in dict.fromkeys(every) if limit.broken]
+
+
+def _soft_limits(formula: Formula, broken: list[Limit]) -> list[str]:
+    """The broken soft limits: bound, level, violation, penalty and cell of each."""
+    if not broken:
+        return []
+    blend = formula.blend
+    unit = run_cost_unit(blend) if blend.diet else cost_unit(blend.settings)
+    money = unit if blend.settings.currency else f"cost {unit}"
+    rows = []
+    for limit in broken:
+        decimals = _decimals([limit.bound, limit.level])
+        row = [
+            _limit_label(limit),
+            _fixed(limit.bound, decimals),
+            _fixed(limit.level, decimals),
+            _fixed(limit.violation, decimals),
+            _fixed(limit.penalty, _decimals([limit.penalty], least=2)),
+            limit.cell,
+        ]
+        if formula.several:
+            row.insert(1, limit.product or "")
+        rows.append(row)
+    headers = ["Soft limit", "Bound", "Level", "Violation", "Penalty", "Cell"]
+    if formula.several:
+        headers.insert(1, "Product")
+    if len(broken) == 1:
+        count = "1 soft spec missed; meeting it would cost more."
+    else:
+        count = f"{len(broken)} soft specs missed; meeting them would cost more."
+    return [
+        f"SOFT LIMITS BROKEN: {count}",
+        f"Penalty: {money} for each unit of violation (shortfall or excess).",
+        *_table(headers, rows, left=2 if formula.several else 1, last_left=True),
+    ]
+
+
+def _conflicts(formula: Formula) -> list[str]:
+    """Each conflicting set, its members in the workbook's words with their one-bound moves."""
+    if not formula.conflicts:
+        return []
+    numbers = sorted({line.conflict for line in formula.conflicts})
+    rows: list[list[str] | str] = []
+    for number in numbers:
+        if len(numbers) > 1:
+            rows.append(f"Conflict {number} of {len(numbers)}:")
+        # The sum-to-100 rows last: the limits the user can change come first.
+        members = sorted((line for line in formula.conflicts if line.conflict == number),
+                         key=lambda line: line.kind == "total")
+        rows.extend([member.text, f"{_ARROW} {_alone(member)}"] for member in members)
+    lines = ["These limits cannot all hold together:", *_aligned(rows)]
+    what = "that conflict" if len(numbers) > 1 else "the conflict"
+    lines.append(f"Dropping or moving any one limit of a conflict resolves {what}.")
+    if not formula.conflicts_complete:
+        lines.append("More conflicts may remain after these are fixed: solve again to see them.")
+    return lines
+
+
+def _alone(line: ConflictLine) -> str:
+    """The one-bound move of a conflict member, in words."""
+    if line.kind == "total":
+        return "cannot move"
+    if line.relax_to is None:
+        return "no single move"
+    if line.kind == "use":
+        return f"alone: set Use to yes, max {_short(line.relax_to)}"
+    return f"alone: move to {_short(line.relax_to)}"
+
+
+def _way_out(formula: Formula) -> list[str]:
+    """The least-cost relaxation: each bound's old and new value and cell, then the cost."""
+    relaxation = formula.relaxation
+    if relaxation is None or not relaxation.changes:
+        if not formula.conflicts:
+            return []
+        return ["Cheapest way out: none found; change the limits above by hand."]
+    rows: list[list[str] | str] = []
+    for change in relaxation.changes:
+        # In the conflicts' own words: cell, name and old bound, then the new bound.
+        new = _short(change.relax_to)
+        if change.kind == "use":
+            new = f"Use = yes, max {new}"
+        rows.append([change.text, f"{_ARROW} {new}"])
+    blend = formula.blend
+    label = "Total cost" if formula.several else "Diet cost" if blend.diet else "Cost"
+    result = relaxation.formula
+    if result is not None and result.cost is not None:
+        cost = f"{label} once all of them are moved: {result.cost:,.2f} {run_cost_unit(blend)}".rstrip()
+    else:
+        cost = f"{label} once all of them are moved: unknown (the moved workbook did not solve)."
+    return ["Cheapest way out:", *_aligned(rows), cost]
+
+
+def _aligned(rows: list[list[str] | str]) -> list[str]:
+    """Indented rows of parts in columns, where that fits in _WIDTH; a plain string is a
+    heading between them. A row too wide for its columns is written with single gaps, and
+    one still too wide has its last parts on a line of their own, further indented."""
+    indent = "  "
+    table = [row for row in rows if not isinstance(row, str)]
+    widths = [max(len(row[i]) for row in table) for i in range(len(table[0]))] if table else []
+    lines = []
+    for row in rows:
+        if isinstance(row, str):
+            lines.append(row)
+            continue
+        padded = indent + _GAP.join(part.ljust(width) for part, width in zip(row, widths)).rstrip()
+        plain = indent + _GAP.join(part for part in row if part)
+        if len(padded) <= _WIDTH:
+            lines.append(padded)
+        elif len(plain) <= _WIDTH:
+            lines.append(plain)
+        else:
+            lines.extend([indent + row[0], indent + "    " + _GAP.join(part for part in row[1:] if part)])
+    return lines
+
+
+def _short(value: float | None) -> str:
+    """A bound in few characters: four significant digits, no exponent for large values."""
+    if value is None or not math.isfinite(value):
+        return "-"
+    if abs(value) >= 1e4:
+        return f"{value:.0f}"
+    return f"{value + 0.0:.4g}"
 
 
 def _product_heading(blend: Blend, product: ProductFormula) -> str:

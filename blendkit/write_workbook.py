@@ -1,4 +1,4 @@
-"""Write the result workbook: the input sheets unchanged, plus three output sheets.
+"""Write the result workbook: the input sheets unchanged, plus the output sheets.
 
 The writer renders a `Formula`; it computes nothing of its own. For the reviewer it adds
 live spreadsheet formulas that recompute the blend cost and every nutrient level from the
@@ -6,9 +6,15 @@ input cells, so the numbers can be checked in any spreadsheet program.
 
 Output sheets (replaced, never duplicated, when an output workbook is solved again):
 
-* ``Result``: title, caution, status, cost, the ingredient table and the nutrient table
-  (a diet shows amounts in each food's unit; with several products, the run's total cost
-  and one block of both tables per product), then the stocks, if the run has any.
+* ``Result``: title, caution, status, cost, a highlighted block of broken soft limits (if
+  any), the ingredient table and the nutrient table (a diet shows amounts in each food's
+  unit; with several products, the run's total cost and one block of both tables per
+  product), then the stocks, if the run has any. An infeasible run's Result points to
+  the Conflicts sheet.
+* ``Conflicts`` (only when the run is infeasible): each irreducible conflicting set of
+  limits with the cells they were read from and how far each bound alone would have to
+  move, then the least-cost relaxation and the cost of the blend once it is made. A
+  Conflicts sheet left by an earlier run is removed when the workbook is now feasible.
 * ``Shadow prices``: one row per limit the user wrote (spec, ratio, group, stock or
   inclusion limit, with its product), with its shadow price and unit.
 * ``Run info``: tool version, time, input file name and SHA-256, status, caution.
@@ -32,17 +38,21 @@ from xml.etree import ElementTree
 from xml.sax.saxutils import escape as xml_escape
 
 from openpyxl import load_workbook
-from openpyxl.styles import Alignment, Border, Font, Side
+from openpyxl.styles import Alignment, Border, Font, PatternFill, Side
 from openpyxl.utils import get_column_letter
 from openpyxl.utils.cell import coordinate_to_tuple
 from openpyxl.utils.datetime import to_excel
 from openpyxl.workbook.workbook import Workbook
+from openpyxl.worksheet.hyperlink import Hyperlink
 from openpyxl.worksheet.worksheet import Worksheet
 
 from blendkit import CAUTION
 from blendkit.formula import (
+    SOFT_LIMIT_NOTE,
+    ConflictLine,
     Formula,
     IngredientLine,
+    Limit,
     NutrientLine,
     ProductFormula,
     RunInfo,
@@ -53,8 +63,8 @@ from blendkit.formula import (
 from blendkit.model import AS_FED, DRY_MATTER, Blend
 
 # Sheets this writer owns; any sheet with one of these names (any case) is replaced.
-OUTPUT_SHEETS = ("Result", "Shadow prices", "Run info")
-RESULT, SHADOW_PRICES, RUN_INFO = OUTPUT_SHEETS
+OUTPUT_SHEETS = ("Result", "Conflicts", "Shadow prices", "Run info")
+RESULT, CONFLICTS, SHADOW_PRICES, RUN_INFO = OUTPUT_SHEETS
 
 # The sheet a bare cell reference from the reader (no "Sheet!" part) belongs to.
 INGREDIENTS_SHEET = "Ingredients"
@@ -91,6 +101,12 @@ _THIN = Side(style="thin")
 _HEADER_BORDER = Border(bottom=_THIN)
 _BOX = Border(left=_THIN, right=_THIN, top=_THIN, bottom=_THIN)
 _WRAP_TOP = Alignment(wrap_text=True, vertical="top")
+_LINK = Font(bold=True, size=12, underline="single", color="0563C1")
+# The broken soft limits block: a warm fill that stands out from the plain tables.
+_ALERT_FILL = PatternFill(fill_type="solid", start_color="FCE4D6", end_color="FCE4D6")
+_ALERT_TEXT = Font(bold=True, color="9C0006")
+# How the analysis starts a broken soft limit's note; the Result sheet shows those in a
+# block of its own near the top, so its notes list skips them.
 
 # Result sheet column widths, in characters: name column, then the number columns.
 _NAME_WIDTH = 30
@@ -98,6 +114,10 @@ _NUMBER_WIDTH = 16
 _RESULT_COLUMNS = 8
 # The nutrient table's column of live formulas; ratio and dry-matter lines divide its cells.
 _LIVE_COLUMN = 8
+# Rows of broken soft limits (with their heading) that may join the frozen top of Result.
+_MOST_FROZEN_ROWS = 6
+# Conflicts sheet column widths, in characters: Kind, Name, Product, Side, Bound, Cell, move.
+_CONFLICT_WIDTHS = (12, 28, 18, 8, 14, 18, 34)
 
 
 def write_workbook(formula: Formula, run: RunInfo, source: Path, output: Path) -> Path:
@@ -129,6 +149,8 @@ def write_workbook(formula: Formula, run: RunInfo, source: Path, output: Path) -
     saved = _saved_results(data, workbook)
     title = formula.blend.settings.name or source.stem
     result = _write_result(workbook, formula, title)
+    if formula.status == "infeasible":
+        _write_conflicts(workbook, formula, title)
     _write_shadow_prices(workbook, formula)
     _write_run_info(workbook, formula, run, title)
     _show_first(workbook, result)
@@ -313,6 +335,8 @@ def _write_result(workbook: Workbook, formula: Formula, title: str) -> Worksheet
     if not formula.solved:
         sheet["B4"].font = _STATUS_ALERT
         sheet["B5"].font = _STATUS_ALERT
+        if formula.status == "infeasible":
+            _write_conflicts_pointer(sheet, formula, row=6)
         sheet["A7"] = (
             "No blend was found, so this sheet shows no numbers. Read the message above "
             "and the notes below, correct the workbook and solve again."
@@ -329,11 +353,12 @@ def _write_result(workbook: Workbook, formula: Formula, title: str) -> Worksheet
 def _write_one(sheet: Worksheet, workbook: Workbook, formula: Formula) -> None:
     """One blend or one diet: its cost, the cost's live check and the batch, then the tables.
 
-    Rows 6-8 hold the top block; the ingredient table's header is on row 10.
+    Rows 6-8 hold the top block; the ingredient table's header is on row 10, or below the
+    broken soft limits block when there is one.
     """
     blend = formula.blend
     settings = blend.settings
-    header = 10
+    header = _write_broken(sheet, formula, 10)
     rows = _ingredient_rows(formula.ingredients, header)
     label = "Diet cost" if blend.diet else "Blend cost"
     _write_cost(sheet, workbook, blend, 6, label, formula.cost, run_cost_unit(blend),
@@ -350,8 +375,11 @@ def _write_one(sheet: Worksheet, workbook: Workbook, formula: Formula) -> None:
     below = _write_tables(sheet, workbook, blend, formula.ingredients, formula.nutrients, header,
                           settings.batch_size, rows)
     below = _write_stocks(sheet, formula, below)
-    _write_notes(sheet, formula.notes, below)
-    sheet.freeze_panes = sheet.cell(header + 1, 2)  # top block, table header and names stay
+    _write_notes(sheet, _notes(formula), below)
+    if header - 10 <= _MOST_FROZEN_ROWS:
+        sheet.freeze_panes = sheet.cell(header + 1, 2)  # top block, table header and names stay
+    else:
+        sheet.freeze_panes = "B1"  # a long soft limits block would fill the screen: names only
 
 
 def _write_several(sheet: Worksheet, workbook: Workbook, formula: Formula) -> None:
@@ -370,7 +398,7 @@ def _write_several(sheet: Worksheet, workbook: Workbook, formula: Formula) -> No
     for cell in ("A6", "A7"):
         sheet[cell].font = _BOLD
 
-    row = 9
+    row = _write_broken(sheet, formula, 9)
     checks: list[tuple[int, int]] = []  # (row of the amount made, row of the live cost)
     for product in formula.products:
         row, check = _write_product(sheet, workbook, formula, product, row)
@@ -386,7 +414,7 @@ def _write_several(sheet: Worksheet, workbook: Workbook, formula: Formula) -> No
     else:
         sheet["C7"] = "not available: input cells unknown or formula too long"
     row = _write_stocks(sheet, formula, row)
-    _write_notes(sheet, formula.notes, row)
+    _write_notes(sheet, _notes(formula), row)
     sheet.freeze_panes = "B1"  # the name column stays; blocks scroll by
 
 
@@ -443,17 +471,97 @@ def _write_cost(
     return row + 1
 
 
-def _write_caution(sheet: Worksheet, row: int) -> None:
-    """The caution in a boxed, wrapped cell across the table's width."""
-    cell = _put(sheet, row, 1, CAUTION)
-    cell.font = _BOLD
-    cell.alignment = _WRAP_TOP
-    sheet.merge_cells(start_row=row, start_column=1, end_row=row, end_column=_RESULT_COLUMNS)
-    for column in range(1, _RESULT_COLUMNS + 1):
+def _write_caution(
+    sheet: Worksheet,
+    row: int,
+    columns: int = _RESULT_COLUMNS,
+    width: int = _NAME_WIDTH + _NUMBER_WIDTH * (_RESULT_COLUMNS - 1),
+) -> None:
+    """The caution in a boxed, wrapped cell across `columns` columns, `width` characters."""
+    _paragraph(sheet, row, CAUTION, columns, width, bold=True)
+    for column in range(1, columns + 1):
         sheet.cell(row, column).border = _BOX
-    width = _NAME_WIDTH + _NUMBER_WIDTH * (_RESULT_COLUMNS - 1)
-    lines = math.ceil(len(CAUTION) * 1.15 / width)  # bold text runs a little wider
+
+
+def _paragraph(sheet: Worksheet, row: int, text: str, columns: int, width: int,
+               bold: bool = False):
+    """Text wrapped in one cell merged across `columns` columns (`width` characters in all),
+    its row tall enough to show it; returns the cell."""
+    cell = _put(sheet, row, 1, text)
+    cell.alignment = _WRAP_TOP
+    if bold:
+        cell.font = _BOLD
+    sheet.merge_cells(start_row=row, start_column=1, end_row=row, end_column=columns)
+    lines = math.ceil(len(text) * (1.15 if bold else 1.05) / width)  # bold runs wider
     sheet.row_dimensions[row].height = 15 * lines + 4
+    return cell
+
+
+def _broken_limits(formula: Formula) -> list[Limit]:
+    """The soft limits the formula breaks, each once (a product's limits are also the run's)."""
+    every = [*formula.limits, *(limit for product in formula.products for limit in product.limits)]
+    return [limit for limit in dict.fromkeys(every) if limit.broken]
+
+
+def _notes(formula: Formula) -> tuple[str, ...]:
+    """The notes, less those for broken soft limits when the Result shows them in a block."""
+    if not _broken_limits(formula):
+        return formula.notes
+    return tuple(note for note in formula.notes if not note.startswith(SOFT_LIMIT_NOTE))
+
+
+def _write_broken(sheet: Worksheet, formula: Formula, row: int) -> int:
+    """The broken soft limits, highlighted, from `row`; returns the first row for what
+    follows (`row` itself when every limit is met)."""
+    broken = _broken_limits(formula)
+    if not broken:
+        return row
+    blend = formula.blend
+    unit = run_cost_unit(blend) if blend.diet else cost_unit(blend.settings)
+    money = unit if blend.settings.currency else f"cost {unit}"
+    labels = ["Soft limit", "Side", "Bound", "Level", "Violation (shortfall or excess)",
+              f"Penalty ({money} per unit of violation)", "Bound read from"]
+    if formula.several:
+        labels.insert(1, "Product")
+    if len(broken) == 1:
+        count = "1 soft spec missed: meeting it would cost more than its penalty."
+    else:
+        count = f"{len(broken)} soft specs missed: meeting them would cost more than their penalties."
+    _put(sheet, row, 1, "SOFT LIMITS BROKEN").font = _ALERT_TEXT
+    _put(sheet, row, 2, f"{count} Check that this is acceptable.").font = _ALERT_TEXT
+    _header(sheet, row + 1, labels)
+    for offset, limit in enumerate(broken, start=2):
+        at = row + offset
+        values = [limit.name, limit.side]
+        if formula.several:
+            values.insert(1, limit.product)
+        for column, value in enumerate(values, start=1):
+            _put(sheet, at, column, value)
+        first = len(values) + 1
+        number_format = _format_by_size([limit.bound, limit.level], 1)
+        for column, value in enumerate((limit.bound, limit.level, limit.violation), start=first):
+            _number(sheet.cell(at, column), value, number_format)
+        _number(sheet.cell(at, first + 3), limit.penalty, _format_by_size([limit.penalty], 2))
+        _put(sheet, at, first + 4, limit.cell)
+    last = row + 1 + len(broken)
+    for at in range(row, last + 1):
+        for column in range(1, len(labels) + 1):
+            sheet.cell(at, column).fill = _ALERT_FILL
+    return last + 2
+
+
+def _write_conflicts_pointer(sheet: Worksheet, formula: Formula, row: int) -> None:
+    """A line in the Result's message area that sends the reader to the Conflicts sheet."""
+    count = len({line.conflict for line in formula.conflicts})
+    if count:
+        sets = f"{count} set{'s' if count != 1 else ''} of limits that cannot all hold together"
+        text = f"See the Conflicts sheet: {sets}, their cells, and the cheapest way out."
+    else:
+        text = "See the Conflicts sheet."
+    _put(sheet, row, 1, "Conflicts").font = _BOLD
+    cell = _put(sheet, row, 2, text)
+    cell.font = _LINK
+    cell.hyperlink = Hyperlink(ref=cell.coordinate, location=f"{_quote_sheet(CONFLICTS)}!A1")
 
 
 def _ingredient_rows(lines: tuple[IngredientLine, ...], header_row: int) -> dict[str, int]:
@@ -773,6 +881,127 @@ def _quote_sheet(name: str) -> str:
     if plain and not cell_like:
         return name
     return "'" + name.replace("'", "''") + "'"
+
+
+# --- Conflicts sheet -----------------------------------------------------------------------
+
+
+def _write_conflicts(workbook: Workbook, formula: Formula, title: str) -> None:
+    """Why no blend was found: each conflicting set, then the least-cost way out.
+
+    Layout, top to bottom: title, caution, a short explanation, one block per conflict
+    (heading, then Kind, Name, Product, Side, Bound, Cell, "Alone it would have to move
+    to"), the least-cost relaxation (the same columns with "New bound" last) and the
+    cost of the blend once it is made.
+    """
+    sheet = workbook.create_sheet(CONFLICTS)
+    columns, width = len(_CONFLICT_WIDTHS), sum(_CONFLICT_WIDTHS)
+    for column, size in enumerate(_CONFLICT_WIDTHS, start=1):
+        sheet.column_dimensions[get_column_letter(column)].width = size
+    _put(sheet, 1, 1, f"{title}: limits that cannot all be met").font = _TITLE
+    _write_caution(sheet, 2, columns, width)
+
+    lines = formula.conflicts
+    kinds = {line.kind for line in (*lines, *(formula.relaxation.changes if formula.relaxation else ()))}
+    explain = [
+        ("Each conflict below is an irreducible set of limits: they cannot all hold together, "
+         "but drop or move any one of them and the rest of that set can be met."),
+        ('"Alone it would have to move to": the value that one bound, moved on its own, would '
+         "need for the workbook to become feasible (other conflicts set aside); "
+         '"no single move" where moving it alone is not enough.'),
+    ]
+    if "use" in kinds:
+        explain.append('Kind "use" is a Use = no (a max of 0): its new value is the most of that '
+                       "ingredient to allow once Use is yes.")
+    if "total" in kinds:
+        explain.append('Kind "total" is the rule that the inclusions sum to 100 % (for a product, '
+                       "tied to its Amount cell); it cannot move.")
+    row = 4
+    for text in explain:
+        _paragraph(sheet, row, text, columns, width)
+        row += 1
+    if not formula.conflicts_complete:
+        cell = _paragraph(sheet, row, "More conflicts may remain after these are fixed: fix these, "
+                                      "then solve again to see the rest.", columns, width)
+        cell.font = _ALERT_TEXT
+        row += 1
+    row += 1
+
+    numbers = sorted({line.conflict for line in lines})
+    if not numbers:
+        _put(sheet, row, 1, "No conflicting set of limits was found for this run.").font = _BOLD
+        row += 2
+    for number in numbers:
+        heading = f"Conflict {number}" + (f" of {len(numbers)}" if len(numbers) > 1 else "")
+        _put(sheet, row, 1, heading).font = _SECTION
+        _header(sheet, row + 1, ["Kind", "Name", "Product", "Side", "Bound", "Cell",
+                                 "Alone it would have to move to"])
+        # The sum-to-100 rows last: the limits the user can change come first.
+        members = sorted((line for line in lines if line.conflict == number),
+                         key=lambda line: line.kind == "total")
+        for offset, line in enumerate(members, start=2):
+            number_format = _conflict_format(line)
+            _write_member(sheet, row + offset, line, number_format)
+            if line.kind == "total":
+                _put(sheet, row + offset, 7, "cannot move: inclusions sum to 100 %")
+            elif line.relax_to is None:
+                _put(sheet, row + offset, 7, "no single move")
+            else:
+                _number(sheet.cell(row + offset, 7), line.relax_to, number_format)
+        row += len(members) + 3
+
+    _write_relaxation(sheet, formula, row, columns, width)
+
+
+def _write_relaxation(sheet: Worksheet, formula: Formula, row: int, columns: int, width: int) -> None:
+    """The least-cost relaxation from `row`: the changes, then the cost once they are made."""
+    _put(sheet, row, 1, "Least-cost way out").font = _SECTION
+    relaxation = formula.relaxation
+    if relaxation is None or not relaxation.changes:
+        _put(sheet, row + 1, 1, "No relaxation was found: change the limits above by hand; "
+                                "one move per conflict is enough.")
+        return
+    _paragraph(sheet, row + 1, "Move all of these bounds together: the smallest moves that make the "
+                               "workbook feasible (limits with a lower Priority give way first), and "
+                               "among those the one with the cheapest blend.", columns, width)
+    _header(sheet, row + 2, ["Kind", "Name", "Product", "Side", "Old bound", "Cell", "New bound"])
+    for offset, line in enumerate(relaxation.changes, start=3):
+        number_format = _conflict_format(line)
+        _write_member(sheet, row + offset, line, number_format)
+        _number(sheet.cell(row + offset, 7), line.relax_to, number_format)
+    at = row + 3 + len(relaxation.changes) + 1
+    blend = formula.blend
+    label = "Total cost" if formula.several else "Diet cost" if blend.diet else "Blend cost"
+    _put(sheet, at, 1, f"{label} once all of them are moved").font = _BOLD
+    sheet.merge_cells(start_row=at, start_column=1, end_row=at, end_column=2)
+    moved = relaxation.formula
+    if moved is not None and moved.cost is not None:
+        _number(sheet.cell(at, 3), moved.cost, MONEY_FORMAT)
+        sheet.cell(at, 3).font = _BOLD
+        _put(sheet, at, 4, run_cost_unit(blend))
+    else:
+        _put(sheet, at, 3, "unknown: the workbook with these moves did not solve")
+
+
+def _write_member(sheet: Worksheet, row: int, line: ConflictLine, number_format: str) -> None:
+    """Kind, name, product, side, bound and cell of one conflict member (columns A-F)."""
+    total = line.kind == "total"
+    _put(sheet, row, 1, line.kind)
+    _put(sheet, row, 2, "sum of inclusions" if total else line.name)
+    _put(sheet, row, 3, line.product)
+    _put(sheet, row, 4, "=" if line.side == "eq" else line.side)
+    _number(sheet.cell(row, 5), line.bound, number_format)
+    _put(sheet, row, 6, line.cell)
+
+
+def _conflict_format(line: ConflictLine) -> str:
+    """A member's bound and move in one format: inclusions to 0.001 %, stocks as amounts,
+    specs by size."""
+    if line.kind in ("ingredient", "use", "group", "total"):
+        return INCLUSION_FORMAT
+    if line.kind == "stock":
+        return AMOUNT_FORMAT
+    return _format_by_size([line.bound, line.relax_to], 1)
 
 
 # --- Shadow prices sheet -------------------------------------------------------------------

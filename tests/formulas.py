@@ -2,7 +2,8 @@
 
 The scenarios are invented: a goat ration for a made-up farm, with round made-up prices;
 further down, a grower pig ration with dry-matter and ratio specs, a group and stocks, a
-hostel's day menu (diet mode) and three broiler feeds made from shared stocks.
+hostel's day menu (diet mode) and three broiler feeds made from shared stocks; at the end,
+the goat ration made infeasible (two conflicts and a way out) and with a soft spec broken.
 Nutrient levels, amounts and costs are worked out here from the contents and inclusions,
 so the numbers agree with the source workbook the live formulas read; the reduced costs
 and shadow prices are simply chosen, since the writers only render them.
@@ -20,11 +21,13 @@ from openpyxl.utils import get_column_letter
 from blendkit.formula import (
     INFEASIBLE,
     OPTIMAL,
+    ConflictLine,
     Formula,
     IngredientLine,
     Limit,
     NutrientLine,
     ProductFormula,
+    Relaxation,
     RunInfo,
     StockLine,
 )
@@ -713,3 +716,96 @@ def write_mill_source(path: Path) -> Path:
         ["Setting", "Value"], ["Name", MILL_SETTINGS.name], ["Currency", MILL_SETTINGS.currency]])
     workbook.save(path)
     return path
+
+
+# --- conflicts and soft limits -------------------------------------------------------------
+#
+# The goat ration again, made infeasible: its protein min raised to 26 % (Rapeseed meal,
+# the richest feed, is capped at 18 %) and Limestone, the only calcium source, switched
+# off (Use = no) with the calcium min at 0.8 %. The moves and the relaxation are chosen,
+# since the writers only render them.
+
+CONFLICT_PROTEIN_MIN = 26.0
+
+
+def _member(conflict: int, kind: str, name: str, side: str, bound: float, cell: str | None,
+            relax_to: float | None, rule: str) -> ConflictLine:
+    """One conflict member, its text worded as the diagnosis words it."""
+    return ConflictLine(conflict, kind, name, None, side, bound, cell, relax_to,
+                        f"{cell or ''}  {name}  {rule}".strip())
+
+
+CONFLICTS = (
+    # Listed with the sum-to-100 row first, as the diagnosis may list it.
+    _member(1, "total", "total", "eq", 100.0, None, None, "inclusions sum to 100 %"),
+    _member(1, "nutrient", "Crude protein", "min", CONFLICT_PROTEIN_MIN, "Specs!B2", 21.5, "min 26"),
+    _member(1, "ingredient", "Rapeseed meal", "max", 18.0, "Ingredients!D4", 44.25, "max 18"),
+    _member(2, "nutrient", "Calcium", "min", 0.8, "Specs!B4", 0.1326, "min 0.8"),
+    _member(2, "use", "Limestone", "max", 0.0, "Ingredients!E5", 1.75, "Use = no"),
+    _member(2, "total", "total", "eq", 100.0, None, None, "inclusions sum to 100 %"),
+)
+CHANGES = (
+    _member(0, "nutrient", "Crude protein", "min", CONFLICT_PROTEIN_MIN, "Specs!B2", 21.5, "min 26"),
+    _member(0, "use", "Limestone", "max", 0.0, "Ingredients!E5", 1.75, "Use = no"),
+)
+
+
+def conflicted_formula(source: Path | None = None, complete: bool = False) -> Formula:
+    """An infeasible goat ration with two conflicts, more perhaps to come (unless
+    `complete`), and a least-cost way out whose blend is `optimal_formula`'s."""
+    blend = make_blend(source)
+    specs = tuple(dataclasses.replace(spec, minimum=CONFLICT_PROTEIN_MIN)
+                  if spec.nutrient == "Crude protein" else spec for spec in blend.specs)
+    ingredients = tuple(dataclasses.replace(item, use=False) if item.name == "Limestone" else item
+                        for item in blend.ingredients)
+    blend = dataclasses.replace(blend, specs=specs, ingredients=ingredients)
+    return Formula(
+        blend=blend,
+        status=INFEASIBLE,
+        message="the specs and limits cannot all be met at once",
+        cost=None, ingredients=(), nutrients=(), limits=(), iterations=5,
+        notes=("Pea meal: 1 blank nutrient cell counted as 0 (Calcium)",),
+        conflicts=CONFLICTS,
+        conflicts_complete=complete,
+        relaxation=Relaxation(CHANGES, optimal_formula(source)),
+    )
+
+
+# The goat ration with a soft protein min of 18.5 % at a penalty of 6 EUR/t per unit: the
+# blend stays at 17.12 % and pays for the 1.38 % it misses.
+SOFT_PROTEIN_MIN = 18.5
+SOFT_PENALTY = 6.0
+SOFT_NOTE = ("SOFT LIMIT BROKEN: Crude protein min 18.5 is missed by 1.38 (level 17.12) at a "
+             "penalty of 6 per unit (Specs!B2)")
+
+
+def soft_formula(source: Path | None = None) -> Formula:
+    """`optimal_formula` with its protein min made soft and broken."""
+    formula = optimal_formula(source)
+    level = levels()["Crude protein"]
+    specs = tuple(dataclasses.replace(spec, minimum=SOFT_PROTEIN_MIN, penalty=SOFT_PENALTY)
+                  if spec.nutrient == "Crude protein" else spec for spec in formula.blend.specs)
+    blend = dataclasses.replace(formula.blend, specs=specs)
+    limits = tuple(
+        dataclasses.replace(limit, bound=SOFT_PROTEIN_MIN, binding=True, shadow_price=SOFT_PENALTY,
+                            violation=SOFT_PROTEIN_MIN - level, penalty=SOFT_PENALTY)
+        if limit.name == "Crude protein" else limit for limit in formula.limits)
+    nutrients = tuple(
+        dataclasses.replace(line, minimum=SOFT_PROTEIN_MIN, position="below min")
+        if line.name == "Crude protein" else line for line in formula.nutrients)
+    return dataclasses.replace(formula, blend=blend, limits=limits, nutrients=nutrients,
+                               notes=(SOFT_NOTE, *formula.notes))
+
+
+def soft_mill_formula(source: Path | None = None) -> Formula:
+    """`mill_formula` with the grower's energy min 12.7 made soft and missed by 0.2."""
+    formula = mill_formula(source)
+
+    def soften(limit: Limit) -> Limit:
+        if (limit.product, limit.name, limit.side) != ("Grower pellet", "Energy", "min"):
+            return limit
+        return dataclasses.replace(limit, level=limit.bound - 0.2, violation=0.2, penalty=3.5)
+
+    products = tuple(dataclasses.replace(product, limits=tuple(map(soften, product.limits)))
+                     for product in formula.products)
+    return dataclasses.replace(formula, products=products, limits=tuple(map(soften, formula.limits)))

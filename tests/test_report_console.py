@@ -166,7 +166,7 @@ def test_diet_summary():
                                     "within"]
     limits = block(text, "Binding limit")
     assert limits[-2].split()[:4] == ["Porridge", "oats", "max", "2.000"]
-    assert limits[-1].endswith("-0.01200  EUR per 1 slice")
+    assert limits[-1].endswith("-0.01200  EUR per unit (slice)")
     assert lines[-1] == CAUTION
 
 
@@ -212,3 +212,115 @@ def test_several_products_stocks_and_binding_limits():
     assert limits[-1].startswith("Soybean meal (stock) max")
     assert limits[-1].endswith("7,000.00      -0.09500  EUR per 1 kg of stock")
     assert limits[6].split()[:6] == ["Vegetable", "oil", "max", "Finisher", "pellet", "6.000"]
+
+
+# --- conflicts of an infeasible blend, and broken soft limits ---------------------------------
+
+
+def test_infeasible_summary_explains_the_conflicts_and_the_way_out():
+    text = render_summary(formulas.conflicted_formula())
+    lines = text.splitlines()
+    assert lines.index("Status: infeasible") < lines.index("These limits cannot all hold together:")
+    assert block(text, "These limits cannot all hold together:") == [
+        "These limits cannot all hold together:",
+        "Conflict 1 of 2:",
+        "  Specs!B2  Crude protein  min 26        -> alone: move to 21.5",
+        "  Ingredients!D4  Rapeseed meal  max 18  -> alone: move to 44.25",
+        "  total  inclusions sum to 100 %         -> cannot move",
+        "Conflict 2 of 2:",
+        "  Specs!B4  Calcium  min 0.8             -> alone: move to 0.1326",
+        "  Ingredients!E5  Limestone  Use = no    -> alone: set Use to yes, max 1.75",
+        "  total  inclusions sum to 100 %         -> cannot move",
+        "Dropping or moving any one limit of a conflict resolves that conflict.",
+        "More conflicts may remain after these are fixed: solve again to see them.",
+    ]
+    assert block(text, "Cheapest way out:") == [
+        "Cheapest way out:",
+        "  Specs!B2  Crude protein  min 26      -> 21.5",
+        "  Ingredients!E5  Limestone  Use = no  -> Use = yes, max 1.75",
+        "Cost once all of them are moved: 232.00 EUR per tonne",
+    ]
+    assert "- Pea meal: 1 blank nutrient cell counted as 0 (Calcium)" in lines
+    assert lines[-1] == CAUTION
+    assert all(len(line) <= 80 for line in lines if line != CAUTION and not line.startswith("Message"))
+    assert text.isascii()
+
+
+def test_one_complete_conflict_is_not_numbered():
+    formula = formulas.conflicted_formula(complete=True)
+    formula = dataclasses.replace(formula, conflicts=formula.conflicts[:3])
+    lines = block(render_summary(formula), "These limits cannot all hold together:")
+    assert lines[1] == "  Specs!B2  Crude protein  min 26        -> alone: move to 21.5"
+    assert lines[-1] == "Dropping or moving any one limit of a conflict resolves the conflict."
+    assert not any(line.startswith("Conflict ") for line in lines)
+
+
+def test_no_single_move_and_no_way_out():
+    formula = formulas.conflicted_formula()
+    conflicts = (dataclasses.replace(formula.conflicts[1], relax_to=None), *formula.conflicts[2:])
+    formula = dataclasses.replace(formula, conflicts=conflicts, relaxation=None)
+    text = render_summary(formula)
+    assert "  Specs!B2  Crude protein  min 26        -> no single move" in text.splitlines()
+    assert block(text, "Cheapest way out:") == [
+        "Cheapest way out: none found; change the limits above by hand."]
+
+
+def test_a_way_out_whose_blend_did_not_solve():
+    formula = formulas.conflicted_formula()
+    relaxation = dataclasses.replace(formula.relaxation, formula=None)
+    text = render_summary(dataclasses.replace(formula, relaxation=relaxation))
+    assert block(text, "Cheapest way out:")[-1] == (
+        "Cost once all of them are moved: unknown (the moved workbook did not solve).")
+
+
+def test_long_names_wrap_the_move_onto_its_own_line():
+    formula = formulas.conflicted_formula()
+    long = "Extruded full-fat soybean meal from the northern cooperative"
+    first = dataclasses.replace(formula.conflicts[2], name=long,
+                                text=f"Ingredients!D4  {long}  max 18")
+    formula = dataclasses.replace(formula, conflicts=(first,))
+    lines = block(render_summary(formula), "These limits cannot all hold together:")
+    assert lines[1:3] == [f"  Ingredients!D4  {long}  max 18", "      -> alone: move to 44.25"]
+
+
+def test_broken_soft_limits_come_right_after_the_cost():
+    text = render_summary(formulas.soft_formula())
+    lines = text.splitlines()
+    start = lines.index("SOFT LIMITS BROKEN: 1 soft spec missed; meeting it would cost more.")
+    assert lines[start - 2:start] == ["Batch: 2000 kg", ""]
+    assert block(text, "SOFT LIMITS BROKEN") == [
+        "SOFT LIMITS BROKEN: 1 soft spec missed; meeting it would cost more.",
+        "Penalty: EUR per tonne for each unit of violation (shortfall or excess).",
+        "Soft limit         Bound  Level  Violation  Penalty  Cell",
+        "-----------------  -----  -----  ---------  -------  --------",
+        "Crude protein min  18.50  17.12       1.38    6.000  Specs!B2",
+    ]
+    assert start < lines.index(block(text, "Ingredient")[0])
+    # Shown once: the note saying the same is left out of the notes.
+    assert "SOFT LIMIT BROKEN:" not in text
+    assert block(text, "Notes:") == ["Notes:", f"- {formulas.NOTES[0]}"]
+
+
+def test_broken_soft_limits_of_products_name_the_product():
+    text = render_summary(formulas.soft_mill_formula())
+    lines = block(text, "SOFT LIMITS BROKEN")
+    assert lines[0] == "SOFT LIMITS BROKEN: 1 soft spec missed; meeting it would cost more."
+    assert lines[2].split() == ["Soft", "limit", "Product", "Bound", "Level", "Violation", "Penalty", "Cell"]
+    assert lines[4:] == ["Energy min  Grower pellet  12.70  12.50       0.20    3.500  Specs!B6"]
+    assert text.index("SOFT LIMITS BROKEN") < text.index("Product: Starter crumb")
+
+
+def test_no_soft_limits_block_when_every_limit_is_met():
+    assert "SOFT LIMITS" not in render_summary(formulas.optimal_formula())
+
+
+def test_several_broken_soft_limits_fit_in_80_columns():
+    formula = formulas.soft_formula()
+    calcium = next(limit for limit in formula.limits if (limit.name, limit.side) == ("Calcium", "min"))
+    broken = dataclasses.replace(calcium, bound=0.95, violation=0.95 - calcium.level, penalty=40.0)
+    formula = dataclasses.replace(formula, limits=tuple(broken if limit is calcium else limit
+                                                        for limit in formula.limits))
+    lines = block(render_summary(formula), "SOFT LIMITS BROKEN")
+    assert lines[0] == "SOFT LIMITS BROKEN: 2 soft specs missed; meeting them would cost more."
+    assert [line.split()[:2] for line in lines[4:]] == [["Crude", "protein"], ["Calcium", "min"]]
+    assert all(len(line) <= 80 for line in lines)

@@ -24,6 +24,9 @@ from tests import formulas
 from tests.workbooks import store_saved_values
 
 INPUT_SHEETS = ["Ingredients", "Specs", "Settings"]
+# The output sheets of a solved run, and of an infeasible one (Conflicts after Result).
+SOLVED_SHEETS = ["Result", "Shadow prices", "Run info"]
+INFEASIBLE_SHEETS = ["Result", "Conflicts", "Shadow prices", "Run info"]
 LIVE = 8  # the nutrient table's column of live formulas (H)
 
 
@@ -162,7 +165,7 @@ def _tiny_workbook() -> io.BytesIO:
 def test_adds_output_sheets_after_the_unchanged_input_sheets(source: Path, tmp_path: Path):
     output = write(formulas.optimal_formula(), source, tmp_path / "out.xlsx")
     workbook = load_workbook(output)
-    assert workbook.sheetnames == [*INPUT_SHEETS, *OUTPUT_SHEETS]
+    assert workbook.sheetnames == [*INPUT_SHEETS, *SOLVED_SHEETS]
     assert workbook.active.title == "Result"
     for name in INPUT_SHEETS:
         assert cell_values(output, name) == cell_values(source, name), name
@@ -179,8 +182,8 @@ def test_source_bytes_unchanged(source: Path, tmp_path: Path):
 def test_second_write_replaces_output_sheets(source: Path, tmp_path: Path):
     first = write(formulas.optimal_formula(), source, tmp_path / "first.xlsx")
     second = write(formulas.optimal_formula(), first, tmp_path / "second.xlsx")
-    assert load_workbook(second).sheetnames == [*INPUT_SHEETS, *OUTPUT_SHEETS]
-    for name in [*INPUT_SHEETS, *OUTPUT_SHEETS]:
+    assert load_workbook(second).sheetnames == [*INPUT_SHEETS, *SOLVED_SHEETS]
+    for name in [*INPUT_SHEETS, *SOLVED_SHEETS]:
         if name != "Run info":  # the recorded input file differs, by design
             assert cell_values(second, name) == cell_values(first, name), name
 
@@ -190,7 +193,7 @@ def test_output_sheets_matched_whatever_their_case(tmp_path: Path):
     output = write(formulas.optimal_formula(), source, tmp_path / "out.xlsx")
     names = load_workbook(output).sheetnames
     assert [n.casefold() for n in names].count("result") == 1
-    assert names == [*INPUT_SHEETS, *OUTPUT_SHEETS]
+    assert names == [*INPUT_SHEETS, *SOLVED_SHEETS]
 
 
 def test_rewriting_an_existing_output_in_place(source: Path, tmp_path: Path):
@@ -345,7 +348,7 @@ def test_spreadsheet_program_agrees_with_written_levels(source: Path, tmp_path: 
 def test_not_optimal_shows_status_and_no_tables(source: Path, tmp_path: Path):
     formula = formulas.infeasible_formula()
     workbook = load_workbook(write(formula, source, tmp_path / "out.xlsx"))
-    assert workbook.sheetnames == [*INPUT_SHEETS, *OUTPUT_SHEETS]
+    assert workbook.sheetnames == [*INPUT_SHEETS, *INFEASIBLE_SHEETS]
     result = workbook["Result"]
     assert result["A2"].value == CAUTION
     assert result["B4"].value == "infeasible"
@@ -472,7 +475,7 @@ def test_output_gets_ordinary_file_permissions(source: Path, tmp_path: Path):
 
 def test_numbers_are_never_nan(source: Path, tmp_path: Path):
     workbook = load_workbook(write(formulas.optimal_formula(), source, tmp_path / "out.xlsx"))
-    for sheet in OUTPUT_SHEETS:
+    for sheet in SOLVED_SHEETS:
         for row in workbook[sheet].iter_rows(values_only=True):
             assert not any(isinstance(v, float) and not math.isfinite(v) for v in row)
 
@@ -587,12 +590,12 @@ def rows_of(sheet, label: str, column: int = 1) -> list[int]:
 @pytest.mark.parametrize("scenario", list(SCENARIOS))
 def test_every_scenario_keeps_inputs_and_the_caution(scenario: str, tmp_path: Path):
     formula, workbook = written(scenario, tmp_path)
-    assert workbook.sheetnames == [*SCENARIOS[scenario][2], *OUTPUT_SHEETS]
+    assert workbook.sheetnames == [*SCENARIOS[scenario][2], *SOLVED_SHEETS]
     assert workbook["Result"]["A2"].value == CAUTION
     assert workbook["Result"]["B4"].value == "optimal"
     info = {row[0]: row[1] for row in workbook["Run info"].iter_rows(min_row=2, values_only=True)}
     assert info["Caution"] == CAUTION
-    for sheet in OUTPUT_SHEETS:
+    for sheet in SOLVED_SHEETS:
         for row in workbook[sheet].iter_rows(values_only=True):
             assert not any(isinstance(v, float) and not math.isfinite(v) for v in row)
 
@@ -603,7 +606,7 @@ def test_every_scenario_is_replaced_when_solved_again(scenario: str, tmp_path: P
     source = write_source(tmp_path / "in.xlsx")
     first = write(make(), source, tmp_path / "first.xlsx")
     second = write(make(), first, tmp_path / "second.xlsx")
-    assert load_workbook(second).sheetnames == [*inputs, *OUTPUT_SHEETS]
+    assert load_workbook(second).sheetnames == [*inputs, *SOLVED_SHEETS]
     for name in [*inputs, "Result", "Shadow prices"]:
         assert cell_values(second, name) == cell_values(first, name), name
     # The output still reads as the same blend, Groups and Products sheets included.
@@ -749,8 +752,8 @@ def test_diet_shadow_prices(tmp_path: Path):
     rows = table(sheet, 3, len(formula.limits), columns=11)
     units = {(row[2], row[4]): row[9] for row in rows}
     assert units[("Vitamin C", "min")] == "EUR per 1 unit of Vitamin C (mg)"
-    assert units[("Wholemeal bread", "max")] == "EUR per 1 slice"
-    assert units[("Fruit", "min")] == "EUR per 1 unit"
+    assert units[("Wholemeal bread", "max")] == "EUR per unit (slice)"
+    assert units[("Fruit", "min")] == "EUR per unit"
     bread = next(row for row in rows if row[2] == "Wholemeal bread")
     assert bread[5:9] == [6, 6, "yes", -0.012]
 
@@ -864,3 +867,212 @@ def test_spreadsheet_program_agrees_with_every_scenario(tmp_path: Path):
         assert result.cell(row_of(result, label), 2).value == pytest.approx(formula.cost, rel=1e-9)
         for row, product in zip(rows_of(result, "Cost from input prices"), formula.products):
             assert result.cell(row, 2).value == pytest.approx(product.cost, rel=1e-9)
+
+
+# --- conflicts of an infeasible run, and broken soft limits ----------------------------------
+
+
+def conflicts_rows(sheet) -> list[tuple]:
+    """Every non-empty row of a sheet as a tuple of its values, trailing blanks dropped."""
+    rows = []
+    for row in sheet.iter_rows(values_only=True):
+        values = list(row)
+        while values and values[-1] is None:
+            values.pop()
+        if values:
+            rows.append(tuple(values))
+    return rows
+
+
+def test_output_sheets_include_conflicts():
+    # Listed, so that solving again replaces or removes an earlier run's Conflicts sheet.
+    assert list(OUTPUT_SHEETS) == INFEASIBLE_SHEETS
+
+
+def test_conflicts_sheet(source: Path, tmp_path: Path):
+    formula = formulas.conflicted_formula()
+    workbook = load_workbook(write(formula, source, tmp_path / "out.xlsx"))
+    assert workbook.sheetnames == [*INPUT_SHEETS, *INFEASIBLE_SHEETS]
+    sheet = workbook["Conflicts"]
+    assert sheet["A1"].value == "Meadowbank goat ration: limits that cannot all be met"
+    assert sheet["A2"].value == CAUTION
+    text = " ".join(str(v) for row in conflicts_rows(sheet)[:8] for v in row if v)
+    assert "irreducible set of limits" in text
+    assert "drop or move any one of them" in text
+    assert "More conflicts may remain after these are fixed" in text
+    assert 'Kind "use" is a Use = no' in text and 'Kind "total"' in text
+
+    header = ("Kind", "Name", "Product", "Side", "Bound", "Cell", "Alone it would have to move to")
+    first, second = rows_of(sheet, "Conflict 1 of 2"), rows_of(sheet, "Conflict 2 of 2")
+    assert len(first) == len(second) == 1
+    assert sheet.cell(first[0], 1).font.b
+    assert table(sheet, first[0], 4, 7) == [
+        list(header),
+        # The sum-to-100 row comes last, whatever the order it was found in.
+        ["nutrient", "Crude protein", None, "min", 26, "Specs!B2", 21.5],
+        ["ingredient", "Rapeseed meal", None, "max", 18, "Ingredients!D4", 44.25],
+        ["total", "sum of inclusions", None, "=", 100, None, "cannot move: inclusions sum to 100 %"],
+    ]
+    assert table(sheet, second[0], 4, 7) == [
+        list(header),
+        ["nutrient", "Calcium", None, "min", 0.8, "Specs!B4", 0.1326],
+        ["use", "Limestone", None, "max", 0, "Ingredients!E5", 1.75],
+        ["total", "sum of inclusions", None, "=", 100, None, "cannot move: inclusions sum to 100 %"],
+    ]
+    assert is_number(sheet.cell(first[0] + 2, 7).value)
+    assert sheet.cell(first[0] + 3, 7).number_format == "0.000"  # an inclusion limit
+
+    way_out = row_of(sheet, "Least-cost way out")
+    assert way_out > second[0]
+    assert "Move all of these bounds together" in sheet.cell(way_out + 1, 1).value
+    assert table(sheet, way_out + 1, 3, 7) == [
+        ["Kind", "Name", "Product", "Side", "Old bound", "Cell", "New bound"],
+        ["nutrient", "Crude protein", None, "min", 26, "Specs!B2", 21.5],
+        ["use", "Limestone", None, "max", 0, "Ingredients!E5", 1.75],
+    ]
+    cost = row_of(sheet, "Blend cost once all of them are moved")
+    assert sheet.cell(cost, 3).value == pytest.approx(formulas.blend_cost())
+    assert sheet.cell(cost, 4).value == "EUR per tonne"
+    for row in sheet.iter_rows(values_only=True):
+        assert not any(isinstance(v, float) and not math.isfinite(v) for v in row)
+
+
+def test_one_complete_conflict_is_not_numbered(source: Path, tmp_path: Path):
+    formula = formulas.conflicted_formula(complete=True)
+    one = tuple(line for line in formula.conflicts if line.conflict == 1)
+    relaxation = dataclasses.replace(formula.relaxation, changes=formula.relaxation.changes[:1])
+    formula = dataclasses.replace(formula, conflicts=one, relaxation=relaxation)
+    sheet = load_workbook(write(formula, source, tmp_path / "out.xlsx"))["Conflicts"]
+    values = [v for row in conflicts_rows(sheet) for v in row]
+    assert "Conflict 1" in values and "Conflict 1 of 1" not in values
+    assert not any(isinstance(v, str) and "More conflicts may remain" in v for v in values)
+    # No Use = no among the members or changes: no word about it.
+    assert not any(isinstance(v, str) and 'Kind "use"' in v for v in values)
+
+
+def test_conflicts_sheet_without_a_way_out(source: Path, tmp_path: Path):
+    formula = dataclasses.replace(formulas.conflicted_formula(), relaxation=None)
+    sheet = load_workbook(write(formula, source, tmp_path / "out.xlsx"))["Conflicts"]
+    way_out = row_of(sheet, "Least-cost way out")
+    assert sheet.cell(way_out + 1, 1).value.startswith("No relaxation was found")
+    assert sheet.max_row == way_out + 1
+
+
+def test_a_way_out_whose_blend_did_not_solve(source: Path, tmp_path: Path):
+    formula = formulas.conflicted_formula()
+    formula = dataclasses.replace(formula, relaxation=dataclasses.replace(formula.relaxation, formula=None))
+    sheet = load_workbook(write(formula, source, tmp_path / "out.xlsx"))["Conflicts"]
+    cost = row_of(sheet, "Blend cost once all of them are moved")
+    assert sheet.cell(cost, 3).value.startswith("unknown")
+
+
+def test_infeasible_without_conflicts_still_gets_the_sheet(source: Path, tmp_path: Path):
+    sheet = load_workbook(write(formulas.infeasible_formula(), source, tmp_path / "out.xlsx"))["Conflicts"]
+    values = [v for row in conflicts_rows(sheet) for v in row]
+    assert "No conflicting set of limits was found for this run." in values
+
+
+def test_result_points_to_the_conflicts_sheet(source: Path, tmp_path: Path):
+    formula = formulas.conflicted_formula()
+    result = load_workbook(write(formula, source, tmp_path / "out.xlsx"))["Result"]
+    assert result["B4"].value == "infeasible"
+    assert result["A6"].value == "Conflicts"
+    assert result["B6"].value == ("See the Conflicts sheet: 2 sets of limits that cannot all hold "
+                                  "together, their cells, and the cheapest way out.")
+    assert result["B6"].hyperlink.location == "Conflicts!A1"
+    assert formula.notes[0] in [c.value for row in result.iter_rows() for c in row]
+
+
+def test_no_conflicts_sheet_or_pointer_when_solved(source: Path, tmp_path: Path):
+    workbook = load_workbook(write(formulas.optimal_formula(), source, tmp_path / "out.xlsx"))
+    assert "Conflicts" not in workbook.sheetnames
+    assert workbook["Result"]["A6"].value == "Blend cost"
+
+
+def test_conflicts_sheet_is_removed_when_the_workbook_is_solved_again(source: Path, tmp_path: Path):
+    output = tmp_path / "out.xlsx"
+    write(formulas.conflicted_formula(), source, output)
+    assert load_workbook(output).sheetnames == [*INPUT_SHEETS, *INFEASIBLE_SHEETS]
+    write(formulas.conflicted_formula(), source, output)  # infeasible again: replaced
+    assert load_workbook(output).sheetnames == [*INPUT_SHEETS, *INFEASIBLE_SHEETS]
+    write(formulas.optimal_formula(), source, output)  # feasible now: removed
+    assert load_workbook(output).sheetnames == [*INPUT_SHEETS, *SOLVED_SHEETS]
+    # Also when the output of the infeasible run is itself solved again.
+    first = write(formulas.conflicted_formula(), source, tmp_path / "first.xlsx")
+    second = write(formulas.optimal_formula(), first, tmp_path / "second.xlsx")
+    assert load_workbook(second).sheetnames == [*INPUT_SHEETS, *SOLVED_SHEETS]
+
+
+def test_broken_soft_limits_block_on_result(source: Path, tmp_path: Path):
+    formula = formulas.soft_formula()
+    workbook = load_workbook(write(formula, source, tmp_path / "out.xlsx"))
+    result = workbook["Result"]
+    block = row_of(result, "SOFT LIMITS BROKEN")
+    assert block == row_of(result, "Batch") + 2  # right under the top block
+    assert result.cell(block, 2).value == ("1 soft spec missed: meeting it would cost more than its "
+                                           "penalty. Check that this is acceptable.")
+    assert [result.cell(block + 1, c).value for c in range(1, 8)] == [
+        "Soft limit", "Side", "Bound", "Level", "Violation (shortfall or excess)",
+        "Penalty (EUR per tonne per unit of violation)", "Bound read from"]
+    row = [result.cell(block + 2, c).value for c in range(1, 8)]
+    assert row[:2] == ["Crude protein", "min"]
+    assert row[2:6] == pytest.approx([18.5, 17.12, 1.38, 6.0])
+    assert row[6] == "Specs!B2"
+    assert result.cell(block, 1).font.b
+    assert result.cell(block + 2, 4).fill.fgColor.rgb.endswith("FCE4D6")  # highlighted
+    # The tables follow, their live formulas still right; the notes skip the soft limit.
+    assert row_of(result, "Ingredient") == block + 4
+    header = row_of(result, "Nutrient")
+    protein = result.cell(header + 1, LIVE).value
+    assert evaluate(workbook, "Result", protein) == pytest.approx(formulas.levels()["Crude protein"])
+    cost_check = result.cell(row_of(result, "Blend cost from input prices"), 2).value
+    assert evaluate(workbook, "Result", cost_check) == pytest.approx(formula.cost)
+    notes = row_of(result, "Notes")
+    assert result.cell(notes + 1, 1).value == formulas.NOTES[0]
+    values = [c.value for r in result.iter_rows() for c in r]
+    assert formulas.SOFT_NOTE not in values
+    assert result.freeze_panes == f"B{row_of(result, 'Ingredient') + 1}"
+
+
+def test_broken_soft_limits_of_products_name_the_product(tmp_path: Path):
+    source = formulas.write_mill_source(tmp_path / "mill.xlsx")
+    workbook = load_workbook(write(formulas.soft_mill_formula(), source, tmp_path / "out.xlsx"))
+    result = workbook["Result"]
+    block = row_of(result, "SOFT LIMITS BROKEN")
+    assert block == row_of(result, "Total cost from input prices") + 2
+    assert result.cell(block + 1, 2).value == "Product"
+    row = [result.cell(block + 2, c).value for c in range(1, 9)]
+    assert row[:3] == ["Energy", "Grower pellet", "min"]
+    assert row[3:7] == pytest.approx([12.7, 12.5, 0.2, 3.5])
+    assert row[7] == "Specs!B6"
+    assert row_of(result, "Product") == block + 4
+    assert result.cell(block + 3, 1).value is None  # listed once, not again for its product
+
+
+def test_no_soft_limits_block_when_every_limit_is_met(source: Path, tmp_path: Path):
+    result = load_workbook(write(formulas.optimal_formula(), source, tmp_path / "out.xlsx"))["Result"]
+    assert "SOFT LIMITS BROKEN" not in [c.value for row in result.iter_rows() for c in row]
+    assert row_of(result, "Ingredient") == 10
+
+
+def test_cli_writes_the_conflicts_sheet_of_an_infeasible_workbook(tmp_path: Path):
+    # The "Hilltop Hens" layer mash asked for 40 % protein: with soybean meal capped at
+    # 30 % and limestone at least 5 %, about 20 % is the most the feeds can give.
+    from typer.testing import CliRunner
+
+    from blendkit.cli import app
+    from tests.workbooks import INGREDIENTS, SPECS, make_workbook
+
+    specs = [row[:] for row in SPECS]
+    specs[1][1] = 40
+    book = make_workbook(tmp_path, INGREDIENTS, specs, name="hens.xlsx")
+    result = CliRunner().invoke(app, ["solve", str(book)])
+    assert result.exit_code == 3, result.output
+    assert "These limits cannot all hold together:" in result.stdout
+    assert "Specs!B2  Crude protein  min 40" in result.stdout
+    workbook = load_workbook(tmp_path / "hens.result.xlsx")
+    assert workbook.sheetnames == ["Ingredients", "Specs", *INFEASIBLE_SHEETS]
+    sheet = workbook["Conflicts"]
+    protein = [row for row in sheet.iter_rows(values_only=True) if "Specs!B2" in row]
+    assert protein and protein[0][:5] == ("nutrient", "Crude protein", None, "min", 40)
+    assert workbook["Result"]["B6"].value.startswith("See the Conflicts sheet")
