@@ -296,6 +296,16 @@ def _result_text(value: object) -> tuple[str, str]:
     return "str", xml_escape(str(value))
 
 
+def _new_sheet(workbook: Workbook, title: str) -> Worksheet:
+    """An output sheet that prints landscape, one page wide, for a reviewer's paper copy."""
+    sheet = workbook.create_sheet(title)
+    sheet.page_setup.orientation = "landscape"
+    sheet.sheet_properties.pageSetUpPr.fitToPage = True
+    sheet.page_setup.fitToWidth = 1
+    sheet.page_setup.fitToHeight = 0
+    return sheet
+
+
 def _remove_output_sheets(workbook: Workbook) -> None:
     """Drop earlier output sheets so a second solve replaces rather than adds copies."""
     owned = {name.casefold() for name in OUTPUT_SHEETS}
@@ -317,7 +327,7 @@ def _show_first(workbook: Workbook, sheet: Worksheet) -> None:
 
 def _write_result(workbook: Workbook, formula: Formula, title: str) -> Worksheet:
     """The reviewer's main sheet: caution and status on top, then the tables."""
-    sheet = workbook.create_sheet(RESULT)
+    sheet = _new_sheet(workbook, RESULT)
     sheet.column_dimensions["A"].width = _NAME_WIDTH
     for column in range(2, _RESULT_COLUMNS + 1):
         sheet.column_dimensions[get_column_letter(column)].width = _NUMBER_WIDTH
@@ -894,7 +904,7 @@ def _write_conflicts(workbook: Workbook, formula: Formula, title: str) -> None:
     to"), the least-cost relaxation (the same columns with "New bound" last) and the
     cost of the blend once it is made.
     """
-    sheet = workbook.create_sheet(CONFLICTS)
+    sheet = _new_sheet(workbook, CONFLICTS)
     columns, width = len(_CONFLICT_WIDTHS), sum(_CONFLICT_WIDTHS)
     for column, size in enumerate(_CONFLICT_WIDTHS, start=1):
         sheet.column_dimensions[get_column_letter(column)].width = size
@@ -1009,7 +1019,7 @@ def _conflict_format(line: ConflictLine) -> str:
 
 def _write_shadow_prices(workbook: Workbook, formula: Formula) -> None:
     """One row per limit the user wrote: how much the cost moves per unit of its bound."""
-    sheet = workbook.create_sheet(SHADOW_PRICES)
+    sheet = _new_sheet(workbook, SHADOW_PRICES)
     _put(sheet, 1, 1, _shadow_price_intro(formula))
     headers = [
         "Kind",
@@ -1087,7 +1097,7 @@ def _shadow_price_intro(formula: Formula) -> str:
 
 def _write_run_info(workbook: Workbook, formula: Formula, run: RunInfo, title: str) -> None:
     """Key/value facts that tie the output to its input and to this run."""
-    sheet = workbook.create_sheet(RUN_INFO)
+    sheet = _new_sheet(workbook, RUN_INFO)
     rows = [
         ("Blend", title),
         ("Tool version", f"blendkit {run.tool_version}"),
