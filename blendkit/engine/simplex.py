@@ -194,8 +194,11 @@ class _Simplex:
 
     def refactor(self) -> None:
         """Factorise the basis afresh and recompute the basic values from the nonbasics."""
-        B = self.M[:, self.head]
-        self.factor.factor(B)
+        self.factor.factor(self.M[:, self.head])
+        self.basic_values()
+
+    def basic_values(self) -> None:
+        """Set the basic variables from the nonbasic ones: B z_B = -N z_N."""
         nonbasic_z = np.where(self.basic, 0.0, self.z)
         self.z[self.head] = self.factor.ftran(-self.times(nonbasic_z))
 
@@ -412,8 +415,13 @@ class _Simplex:
         self.at_upper |= ~low_ok & up_ok
         self.at_upper[self.head] = False
         self.z = np.where(self.at_upper, up, np.where(low_ok, lo, 0.0))
-        self.refactor()
+        self.basic_values()
         return True
+
+    def _dual_feasible(self, d: np.ndarray) -> bool:
+        """True when no nonbasic variable's reduced cost asks it to move."""
+        rise, fall = self.mobility()
+        return not np.any(np.maximum(-d * rise, d * fall) > self.tol.dual_feasibility)
 
     def try_dual(self, basis=None) -> SimplexOutcome | None:
         """Solve with the dual simplex when a dual feasible basis is at hand.
@@ -428,9 +436,9 @@ class _Simplex:
             return None
         cost = np.concatenate([self.c_struct, np.zeros(m)])
         status = self.run_dual(cost)
-        if status == "optimal":
-            # A primal pass from this primal feasible basis removes any dual
-            # infeasibility left by rounding (usually no iteration at all).
+        if status == "optimal" and not self._dual_feasible(self.d):
+            # A primal pass from this primal feasible basis removes the dual
+            # infeasibility left by rounding.
             status = self.run(cost)
         if status != "optimal":
             if status == "unbounded":
@@ -506,24 +514,36 @@ class _Simplex:
             if not (up.size or down.size):
                 self.z[head] = xb
                 return "infeasible"
-            order = np.concatenate([up, down])
-            room = np.maximum(np.concatenate([d[up], -d[down]]), 0.0)  # distance of d from changing sign
+            order = np.concatenate([up, down]) if down.size else up
+            # Distance of each reduced cost from changing sign, and its rate of change.
+            room = np.maximum(np.concatenate([d[up], -d[down]]) if down.size else d[up], 0.0)
             size = np.abs(gain[order])
             exact = room / size
-            # Bound flipping (the "long step"): walking the breakpoints in order, a boxed
-            # variable whose reduced cost would change sign is moved to its other bound
-            # instead of entering, as long as the leaving variable stays infeasible.
-            sort = np.argsort(exact, kind="stable")
-            order, room, size, exact = order[sort], room[sort], size[sort], exact[sort]
-            left = abs(xb[r] - target) - np.cumsum(size * span[order])
-            passed = int(np.argmax(left <= 0))
-            if left[passed] > 0:
-                self.z[head] = xb
-                return "infeasible"  # every breakpoint passed: the dual is unbounded
-            relaxed = ((room[passed:] + tol.dual_feasibility) / size[passed:]).min()
-            pick = passed + np.flatnonzero(exact[passed:] <= relaxed)
-            q = int(order[pick[np.argmax(size[pick])]])
-            flipped = order[:passed]
+            infeasible_by = abs(xb[r] - target)
+            first = int(np.argmin(exact))
+            if size[first] * span[order[first]] >= infeasible_by:
+                # The first breakpoint already blocks (the usual case): Harris's two-pass
+                # choice among the candidates, no bound flips.
+                flipped = order[:0]
+                relaxed = ((room + tol.dual_feasibility) / size).min()
+                pick = np.flatnonzero(exact <= relaxed)
+                q = int(order[pick[np.argmax(size[pick])]])
+            else:
+                # Bound flipping (the "long step"): walking the breakpoints in order, a
+                # boxed variable whose reduced cost would change sign is moved to its
+                # other bound instead of entering, while the leaving variable stays
+                # infeasible.
+                sort = np.argsort(exact, kind="stable")
+                order, room, size, exact = order[sort], room[sort], size[sort], exact[sort]
+                left = infeasible_by - np.cumsum(size * span[order])
+                passed = int(np.argmax(left <= 0))
+                if left[passed] > 0:
+                    self.z[head] = xb
+                    return "infeasible"  # every breakpoint passed: the dual is unbounded
+                relaxed = ((room[passed:] + tol.dual_feasibility) / size[passed:]).min()
+                pick = passed + np.flatnonzero(exact[passed:] <= relaxed)
+                q = int(order[pick[np.argmax(size[pick])]])
+                flipped = order[:passed]
             alpha = self.factor.ftran(self.column(q))
             pivot = alpha[r]
             if abs(row[q] - pivot) > 1e-7 * (1 + abs(pivot)):
