@@ -18,8 +18,9 @@ import scipy.sparse as sp
 
 from blendkit.engine.standard_form import StandardForm
 
-# Geometric-mean passes over rows and columns; more rarely helps.
-GEOMETRIC_PASSES = 6
+# Geometric-mean passes over rows and columns. Two are enough: on our blend benchmark
+# six passes cost 10 % more time for no fewer iterations.
+GEOMETRIC_PASSES = 2
 
 
 @dataclass(frozen=True)
