@@ -20,7 +20,16 @@ from __future__ import annotations
 
 import numpy as np
 
-from blendkit.build_lp import GROUP, NUTRIENT, RATIO, STOCK, TOTAL, BlendLP, LPRow, ingredient_limits
+from blendkit.build_lp import (
+    GROUP,
+    NUTRIENT,
+    RATIO,
+    STOCK,
+    TOTAL,
+    BlendLP,
+    LPRow,
+    ingredient_limits,
+)
 from blendkit.engine import LPResult
 from blendkit.formula import (
     SOFT_LIMIT_NOTE,

@@ -32,10 +32,10 @@ import platform
 import statistics
 import sys
 import time
+from collections.abc import Callable, Sequence
 from dataclasses import dataclass, replace
 from importlib import metadata
 from pathlib import Path
-from typing import Callable, Sequence
 
 import numpy as np
 from scipy.optimize import linprog

@@ -30,7 +30,16 @@ from decimal import ROUND_CEILING, ROUND_FLOOR, Decimal
 
 import numpy as np
 
-from blendkit.build_lp import GROUP, NUTRIENT, RATIO, STOCK, TOTAL, TOTAL_ROW, BlendLP, ingredient_limits
+from blendkit.build_lp import (
+    GROUP,
+    NUTRIENT,
+    RATIO,
+    STOCK,
+    TOTAL,
+    TOTAL_ROW,
+    BlendLP,
+    ingredient_limits,
+)
 from blendkit.engine import StandardForm, solve_form
 from blendkit.formula import ConflictLine
 from blendkit.model import DRY_MATTER, Blend

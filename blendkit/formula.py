@@ -152,9 +152,9 @@ class Formula:
     notes: tuple[str, ...] = ()
     products: tuple[ProductFormula, ...] = ()
     stocks: tuple[StockLine, ...] = ()
-    conflicts: tuple["ConflictLine", ...] = ()  # when infeasible: the conflicting limits
+    conflicts: tuple[ConflictLine, ...] = ()  # when infeasible: the conflicting limits
     conflicts_complete: bool = True  # False when more conflicts may remain unreported
-    relaxation: "Relaxation | None" = None  # when infeasible: the least-cost way out
+    relaxation: Relaxation | None = None  # when infeasible: the least-cost way out
 
     @property
     def several(self) -> bool:
@@ -246,4 +246,4 @@ class Relaxation:
     """The least-cost way out: bounds to move, and the formula that then results."""
 
     changes: tuple[ConflictLine, ...]  # `conflict` is 0; relax_to is the new bound
-    formula: "Formula | None"
+    formula: Formula | None

@@ -9,7 +9,7 @@ from __future__ import annotations
 import dataclasses
 import hashlib
 from dataclasses import dataclass
-from datetime import datetime, timezone
+from datetime import UTC, datetime
 from pathlib import Path
 
 from blendkit import __version__
@@ -138,7 +138,7 @@ def solve_workbook(
     its output workbook is still written so the reviewer sees what was tried.
     """
     book = Path(book)
-    started = datetime.now(timezone.utc).strftime("%Y-%m-%dT%H:%M:%SZ")
+    started = datetime.now(UTC).strftime("%Y-%m-%dT%H:%M:%SZ")
     blend = read_workbook(book)
     target = Path(output) if output is not None else default_output(book)
     _check_output(book, target)

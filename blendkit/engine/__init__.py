@@ -10,4 +10,4 @@ from blendkit.engine.solve import solve, solve_form
 from blendkit.engine.standard_form import StandardForm
 from blendkit.engine.tolerances import Tolerances
 
-__all__ = ["LPResult", "STATUSES", "StandardForm", "Tolerances", "solve", "solve_form"]
+__all__ = ["STATUSES", "LPResult", "StandardForm", "Tolerances", "solve", "solve_form"]

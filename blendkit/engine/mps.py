@@ -763,8 +763,7 @@ def _number_text(value: float) -> str:
     """The shortest text that reads back as exactly `value` (repr, trimmed)."""
     text = repr(float(value))
     mantissa, e, exponent = text.partition("e")
-    if mantissa.endswith(".0"):
-        mantissa = mantissa[:-2]
+    mantissa = mantissa.removesuffix(".0")
     if mantissa.startswith("0."):
         mantissa = mantissa[1:]
     elif mantissa.startswith("-0."):

@@ -32,7 +32,6 @@ from __future__ import annotations
 from dataclasses import dataclass, replace
 
 import numpy as np
-
 import scipy.sparse as sp
 
 from blendkit.engine.basis_factor import BasisFactor, SingularBasis, SparseBasisFactor

@@ -113,7 +113,7 @@ def _pairs_at_once(pairs, n: int) -> tuple[np.ndarray, np.ndarray] | None:
         return None
     if table.shape != (n, 2):
         return None
-    missing = table == None  # noqa: E711 (element-wise comparison with None)
+    missing = table == None
     try:
         values = np.where(missing, 0.0, table).astype(float)
     except (TypeError, ValueError):
