@@ -112,7 +112,7 @@ def _ratio(top: float, bottom: float) -> float | None:
     return None if bottom == 0 else top / bottom
 
 
-def _row_level(lp: BlendLP, row: LPRow, levels: np.ndarray, side_bound: float) -> tuple[float | None, float]:
+def _row_level(lp: BlendLP, row: LPRow, levels: np.ndarray) -> tuple[float | None, float]:
     """A row's level in the workbook's terms, and the factor turning its marginal into
     d cost / d bound (see the module docstring)."""
     if row.kind == RATIO:
@@ -181,7 +181,7 @@ def analyse(blend: Blend, lp: BlendLP, result: LPResult) -> Formula:
             if row.product != p:
                 continue
             for side in row.sides:
-                level, factor = _row_level(lp, row, levels, side.bound)
+                level, factor = _row_level(lp, row, levels)
                 if row.kind == GROUP:
                     level = float(activity[i])
                 violation = broken.get((i, side.side), 0.0)
@@ -226,7 +226,7 @@ def analyse(blend: Blend, lp: BlendLP, result: LPResult) -> Formula:
             same = [r for r in special if (r.kind, r.name, r.basis) == key]
             low = max((s.bound for r in same for s in r.sides if s.side == "min"), default=None)
             high = min((s.bound for r in same for s in r.sides if s.side == "max"), default=None)
-            level, _ = _row_level(lp, row, levels, 0.0)
+            level, _ = _row_level(lp, row, levels)
             unit = "" if row.kind == RATIO else blend.nutrient_units.get(row.name, "")
             nutrients.append(NutrientLine(row.name, unit, low, high, None if level is None else float(level),
                                           _position(level, low, high), row.kind, row.basis))

@@ -145,14 +145,10 @@ def members_of(blend: Blend, lp: BlendLP) -> list[Member]:
             continue
         if row.penalty is not None:
             continue  # a soft spec gives way at its penalty; it cannot conflict
-        single = row.kind == RATIO or (row.kind == NUTRIENT and row.basis == DRY_MATTER)
         for side in row.sides:
-            kind = row.kind
             lp_side = "lower" if side.side == "min" else "upper"
-            if single:
-                lp_side = "lower" if side.side == "min" else "upper"
-            priority = priorities.get((kind, row.name, product, side.cell), DEFAULT_PRIORITY[kind])
-            members.append(Member(kind, row.name, product, side.side, side.bound, side.cell, row.basis,
+            priority = priorities.get((row.kind, row.name, product, side.cell), DEFAULT_PRIORITY[row.kind])
+            members.append(Member(row.kind, row.name, product, side.side, side.bound, side.cell, row.basis,
                                    "row", i, lp_side, priority))
     J = lp.n_ingredients
     for p, (product, _) in enumerate(lp.products):
@@ -172,16 +168,16 @@ def _priorities(blend: Blend) -> dict[tuple, float]:
     """User priorities by (kind, name, product, cell), from the Priority columns."""
     found = {}
     for spec in blend.specs:
-        if getattr(spec, "priority", None) is not None:
+        if spec.priority is not None:
             kind = RATIO if spec.ratio else NUTRIENT
             for side in ("min", "max"):
                 found[(kind, spec.nutrient, spec.product, spec.cells.get(side))] = spec.priority
     for group in blend.groups:
-        if getattr(group, "priority", None) is not None:
+        if group.priority is not None:
             for side in ("min", "max"):
                 found[(GROUP, group.name, group.product, group.cells.get(side))] = group.priority
     for limit in blend.limits:
-        if getattr(limit, "priority", None) is not None:
+        if limit.priority is not None:
             for side in ("min", "max"):
                 found[("ingredient", limit.ingredient, limit.product, limit.cells.get(side))] = limit.priority
     return found
