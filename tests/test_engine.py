@@ -465,3 +465,20 @@ def test_blands_rule_after_every_stall_still_agrees_with_highs(lp):
         check_against_highs(lp)
     finally:
         simplex.STALL_LIMIT = saved
+
+
+def test_residual_check_turns_a_doubtful_answer_into_numerical_trouble():
+    # The check after solving compares the answer with the original rows in their own
+    # units. This LP's optimum breaks a row by rounding (about 8e-17, relative); with a
+    # residual tolerance below that, the answer must come back as numerical trouble that
+    # names the residual and the tolerance, not as "optimal".
+    from blendkit.engine import Tolerances
+
+    rng = np.random.default_rng(8)
+    A, b, c = rng.uniform(0.1, 1, (4, 6)), rng.uniform(1, 3, 4), rng.uniform(0.1, 1, 6)
+    normal = solve(c, A_ub=-A, b_ub=-b)
+    assert_optimal(normal, highs(c, A_ub=-A, b_ub=-b).objective)
+    assert 0 < normal.residual < 1e-12
+    strict = solve(c, A_ub=-A, b_ub=-b, tolerances=Tolerances(residual=normal.residual / 2))
+    assert strict.status == "numerical_trouble"
+    assert "inequality row" in strict.message and "above the residual tolerance" in strict.message
