@@ -232,3 +232,15 @@ def test_new_never_replaces_a_file(tmp_path):
     assert "already exists" in result.stderr
     assert target.read_bytes() == b"precious"
     assert run("new", tmp_path / "x.xlsx", "--example", "nonsense").exit_code == 2
+
+
+def test_engine_trouble_exits_4_with_the_reason(sample, tmp_path, monkeypatch):
+    # An engine that stops without an answer (here: made to hit its iteration limit).
+    import blendkit.pipeline as pipeline
+    from blendkit.engine import solve_form
+
+    monkeypatch.setattr(pipeline, "solve_form", lambda form: solve_form(form, max_iterations=1))
+    result = run("solve", sample, "-o", tmp_path / "o.xlsx")
+    assert result.exit_code == 4
+    assert "iteration limit" in result.stdout
+    assert (tmp_path / "o.xlsx").exists()  # the reviewer still gets the run's facts
