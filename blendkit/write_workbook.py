@@ -1131,10 +1131,11 @@ def _header(sheet: Worksheet, row: int, labels: list[str]) -> None:
         cell = _put(sheet, row, column, label)
         cell.font = _BOLD
         cell.border = _HEADER_BORDER
-        cell.alignment = Alignment(wrap_text=True, vertical="bottom")
+        # Numbers sit right-aligned below; centred labels stay over their own column.
+        cell.alignment = Alignment(wrap_text=True, vertical="bottom", horizontal="left" if column == 1 else "center")
     longest = max(len(label) for label in labels[1:]) if len(labels) > 1 else 0
     lines = max(1, math.ceil(longest / _NUMBER_WIDTH))
-    sheet.row_dimensions[row].height = 15 * min(lines, 4) + 2
+    sheet.row_dimensions[row].height = 15 * min(lines + 1, 6) + 2
 
 
 def _put(sheet: Worksheet, row: int, column: int, value: object):
