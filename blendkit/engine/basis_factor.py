@@ -83,9 +83,13 @@ class BasisFactor:
         return self._solve(w, True)
 
     def update(self, r: int, alpha: np.ndarray) -> None:
-        """Record that column r of the basis was replaced; alpha = B_old^{-1} a_new."""
+        """Record that column r of the basis was replaced; alpha = B_old^{-1} a_new.
+
+        `alpha` is kept as it is, not copied: the caller must not change it afterwards
+        (the simplex code only reads the columns that ftran hands it).
+        """
         self._eta_rows.append(r)
-        self._eta_cols.append(np.array(alpha, copy=True))
+        self._eta_cols.append(alpha)
 
 
 class SparseBasisFactor(BasisFactor):

@@ -468,6 +468,10 @@ class _Simplex:
         d = self.fresh_duals(cost)
         rise_f, fall_f = self.mobility()
         rise, fall = rise_f > 0, fall_f > 0
+        # The one way each nonbasic variable may move: +1 up, -1 down, 0 not at all.
+        # Free nonbasic variables (both ways) take the slower two-sided search below.
+        way = rise_f - fall_f
+        two_way = bool(np.any(rise & fall))
         span = self.upper - self.lower
         weights = np.ones(self.m)
         e_r = np.zeros(self.m)
@@ -488,7 +492,7 @@ class _Simplex:
                 return "iteration_limit"
             below = lb - xb
             worst = np.maximum(below, xb - ub) - slack
-            r = int(np.argmax(np.maximum(worst, 0.0) ** 2 / weights)) if self.m else 0
+            r = int((np.maximum(worst, 0.0) ** 2 / weights).argmax()) if self.m else 0
             if not self.m or worst[r] <= 0.0:
                 self.z[head] = xb
                 if self.factor.updates:
@@ -508,25 +512,31 @@ class _Simplex:
             # Change of the leaving variable per unit rise of each nonbasic variable.
             gain = -row if rises else row
             smallest = tol.pivot * max(1.0, row.max(initial=0.0), -row.min(initial=0.0))
-            up = np.flatnonzero(rise & (gain > smallest))
-            down = np.flatnonzero(fall & (gain < -smallest))
-            if not (up.size or down.size):
+            if two_way:
+                up = (rise & (gain > smallest)).nonzero()[0]
+                down = (fall & (gain < -smallest)).nonzero()[0]
+                order = np.concatenate([up, down])
+                # Distance of each reduced cost from changing sign, and its rate of change.
+                room = np.maximum(np.concatenate([d[up], -d[down]]), 0.0)
+                size = np.abs(gain[order])
+            else:
+                signed = gain * way
+                order = (signed > smallest).nonzero()[0]
+                room = np.maximum(d[order] * way[order], 0.0)
+                size = signed[order]
+            if not order.size:
                 self.z[head] = xb
                 return "infeasible"
-            order = np.concatenate([up, down]) if down.size else up
-            # Distance of each reduced cost from changing sign, and its rate of change.
-            room = np.maximum(np.concatenate([d[up], -d[down]]) if down.size else d[up], 0.0)
-            size = np.abs(gain[order])
             exact = room / size
             infeasible_by = abs(xb[r] - target)
-            first = int(np.argmin(exact))
+            first = int(exact.argmin())
             if size[first] * span[order[first]] >= infeasible_by:
                 # The first breakpoint already blocks (the usual case): Harris's two-pass
                 # choice among the candidates, no bound flips.
                 flipped = order[:0]
                 relaxed = ((room + tol.dual_feasibility) / size).min()
-                pick = np.flatnonzero(exact <= relaxed)
-                q = int(order[pick[np.argmax(size[pick])]])
+                pick = (exact <= relaxed).nonzero()[0]
+                q = int(order[pick[size[pick].argmax()]])
             else:
                 # Bound flipping (the "long step"): walking the breakpoints in order, a
                 # boxed variable whose reduced cost would change sign is moved to its
@@ -535,13 +545,13 @@ class _Simplex:
                 sort = np.argsort(exact, kind="stable")
                 order, room, size, exact = order[sort], room[sort], size[sort], exact[sort]
                 left = infeasible_by - np.cumsum(size * span[order])
-                passed = int(np.argmax(left <= 0))
+                passed = int((left <= 0).argmax())
                 if left[passed] > 0:
                     self.z[head] = xb
                     return "infeasible"  # every breakpoint passed: the dual is unbounded
                 relaxed = ((room[passed:] + tol.dual_feasibility) / size[passed:]).min()
-                pick = passed + np.flatnonzero(exact[passed:] <= relaxed)
-                q = int(order[pick[np.argmax(size[pick])]])
+                pick = passed + (exact[passed:] <= relaxed).nonzero()[0]
+                q = int(order[pick[size[pick].argmax()]])
                 flipped = order[:passed]
             alpha = self.factor.ftran(self.column(q))
             pivot = alpha[r]
@@ -557,6 +567,7 @@ class _Simplex:
                 self.z[flipped] += change
                 self.at_upper[flipped] = ~self.at_upper[flipped]
                 rise[flipped], fall[flipped] = fall[flipped], rise[flipped]
+                way[flipped] = -way[flipped]
                 xb -= self.factor.ftran(self.M[:, flipped] @ change)
             step = (xb[r] - target) / pivot  # how far q moves
             xb -= step * alpha
@@ -576,10 +587,11 @@ class _Simplex:
             rise[p] = movable and rises
             fall[p] = movable and not rises
             rise[q] = fall[q] = False
-            # Dual Devex weights of the basic positions.
-            ratio = alpha / pivot
+            way[p] = (1.0 if rises else -1.0) if movable else 0.0
+            way[q] = 0.0
+            # Dual Devex weights of the basic positions: w_i >= (alpha_i / pivot)^2 w_r.
             weight_r = max(weights[r], 1.0)
-            np.maximum(weights, ratio * ratio * weight_r, out=weights)
+            np.maximum(weights, (alpha * alpha) * (weight_r / (pivot * pivot)), out=weights)
             weights[r] = max(weight_r / (pivot * pivot), 1.0)
             if weights[r] > 1e8:
                 weights[:] = 1.0

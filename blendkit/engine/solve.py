@@ -2,6 +2,8 @@
 
 from __future__ import annotations
 
+from contextlib import contextmanager
+
 import numpy as np
 
 from blendkit.engine.result import Basis, Certificate, ConflictPart, LPResult
@@ -17,14 +19,26 @@ from blendkit.engine.verify import worst_violation
 _blas = None
 
 
+@contextmanager
 def _one_blas_thread():
-    """A context manager holding BLAS to one thread (threadpoolctl), made on first use."""
+    """Hold every loaded BLAS library to one thread for the duration (threadpoolctl).
+
+    The libraries are found once; each solve then only sets and restores their thread
+    counts, which costs microseconds rather than a fresh survey of the process.
+    """
     global _blas
     if _blas is None:
         from threadpoolctl import ThreadpoolController
 
-        _blas = ThreadpoolController()
-    return _blas.limit(limits=1, user_api="blas")
+        _blas = [lib for lib in ThreadpoolController().lib_controllers if lib.user_api == "blas"]
+    before = [lib.get_num_threads() for lib in _blas]
+    for lib in _blas:
+        lib.set_num_threads(1)
+    try:
+        yield
+    finally:
+        for lib, threads in zip(_blas, before):
+            lib.set_num_threads(threads)
 
 
 def solve(
