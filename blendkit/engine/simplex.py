@@ -123,6 +123,8 @@ class _Simplex:
     def add_artificials(self, rows: np.ndarray, signs: np.ndarray) -> None:
         """Append one artificial column sign * e_row per given row to M."""
         self.art_row, self.art_sign = rows, signs
+        if rows.size == 0 and self.M.shape[1] == self.n + self.m:
+            return  # nothing to add or remove
         if self.sparse:
             columns = sp.csc_matrix((signs, (rows, np.arange(rows.size))), shape=(self.m, rows.size))
             self.M = sp.hstack([self.M[:, : self.n + self.m], columns], format="csc")
@@ -471,6 +473,7 @@ class _Simplex:
         # The one way each nonbasic variable may move: +1 up, -1 down, 0 not at all.
         # Free nonbasic variables (both ways) take the slower two-sided search below.
         way = rise_f - fall_f
+        back = -way
         two_way = bool(np.any(rise & fall))
         span = self.upper - self.lower
         weights = np.ones(self.m)
@@ -490,9 +493,12 @@ class _Simplex:
             if self.iterations >= self.max_iterations:
                 self.z[head] = xb
                 return "iteration_limit"
-            below = lb - xb
-            worst = np.maximum(below, xb - ub) - slack
-            r = int((np.maximum(worst, 0.0) ** 2 / weights).argmax()) if self.m else 0
+            worst = np.maximum(lb - xb, xb - ub)
+            worst -= slack  # > 0: outside its bound by more than the tolerance
+            score = np.maximum(worst, 0.0)
+            score *= score
+            score /= weights
+            r = int(score.argmax()) if self.m else 0
             if not self.m or worst[r] <= 0.0:
                 self.z[head] = xb
                 if self.factor.updates:
@@ -504,13 +510,13 @@ class _Simplex:
                 self.d = d
                 return "optimal"
             p = int(head[r])
-            rises = below[r] > 0  # the leaving variable moves up to its lower bound
+            rises = xb[r] < lb[r]  # the leaving variable moves up to its lower bound
             target = lb[r] if rises else ub[r]
             e_r[r] = 1.0
             row = self.times_transpose(self.factor.btran(e_r))
             e_r[r] = 0.0
             # Change of the leaving variable per unit rise of each nonbasic variable.
-            gain = -row if rises else row
+            gain = -row if rises and two_way else row
             smallest = tol.pivot * max(1.0, row.max(initial=0.0), -row.min(initial=0.0))
             if two_way:
                 up = (rise & (gain > smallest)).nonzero()[0]
@@ -520,7 +526,7 @@ class _Simplex:
                 room = np.maximum(np.concatenate([d[up], -d[down]]), 0.0)
                 size = np.abs(gain[order])
             else:
-                signed = gain * way
+                signed = row * (back if rises else way)  # = gain * way
                 order = (signed > smallest).nonzero()[0]
                 room = np.maximum(d[order] * way[order], 0.0)
                 size = signed[order]
@@ -568,6 +574,7 @@ class _Simplex:
                 self.at_upper[flipped] = ~self.at_upper[flipped]
                 rise[flipped], fall[flipped] = fall[flipped], rise[flipped]
                 way[flipped] = -way[flipped]
+                back[flipped] = -back[flipped]
                 xb -= self.factor.ftran(self.M[:, flipped] @ change)
             step = (xb[r] - target) / pivot  # how far q moves
             xb -= step * alpha
@@ -588,7 +595,8 @@ class _Simplex:
             fall[p] = movable and not rises
             rise[q] = fall[q] = False
             way[p] = (1.0 if rises else -1.0) if movable else 0.0
-            way[q] = 0.0
+            back[p] = -way[p]
+            way[q] = back[q] = 0.0
             # Dual Devex weights of the basic positions: w_i >= (alpha_i / pivot)^2 w_r.
             weight_r = max(weights[r], 1.0)
             np.maximum(weights, (alpha * alpha) * (weight_r / (pivot * pivot)), out=weights)
