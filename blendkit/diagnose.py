@@ -440,7 +440,8 @@ def _level(lp: BlendLP, member: Member, x: np.ndarray, form: StandardForm) -> fl
         if row.kind == RATIO:
             a, b = row.ratio
             return float(levels[a] / levels[b]) if levels[b] else float("nan")
-        return float(levels[row.nutrient] / (levels[lp.dry_matter] / TOTAL))
+        dry = levels[lp.dry_matter] / TOTAL
+        return float(levels[row.nutrient] / dry) if dry else float("nan")
     return float(_row_vector(form, member.index) @ x)
 
 
