@@ -107,6 +107,16 @@ def _violation_notes(limits: list[Limit]) -> tuple[str, ...]:
     return tuple(notes)
 
 
+def _price_range(lp: BlendLP, result: LPResult, p: int, j: int, scale: float) -> tuple[float | None, float | None]:
+    """The price range of ingredient j in product p over which the formula holds, from
+    the engine's cost ranging (None for an open end, or without ranging)."""
+    if result.cost_ranges is None:
+        return None, None
+    per_price = lp.per * scale  # objective coefficient per unit of price
+    low, high = result.cost_ranges[p * lp.n_ingredients + j] / per_price
+    return (float(low) if np.isfinite(low) else None), (float(high) if np.isfinite(high) else None)
+
+
 def _ratio(top: float, bottom: float) -> float | None:
     """top / bottom, or None when the bottom is zero."""
     return None if bottom == 0 else top / bottom
@@ -172,8 +182,9 @@ def analyse(blend: Blend, lp: BlendLP, result: LPResult) -> Formula:
             entry = None
             if value == 0.0 and not held:
                 entry = float(item.cost - d[p, j] / (lp.per * scale))
+            low, high = _price_range(lp, result, p, j, scale) if item.use else (None, None)
             lines.append(IngredientLine(item.name, value, float(mass), float(money), item.cost, item.use,
-                                        float(d[p, j] / scale), entry))
+                                        float(d[p, j] / scale), entry, low, high))
         limits = []
         low_of, high_of = {}, {}
         special = []

@@ -28,6 +28,10 @@ class IngredientLine:
     currency per batch. `reduced_cost` is d(blend cost)/d(inclusion %) at the optimum:
     for an unused ingredient it says how much its price must fall (per cost unit of mass,
     `entry_price` gives the price itself) before it would come into the blend.
+    `more_below` / `less_above` bound the price range over which this formula stays the
+    cheapest (cost ranging): below `more_below` the ingredient would be used more (or come
+    in), above `less_above` it would be used less (or drop out); None where no price
+    change in that direction alters the formula.
     """
 
     name: str
@@ -38,6 +42,8 @@ class IngredientLine:
     used: bool  # the Use column: False means held at 0
     reduced_cost: float
     entry_price: float | None  # price at which an unused ingredient would come in
+    more_below: float | None = None
+    less_above: float | None = None
 
 
 @dataclass(frozen=True)

@@ -45,7 +45,7 @@ def formulate(blend: Blend, *, explain: bool = True) -> Formula:
     conflicting sets of limits and the least-cost relaxation with its formula.
     """
     lp = build_lp(blend)
-    formula = analyse(blend, lp, solve_form(lp.form))
+    formula = analyse(blend, lp, solve_form(lp.form, ranging=True))
     if formula.status != "infeasible" or not explain:
         return formula
     diagnosis = diagnose(blend, lp)

@@ -3,7 +3,9 @@
 The shape is fixed (keys in this order). One blend (or one diet)::
 
     {"status": str, "message": str, "cost": float | null,
-     "ingredients": {name: inclusion % (diet: amount)}, "nutrients": {name: level},
+     "ingredients": {name: inclusion % (diet: amount)},
+     "prices": {name: {"more_below": price | null, "less_above": price | null}},
+     "nutrients": {name: level},
      "limits": [{"kind", "name", "product", "side", "bound", "level", "binding",
                  "shadow_price", "cell"}],
      "stocks": {ingredient: {"used", "available", "shadow_price"}},
@@ -11,13 +13,16 @@ The shape is fixed (keys in this order). One blend (or one diet)::
                      "violation", "penalty"}],
      "notes": [str]}
 
+`prices` gives, per ingredient, the price range over which the formula stays the cheapest
+(cost ranging): below `more_below` it would be used more (or come in), above `less_above`
+it would be used less (or drop out); null where no price change that way alters it.
 `violations` lists the soft limits (specs with a Penalty) that the formula breaks, with
 the shortfall or excess and the penalty per unit; it is empty when every limit is met.
 
 With a Products sheet::
 
     {"status": str, "message": str, "total_cost": float | null,
-     "products": {name: {"cost", "ingredients", "nutrients", "limits"}},
+     "products": {name: {"cost", "ingredients", "prices", "nutrients", "limits"}},
      "stocks": {ingredient: {"used", "available", "shadow_price"}},
      "violations": [...], "notes": [str]}
 
@@ -69,6 +74,7 @@ def formula_to_dict(formula: Formula) -> dict[str, Any]:
                 str(product.name): {
                     "cost": _number(product.cost),
                     "ingredients": {str(line.name): _number(line.inclusion) for line in product.ingredients},
+                    "prices": _prices(product.ingredients),
                     "nutrients": {_key(line): _number(line.level) for line in product.nutrients},
                     "limits": [_limit(limit) for limit in product.limits],
                 }
@@ -83,6 +89,7 @@ def formula_to_dict(formula: Formula) -> dict[str, Any]:
         "message": str(formula.message),
         "cost": _number(formula.cost) if formula.solved else None,
         "ingredients": {str(line.name): _number(line.inclusion) for line in formula.ingredients},
+        "prices": _prices(formula.ingredients),
         "nutrients": {_key(line): _number(line.level) for line in formula.nutrients},
         "limits": [_limit(limit) for limit in formula.limits],
         "stocks": stocks,
@@ -102,6 +109,14 @@ def _conflicts(formula: Formula, data: dict[str, Any]) -> dict[str, Any]:
         cost = relaxation.formula.cost if relaxation.formula is not None else None
         data["relaxation"] = {"changes": [_member(line) for line in relaxation.changes], "cost": _number(cost)}
     return data
+
+
+def _prices(lines) -> dict[str, dict[str, float | None]]:
+    """Per ingredient, the price range over which the formula stays the cheapest."""
+    return {
+        str(line.name): {"more_below": _number(line.more_below), "less_above": _number(line.less_above)}
+        for line in lines
+    }
 
 
 def _violations(formula: Formula) -> list[dict[str, Any]]:

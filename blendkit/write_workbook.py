@@ -635,6 +635,8 @@ def _write_ingredients(
             f"Price ({money} per unit)",
             f"Reduced cost ({money} per 1 unit)",
             f"Price at which it would come in ({money} per unit)",
+            f"Used more if its price falls below ({money} per unit)",
+            f"Used less if its price rises above ({money} per unit)",
         ]
     else:
         unit_of_cost = cost_unit(settings)
@@ -653,6 +655,8 @@ def _write_ingredients(
             f"Price ({unit_of_cost})",
             f"Reduced cost ({unit_of_cost} per 1 % inclusion)",
             f"Price at which it would come in ({unit_of_cost})",
+            f"Used more if its price falls below ({unit_of_cost})",
+            f"Used less if its price rises above ({unit_of_cost})",
         ]
     _header(sheet, header_row, labels)
     for offset, line in enumerate(lines, start=1):
@@ -670,6 +674,12 @@ def _write_ingredients(
             _put(sheet, row, 7, "not in use (Use = no)")
         elif line.entry_price is not None:
             _number(sheet.cell(row, 7), line.entry_price, MONEY_FORMAT)
+        # The price range over which this formula stays the cheapest (cost ranging); an
+        # unused ingredient's lower end is its entry price, already in column 7.
+        if line.more_below is not None and line.entry_price is None:
+            _number(sheet.cell(row, 8), line.more_below, MONEY_FORMAT)
+        if line.less_above is not None:
+            _number(sheet.cell(row, 9), line.less_above, MONEY_FORMAT)
 
 
 def _write_nutrients(

@@ -239,7 +239,7 @@ def test_engine_trouble_exits_4_with_the_reason(sample, tmp_path, monkeypatch):
     import blendkit.pipeline as pipeline
     from blendkit.engine import solve_form
 
-    monkeypatch.setattr(pipeline, "solve_form", lambda form: solve_form(form, max_iterations=1))
+    monkeypatch.setattr(pipeline, "solve_form", lambda form, **options: solve_form(form, max_iterations=1))
     result = run("solve", sample, "-o", tmp_path / "o.xlsx")
     assert result.exit_code == 4
     assert "iteration limit" in result.stdout

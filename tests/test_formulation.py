@@ -188,3 +188,65 @@ def test_stock_in_a_single_blend(tmp_path):
     assert doc["status"] == "optimal"
     assert doc["cost"] == pytest.approx(with_stock.fun, rel=1e-9)
     assert doc["ingredients"]["Limestone"] == pytest.approx(5.0, rel=1e-9)
+
+
+def _ranging_reference(c, A_ub, b_ub, A_eq, b_eq, bounds):
+    """HiGHS's own cost ranging (highspy's getRanging) for the same LP."""
+    import highspy
+    import scipy.sparse as sp
+
+    n = len(c)
+    A = np.vstack([A_ub, A_eq])
+    h = highspy.Highs()
+    h.setOptionValue("output_flag", False)
+    lp = highspy.HighsLp()
+    lp.num_col_, lp.num_row_ = n, A.shape[0]
+    lp.col_cost_ = np.asarray(c, dtype=float)
+    lp.col_lower_ = np.array([lo for lo, _ in bounds], dtype=float)
+    lp.col_upper_ = np.array([highspy.kHighsInf if hi is None else hi for _, hi in bounds], dtype=float)
+    lp.row_lower_ = np.concatenate([np.full(len(b_ub), -highspy.kHighsInf), b_eq])
+    lp.row_upper_ = np.concatenate([b_ub, b_eq])
+    matrix = sp.csc_matrix(A)
+    lp.a_matrix_.format_ = highspy.MatrixFormat.kColwise
+    lp.a_matrix_.start_, lp.a_matrix_.index_, lp.a_matrix_.value_ = matrix.indptr, matrix.indices, matrix.data
+    h.passModel(lp)
+    h.run()
+    ranging = h.getRanging()[1]
+    return np.array(ranging.col_cost_dn.value_)[:n], np.array(ranging.col_cost_up.value_)[:n]
+
+
+@pytest.mark.parametrize("seed", range(4))
+def test_engine_cost_ranging_matches_highs(seed):
+    # Cost ranging: the interval of each cost over which the optimal basis stays optimal,
+    # against HiGHS's own ranging on the same blend-shaped LPs (outside reference).
+    from blendkit.bench import make_blend
+    from blendkit.engine import solve as engine_solve
+
+    lp = make_blend(40, 15, 7, seed)
+    args = (lp.c, lp.A_ub, lp.b_ub, lp.A_eq, lp.b_eq, lp.bounds)
+    result = engine_solve(*args, ranging=True)
+    low, high = _ranging_reference(*args)
+    np.testing.assert_allclose(result.cost_ranges[:, 0], low, rtol=1e-6, atol=1e-9)
+    np.testing.assert_allclose(np.minimum(result.cost_ranges[:, 1], 1e30), np.minimum(high, 1e30), rtol=1e-6, atol=1e-9)
+
+
+def test_price_at_which_an_ingredient_is_used_less(tmp_path):
+    # The reported price above which wheat bran would be used less: just below it the
+    # independent LP (HiGHS) keeps the same inclusion, just above it the inclusion falls;
+    # and the price below which it would be used more, likewise.
+    specs = [["Nutrient", "Min", "Max"], ["Crude protein", 14, None], ["Calcium", 0.9, None]]
+    doc = solve(make_workbook(tmp_path, [HEADER, *FEEDS], specs))
+    bran = doc["prices"]["Wheat bran"]
+    used = doc["ingredients"]["Wheat bran"]
+    assert used > 0 and bran["less_above"] > 150 > bran["more_below"]
+
+    def bran_at(price):
+        cost = COST.copy()
+        cost[3] = price
+        res = reference(cost / 100, [-CP / 100, -CA / 100], [-14, -0.9], A_eq=np.ones((1, 4)), b_eq=[100])
+        return res.x[3]
+
+    assert bran_at(bran["less_above"] * (1 - 1e-4)) == pytest.approx(used, rel=1e-6)
+    assert bran_at(bran["less_above"] * (1 + 1e-3)) < used - 1e-6
+    assert bran_at(bran["more_below"] * (1 + 1e-4)) == pytest.approx(used, rel=1e-6)
+    assert bran_at(bran["more_below"] * (1 - 1e-3)) > used + 1e-6

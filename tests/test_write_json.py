@@ -11,7 +11,7 @@ import pytest
 from blendkit.write_json import formula_to_dict, formula_to_json
 from tests import formulas
 
-KEYS = ["status", "message", "cost", "ingredients", "nutrients", "limits", "stocks", "violations", "notes"]
+KEYS = ["status", "message", "cost", "ingredients", "prices", "nutrients", "limits", "stocks", "violations", "notes"]
 LIMIT_KEYS = ["kind", "name", "product", "side", "bound", "level", "binding", "shadow_price", "cell"]
 
 
@@ -107,6 +107,7 @@ def test_not_optimal_has_null_cost_and_empty_tables():
         "message": formula.message,
         "cost": None,
         "ingredients": {},
+        "prices": {},
         "nutrients": {},
         "limits": [],
         "stocks": {},

@@ -656,7 +656,7 @@ def test_stocks_table_for_one_blend(tmp_path: Path):
     result = workbook["Result"]
     title = row_of(result, "Stocks")
     assert title > row_of(result, formulas.RATIO)  # under the nutrient table
-    assert [c.value for c in result[title + 1]] == [
+    assert [c.value for c in result[title + 1]][:8] == [
         "Ingredient", "Used", "Available", "Unit", "Binding",
         "Shadow price (EUR per 1 unit of stock)", "Worth of one more unit (EUR)", "Stock read from"]
     rows = table(result, title + 1, len(formula.stocks))

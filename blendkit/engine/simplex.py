@@ -68,6 +68,7 @@ class SimplexOutcome:
     at_upper: np.ndarray | None = None  # final nonbasic position of x and s
     warm: bool = False  # phase two started straight from a given basis
     algorithm: str = "primal"  # "primal" (two-phase) or "dual" (dual simplex from a dual feasible basis)
+    cost_ranges: np.ndarray | None = None  # (n, 2): cost of each x over which the basis stays optimal
 
 
 class _Simplex:
@@ -82,6 +83,7 @@ class _Simplex:
         self.lower = np.concatenate([sf.col_lower, sf.row_lower])
         self.upper = np.concatenate([sf.col_upper, sf.row_upper])
         self.allow_dual = True
+        self.want_ranges = False
         self.algorithm = "primal"
         self.art_row = np.zeros(0, dtype=int)
         self.art_sign = np.zeros(0)
@@ -685,6 +687,50 @@ class _Simplex:
                               phase_one=phase_one_iterations)
         return self._optimal(phase_one=phase_one_iterations, warm=self.warm)
 
+    def cost_ranges(self) -> np.ndarray:
+        """For each structural x_j, the interval of its cost over which this basis stays
+        optimal (the other costs fixed): "cost ranging".
+
+        Raising c_j by t changes the duals by t B^-T e_r when x_j is basic in position r,
+        so every nonbasic reduced cost d_k moves by -t alpha_rk (alpha_r: row r of B^-1 M);
+        the interval ends where the first d_k would change to the wrong sign. A nonbasic
+        x_j only moves its own d_j: at its lower bound it stays optimal up from c_j - d_j,
+        at its upper bound down to it.
+        """
+        n, m = self.n, self.m
+        c = self.c_struct
+        d = self.d
+        ranges = np.empty((n, 2))
+        lower_ok = ~self.basic & (self.lower != self.upper)
+        rise = lower_ok & ~self.at_upper
+        free = ~np.isfinite(self.lower) & ~np.isfinite(self.upper)
+        fall = lower_ok & (self.at_upper | free)
+        e_r = np.zeros(m)
+        position = {int(j): r for r, j in enumerate(self.head)}
+        for j in range(n):
+            if j not in position:
+                if self.lower[j] == self.upper[j]:
+                    ranges[j] = (-np.inf, np.inf)
+                elif free[j]:
+                    ranges[j] = (c[j], c[j])
+                elif self.at_upper[j]:
+                    ranges[j] = (-np.inf, c[j] - d[j])
+                else:
+                    ranges[j] = (c[j] - d[j], np.inf)
+                continue
+            e_r[position[j]] = 1.0
+            row = self.times_transpose(self.factor.btran(e_r))
+            e_r[position[j]] = 0.0
+            with np.errstate(divide="ignore", invalid="ignore"):
+                step = d / row
+            # At a lower bound d_k must stay >= 0; at an upper bound <= 0.
+            up_limits = np.concatenate([step[rise & (row > 1e-12)], step[fall & (row < -1e-12)]])
+            down_limits = np.concatenate([step[rise & (row < -1e-12)], step[fall & (row > 1e-12)]])
+            up = np.maximum(up_limits, 0.0).min(initial=np.inf)
+            down = np.minimum(down_limits, 0.0).max(initial=-np.inf)
+            ranges[j] = (c[j] + down, c[j] + up)
+        return ranges
+
     def _optimal(self, phase_one: int, warm: bool) -> SimplexOutcome:
         """The outcome at an optimal basis (duals and reduced costs already computed)."""
         n, m = self.n, self.m
@@ -700,6 +746,7 @@ class _Simplex:
             at_upper=self.at_upper[: n + m].copy(),
             warm=warm,
             algorithm=self.algorithm,
+            cost_ranges=self.cost_ranges() if self.want_ranges else None,
         )
 
     def _drive_out_artificials(self) -> None:
@@ -743,13 +790,16 @@ class _Simplex:
 
 
 def run_simplex(
-    sf: StandardForm, tol: Tolerances, max_iterations: int, basis=None, allow_dual: bool = True
+    sf: StandardForm, tol: Tolerances, max_iterations: int, basis=None, allow_dual: bool = True,
+    ranging: bool = False,
 ) -> SimplexOutcome:
     """Solve the internal-form LP `sf`; see the module docstring.
 
     `basis` is an optional (head, at_upper) pair from an earlier outcome to start from;
-    `allow_dual=False` keeps to the two-phase primal method.
+    `allow_dual=False` keeps to the two-phase primal method; `ranging=True` adds the cost
+    ranges of the structurals to an optimal outcome.
     """
     simplex = _Simplex(sf, tol, max_iterations)
     simplex.allow_dual = allow_dual
+    simplex.want_ranges = ranging
     return simplex.solve(basis)

@@ -54,6 +54,7 @@ def solve(
     max_iterations: int | None = None,
     scale: bool = True,
     algorithm: str = "auto",
+    ranging: bool = False,
 ) -> LPResult:
     """Minimise c·x subject to A_ub x <= b_ub, A_eq x == b_eq and bounds on x.
 
@@ -66,7 +67,8 @@ def solve(
     """
     form = to_standard_form(c, A_ub, b_ub, A_eq, b_eq, bounds)
     return solve_form(
-        form, basis=basis, tolerances=tolerances, max_iterations=max_iterations, scale=scale, algorithm=algorithm
+        form, basis=basis, tolerances=tolerances, max_iterations=max_iterations, scale=scale, algorithm=algorithm,
+        ranging=ranging,
     )
 
 
@@ -78,6 +80,7 @@ def solve_form(
     max_iterations: int | None = None,
     scale: bool = True,
     algorithm: str = "auto",
+    ranging: bool = False,
 ) -> LPResult:
     """Minimise c·x subject to row_lower <= A x <= row_upper and col_lower <= x <= col_upper.
 
@@ -85,6 +88,8 @@ def solve_form(
     `row_marginals` of the result holds d(objective)/d(active row bound) for every row.
     `algorithm` is "auto" (the dual simplex when a dual feasible basis is at hand, else
     the two-phase primal method) or "primal" (always the two-phase primal method).
+    `ranging=True` adds `cost_ranges` to an optimal result: for each variable, the
+    interval of its cost over which the optimal basis stays optimal.
     """
     if algorithm not in ("auto", "primal"):
         raise ValueError(f'algorithm must be "auto" or "primal", not {algorithm!r}')
@@ -97,7 +102,7 @@ def solve_form(
     if basis is not None and tuple(basis.shape) == (m, n):
         start = (basis.head, basis.at_upper)
     with _one_blas_thread():
-        outcome = run_simplex(scaled, tol, limit, basis=start, allow_dual=algorithm == "auto")
+        outcome = run_simplex(scaled, tol, limit, basis=start, allow_dual=algorithm == "auto", ranging=ranging)
     if outcome.status != "optimal":
         return LPResult(
             status=outcome.status,
@@ -138,6 +143,7 @@ def solve_form(
         basis=Basis(head=outcome.head, at_upper=outcome.at_upper, shape=(m, n)),
         warm_start=outcome.warm,
         algorithm=outcome.algorithm,
+        cost_ranges=None if outcome.cost_ranges is None else outcome.cost_ranges / scaling.cols[:, None],
     )
 
 
