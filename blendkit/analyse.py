@@ -107,6 +107,22 @@ def _violation_notes(limits: list[Limit]) -> tuple[str, ...]:
     return tuple(notes)
 
 
+def _room(lp: BlendLP, result: LPResult, k: int, side, level, binding: bool, known: bool):
+    """The bound values between which a limit's shadow price holds (None for an open end).
+
+    `k` indexes the engine's variables (columns, then the rows' activities). A binding
+    bound may move as far as the engine's bound ranging allows; a bound that does not
+    bind keeps its zero shadow price until it reaches the level.
+    """
+    if not known or result.bound_ranges is None or level is None or not np.isfinite(level):
+        return None, None
+    if not binding:
+        return (None, float(level)) if side.side == "min" else (float(level), None)
+    down, up = result.bound_ranges[k]
+    low, high = side.bound - down, side.bound + up
+    return (float(low) if np.isfinite(low) else None), (float(high) if np.isfinite(high) else None)
+
+
 def _price_range(lp: BlendLP, result: LPResult, p: int, j: int, scale: float) -> tuple[float | None, float | None]:
     """The price range of ingredient j in product p over which the formula holds, from
     the engine's cost ranging (None for an open end, or without ranging)."""
@@ -202,9 +218,10 @@ def analyse(blend: Blend, lp: BlendLP, result: LPResult) -> Formula:
                     marginal = float(y[i]) * factor / scale
                     if len(row.sides) == 1 or (marginal >= 0) == (side.side == "min"):
                         price = marginal
+                room = _room(lp, result, lp.form.c.size + i, side, level, binding, row.kind != RATIO and row.basis == AS_FED)
                 limits.append(Limit(row.kind, row.name, side.side, side.bound,
                                     float("nan") if level is None else float(level), binding, price,
-                                    side.cell, name, row.basis, violation, row.penalty))
+                                    side.cell, name, row.basis, violation, row.penalty, *room))
             if row.kind == NUTRIENT and row.basis == AS_FED:
                 for side in row.sides:
                     target = low_of if side.side == "min" else high_of
@@ -220,8 +237,9 @@ def analyse(blend: Blend, lp: BlendLP, result: LPResult) -> Formula:
                 # sign says that bound holds it there (d > 0 at a min, d < 0 at a max).
                 holds = d[p, j] > 0 if side.side == "min" else d[p, j] < 0
                 price = float(d[p, j] / scale) if binding and holds else 0.0
+                room = _room(lp, result, p * J + j, side, level, binding, True)
                 limits.append(Limit("ingredient", item.name, side.side, side.bound, level, binding, price,
-                                    side.cell, name))
+                                    side.cell, name, "as fed", 0.0, None, *room))
         nutrients = []
         for n, nutrient in enumerate(blend.nutrients):
             level = float(levels[n])
@@ -255,7 +273,9 @@ def analyse(blend: Blend, lp: BlendLP, result: LPResult) -> Formula:
         per_run = 1.0 if lp.multi or blend.diet else lp.cost_units[0]
         price = float(y[i]) * per_run if binding else 0.0
         stock_lines.append(StockLine(row.name, used, side.bound, binding, price, side.cell))
-        every_limit.append(Limit(STOCK, row.name, "max", side.bound, used, binding, price, side.cell, None))
+        room = _room(lp, result, lp.form.c.size + i, side, used, binding, True)
+        every_limit.append(Limit(STOCK, row.name, "max", side.bound, used, binding, price, side.cell, None,
+                                 "as fed", 0.0, None, *room))
     used = (x > 0).any(axis=0)
     notes = _violation_notes(every_limit) + _blank_notes(blend, used)
     if lp.multi:

@@ -93,6 +93,10 @@ class Limit:
     basis: str = "as fed"
     violation: float = 0.0  # a soft limit's shortfall (min) or excess (max); 0 when met
     penalty: float | None = None  # a soft limit's cost per unit of violation
+    # The bound values between which `shadow_price` holds unchanged (None: no end, or
+    # not known, as for ratio and dry-matter bounds).
+    holds_from: float | None = None
+    holds_to: float | None = None
 
     @property
     def broken(self) -> bool:

@@ -7,12 +7,14 @@ The shape is fixed (keys in this order). One blend (or one diet)::
      "prices": {name: {"more_below": price | null, "less_above": price | null}},
      "nutrients": {name: level},
      "limits": [{"kind", "name", "product", "side", "bound", "level", "binding",
-                 "shadow_price", "cell"}],
+                 "shadow_price", "cell", "holds_from", "holds_to"}],
      "stocks": {ingredient: {"used", "available", "shadow_price"}},
      "violations": [{"kind", "name", "product", "side", "bound", "level", "cell",
                      "violation", "penalty"}],
      "notes": [str]}
 
+A limit's `holds_from` / `holds_to` are the bound values between which its shadow price
+holds unchanged (null: no end, or not known, as for ratio and dry-matter bounds).
 `prices` gives, per ingredient, the price range over which the formula stays the cheapest
 (cost ranging): below `more_below` it would be used more (or come in), above `less_above`
 it would be used less (or drop out); null where no price change that way alters it.
@@ -173,6 +175,8 @@ def _limit(limit: Limit) -> dict[str, Any]:
         "binding": bool(limit.binding),
         "shadow_price": _number(limit.shadow_price),
         "cell": str(limit.cell),
+        "holds_from": _number(limit.holds_from),
+        "holds_to": _number(limit.holds_to),
     }
 
 

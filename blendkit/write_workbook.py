@@ -1043,6 +1043,8 @@ def _write_shadow_prices(workbook: Workbook, formula: Formula) -> None:
         "Shadow price",
         "Shadow price unit",
         "Bound read from",
+        "Shadow price holds for bounds from",
+        "to",
     ]
     _header(sheet, 3, headers)
     nutrient_formats = {}
@@ -1072,13 +1074,19 @@ def _write_shadow_prices(workbook: Workbook, formula: Formula) -> None:
         _number(sheet.cell(row, 9), limit.shadow_price, _format_by_size([limit.shadow_price], 2))
         _put(sheet, row, 10, shadow_price_unit(limit, formula.blend))
         _put(sheet, row, 11, limit.cell)
+        # How far the bound may move with the same shadow price (blank: no end, or not
+        # known, as for ratio and dry-matter bounds).
+        if limit.holds_from is not None:
+            _number(sheet.cell(row, 12), limit.holds_from, number_format)
+        if limit.holds_to is not None:
+            _number(sheet.cell(row, 13), limit.holds_to, number_format)
     if not formula.limits:
         if formula.solved:
             empty = "No limits to show: the workbook sets no specs or inclusion limits."
         else:
             empty = f"No shadow prices: the solve ended with status {formula.status!r}."
         _put(sheet, 4, 1, empty)
-    widths = [12, 18, 28, 11, 8, 14, 14, 9, 14, 44, 16]
+    widths = [12, 18, 28, 11, 8, 14, 14, 9, 14, 44, 16, 16, 14]
     for column, width in enumerate(widths, start=1):
         sheet.column_dimensions[get_column_letter(column)].width = width
     sheet.freeze_panes = "A4"

@@ -250,3 +250,38 @@ def test_price_at_which_an_ingredient_is_used_less(tmp_path):
     assert bran_at(bran["less_above"] * (1 + 1e-3)) < used - 1e-6
     assert bran_at(bran["more_below"] * (1 + 1e-4)) == pytest.approx(used, rel=1e-6)
     assert bran_at(bran["more_below"] * (1 - 1e-3)) > used + 1e-6
+
+
+def test_range_over_which_a_shadow_price_holds(tmp_path):
+    # Each binding spec's shadow price holds while its bound stays within the reported
+    # range: re-solving the independent LP (HiGHS) inside the range moves the cost by
+    # exactly shadow price x change; past the end the slope is different.
+    specs = [["Nutrient", "Min", "Max"], ["Crude protein", 16, None], ["Calcium", 0.9, None]]
+    doc = solve(make_workbook(tmp_path, [HEADER, *FEEDS], specs))
+
+    def cost(protein, calcium):
+        res = linprog(COST / 100, A_ub=[-CP / 100, -CA / 100], b_ub=[-protein, -calcium],
+                      A_eq=np.ones((1, 4)), b_eq=[100], method="highs")
+        return res.fun if res.status == 0 else None  # None: no blend at all
+
+    base = cost(16, 0.9)
+    checked = 0
+    for limit in doc["limits"]:
+        if limit["kind"] != "nutrient" or not limit["binding"] or limit["holds_to"] is None:
+            continue
+        bounds = {"Crude protein": 16, "Calcium": 0.9}
+
+        def at(value, name=limit["name"]):
+            moved = dict(bounds, **{name: value})
+            return cost(moved["Crude protein"], moved["Calcium"])
+
+        bound, end, price = limit["bound"], limit["holds_to"], limit["shadow_price"]
+        inside = bound + (end - bound) / 2
+        assert at(inside) - base == pytest.approx(price * (inside - bound), rel=1e-6, abs=1e-9)
+        below = bound - (bound - limit["holds_from"]) / 2
+        assert at(below) - base == pytest.approx(price * (below - bound), rel=1e-6, abs=1e-9)
+        beyond = end + (end - bound) / 10
+        past = at(beyond)  # past the end: another slope, or no blend at all
+        assert past is None or past - base != pytest.approx(price * (beyond - bound), rel=1e-4)
+        checked += 1
+    assert checked == 2

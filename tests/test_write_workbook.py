@@ -375,9 +375,10 @@ def test_shadow_prices_sheet(source: Path, tmp_path: Path):
     assert len(rows) == len(formula.limits)
     assert [c.value for c in sheet[header]] == [
         "Kind", "Product", "Name", "Basis", "Side", "Bound", "Level", "Binding", "Shadow price",
-        "Shadow price unit", "Bound read from"]
+        "Shadow price unit", "Bound read from", "Shadow price holds for bounds from", "to"]
     for row, limit in zip(rows, formula.limits):
-        kind, product, name, basis, side, bound, level, binding, shadow, unit, cell = row
+        kind, product, name, basis, side, bound, level, binding, shadow, unit, cell, low, high = row
+        assert (low, high) == (limit.holds_from, limit.holds_to)
         assert (kind, name, side, cell) == (limit.kind, limit.name, limit.side, limit.cell)
         assert product is None  # one blend
         assert basis == ("as fed" if limit.kind == "nutrient" else None)

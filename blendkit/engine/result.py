@@ -89,6 +89,7 @@ class LPResult:
     warm_start: bool = False  # True when the solve started from the given basis
     algorithm: str = "primal"  # "primal" (two-phase) or "dual" (dual simplex); see the engine docs
     cost_ranges: np.ndarray | None = None  # with ranging=True: (n, 2) cost interval per variable
+    bound_ranges: np.ndarray | None = None  # with ranging=True: (n + m, 2) room down/up of active bounds
 
     @property
     def farkas(self) -> np.ndarray | None:

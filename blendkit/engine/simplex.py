@@ -69,6 +69,7 @@ class SimplexOutcome:
     warm: bool = False  # phase two started straight from a given basis
     algorithm: str = "primal"  # "primal" (two-phase) or "dual" (dual simplex from a dual feasible basis)
     cost_ranges: np.ndarray | None = None  # (n, 2): cost of each x over which the basis stays optimal
+    bound_ranges: np.ndarray | None = None  # (n + m, 2): how far each active bound may move down, up
 
 
 class _Simplex:
@@ -731,6 +732,31 @@ class _Simplex:
             ranges[j] = (c[j] + down, c[j] + up)
         return ranges
 
+    def bound_ranges(self) -> np.ndarray:
+        """For each of the n + m variables held at a bound, how far that bound can move
+        down and up (t_down, t_up >= 0) with the basis staying feasible, and so optimal:
+        "right-hand-side ranging". A basic variable gets (inf, inf).
+
+        Moving a nonbasic z_j by t moves the basic variables by -t B^-1 M_j; the range
+        ends where the first of them reaches one of its bounds, or where z_j reaches its
+        own other bound.
+        """
+        n, m = self.n, self.m
+        ranges = np.full((n + m, 2), np.inf)
+        xb, lb, ub = self.z[self.head], self.lower[self.head], self.upper[self.head]
+        with np.errstate(divide="ignore", invalid="ignore"):
+            for j in np.flatnonzero(~self.basic[: n + m]):
+                delta = -self.factor.ftran(self.column(j))  # change of x_B per unit rise
+                rising, falling = delta > 1e-12, delta < -1e-12
+                up = np.concatenate([(ub - xb)[rising] / delta[rising], (lb - xb)[falling] / delta[falling]])
+                down = np.concatenate([(xb - lb)[rising] / delta[rising], (xb - ub)[falling] / delta[falling]])
+                # A bound may not pass the variable's other bound; a fixed variable's two
+                # bounds move together (its value moves), so nothing caps that.
+                own = self.upper[j] - self.lower[j] if self.upper[j] > self.lower[j] else np.inf
+                ranges[j, 1] = max(min(up.min(initial=np.inf), own), 0.0)
+                ranges[j, 0] = max(min(down.min(initial=np.inf), own), 0.0)
+        return ranges
+
     def _optimal(self, phase_one: int, warm: bool) -> SimplexOutcome:
         """The outcome at an optimal basis (duals and reduced costs already computed)."""
         n, m = self.n, self.m
@@ -747,6 +773,7 @@ class _Simplex:
             warm=warm,
             algorithm=self.algorithm,
             cost_ranges=self.cost_ranges() if self.want_ranges else None,
+            bound_ranges=self.bound_ranges() if self.want_ranges else None,
         )
 
     def _drive_out_artificials(self) -> None:

@@ -89,7 +89,9 @@ def solve_form(
     `algorithm` is "auto" (the dual simplex when a dual feasible basis is at hand, else
     the two-phase primal method) or "primal" (always the two-phase primal method).
     `ranging=True` adds `cost_ranges` to an optimal result: for each variable, the
-    interval of its cost over which the optimal basis stays optimal.
+    interval of its cost over which the optimal basis stays optimal; and `bound_ranges`:
+    for each variable and then each row, how far its active bound may move down and up
+    with the same basis, so that the marginals and reduced costs still hold.
     """
     if algorithm not in ("auto", "primal"):
         raise ValueError(f'algorithm must be "auto" or "primal", not {algorithm!r}')
@@ -144,6 +146,8 @@ def solve_form(
         warm_start=outcome.warm,
         algorithm=outcome.algorithm,
         cost_ranges=None if outcome.cost_ranges is None else outcome.cost_ranges / scaling.cols[:, None],
+        bound_ranges=None if outcome.bound_ranges is None else outcome.bound_ranges
+        * np.concatenate([scaling.cols, 1 / scaling.rows])[:, None],
     )
 
 
