@@ -125,11 +125,7 @@ def _violations(formula: Formula) -> list[dict[str, Any]]:
     """The soft limits the formula breaks."""
     return [
         {
-            "kind": str(limit.kind),
-            "name": str(limit.name),
-            "product": None if limit.product is None else str(limit.product),
-            "side": str(limit.side),
-            "bound": _number(limit.bound),
+            **_which(limit),
             "level": _number(limit.level),
             "cell": str(limit.cell),
             "violation": _number(limit.violation),
@@ -143,13 +139,20 @@ def _violations(formula: Formula) -> list[dict[str, Any]]:
 def _member(line: ConflictLine) -> dict[str, Any]:
     """One conflict member or change, keys as a limit's plus relax_to."""
     return {
-        "kind": str(line.kind),
-        "name": str(line.name),
-        "product": None if line.product is None else str(line.product),
-        "side": str(line.side),
-        "bound": _number(line.bound),
+        **_which(line),
         "cell": None if line.cell is None else str(line.cell),
         "relax_to": _number(line.relax_to),
+    }
+
+
+def _which(item: Limit | ConflictLine) -> dict[str, Any]:
+    """The keys that say which bound an entry is about: kind, name, product, side, bound."""
+    return {
+        "kind": str(item.kind),
+        "name": str(item.name),
+        "product": None if item.product is None else str(item.product),
+        "side": str(item.side),
+        "bound": _number(item.bound),
     }
 
 
@@ -166,11 +169,7 @@ def formula_to_json(formula: Formula) -> str:
 def _limit(limit: Limit) -> dict[str, Any]:
     """One limit, keys in the documented order."""
     return {
-        "kind": str(limit.kind),
-        "name": str(limit.name),
-        "product": None if limit.product is None else str(limit.product),
-        "side": str(limit.side),
-        "bound": _number(limit.bound),
+        **_which(limit),
         "level": _number(limit.level),
         "binding": bool(limit.binding),
         "shadow_price": _number(limit.shadow_price),
