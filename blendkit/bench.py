@@ -605,7 +605,7 @@ def infeasible_blend(n_ingredients: int, n_nutrients: int, seed: int):
     mixture's levels, then the first spec's minimum is set above every ingredient's
     content of that nutrient, which no blend can reach.
     """
-    from blendkit.model import Blend, Ingredient, Settings, Spec
+    from blendkit.model.blend import Blend, Ingredient, Settings, Spec
 
     instance = make_blend(n_ingredients, n_nutrients, seed)
     names = [f"N{i + 1}" for i in range(n_nutrients)]
@@ -633,8 +633,8 @@ def infeasible_blend(n_ingredients: int, n_nutrients: int, seed: int):
 
 def diagnosis_lines(sizes, seed: int, repeat: int) -> list[str]:
     """Time one plain solve and the full conflict diagnosis of infeasible blends."""
-    from blendkit.build_lp import build_lp
-    from blendkit.diagnose import diagnose
+    from blendkit.formulate.build_lp import build_lp
+    from blendkit.formulate.diagnose import diagnose
     from blendkit.engine import solve_form
 
     lines = [f"{'blend':<14}{'plain solve ms':>16}{'diagnosis ms':>14}{'conflicts':>11}{'members':>9}"]

@@ -15,11 +15,11 @@ import typer
 
 from blendkit import __version__
 from blendkit.errors import OutputError, WorkbookError
-from blendkit.examples import EXAMPLES
-from blendkit.new_workbook import write_new
+from blendkit.authoring.examples import EXAMPLES
+from blendkit.authoring.template import write_new
 from blendkit.pipeline import check_workbook, solve_workbook
-from blendkit.report_console import render_summary
-from blendkit.write_json import formula_to_dict
+from blendkit.write.console import render_summary
+from blendkit.write.json import formula_to_dict
 
 EXIT_SOLVED = 0
 EXIT_WORKBOOK = 1

@@ -18,7 +18,7 @@ from pathlib import Path
 from openpyxl import Workbook
 from openpyxl.utils import get_column_letter
 
-from blendkit.formula import (
+from blendkit.model.formula import (
     INFEASIBLE,
     OPTIMAL,
     ConflictLine,
@@ -31,7 +31,7 @@ from blendkit.formula import (
     RunInfo,
     StockLine,
 )
-from blendkit.model import DRY_MATTER, Blend, Group, Ingredient, Product, Settings, Spec
+from blendkit.model.blend import DRY_MATTER, Blend, Group, Ingredient, Product, Settings, Spec
 
 NUTRIENTS = ("Crude protein", "Energy", "Calcium", "Fibre")
 UNITS = {"Crude protein": "%", "Energy": "MJ/kg", "Calcium": "%", "Fibre": "%"}

@@ -18,7 +18,7 @@ from openpyxl import Workbook, load_workbook
 from scipy.optimize import OptimizeResult, linprog
 
 from blendkit import CAUTION
-from blendkit.examples import EXAMPLES, main, write_example
+from blendkit.authoring.examples import EXAMPLES, main, write_example
 
 SAMPLE_WORKBOOKS = Path(__file__).resolve().parent.parent / "sample_workbooks"
 
@@ -355,7 +355,7 @@ def test_every_example_solves_with_highs_to_its_recorded_optimum(example):
 
 def test_every_example_solves_in_blendkit_to_the_highs_optimum(example):
     from blendkit.pipeline import formulate
-    from blendkit.read_workbook import read_workbook
+    from blendkit.read.workbook import read_workbook
 
     name, path = example
     formula = formulate(read_workbook(path))
@@ -620,10 +620,10 @@ def test_main_writes_every_example(tmp_path: Path, capsys):
 def test_sample_workbook_is_current(name: str, tmp_path: Path):
     fresh = write_example(tmp_path, name)
     stored = SAMPLE_WORKBOOKS / fresh.name
-    assert stored.is_file(), f"run: python -m blendkit.examples {SAMPLE_WORKBOOKS.name}"
+    assert stored.is_file(), f"run: python -m blendkit.authoring.examples {SAMPLE_WORKBOOKS.name}"
     fresh_book, stored_book = load_workbook(fresh), load_workbook(stored)
     assert stored_book.sheetnames == fresh_book.sheetnames
     for sheet in fresh_book.sheetnames:
         assert list(stored_book[sheet].values) == list(fresh_book[sheet].values), (
-            f"{stored} is out of date: run python -m blendkit.examples {SAMPLE_WORKBOOKS.name}"
+            f"{stored} is out of date: run python -m blendkit.authoring.examples {SAMPLE_WORKBOOKS.name}"
         )

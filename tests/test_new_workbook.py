@@ -12,8 +12,8 @@ import pytest
 from openpyxl import load_workbook
 
 from blendkit import CAUTION
-from blendkit.examples import EXAMPLES, write_example
-from blendkit.new_workbook import main, write_new, write_template
+from blendkit.authoring.examples import EXAMPLES, write_example
+from blendkit.authoring.template import main, write_new, write_template
 from tests.test_examples import assert_specs_met, formulate_with_highs, records
 
 TEMPLATES = Path(__file__).resolve().parent.parent / "templates"
@@ -135,19 +135,19 @@ def test_main_writes_the_template(tmp_path: Path, capsys):
 
 def test_committed_template_is_current(template: Path):
     stored = TEMPLATES / "blank.xlsx"
-    assert stored.is_file(), "run: python -m blendkit.new_workbook templates/blank.xlsx"
+    assert stored.is_file(), "run: python -m blendkit.authoring.template templates/blank.xlsx"
     fresh_book, stored_book = load_workbook(template), load_workbook(stored)
     assert stored_book.sheetnames == fresh_book.sheetnames
     for sheet in fresh_book.sheetnames:
         assert list(stored_book[sheet].values) == list(fresh_book[sheet].values), (
-            f"{stored} is out of date: run python -m blendkit.new_workbook templates/blank.xlsx"
+            f"{stored} is out of date: run python -m blendkit.authoring.template templates/blank.xlsx"
         )
         assert validations(stored_book[sheet]) == validations(fresh_book[sheet]), sheet
 
 
 def test_template_reads_and_solves_in_blendkit(template: Path):
     from blendkit.pipeline import formulate
-    from blendkit.read_workbook import read_workbook
+    from blendkit.read.workbook import read_workbook
 
     blend = read_workbook(template)
     assert len(blend.ingredients) == 3 and len(blend.groups) == 1 and blend.products == ()

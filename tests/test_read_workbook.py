@@ -9,8 +9,8 @@ from pathlib import Path
 import pytest
 
 from blendkit.errors import Problem, WorkbookError
-from blendkit.model import Settings
-from blendkit.read_workbook import read_workbook
+from blendkit.model.blend import Settings
+from blendkit.read.workbook import read_workbook
 from tests.workbooks import (
     GROUPS,
     INGREDIENTS,

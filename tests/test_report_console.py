@@ -5,7 +5,7 @@ from __future__ import annotations
 import dataclasses
 
 from blendkit import CAUTION
-from blendkit.report_console import render_summary
+from blendkit.write.console import render_summary
 from tests import formulas
 
 

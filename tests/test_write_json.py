@@ -8,7 +8,7 @@ import json
 import numpy as np
 import pytest
 
-from blendkit.write_json import formula_to_dict, formula_to_json
+from blendkit.write.json import formula_to_dict, formula_to_json
 from tests import formulas
 
 KEYS = ["status", "message", "cost", "ingredients", "prices", "nutrients", "limits", "stocks", "violations", "notes"]

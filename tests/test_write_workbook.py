@@ -16,10 +16,10 @@ import pytest
 from openpyxl import load_workbook
 from openpyxl.workbook.workbook import Workbook
 
-import blendkit.write_workbook
+import blendkit.write.workbook.book
 from blendkit import CAUTION
-from blendkit.read_workbook import read_workbook
-from blendkit.write_workbook import OUTPUT_SHEETS, write_workbook
+from blendkit.read.workbook import read_workbook
+from blendkit.write.workbook.book import OUTPUT_SHEETS, write_workbook
 from tests import formulas
 from tests.workbooks import store_saved_values
 
@@ -447,7 +447,7 @@ def test_failed_move_removes_the_temporary_file(source: Path, tmp_path: Path, mo
         assert Path(src).parent == tmp_path and Path(src).stat().st_size > 0
         raise PermissionError("output is open in another program")
 
-    monkeypatch.setattr(blendkit.write_workbook.os, "replace", broken_replace)
+    monkeypatch.setattr(blendkit.write.workbook.book.os, "replace", broken_replace)
     with pytest.raises(PermissionError):
         write(formulas.optimal_formula(), source, tmp_path / "out.xlsx")
     assert list(tmp_path.iterdir()) == [source]
@@ -503,8 +503,8 @@ def test_live_formulas_read_percent_cells_as_shown(source: Path, tmp_path: Path)
      "0.0%;-0.0%"],
 )
 def test_percent_rule_matches_the_reader(number_format: str):
-    from blendkit.read_workbook import _is_percent_format
-    from blendkit.write_workbook import _scaled_as_percent
+    from blendkit.read.workbook import _is_percent_format
+    from blendkit.write.workbook.book import _scaled_as_percent
 
     assert _scaled_as_percent(1.0, number_format) == _is_percent_format(number_format)
 

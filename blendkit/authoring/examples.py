@@ -10,7 +10,7 @@ example by writing another `Example` and listing it in `EXAMPLES`.
     fertilizer  an N-P-K 15-15-15 bulk blend with sulphur, from straight materials
     plant       a pig feed plant making three feeds from shared, limited stocks
 
-Run ``python -m blendkit.examples OUT_DIR`` to write every example into OUT_DIR.
+Run ``python -m blendkit.authoring.examples OUT_DIR`` to write every example into OUT_DIR.
 
 The scenarios, places, people and prices are invented. Composition values are from
 memory of published feed, food and fertilizer tables; for demonstration only, not for
@@ -788,7 +788,7 @@ def _shown(value: object) -> str:
 def main(argv: list[str] | None = None) -> None:
     """Write every example workbook into the directory given on the command line."""
     parser = argparse.ArgumentParser(
-        prog="python -m blendkit.examples",
+        prog="python -m blendkit.authoring.examples",
         description="Write every worked example workbook into OUT_DIR.",
     )
     parser.add_argument(

@@ -54,7 +54,7 @@ import json
 import math
 from typing import Any
 
-from blendkit.formula import ConflictLine, Formula, Limit, NutrientLine
+from blendkit.model.formula import ConflictLine, Formula, Limit, NutrientLine
 
 
 def formula_to_dict(formula: Formula) -> dict[str, Any]:

@@ -30,7 +30,7 @@ from decimal import ROUND_CEILING, ROUND_FLOOR, Decimal
 
 import numpy as np
 
-from blendkit.build_lp import (
+from blendkit.formulate.build_lp import (
     GROUP,
     NUTRIENT,
     RATIO,
@@ -41,8 +41,8 @@ from blendkit.build_lp import (
     ingredient_limits,
 )
 from blendkit.engine import StandardForm, solve_form
-from blendkit.formula import ConflictLine
-from blendkit.model import DRY_MATTER, Blend
+from blendkit.model.formula import ConflictLine
+from blendkit.model.blend import DRY_MATTER, Blend
 
 # Default priority by kind: a limit with a lower priority gives way first; each step of
 # priority makes giving way ten times dearer. A `Priority` cell overrides the default.

@@ -172,7 +172,7 @@ from openpyxl.utils import column_index_from_string
 from openpyxl.worksheet.formula import ArrayFormula
 
 from blendkit.errors import Problem, WorkbookError
-from blendkit.model import (
+from blendkit.model.blend import (
     AS_FED,
     DRY_MATTER,
     MASS_UNITS_KG,

@@ -13,7 +13,7 @@ from __future__ import annotations
 import math
 
 from blendkit import CAUTION
-from blendkit.formula import (
+from blendkit.model.formula import (
     SOFT_LIMIT_NOTE,
     ConflictLine,
     Formula,
@@ -25,7 +25,7 @@ from blendkit.formula import (
     run_cost_unit,
     shadow_price_unit,
 )
-from blendkit.model import DRY_MATTER, Blend
+from blendkit.model.blend import DRY_MATTER, Blend
 
 # Gap between columns, in spaces.
 _GAP = "  "

@@ -9,9 +9,9 @@ headers only (an empty sheet adds nothing: one blend). The template is valid as 
 it solves as it stands, so a user can run it before replacing the example rows.
 
 `write_new(path, example=None)` writes the template, or the worked example of that name
-(see `blendkit.examples`), and never replaces an existing file.
+(see `blendkit.authoring.examples`), and never replaces an existing file.
 
-Run ``python -m blendkit.new_workbook PATH`` to write the template to PATH (replacing it).
+Run ``python -m blendkit.authoring.template PATH`` to write the template to PATH (replacing it).
 """
 
 from __future__ import annotations
@@ -26,8 +26,8 @@ from openpyxl.worksheet.datavalidation import DataValidation
 from openpyxl.worksheet.worksheet import Worksheet
 
 from blendkit import CAUTION
-from blendkit.examples import AMOUNT_FORMAT, EXAMPLES, example_workbook
-from blendkit.model import BASES, MASS_UNITS_KG
+from blendkit.authoring.examples import AMOUNT_FORMAT, EXAMPLES, example_workbook
+from blendkit.model.blend import BASES, MASS_UNITS_KG
 
 COST_FORMAT = "#,##0.00"
 
@@ -215,7 +215,7 @@ def write_new(path: str | Path, example: str | None = None) -> Path:
 
     Never replaces anything: raises FileExistsError if `path` exists (a file or a
     directory), and KeyError, before writing anything, for an unknown example name
-    (the names are the keys of `blendkit.examples.EXAMPLES`). Returns the path written.
+    (the names are the keys of `blendkit.authoring.examples.EXAMPLES`). Returns the path written.
     """
     if example is not None and example not in EXAMPLES:
         raise KeyError(f"no example called {example!r}; the examples are: {', '.join(EXAMPLES)}")
@@ -290,7 +290,7 @@ def _choices(sheet: Worksheet, where: str, choices: tuple[str, ...], title: str,
 def main(argv: list[str] | None = None) -> None:
     """Write the blank template to the path given on the command line."""
     parser = argparse.ArgumentParser(
-        prog="python -m blendkit.new_workbook",
+        prog="python -m blendkit.authoring.template",
         description="Write the blank blendkit workbook template to PATH (replacing it).",
     )
     parser.add_argument("path", metavar="PATH", type=Path, help="the .xlsx file to write")

@@ -47,7 +47,7 @@ from openpyxl.worksheet.hyperlink import Hyperlink
 from openpyxl.worksheet.worksheet import Worksheet
 
 from blendkit import CAUTION
-from blendkit.formula import (
+from blendkit.model.formula import (
     SOFT_LIMIT_NOTE,
     ConflictLine,
     Formula,
@@ -60,7 +60,7 @@ from blendkit.formula import (
     run_cost_unit,
     shadow_price_unit,
 )
-from blendkit.model import AS_FED, DRY_MATTER, Blend
+from blendkit.model.blend import AS_FED, DRY_MATTER, Blend
 
 # Sheets this writer owns; any sheet with one of these names (any case) is replaced.
 OUTPUT_SHEETS = ("Result", "Conflicts", "Shadow prices", "Run info")
@@ -888,7 +888,7 @@ def _sheet_named(workbook: Workbook, name: str) -> Worksheet | None:
 def _scaled_as_percent(value: object, number_format: str) -> bool:
     """The reader's rule: a number (typed or computed) in a format with an unquoted,
     unescaped % outside [brackets] is read as the percentage shown. Keep in step with
-    `blendkit.read_workbook`."""
+    `blendkit.read.workbook`."""
     if isinstance(value, str) and not value.startswith("="):
         return False  # text that looks like a number is read as written
     return "%" in _LITERAL_FORMAT_PARTS.sub("", number_format or "")

@@ -1,6 +1,6 @@
 """The outcome of formulating one blend: what the writers render.
 
-Built by `blendkit.analyse` from the domain model and the engine's result. Writers
+Built by `blendkit.formulate.analyse` from the domain model and the engine's result. Writers
 (workbook, JSON, console) read these objects and compute nothing of their own.
 """
 
@@ -8,7 +8,7 @@ from __future__ import annotations
 
 from dataclasses import dataclass
 
-from blendkit.model import Blend, Settings
+from blendkit.model.blend import Blend, Settings
 
 # How the analysis starts a note about a broken soft spec; writers that show such specs
 # in a block of their own leave these notes out of the notes list.

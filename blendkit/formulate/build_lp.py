@@ -31,7 +31,7 @@ from dataclasses import dataclass
 import numpy as np
 
 from blendkit.engine import StandardForm
-from blendkit.model import DRY_MATTER, Blend
+from blendkit.model.blend import DRY_MATTER, Blend
 
 TOTAL = 100.0  # inclusions are in % of the blend
 

@@ -20,7 +20,7 @@ from __future__ import annotations
 
 import numpy as np
 
-from blendkit.build_lp import (
+from blendkit.formulate.build_lp import (
     GROUP,
     NUTRIENT,
     RATIO,
@@ -31,7 +31,7 @@ from blendkit.build_lp import (
     ingredient_limits,
 )
 from blendkit.engine import LPResult
-from blendkit.formula import (
+from blendkit.model.formula import (
     SOFT_LIMIT_NOTE,
     Formula,
     IngredientLine,
@@ -40,7 +40,7 @@ from blendkit.formula import (
     ProductFormula,
     StockLine,
 )
-from blendkit.model import AS_FED, DRY_MATTER, Blend
+from blendkit.model.blend import AS_FED, DRY_MATTER, Blend
 
 # A level within this distance (relative to 1 + |bound|) of a bound sits at it.
 AT_BOUND = 1e-7

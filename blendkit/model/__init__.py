@@ -1,0 +1,1 @@
+"""The domain model: what was read (`blend`) and what was found (`formula`)."""
