@@ -633,8 +633,8 @@ def infeasible_blend(n_ingredients: int, n_nutrients: int, seed: int):
 
 def diagnosis_lines(sizes, seed: int, repeat: int) -> list[str]:
     """Time one plain solve and the full conflict diagnosis of infeasible blends."""
-    from blendkit.formulate.build_lp import build_lp
-    from blendkit.formulate.diagnose import diagnose
+    from blendkit.lp.build import build_lp
+    from blendkit.lp.diagnose import diagnose
     from blendkit.engine import solve_form
 
     lines = [f"{'blend':<14}{'plain solve ms':>16}{'diagnosis ms':>14}{'conflicts':>11}{'members':>9}"]

@@ -13,9 +13,9 @@ from datetime import UTC, datetime
 from pathlib import Path
 
 from blendkit import __version__
-from blendkit.formulate.analyse import analyse
-from blendkit.formulate.build_lp import build_lp
-from blendkit.formulate.diagnose import change_lines, conflict_lines, diagnose
+from blendkit.lp.analyse import analyse
+from blendkit.lp.build import build_lp
+from blendkit.lp.diagnose import change_lines, conflict_lines, diagnose
 from blendkit.engine import solve_form
 from blendkit.errors import OutputError
 from blendkit.model.formula import Formula, Relaxation, RunInfo

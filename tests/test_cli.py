@@ -83,7 +83,7 @@ def test_json_matches_workbook_and_independent_lp(sample, tmp_path):
 def test_shadow_prices_match_highs_marginals(sample, tmp_path):
     # d(cost)/d(bound) from HiGHS's duals on the same LP (built from the workbook by our
     # reader and builder; the duals themselves come from the outside library).
-    from blendkit.formulate.build_lp import build_lp
+    from blendkit.lp.build import build_lp
     from blendkit.read.workbook import read_workbook
 
     lp = build_lp(read_workbook(sample))

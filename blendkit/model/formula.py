@@ -1,6 +1,6 @@
 """The outcome of formulating one blend: what the writers render.
 
-Built by `blendkit.formulate.analyse` from the domain model and the engine's result. Writers
+Built by `blendkit.lp.analyse` from the domain model and the engine's result. Writers
 (workbook, JSON, console) read these objects and compute nothing of their own.
 """
 

@@ -6,7 +6,7 @@ from pathlib import Path
 
 from blendkit.engine import mps
 from blendkit.errors import OutputError
-from blendkit.formulate.build_lp import build_lp
+from blendkit.lp.build import build_lp
 from blendkit.model.blend import Blend
 
 

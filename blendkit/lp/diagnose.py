@@ -30,7 +30,7 @@ from decimal import ROUND_CEILING, ROUND_FLOOR, Decimal
 
 import numpy as np
 
-from blendkit.formulate.build_lp import (
+from blendkit.lp.build import (
     GROUP,
     NUTRIENT,
     RATIO,

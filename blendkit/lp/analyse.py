@@ -20,7 +20,7 @@ from __future__ import annotations
 
 import numpy as np
 
-from blendkit.formulate.build_lp import (
+from blendkit.lp.build import (
     GROUP,
     NUTRIENT,
     RATIO,
