@@ -18,6 +18,8 @@ prices read like a single blend's, and stocks stay in total cost per unit of sto
 
 from __future__ import annotations
 
+from dataclasses import dataclass
+
 import numpy as np
 
 from blendkit.lp.build import (
@@ -152,141 +154,54 @@ def _row_level(lp: BlendLP, row: LPRow, levels: np.ndarray) -> tuple[float | Non
     return None, 1.0
 
 
+@dataclass(frozen=True)
+class _Solution:
+    """The engine's optimum cut into the pieces every part of the analysis reads."""
+
+    blend: Blend
+    lp: BlendLP
+    result: LPResult
+    x: np.ndarray  # inclusions by product and ingredient, noise below ZERO_INCLUSION set to 0
+    d: np.ndarray  # reduced costs by product and ingredient
+    activity: np.ndarray  # each row's activity
+    broken: dict  # (row, side) -> violation of a soft spec that gives way
+
+    @classmethod
+    def of(cls, blend: Blend, lp: BlendLP, result: LPResult) -> _Solution:
+        """Cut `result` into inclusions, reduced costs, row activities and violations."""
+        columns = len(lp.products) * lp.n_ingredients
+        full = np.where(np.abs(result.x) < ZERO_INCLUSION, 0.0, result.x)
+        x = full[:columns].reshape(len(lp.products), lp.n_ingredients)
+        broken = {(i, side): float(full[column]) for i, side, column in lp.elastic if full[column] > 0}
+        return cls(
+            blend=blend, lp=lp, result=result, x=x,
+            d=result.reduced_costs[:columns].reshape(len(lp.products), lp.n_ingredients),
+            activity=lp.form.A[:, :columns] @ x.ravel(), broken=broken,
+        )
+
+    def scale(self, p: int) -> float:
+        """Shadow prices of the whole run are divided by this for product p's own terms."""
+        return self.lp.cost_units[p] if self.lp.multi else 1.0
+
+
 def analyse(blend: Blend, lp: BlendLP, result: LPResult) -> Formula:
     """The Formula for `blend` from the engine's `result` on `lp`."""
     if result.status != "optimal":
-        message = MESSAGES.get(result.status, result.status)
-        if result.status != "infeasible":
-            message = f"{message} ({result.message})"  # the engine's detail helps a bug report
-        return Formula(
-            blend=blend,
-            status=result.status,
-            message=message,
-            cost=None,
-            ingredients=(),
-            nutrients=(),
-            limits=(),
-            iterations=result.iterations,
-            notes=_blank_notes(blend, None),
-        )
-    J = lp.n_ingredients
-    P = len(lp.products)
-    full = np.where(np.abs(result.x) < ZERO_INCLUSION, 0.0, result.x)
-    x = full[: P * J].reshape(P, J)
-    d = result.reduced_costs[: P * J].reshape(P, J)
-    y = result.row_marginals
-    activity = lp.form.A[:, : P * J] @ x.ravel()
-    broken = {(i, side): float(full[column]) for i, side, column in lp.elastic if full[column] > 0}
-    settings = blend.settings
-    products = []
-    stock_lines = []
-    every_limit = []
-    for p, (name, amount) in enumerate(lp.products):
-        # Shadow prices of the whole run, per Cost per unit of this product.
-        scale = lp.cost_units[p] if lp.multi else 1.0
-        levels = lp.per * (lp.contents @ x[p])
-        lines = []
-        for j, item in enumerate(blend.ingredients):
-            value = float(x[p, j])
-            if blend.diet:
-                mass, money = value, value * item.cost
-            else:
-                mass = amount * value / TOTAL
-                money = mass / settings.cost_unit_in_mass_units * item.cost
-            low = ingredient_limits(blend, name, j)
-            held = any(side.side == "min" and side.bound > 0 for side in low)
-            entry = None
-            if value == 0.0 and not held:
-                entry = float(item.cost - d[p, j] / (lp.per * scale))
-            low, high = _price_range(lp, result, p, j, scale) if item.use else (None, None)
-            lines.append(IngredientLine(item.name, value, float(mass), float(money), item.cost, item.use,
-                                        float(d[p, j] / scale), entry, low, high))
-        limits = []
-        low_of, high_of = {}, {}
-        special = []
-        for i, row in enumerate(lp.rows):
-            if row.product != p:
-                continue
-            for side in row.sides:
-                level, factor = _row_level(lp, row, levels)
-                if row.kind == GROUP:
-                    level = float(activity[i])
-                violation = broken.get((i, side.side), 0.0)
-                binding = _at(level, side.bound) or violation > 0
-                price = 0.0
-                if binding:
-                    marginal = float(y[i]) * factor / scale
-                    if len(row.sides) == 1 or (marginal >= 0) == (side.side == "min"):
-                        price = marginal
-                room = _room(lp, result, lp.form.c.size + i, side, level, binding, row.kind != RATIO and row.basis == AS_FED)
-                limits.append(Limit(row.kind, row.name, side.side, side.bound,
-                                    float("nan") if level is None else float(level), binding, price,
-                                    side.cell, name, row.basis, violation, row.penalty, *room))
-            if row.kind == NUTRIENT and row.basis == AS_FED:
-                for side in row.sides:
-                    target = low_of if side.side == "min" else high_of
-                    pick = max if side.side == "min" else min
-                    target[row.nutrient] = side.bound if row.nutrient not in target else pick(target[row.nutrient], side.bound)
-            elif row.kind in (NUTRIENT, RATIO):
-                special.append(row)
-        for j, item in enumerate(blend.ingredients):
-            for side in ingredient_limits(blend, name, j):
-                level = float(x[p, j])
-                binding = _at(level, side.bound)
-                # A variable at a bound has reduced cost d = d(cost)/d(bound) when the
-                # sign says that bound holds it there (d > 0 at a min, d < 0 at a max).
-                holds = d[p, j] > 0 if side.side == "min" else d[p, j] < 0
-                price = float(d[p, j] / scale) if binding and holds else 0.0
-                room = _room(lp, result, p * J + j, side, level, binding, True)
-                limits.append(Limit("ingredient", item.name, side.side, side.bound, level, binding, price,
-                                    side.cell, name, "as fed", 0.0, None, *room))
-        nutrients = []
-        for n, nutrient in enumerate(blend.nutrients):
-            level = float(levels[n])
-            low, high = low_of.get(n), high_of.get(n)
-            nutrients.append(NutrientLine(nutrient, blend.nutrient_units.get(nutrient, ""), low, high, level,
-                                          _position(level, low, high)))
-        seen = set()
-        for row in special:
-            key = (row.kind, row.name, row.basis)
-            if key in seen:
-                continue
-            seen.add(key)
-            same = [r for r in special if (r.kind, r.name, r.basis) == key]
-            low = max((s.bound for r in same for s in r.sides if s.side == "min"), default=None)
-            high = min((s.bound for r in same for s in r.sides if s.side == "max"), default=None)
-            level, _ = _row_level(lp, row, levels)
-            unit = "" if row.kind == RATIO else blend.nutrient_units.get(row.name, "")
-            nutrients.append(NutrientLine(row.name, unit, low, high, None if level is None else float(level),
-                                          _position(level, low, high), row.kind, row.basis))
-        cost = float(lp.costs @ x[p] * lp.per)
-        products.append(ProductFormula(name, amount, cost, tuple(lines), tuple(nutrients), tuple(limits)))
-        every_limit.extend(limits)
-    for i, row in enumerate(lp.rows):
-        if row.kind != STOCK:
-            continue
-        side = row.sides[0]
-        used = float(activity[i])
-        binding = _at(used, side.bound)
-        # In the run's total cost: one blend's objective is per Cost per unit of it (a
-        # diet's is already its total).
-        per_run = 1.0 if lp.multi or blend.diet else lp.cost_units[0]
-        price = float(y[i]) * per_run if binding else 0.0
-        stock_lines.append(StockLine(row.name, used, side.bound, binding, price, side.cell))
-        room = _room(lp, result, lp.form.c.size + i, side, used, binding, True)
-        every_limit.append(Limit(STOCK, row.name, "max", side.bound, used, binding, price, side.cell, None,
-                                 "as fed", 0.0, None, *room))
-    used = (x > 0).any(axis=0)
+        return _unsolved(blend, result)
+    solution = _Solution.of(blend, lp, result)
+    products = [_product(solution, p) for p in range(len(lp.products))]
+    stocks, stock_limits = _stocks(solution)
+    every_limit = [limit for product in products for limit in product.limits] + stock_limits
+    used = (solution.x > 0).any(axis=0)
     notes = _violation_notes(every_limit) + _blank_notes(blend, used)
     if lp.multi:
-        total = float(sum(lp.cost_units[p] * products[p].cost for p in range(P)))
+        total = float(sum(lp.cost_units[p] * product.cost for p, product in enumerate(products)))
         return Formula(
             blend=blend, status="optimal", message="least-cost products found", cost=total,
             ingredients=(), nutrients=(), limits=tuple(every_limit), iterations=result.iterations,
-            notes=notes, products=tuple(products), stocks=tuple(stock_lines),
+            notes=notes, products=tuple(products), stocks=tuple(stocks),
         )
     only = products[0]
-    stock_limits = tuple(limit for limit in every_limit if limit.kind == STOCK)
     return Formula(
         blend=blend,
         status="optimal",
@@ -294,9 +209,173 @@ def analyse(blend: Blend, lp: BlendLP, result: LPResult) -> Formula:
         cost=only.cost,
         ingredients=only.ingredients,
         nutrients=only.nutrients,
-        limits=only.limits + stock_limits,
+        limits=only.limits + tuple(stock_limits),
         iterations=result.iterations,
         notes=notes,
         products=tuple(products),
-        stocks=tuple(stock_lines),
+        stocks=tuple(stocks),
     )
+
+
+def _unsolved(blend: Blend, result: LPResult) -> Formula:
+    """A formula without numbers for a status other than optimal, with the reason."""
+    message = MESSAGES.get(result.status, result.status)
+    if result.status != "infeasible":
+        message = f"{message} ({result.message})"  # the engine's detail helps a bug report
+    return Formula(
+        blend=blend,
+        status=result.status,
+        message=message,
+        cost=None,
+        ingredients=(),
+        nutrients=(),
+        limits=(),
+        iterations=result.iterations,
+        notes=_blank_notes(blend, None),
+    )
+
+
+def _product(solution: _Solution, p: int) -> ProductFormula:
+    """Product p's formula: its ingredient lines, nutrient lines, limits and cost."""
+    lp = solution.lp
+    name, amount = lp.products[p]
+    levels = lp.per * (lp.contents @ solution.x[p])
+    lines = tuple(_ingredient_line(solution, p, j) for j in range(lp.n_ingredients))
+    limits = _row_limits(solution, p, levels) + _ingredient_limits(solution, p)
+    nutrients = _nutrient_lines(solution, p, levels)
+    cost = float(lp.costs @ solution.x[p] * lp.per)
+    return ProductFormula(name, amount, cost, lines, nutrients, tuple(limits))
+
+
+def _ingredient_line(solution: _Solution, p: int, j: int) -> IngredientLine:
+    """Ingredient j in product p: inclusion, amount, cost per batch and price ranges."""
+    blend, lp = solution.blend, solution.lp
+    name, amount = lp.products[p]
+    item = blend.ingredients[j]
+    value = float(solution.x[p, j])
+    reduced = solution.d[p, j]
+    if blend.diet:
+        mass, money = value, value * item.cost
+    else:
+        mass = amount * value / TOTAL
+        money = mass / blend.settings.cost_unit_in_mass_units * item.cost
+    held = any(side.side == "min" and side.bound > 0 for side in ingredient_limits(blend, name, j))
+    entry = None
+    if value == 0.0 and not held:
+        entry = float(item.cost - reduced / (lp.per * solution.scale(p)))
+    low, high = _price_range(lp, solution.result, p, j, solution.scale(p)) if item.use else (None, None)
+    return IngredientLine(
+        name=item.name, inclusion=value, amount=float(mass), batch_cost=float(money), cost=item.cost,
+        used=item.use, reduced_cost=float(reduced / solution.scale(p)), entry_price=entry,
+        more_below=low, less_above=high,
+    )
+
+
+def _row_limits(solution: _Solution, p: int, levels: np.ndarray) -> list[Limit]:
+    """One Limit per side of each of product p's spec, ratio and group rows."""
+    lp, result = solution.lp, solution.result
+    limits = []
+    for i, row in enumerate(lp.rows):
+        if row.product != p or row.kind == STOCK:
+            continue
+        level, factor = _row_level(lp, row, levels)
+        if row.kind == GROUP:
+            level = float(solution.activity[i])
+        for side in row.sides:
+            violation = solution.broken.get((i, side.side), 0.0)
+            binding = _at(level, side.bound) or violation > 0
+            price = 0.0
+            if binding:
+                marginal = float(result.row_marginals[i]) * factor / solution.scale(p)
+                if len(row.sides) == 1 or (marginal >= 0) == (side.side == "min"):
+                    price = marginal
+            known = row.kind != RATIO and row.basis == AS_FED
+            holds_from, holds_to = _room(lp, result, lp.form.c.size + i, side, level, binding, known)
+            limits.append(Limit(
+                kind=row.kind, name=row.name, side=side.side, bound=side.bound,
+                level=float("nan") if level is None else float(level), binding=binding,
+                shadow_price=price, cell=side.cell, product=lp.products[p][0], basis=row.basis,
+                violation=violation, penalty=row.penalty, holds_from=holds_from, holds_to=holds_to,
+            ))
+    return limits
+
+
+def _ingredient_limits(solution: _Solution, p: int) -> list[Limit]:
+    """One Limit per ingredient bound of product p (Min, Max, Use = no, product Limits)."""
+    blend, lp = solution.blend, solution.lp
+    name = lp.products[p][0]
+    limits = []
+    for j, item in enumerate(blend.ingredients):
+        reduced = solution.d[p, j]
+        level = float(solution.x[p, j])
+        for side in ingredient_limits(blend, name, j):
+            binding = _at(level, side.bound)
+            # A variable at a bound has reduced cost d = d(cost)/d(bound) when the
+            # sign says that bound holds it there (d > 0 at a min, d < 0 at a max).
+            holds = reduced > 0 if side.side == "min" else reduced < 0
+            price = float(reduced / solution.scale(p)) if binding and holds else 0.0
+            holds_from, holds_to = _room(lp, solution.result, p * lp.n_ingredients + j, side, level, binding, True)
+            limits.append(Limit(
+                kind="ingredient", name=item.name, side=side.side, bound=side.bound, level=level,
+                binding=binding, shadow_price=price, cell=side.cell, product=name,
+                holds_from=holds_from, holds_to=holds_to,
+            ))
+    return limits
+
+
+def _nutrient_lines(solution: _Solution, p: int, levels: np.ndarray) -> tuple[NutrientLine, ...]:
+    """Every nutrient's as-fed level against its spec, then one line per dry-matter or
+    ratio spec (a spec row split over several rows shows once)."""
+    blend, lp = solution.blend, solution.lp
+    rows = [row for row in lp.rows if row.product == p]
+    lines = []
+    for n, nutrient in enumerate(blend.nutrients):
+        sides = [s for row in rows if row.kind == NUTRIENT and row.basis == AS_FED and row.nutrient == n
+                 for s in row.sides]
+        low, high = _tightest(sides)
+        level = float(levels[n])
+        lines.append(NutrientLine(nutrient, blend.nutrient_units.get(nutrient, ""), low, high, level,
+                                  _position(level, low, high)))
+    special = [row for row in rows if row.kind == RATIO or (row.kind == NUTRIENT and row.basis != AS_FED)]
+    seen = set()
+    for row in special:
+        key = (row.kind, row.name, row.basis)
+        if key in seen:
+            continue
+        seen.add(key)
+        low, high = _tightest([s for r in special if (r.kind, r.name, r.basis) == key for s in r.sides])
+        level, _ = _row_level(lp, row, levels)
+        unit = "" if row.kind == RATIO else blend.nutrient_units.get(row.name, "")
+        lines.append(NutrientLine(row.name, unit, low, high, None if level is None else float(level),
+                                  _position(level, low, high), row.kind, row.basis))
+    return tuple(lines)
+
+
+def _tightest(sides) -> tuple[float | None, float | None]:
+    """The highest min and the lowest max among bound sides (None where there is none)."""
+    low = max((s.bound for s in sides if s.side == "min"), default=None)
+    high = min((s.bound for s in sides if s.side == "max"), default=None)
+    return low, high
+
+
+def _stocks(solution: _Solution) -> tuple[list[StockLine], list[Limit]]:
+    """Each limited stock's use and shadow price, as a stock line and as a Limit."""
+    blend, lp, result = solution.blend, solution.lp, solution.result
+    lines, limits = [], []
+    for i, row in enumerate(lp.rows):
+        if row.kind != STOCK:
+            continue
+        side = row.sides[0]
+        used = float(solution.activity[i])
+        binding = _at(used, side.bound)
+        # In the run's total cost: one blend's objective is per Cost per unit of it (a
+        # diet's is already its total).
+        per_run = 1.0 if lp.multi or blend.diet else lp.cost_units[0]
+        price = float(result.row_marginals[i]) * per_run if binding else 0.0
+        lines.append(StockLine(row.name, used, side.bound, binding, price, side.cell))
+        holds_from, holds_to = _room(lp, result, lp.form.c.size + i, side, used, binding, True)
+        limits.append(Limit(
+            kind=STOCK, name=row.name, side="max", bound=side.bound, level=used, binding=binding,
+            shadow_price=price, cell=side.cell, holds_from=holds_from, holds_to=holds_to,
+        ))
+    return lines, limits
