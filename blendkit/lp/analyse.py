@@ -43,11 +43,8 @@ from blendkit.model.formula import (
     StockLine,
 )
 from blendkit.model.blend import AS_FED, DRY_MATTER, Blend
+from blendkit.lp.tolerances import AT_BOUND, ZERO_INCLUSION
 
-# A level within this distance (relative to 1 + |bound|) of a bound sits at it.
-AT_BOUND = 1e-7
-# Inclusions below this (in % or diet units) are reported as 0: they are rounding noise.
-ZERO_INCLUSION = 1e-9
 
 MESSAGES = {
     "infeasible": "the specs and limits cannot all be met at once",

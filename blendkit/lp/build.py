@@ -130,121 +130,157 @@ def ingredient_limits(blend: Blend, product: str | None, j: int) -> list[Side]:
     return sides
 
 
+class _Rows:
+    """The LP's rows as they are added: coefficients, row bounds and meanings."""
+
+    def __init__(self, blend: Blend, products: tuple[tuple[str | None, float], ...]):
+        self.blend = blend
+        self.products = products
+        self.J = len(blend.ingredients)
+        self.names = list(blend.nutrients)
+        self.index = {name: i for i, name in enumerate(self.names)}
+        self.contents = np.array(
+            [[item.contents.get(n, 0.0) for item in blend.ingredients] for n in self.names], dtype=float
+        ).reshape(len(self.names), self.J)
+        self.per = 1.0 if blend.diet else 1.0 / TOTAL
+        self.dm = self.index.get(blend.settings.dry_matter)
+        self.coefficients: list[np.ndarray] = []
+        self.lower: list[float] = []
+        self.upper: list[float] = []
+        self.meaning: list[LPRow] = []
+
+    def add(self, coefficients: np.ndarray, low: float, high: float, row: LPRow) -> None:
+        """Append one row."""
+        self.coefficients.append(coefficients)
+        self.lower.append(low)
+        self.upper.append(high)
+        self.meaning.append(row)
+
+    def add_in_product(self, p: int, values: np.ndarray, low: float, high: float, row: LPRow) -> None:
+        """Append a row with `values` in product p's columns and zeros elsewhere."""
+        full = np.zeros(len(self.products) * self.J)
+        full[p * self.J : (p + 1) * self.J] = values
+        self.add(full, low, high, row)
+
+    def add_spec(self, p: int, spec) -> None:
+        """The rows of one spec in product p: as fed (one ranged row, maybe soft), or one
+        linear row per side for a ratio or a dry-matter bound."""
+        sides = [Side(s, b, spec.cells.get(s)) for s, b in (("min", spec.minimum), ("max", spec.maximum)) if b is not None]
+        contents, per = self.contents, self.per
+        if spec.ratio is None and spec.basis != DRY_MATTER:
+            n = self.index[spec.nutrient]
+            low = -np.inf if spec.minimum is None else spec.minimum
+            high = np.inf if spec.maximum is None else spec.maximum
+            row = LPRow(NUTRIENT, spec.nutrient, p, tuple(sides), nutrient=n, penalty=spec.penalty)
+            self.add_in_product(p, per * contents[n], low, high, row)
+            return
+        for side in sides:
+            low, high = (0.0, np.inf) if side.side == "min" else (-np.inf, 0.0)
+            if spec.ratio is not None:
+                a, b = self.index[spec.ratio[0]], self.index[spec.ratio[1]]
+                values = per * (contents[a] - side.bound * contents[b])
+                row = LPRow(RATIO, spec.nutrient, p, (side,), spec.basis, ratio=(a, b))
+            else:
+                n = self.index[spec.nutrient]
+                values = per * (contents[n] - side.bound * contents[self.dm] / TOTAL)
+                row = LPRow(NUTRIENT, spec.nutrient, p, (side,), DRY_MATTER, nutrient=n)
+            self.add_in_product(p, values, low, high, row)
+
+    def add_group(self, p: int, group) -> None:
+        """One ranged row: the sum of the group's inclusions in product p."""
+        members = {item.name: j for j, item in enumerate(self.blend.ingredients)}
+        values = np.zeros(self.J)
+        values[[members[name] for name in group.ingredients]] = 1.0
+        sides = [Side(s, b, group.cells.get(s)) for s, b in (("min", group.minimum), ("max", group.maximum)) if b is not None]
+        low = -np.inf if group.minimum is None else group.minimum
+        high = np.inf if group.maximum is None else group.maximum
+        self.add_in_product(p, values, low, high, LPRow(GROUP, group.name, p, tuple(sides)))
+
+    def add_product(self, p: int) -> None:
+        """Product p's rows: the total (blend mode), its specs and its groups."""
+        blend, product = self.blend, self.products[p][0]
+        if not blend.diet:
+            self.add_in_product(p, np.ones(self.J), TOTAL, TOTAL, LPRow(TOTAL_ROW, "total", p, ()))
+        for spec in blend.specs:
+            if spec.product is None or spec.product == product:
+                self.add_spec(p, spec)
+        for group in blend.groups:
+            if group.product is None or group.product == product:
+                self.add_group(p, group)
+
+    def add_stocks(self) -> None:
+        """One row per limited stock, summing that ingredient's mass over all products."""
+        blend, J = self.blend, self.J
+        for j, item in enumerate(blend.ingredients):
+            if item.stock is None:
+                continue
+            values = np.zeros(len(self.products) * J)
+            for p, (_, amount) in enumerate(self.products):
+                values[p * J + j] = amount * self.per if not blend.diet else 1.0
+            side = Side("max", item.stock, item.cells.get("stock"))
+            self.add(values, -np.inf, item.stock, LPRow(STOCK, item.name, None, (side,), ingredient=j))
+
+    def matrix(self) -> np.ndarray:
+        """The coefficient matrix of the rows added so far."""
+        return np.array(self.coefficients, dtype=float).reshape(len(self.coefficients), len(self.products) * self.J)
+
+
 def build_lp(blend: Blend) -> BlendLP:
     """The least-cost LP for `blend`; see the module docstring for the formulation."""
     J = len(blend.ingredients)
-    names = list(blend.nutrients)
-    index = {name: i for i, name in enumerate(names)}
-    contents = np.array(
-        [[item.contents.get(n, 0.0) for item in blend.ingredients] for n in names], dtype=float
-    ).reshape(len(names), J)
     costs = np.array([item.cost for item in blend.ingredients], dtype=float)
-    per = 1.0 if blend.diet else 1.0 / TOTAL
     multi = bool(blend.products)
     products = tuple((p.name, p.amount) for p in blend.products) or ((None, blend.settings.batch_size),)
     P = len(products)
-    unit_mass = blend.settings.cost_unit_in_mass_units
-    cost_units = np.array([amount / unit_mass for _, amount in products])
-    dm = index.get(blend.settings.dry_matter)
-
-    rows: list[np.ndarray] = []
-    lower: list[float] = []
-    upper: list[float] = []
-    meaning: list[LPRow] = []
-
-    def add(coefficients: np.ndarray, low: float, high: float, row: LPRow) -> None:
-        rows.append(coefficients)
-        lower.append(low)
-        upper.append(high)
-        meaning.append(row)
-
-    def in_product(p: int, values: np.ndarray) -> np.ndarray:
-        """A full-width row with `values` in product p's columns."""
-        full = np.zeros(P * J)
-        full[p * J : (p + 1) * J] = values
-        return full
-
-    for p, (product, _) in enumerate(products):
-        if not blend.diet:
-            add(in_product(p, np.ones(J)), TOTAL, TOTAL, LPRow(TOTAL_ROW, "total", p, ()))
-        for spec in blend.specs:
-            if spec.product is not None and spec.product != product:
-                continue
-            sides = [Side(s, b, spec.cells.get(s)) for s, b in (("min", spec.minimum), ("max", spec.maximum)) if b is not None]
-            if spec.ratio is not None:
-                a, b = index[spec.ratio[0]], index[spec.ratio[1]]
-                for side in sides:
-                    values = per * (contents[a] - side.bound * contents[b])
-                    low, high = (0.0, np.inf) if side.side == "min" else (-np.inf, 0.0)
-                    add(in_product(p, values), low, high, LPRow(RATIO, spec.nutrient, p, (side,), spec.basis, ratio=(a, b)))
-            elif spec.basis == DRY_MATTER:
-                n = index[spec.nutrient]
-                for side in sides:
-                    values = per * (contents[n] - side.bound * contents[dm] / TOTAL)
-                    low, high = (0.0, np.inf) if side.side == "min" else (-np.inf, 0.0)
-                    add(in_product(p, values), low, high, LPRow(NUTRIENT, spec.nutrient, p, (side,), DRY_MATTER, nutrient=n))
-            else:
-                n = index[spec.nutrient]
-                low = -np.inf if spec.minimum is None else spec.minimum
-                high = np.inf if spec.maximum is None else spec.maximum
-                add(in_product(p, per * contents[n]), low, high,
-                    LPRow(NUTRIENT, spec.nutrient, p, tuple(sides), nutrient=n, penalty=spec.penalty))
-        members = {item.name: j for j, item in enumerate(blend.ingredients)}
-        for group in blend.groups:
-            if group.product is not None and group.product != product:
-                continue
-            values = np.zeros(J)
-            values[[members[name] for name in group.ingredients]] = 1.0
-            sides = [Side(s, b, group.cells.get(s)) for s, b in (("min", group.minimum), ("max", group.maximum)) if b is not None]
-            low = -np.inf if group.minimum is None else group.minimum
-            high = np.inf if group.maximum is None else group.maximum
-            add(in_product(p, values), low, high, LPRow(GROUP, group.name, p, tuple(sides)))
-    for j, item in enumerate(blend.ingredients):
-        if item.stock is None:
-            continue
-        values = np.zeros(P * J)
-        for p, (_, amount) in enumerate(products):
-            values[p * J + j] = amount * per if not blend.diet else 1.0
-        add(values, -np.inf, item.stock, LPRow(STOCK, item.name, None, (Side("max", item.stock, item.cells.get("stock")),), ingredient=j))
-
+    cost_units = np.array([amount / blend.settings.cost_unit_in_mass_units for _, amount in products])
+    rows = _Rows(blend, products)
+    for p in range(P):
+        rows.add_product(p)
+    rows.add_stocks()
     bounds = [column_bounds(blend, product, j) for product, _ in products for j in range(J)]
     weights = np.repeat(cost_units, J) if multi else np.ones(P * J)
-    A = np.array(rows, dtype=float).reshape(len(rows), P * J)
-    c = np.tile(costs, P) * per * weights
-    # Soft specs: an elastic column per side, costing the penalty per unit of violation
-    # (per Cost per unit of the product, so times its amount with several products).
-    elastic = []
-    extra_columns, extra_costs = [], []
-    for i, row in enumerate(meaning):
-        if row.penalty is None:
-            continue
-        for side in row.sides:
-            column = np.zeros(len(rows))
-            column[i] = 1.0 if side.side == "min" else -1.0
-            extra_columns.append(column)
-            extra_costs.append(row.penalty * (cost_units[row.product] if multi else 1.0))
-            elastic.append((i, side.side, P * J + len(extra_columns) - 1))
-    if extra_columns:
-        A = np.hstack([A, np.array(extra_columns).T])
-        c = np.concatenate([c, extra_costs])
-        bounds = bounds + [(0.0, np.inf)] * len(extra_columns)
+    A, c = rows.matrix(), np.tile(costs, P) * rows.per * weights
+    A, c, bounds, elastic = _with_elastic_columns(rows.meaning, A, c, bounds, cost_units if multi else None)
     form = StandardForm(
         c=c,
         A=A,
-        row_lower=np.array(lower, dtype=float),
-        row_upper=np.array(upper, dtype=float),
+        row_lower=np.array(rows.lower, dtype=float),
+        row_upper=np.array(rows.upper, dtype=float),
         col_lower=np.array([low for low, _ in bounds], dtype=float),
         col_upper=np.array([high for _, high in bounds], dtype=float),
     )
     return BlendLP(
         form=form,
-        rows=tuple(meaning),
+        rows=tuple(rows.meaning),
         products=products,
         cost_units=cost_units,
-        contents=contents,
+        contents=rows.contents,
         costs=costs,
-        per=per,
-        dry_matter=dm,
+        per=rows.per,
+        dry_matter=rows.dm,
         multi=multi,
         elastic=tuple(elastic),
     )
+
+
+def _with_elastic_columns(meaning: list[LPRow], A: np.ndarray, c: np.ndarray, bounds: list, cost_units):
+    """Soft specs: an elastic column per side, costing the penalty per unit of violation
+    (per Cost per unit of the product, so times its amount with several products).
+
+    Returns the widened matrix, costs and bounds, and (row, side, column) per column.
+    """
+    elastic, extra_columns, extra_costs = [], [], []
+    for i, row in enumerate(meaning):
+        if row.penalty is None:
+            continue
+        for side in row.sides:
+            column = np.zeros(len(meaning))
+            column[i] = 1.0 if side.side == "min" else -1.0
+            extra_columns.append(column)
+            extra_costs.append(row.penalty * (cost_units[row.product] if cost_units is not None else 1.0))
+            elastic.append((i, side.side, c.size + len(extra_columns) - 1))
+    if not extra_columns:
+        return A, c, bounds, elastic
+    A = np.hstack([A, np.array(extra_columns).T])
+    c = np.concatenate([c, extra_costs])
+    return A, c, bounds + [(0.0, np.inf)] * len(extra_columns), elastic

@@ -43,14 +43,22 @@ from blendkit.lp.build import (
 from blendkit.engine import StandardForm, solve_form
 from blendkit.model.formula import ConflictLine
 from blendkit.model.blend import DRY_MATTER, Blend
+from blendkit.lp.tolerances import (
+    CHANGED,
+    LEAST_BOUND_SIZE,
+    LEAST_ROW_SIZE,
+    PENALTY_SLACK_ABS,
+    PENALTY_SLACK_REL,
+    RATIO_ROUNDS,
+    RATIO_STEADY,
+    ROUND_NOISE,
+)
 
 # Default priority by kind: a limit with a lower priority gives way first; each step of
 # priority makes giving way ten times dearer. A `Priority` cell overrides the default.
 DEFAULT_PRIORITY = {"nutrient": 3, "ratio": 3, "group": 3, "ingredient": 2, "use": 4, "stock": 5}
 # How many independent conflicts to look for before saying more may remain.
 MOST_CONFLICTS = 8
-# A violation below this (relative to 1 + |bound|) is rounding, not a change.
-CHANGED = 1e-6
 # Reported moves keep this many significant digits, rounded outward (a lower min, a
 # higher max), so a move is never short by rounding.
 DIGITS = 7
@@ -306,7 +314,7 @@ def _best_ratio(lp: BlendLP, form: StandardForm, lp_row, member: Member, want_hi
         bottom[p * J : (p + 1) * J] = lp.per * lp.contents[lp.dry_matter] / TOTAL
     r = member.bound
     best = None
-    for _ in range(50):
+    for _ in range(RATIO_ROUNDS):
         direction = top - r * bottom
         result = solve_form(dataclasses.replace(form, c=-direction if want_high else direction))
         if result.status != "optimal":
@@ -315,7 +323,7 @@ def _best_ratio(lp: BlendLP, form: StandardForm, lp_row, member: Member, want_hi
         if bottom @ x <= 0:
             return None
         value = float(top @ x / (bottom @ x))
-        if best is not None and abs(value - r) <= 1e-12 * (1 + abs(r)):
+        if best is not None and abs(value - r) <= RATIO_STEADY * (1 + abs(r)):
             return value
         best, r = value, value
     return best
@@ -328,9 +336,9 @@ def _penalties(members: list[Member], lp: BlendLP, form: StandardForm) -> np.nda
         if member.kind == "total":
             continue
         if member.place == "row" and (lp.rows[member.index].kind == RATIO or member.basis == DRY_MATTER):
-            size = max(np.abs(_row_vector(form, member.index)).max(initial=0.0) * TOTAL, 1e-9)
+            size = max(np.abs(_row_vector(form, member.index)).max(initial=0.0) * TOTAL, LEAST_ROW_SIZE)
         else:
-            size = max(abs(member.bound), 1e-3)
+            size = max(abs(member.bound), LEAST_BOUND_SIZE)
         weights[k] = 10.0 ** member.priority / size
     return weights
 
@@ -339,80 +347,81 @@ def least_cost_relaxation(blend: Blend, lp: BlendLP, members: list[Member]) -> t
     """The relaxation of least penalty (and, among those, least cost); see the docstring."""
     on = np.ones(len(members), dtype=bool)
     base = form_with(lp, members, on, c=lp.form.c)
-    A = base.A.toarray() if hasattr(base.A, "toarray") else np.asarray(base.A)
-    n = A.shape[1]
-    rl, ru = base.row_lower.copy(), base.row_upper.copy()
-    cl, cu = base.col_lower.copy(), base.col_upper.copy()
-    penalty = _penalties(members, lp, base)
-    extra_rows, extra_lower, extra_upper = [], [], []
-    elastic = []  # (member index, column of the elastic variable in the new LP, sign)
-    columns = n
-    row_sign = {}
-    for k, member in enumerate(members):
-        if member.kind == "total":
-            continue
-        if member.place == "row":
-            sign = 1.0 if member.lp_side == "lower" else -1.0
-            row_sign.setdefault(member.index, []).append((columns, sign))
-        else:
-            # A column bound becomes a row, so that it can give way.
-            j = member.index
-            vector = np.zeros(n)
-            vector[j] = 1.0
-            if member.kind == "use" or member.lp_side == "upper":
-                cu[j] = np.inf
-                extra_rows.append((vector, [(columns, -1.0)]))
-                extra_lower.append(-np.inf)
-                extra_upper.append(0.0 if member.kind == "use" else base.col_upper[j])
-            else:
-                cl[j] = 0.0
-                extra_rows.append((vector, [(columns, 1.0)]))
-                extra_lower.append(base.col_lower[j])
-                extra_upper.append(np.inf)
-        elastic.append((k, columns))
-        columns += 1
-    m_all = A.shape[0] + len(extra_rows)
-    big = np.zeros((m_all, columns))
-    big[: A.shape[0], :n] = A
-    for i, pairs in row_sign.items():
-        for column, sign in pairs:
-            big[i, column] = sign
-    for r, (vector, pairs) in enumerate(extra_rows):
-        big[A.shape[0] + r, :n] = vector
-        for column, sign in pairs:
-            big[A.shape[0] + r, column] = sign
-    rl = np.concatenate([rl, extra_lower])
-    ru = np.concatenate([ru, extra_upper])
-    cl = np.concatenate([cl, np.zeros(columns - n)])
-    cu = np.concatenate([cu, np.full(columns - n, np.inf)])
-    weights = np.zeros(columns)
-    for k, column in elastic:
-        weights[column] = penalty[k]
-    form = StandardForm(c=weights, A=big, row_lower=rl, row_upper=ru, col_lower=cl, col_upper=cu)
+    form, elastic = _elastic_form(base, members, _penalties(members, lp, base))
     first = solve_form(form)
     if first.status != "optimal":
         return ()
     # Among the least-penalty relaxations, the cheapest blend.
-    budget = first.objective * (1 + 1e-9) + 1e-12
+    n = base.c.size
+    budget = first.objective * (1 + PENALTY_SLACK_REL) + PENALTY_SLACK_ABS
     second_form = StandardForm(
-        c=np.concatenate([lp.form.c, np.zeros(columns - n)]),
-        A=np.vstack([big, weights]),
-        row_lower=np.concatenate([rl, [-np.inf]]),
-        row_upper=np.concatenate([ru, [budget]]),
-        col_lower=cl,
-        col_upper=cu,
+        c=np.concatenate([lp.form.c, np.zeros(form.c.size - n)]),
+        A=np.vstack([form.A, form.c]),
+        row_lower=np.concatenate([form.row_lower, [-np.inf]]),
+        row_upper=np.concatenate([form.row_upper, [budget]]),
+        col_lower=form.col_lower,
+        col_upper=form.col_upper,
     )
     second = solve_form(second_form)
     x = second.x if second.status == "optimal" else first.x
     changes = []
-    levels_x = x[:n]
     for k, column in elastic:
         member = members[k]
         if x[column] <= CHANGED * (1 + abs(member.bound)):
             continue
-        level = _level(lp, member, levels_x, base)
+        level = _level(lp, member, x[:n], base)
         changes.append(Change(member, _outward(level, member.side)))
     return tuple(changes)
+
+
+def _elastic_form(base: StandardForm, members: list[Member], penalty: np.ndarray):
+    """The elastic LP: every member but the totals gets a violation column costing its
+    penalty; a member that is a column bound first becomes a row, so it can give way.
+
+    Returns the dense form and (member index, column of its violation) pairs.
+    """
+    A = base.A.toarray() if hasattr(base.A, "toarray") else np.asarray(base.A)
+    n = A.shape[1]
+    cl, cu = base.col_lower.copy(), base.col_upper.copy()
+    extra_rows, extra_lower, extra_upper = [], [], []
+    elastic = []  # (member index, column of the elastic variable in the new LP)
+    row_sign = []  # (row, column, sign) entries of violation columns in existing rows
+    for k, member in enumerate(members):
+        if member.kind == "total":
+            continue
+        column = n + len(elastic)
+        if member.place == "row":
+            row_sign.append((member.index, column, 1.0 if member.lp_side == "lower" else -1.0))
+        elif member.kind == "use" or member.lp_side == "upper":
+            cu[member.index] = np.inf
+            extra_rows.append((member.index, column, -1.0))
+            extra_lower.append(-np.inf)
+            extra_upper.append(0.0 if member.kind == "use" else base.col_upper[member.index])
+        else:
+            cl[member.index] = 0.0
+            extra_rows.append((member.index, column, 1.0))
+            extra_lower.append(base.col_lower[member.index])
+            extra_upper.append(np.inf)
+        elastic.append((k, column))
+    columns = n + len(elastic)
+    big = np.zeros((A.shape[0] + len(extra_rows), columns))
+    big[: A.shape[0], :n] = A
+    for i, column, sign in row_sign:
+        big[i, column] = sign
+    for r, (j, column, sign) in enumerate(extra_rows):
+        big[A.shape[0] + r, j] = 1.0
+        big[A.shape[0] + r, column] = sign
+    weights = np.zeros(columns)
+    for k, column in elastic:
+        weights[column] = penalty[k]
+    form = StandardForm(
+        c=weights, A=big,
+        row_lower=np.concatenate([base.row_lower, extra_lower]),
+        row_upper=np.concatenate([base.row_upper, extra_upper]),
+        col_lower=np.concatenate([cl, np.zeros(columns - n)]),
+        col_upper=np.concatenate([cu, np.full(columns - n, np.inf)]),
+    )
+    return form, elastic
 
 
 def _outward(value: float | None, side: str) -> float | None:
@@ -421,7 +430,7 @@ def _outward(value: float | None, side: str) -> float | None:
     if value is None or not np.isfinite(value) or value == 0:
         return value
     near = float(f"{value:.{DIGITS - 1}g}")
-    if abs(near - value) <= 1e-7 * abs(value):
+    if abs(near - value) <= ROUND_NOISE * abs(value):
         return near
     exponent = Decimal(value).adjusted() - DIGITS + 1
     rounding = ROUND_FLOOR if side == "min" else ROUND_CEILING

@@ -1,0 +1,24 @@
+"""The formulation's own tolerances, named in one place (the engine's are in
+`blendkit.engine.tolerances`). Each is relative where a scale is given."""
+
+# A level within this distance (relative to 1 + |bound|) of a bound sits at it.
+AT_BOUND = 1e-7
+# Inclusions below this (in % or diet units) are reported as 0: they are rounding noise.
+ZERO_INCLUSION = 1e-9
+# A violation below this (relative to 1 + |bound|) is rounding, not a change.
+CHANGED = 1e-6
+# Dinkelbach's iteration for a ratio bound's least move stops when the ratio changes by
+# less than this (relative to 1 + |ratio|), or after RATIO_ROUNDS rounds.
+RATIO_STEADY = 1e-12
+RATIO_ROUNDS = 50
+# The least-cost relaxation may exceed the least total penalty by this much (relative,
+# plus the absolute slack) while it looks for the cheapest blend among them.
+PENALTY_SLACK_REL = 1e-9
+PENALTY_SLACK_ABS = 1e-12
+# The size of a bound when it weighs a unit of violation: never below these, so a bound
+# of 0 (or a ratio row of tiny coefficients) does not make giving way free of scale.
+LEAST_ROW_SIZE = 1e-9
+LEAST_BOUND_SIZE = 1e-3
+# A reported move that differs from a round number by less than this (relative) is
+# solver noise and is reported as the round number.
+ROUND_NOISE = 1e-7
