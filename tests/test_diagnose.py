@@ -14,9 +14,11 @@ import numpy as np
 import pytest
 from typer.testing import CliRunner
 
-from blendkit.lp.build import build_lp
 from blendkit.cli import app
-from blendkit.lp.diagnose import diagnose, form_with, members_of, relaxed_blend
+from blendkit.lp.build import build_lp
+from blendkit.lp.diagnose import diagnose
+from blendkit.lp.members import form_with, members_of
+from blendkit.lp.relax import relaxed_blend
 from blendkit.read.workbook import read_workbook
 from tests.reference import highs_form
 from tests.workbooks import make_workbook
@@ -58,7 +60,7 @@ def check_moves(blend, diagnosis):
     for member, value in zip(conflict.members, conflict.relax_to):
         if value is None:
             continue
-        from blendkit.lp.diagnose import Change
+        from blendkit.lp.relax import Change
 
         moved = relaxed_blend(blend, (Change(member, value),))
         assert feasible_in_highs(build_lp(moved).form), member.describe()

@@ -22,6 +22,7 @@ from dataclasses import dataclass
 
 import numpy as np
 
+from blendkit.engine import LPResult
 from blendkit.lp.build import (
     GROUP,
     NUTRIENT,
@@ -32,7 +33,8 @@ from blendkit.lp.build import (
     LPRow,
     ingredient_limits,
 )
-from blendkit.engine import LPResult
+from blendkit.lp.tolerances import AT_BOUND, ZERO_INCLUSION
+from blendkit.model.blend import AS_FED, DRY_MATTER, Blend
 from blendkit.model.formula import (
     SOFT_LIMIT_NOTE,
     Formula,
@@ -42,9 +44,6 @@ from blendkit.model.formula import (
     ProductFormula,
     StockLine,
 )
-from blendkit.model.blend import AS_FED, DRY_MATTER, Blend
-from blendkit.lp.tolerances import AT_BOUND, ZERO_INCLUSION
-
 
 MESSAGES = {
     "infeasible": "the specs and limits cannot all be met at once",
