@@ -1,5 +1,5 @@
 """`python -m blendkit` runs the command line."""
 
-from blendkit.cli import main
+from blendkit.start import main
 
 main()

@@ -130,12 +130,7 @@ def new(
 
 
 def main() -> None:
-    """Entry point of the `blendkit` console script."""
-    try:
-        app()
-    except KeyboardInterrupt:
-        typer.echo("interrupted", err=True)
-        raise SystemExit(130) from None
-    except Exception as error:  # a bug of ours: say so plainly, without a traceback
-        typer.echo(f"blendkit: internal error ({type(error).__name__}: {error}); please report it", err=True)
-        raise SystemExit(70) from None
+    """Entry point kept for callers of `blendkit.cli:main`; see `blendkit.start.main`."""
+    from blendkit.start import main as start
+
+    start()

@@ -8,6 +8,7 @@ from __future__ import annotations
 
 import dataclasses
 import hashlib
+import os
 from dataclasses import dataclass
 from datetime import UTC, datetime
 from pathlib import Path
@@ -71,16 +72,40 @@ def default_output(book: Path) -> Path:
     return book.with_name(f"{stem}.result.xlsx")
 
 
-def _check_output(book: Path, output: Path) -> None:
-    """Refuse an output that would overwrite the input or cannot be written."""
+def _same_file(one: Path, other: Path) -> bool:
+    """True when two paths name one file: the same spelling resolved, a symlink, or a
+    hard link (same device and inode)."""
+    if one.resolve() == other.resolve():
+        return True
+    try:
+        return os.path.samefile(one, other)
+    except OSError:  # one of them does not exist yet
+        return False
+
+
+def _check_writable(path: Path, what: str) -> None:
+    """Refuse an output path whose folder is missing or that names a folder."""
+    if not path.parent.is_dir():
+        raise OutputError(f"{path}: folder {path.parent} does not exist")
+    if path.is_dir():
+        raise OutputError(f"{path}: is a folder, not a file name for the {what}")
+
+
+def check_outputs(book: Path, output: Path, mps_file: Path | None = None) -> None:
+    """Refuse, before anything is solved or written, outputs that would overwrite the
+    input (under any spelling or link), that name one file twice, or cannot be written."""
     if output.suffix.lower() != ".xlsx":
         raise OutputError(f"{output}: the output must be an .xlsx file")
-    if output.resolve() == book.resolve():
+    if _same_file(output, book):
         raise OutputError(f"{output}: the output would overwrite the input workbook; choose another name with -o")
-    if not output.parent.is_dir():
-        raise OutputError(f"{output}: folder {output.parent} does not exist")
-    if output.is_dir():
-        raise OutputError(f"{output}: is a folder, not a file name")
+    _check_writable(output, "output workbook")
+    if mps_file is None:
+        return
+    if _same_file(mps_file, book):
+        raise OutputError(f"{mps_file}: the MPS file would overwrite the input workbook; choose another name")
+    if _same_file(mps_file, output):
+        raise OutputError(f"{mps_file}: the MPS file and the output workbook are the same file; choose two names")
+    _check_writable(mps_file, "MPS file")
 
 
 def solve_workbook(
@@ -98,9 +123,7 @@ def solve_workbook(
     started = datetime.now(UTC).strftime("%Y-%m-%dT%H:%M:%SZ")
     blend = read_workbook(book)
     target = Path(output) if output is not None else default_output(book)
-    _check_output(book, target)
-    if mps_file is not None and Path(mps_file).resolve() == book.resolve():
-        raise OutputError(f"{mps_file}: the MPS file would overwrite the input workbook")
+    check_outputs(book, target, None if mps_file is None else Path(mps_file))
     formula = formulate(blend)
     run = RunInfo(
         tool_version=__version__,

@@ -1,0 +1,152 @@
+"""A catalogue of hostile and careless inputs, kept as regression tests.
+
+Each case ends in a documented exit code and a message (with the sheet and cell where a
+cell is at fault), never a traceback; the input stays byte-for-byte unchanged; a failed
+run leaves no output and no temporary file behind. The cases come from trying blendkit
+as a careful tester would: paths that name the input under another spelling or link,
+interrupts, huge or far-away cells, numbers a person can type, corrupted files.
+"""
+
+from __future__ import annotations
+
+import json
+import os
+import subprocess
+import sys
+from pathlib import Path
+
+import pytest
+from typer.testing import CliRunner
+
+from blendkit.cli import app
+from tests.workbooks import INGREDIENTS, SPECS, make_workbook
+
+ROOT = Path(__file__).resolve().parents[1]
+runner = CliRunner()
+
+
+def run(*args):
+    """Invoke the CLI in-process; returns the click Result (stdout and stderr separate)."""
+    return runner.invoke(app, [str(a) for a in args])
+
+
+@pytest.fixture
+def book(tmp_path):
+    """A small valid workbook in its own folder."""
+    return make_workbook(tmp_path, INGREDIENTS, SPECS, name="f.xlsx")
+
+
+def leftovers(folder: Path, keep: set[str]) -> set[str]:
+    """Files in `folder` other than `keep` (temporary files start with a dot)."""
+    return {p.name for p in folder.iterdir()} - keep
+
+
+# --- 1. the input is never overwritten, whatever the paths -------------------------------
+
+
+@pytest.mark.parametrize("spelling", ["hard link", "symlink", "dot slash"])
+def test_export_mps_onto_the_input_is_refused(book, spelling, monkeypatch):
+    monkeypatch.chdir(book.parent)
+    before = book.read_bytes()
+    if spelling == "hard link":
+        os.link(book, book.parent / "h.mps")
+        target = "h.mps"
+    elif spelling == "symlink":
+        os.symlink(book, book.parent / "s.mps")
+        target = "s.mps"
+    else:
+        target = "./f.xlsx"
+    result = run("solve", "f.xlsx", "-o", "out.xlsx", "--export-mps", target)
+    assert result.exit_code == 2, result.output
+    assert "would overwrite the input workbook" in result.stderr
+    assert book.read_bytes() == before
+    assert not (book.parent / "out.xlsx").exists()  # refused before anything was written
+
+
+@pytest.mark.parametrize("spelling", ["hard link", "symlink"])
+def test_output_onto_a_link_of_the_input_is_refused_with_json(book, spelling):
+    before = book.read_bytes()
+    link = book.parent / "link.xlsx"
+    (os.link if spelling == "hard link" else os.symlink)(book, link)
+    result = run("solve", book, "-o", link, "--json")
+    assert result.exit_code == 2, result.output
+    doc = json.loads(result.stdout)
+    assert doc["status"] == "output_error"
+    assert "would overwrite the input workbook" in doc["message"]
+    assert book.read_bytes() == before
+
+
+def test_export_mps_and_output_naming_one_file_is_refused(book):
+    out = book.parent / "out.xlsx"
+    result = run("solve", book, "-o", out, "--export-mps", out)
+    assert result.exit_code == 2
+    assert "the MPS file and the output workbook are the same file" in result.stderr
+    assert not out.exists()
+
+
+def test_export_mps_into_a_missing_folder_is_refused_before_writing(book):
+    out = book.parent / "out.xlsx"
+    result = run("solve", book, "-o", out, "--export-mps", book.parent / "nowhere" / "x.mps")
+    assert result.exit_code == 2
+    assert "does not exist" in result.stderr
+    assert not out.exists()
+    assert leftovers(book.parent, {"f.xlsx"}) == set()
+
+
+# --- 6. interrupts -----------------------------------------------------------------------
+
+# Runs blendkit's real entry point in a child process, with one step patched to send the
+# process a real signal at the worst moment.
+_CHILD = """
+import os, signal, sys
+sys.argv = ["blendkit", *sys.argv[2:]]
+when = sys.argv and os.environ["BLENDKIT_TEST_SIGNAL_AT"]
+number = getattr(signal, os.environ["BLENDKIT_TEST_SIGNAL"])
+if when == "import":
+    import importlib.abc
+    class Hook(importlib.abc.MetaPathFinder):
+        def find_spec(self, name, path=None, target=None):
+            if name == "blendkit.pipeline":
+                os.kill(os.getpid(), number)
+            return None
+    sys.meta_path.insert(0, Hook())
+else:
+    import blendkit.write.workbook.book as book
+    original = os.replace
+    def replace_after_signal(src, dst):
+        os.kill(os.getpid(), number)  # the temporary file is complete, not yet moved
+        return original(src, dst)
+    book.os = type(os)("os_with_signal")
+    book.os.__dict__.update(os.__dict__)
+    book.os.replace = replace_after_signal
+from blendkit.start import main
+main()
+"""
+
+
+def _signalled(book: Path, when: str, name: str) -> subprocess.CompletedProcess:
+    """Solve `book` in a child process that gets signal `name` at `when`."""
+    env = dict(os.environ, BLENDKIT_TEST_SIGNAL_AT=when, BLENDKIT_TEST_SIGNAL=name)
+    return subprocess.run(
+        [sys.executable, "-c", _CHILD, "--", "solve", str(book), "-o", str(book.parent / "out.xlsx")],
+        capture_output=True, text=True, env=env, cwd=ROOT, timeout=120,
+    )
+
+
+@pytest.mark.parametrize("name, code, word", [("SIGTERM", 143, "terminated"), ("SIGINT", 130, "interrupted")])
+def test_signal_during_the_final_write_leaves_nothing_behind(book, name, code, word):
+    before = book.read_bytes()
+    done = _signalled(book, "write", name)
+    assert done.returncode == code, done.stderr
+    assert done.stderr.strip().endswith(word)
+    assert "Traceback" not in done.stderr
+    assert leftovers(book.parent, {"f.xlsx"}) == set()  # no output, no hidden .tmp file
+    assert book.read_bytes() == before
+
+
+@pytest.mark.parametrize("name, code, word", [("SIGINT", 130, "interrupted"), ("SIGTERM", 143, "terminated")])
+def test_signal_during_start_up_prints_a_word_not_a_traceback(book, name, code, word):
+    done = _signalled(book, "import", name)
+    assert done.returncode == code, done.stderr
+    assert done.stderr.strip() == word
+    assert leftovers(book.parent, {"f.xlsx"}) == set()
