@@ -1,4 +1,6 @@
-"""Smoke tests of the benchmark: its LPs are well made and its report has the columns.
+"""Tests of the benchmark: its LPs are well made (feasible, or infeasible, per HiGHS), the
+answers it times agree with HiGHS and a wrong one is counted, its report has the columns,
+and without highspy it says what to install.
 
 No timing assertions: speed is what the benchmark prints, not what tests check.
 """
@@ -6,6 +8,9 @@ No timing assertions: speed is what the benchmark prints, not what tests check.
 from __future__ import annotations
 
 import re
+import subprocess
+import sys
+from dataclasses import replace
 from types import SimpleNamespace
 
 import numpy as np
@@ -13,7 +18,10 @@ import pytest
 from scipy.optimize import linprog
 
 from blendkit import bench
-from blendkit.engine import StandardForm
+from blendkit.bench.highs import MISSING_HIGHSPY
+from blendkit.engine import StandardForm, solve
+from blendkit.lp.build import build_lp
+from tests.reference import highs_form
 
 SEED = 7
 SMALLEST = bench.DEFAULT_SIZES[0]  # (ingredients, nutrients)
@@ -58,6 +66,16 @@ def test_blends_look_like_formulation_data():
     assert lp.contents.max() > 1000 and {"%", "MJ/kg", "mg/kg", "ppm"} <= set(lp.nutrient_units)
 
 
+@pytest.mark.parametrize("size", bench.DEFAULT_SIZES)
+def test_blends_of_every_default_size_are_feasible_per_highs_and_no_dearer_than_their_mixture(size):
+    # Outside reference: scipy's linprog with HiGHS. The mixture x0 the specs were set
+    # around is feasible, so the least cost can be no higher than its cost.
+    lp = bench.make_blend(*size, SEED)
+    result = linprog(*_args(lp), method="highs")
+    assert result.status == 0, result.message
+    assert result.fun <= lp.c @ lp.x0 + 1e-9 * max(1.0, abs(lp.c @ lp.x0))
+
+
 def test_generator_is_deterministic_and_the_sweep_changes_prices_only():
     a, b = bench.make_blend(*SMALLEST, SEED, 1), bench.make_blend(*SMALLEST, SEED, 1)
     np.testing.assert_array_equal(a.c, b.c)
@@ -65,20 +83,60 @@ def test_generator_is_deterministic_and_the_sweep_changes_prices_only():
     assert not np.array_equal(a.c, bench.make_blend(*SMALLEST, SEED, 2).c)
     sweep = bench.price_sweep(a, 3, SEED)
     assert len(sweep) == 3
+    before = a
     for step in sweep:
-        assert step.A_ub is a.A_ub and step.b_ub is a.b_ub and step.bounds is a.bounds
-    assert not np.array_equal(sweep[-1].c, a.c)
+        for same in ("A_ub", "b_ub", "A_eq", "b_eq", "bounds", "contents", "x0", "nutrient_units"):
+            assert getattr(step, same) is getattr(a, same), same
+        np.testing.assert_array_equal(step.c, step.prices / 100)  # costs follow the prices
+        assert not np.array_equal(step.prices, before.prices)  # every step moves some price
+        before = step
+    np.testing.assert_array_equal(a.prices, b.prices)  # the sweep leaves its start alone
 
 
-def test_report_lines_carry_a_ratio():
+def test_timed_solves_agree_with_highs_on_status_and_objective():
+    # Outside reference: scipy's linprog with HiGHS, on the LPs the benchmark times, cold
+    # and along a price sweep started warm from the previous basis (as `measure` does).
+    lps = [bench.make_blend(*SMALLEST, SEED, k) for k in range(3)]
+    sweep = bench.price_sweep(lps[0], 3, SEED)
+    start = basis = solve(*_args(lps[0])).basis
+    for lp, warm in [*((lp, False) for lp in lps), *((lp, True) for lp in sweep)]:
+        ours = solve(*_args(lp), basis=basis if warm else None)
+        ref = linprog(*_args(lp), method="highs")
+        assert (ours.status, ref.status) == ("optimal", 0), lp.name
+        assert ours.objective == pytest.approx(ref.fun, rel=bench.OBJECTIVE_RTOL), lp.name
+        assert ours.warm_start == warm, lp.name
+        basis = ours.basis if warm else basis
+    assert bench.measure("20x10", lps, repeat=1).mismatches == 0
+    assert bench.measure("20x10 sweep, warm", sweep, repeat=1, warm_from=start).mismatches == 0
+
+
+def test_a_wrong_answer_is_counted_as_a_mismatch_and_named(monkeypatch):
+    # The mismatch column must catch an engine that goes wrong: make ours 1 % dearer.
+    def dearer(*args, **kwargs):
+        result = solve(*args, **kwargs)
+        return replace(result, objective=result.objective * 1.01)
+
+    monkeypatch.setattr("blendkit.bench.timing.solve", dearer)
     lps = [bench.make_blend(*SMALLEST, SEED, k) for k in range(2)]
     row = bench.measure("20x10", lps, repeat=1)
-    assert row.lps == 2 and row.solves == 2 and row.mismatches == 0, row.first_mismatch
+    assert row.mismatches == 2
+    assert row.first_mismatch.startswith(f"{lps[0].name}: objective ")
     lines = bench.measurement_lines([row])
-    assert "ours/HiGHS" in lines[0]
-    ratio = re.search(r"(\d+\.\d+)x", lines[2])
-    assert lines[2].startswith("20x10") and ratio
-    assert float(ratio.group(1)) == round(row.ours_seconds / row.highs_seconds, 2)
+    assert re.search(r"\s2  optimal 2$", lines[2]) and lines[3].startswith("    first mismatch: ")
+
+
+def test_agreement_compares_status_then_objective_within_the_tolerance():
+    assert bench.agreement("optimal", 100.0, "optimal", 100.0 * (1 + bench.OBJECTIVE_RTOL / 2)) == ""
+    assert bench.agreement("optimal", 100.0, "optimal", 100.0 * (1 + 2 * bench.OBJECTIVE_RTOL)).startswith("objective")
+    assert bench.agreement("infeasible", None, "optimal", 5.0) == "status infeasible vs HiGHS optimal"
+    assert bench.agreement("infeasible", None, "infeasible", None) == ""
+
+
+def test_infeasible_blends_are_infeasible_per_highs():
+    # Outside reference: scipy's linprog with HiGHS (tests/reference.py) on the LP our
+    # builder makes of the diagnosis family's blend, which must have no feasible mix.
+    blend = bench.infeasible_blend(*SMALLEST, SEED)
+    assert highs_form(build_lp(blend).form).status == "infeasible"
 
 
 def test_netlib_is_skipped_with_a_reason_when_the_folder_is_missing(tmp_path):
@@ -95,6 +153,34 @@ def test_quick_run_prints_machine_table_and_netlib_line(tmp_path, capsys):
     assert re.search(r"^20x10 sweep, cold .*\d+\.\d\dx", out, re.M)
     assert re.search(r"^20x10 sweep, warm .*\d+\.\d\dx.*started warm \d+ of 3", out, re.M)
     assert "NETLIB skipped" in out
+
+
+def test_without_highspy_the_benchmark_says_to_install_the_test_extra_and_exits_2(tmp_path, monkeypatch, capsys):
+    monkeypatch.setitem(sys.modules, "highspy", None)  # what `import highspy` meets when it is not installed
+    with pytest.raises(SystemExit) as exit:
+        bench.main(["--quick", "--sizes", "20x10", "--netlib", str(tmp_path / "nowhere")])
+    assert exit.value.code == 2
+    captured = capsys.readouterr()
+    assert captured.out == ""  # nothing measured before the message
+    assert captured.err.count("\n") == 1 and "highspy" in captured.err and "pip install '.[test]'" in captured.err
+
+
+def test_the_package_imports_without_highspy_and_python_m_exits_2():
+    # A fresh interpreter: importing blendkit.bench and making a blend must not touch
+    # highspy; `python -m blendkit.bench` then ends with the one-line message.
+    script = (
+        "import runpy, sys\n"
+        "import blendkit.bench\n"
+        "assert 'highspy' not in sys.modules\n"
+        "sys.modules['highspy'] = None\n"
+        "blendkit.bench.make_blend(20, 10, 1)\n"
+        "sys.argv = ['blendkit.bench', '--quick', '--sizes', '20x10']\n"
+        "runpy.run_module('blendkit.bench', run_name='__main__')\n"
+    )
+    done = subprocess.run([sys.executable, "-c", script], capture_output=True, text=True, timeout=120)
+    assert done.returncode == 2, done.stderr
+    assert done.stdout == ""
+    assert done.stderr.strip().splitlines() == [MISSING_HIGHSPY]
 
 
 TINY_MPS = """NAME          TINY

@@ -27,6 +27,7 @@ from openpyxl.worksheet.worksheet import Worksheet
 
 from blendkit import CAUTION
 from blendkit.authoring.examples import AMOUNT_FORMAT, EXAMPLES, example_workbook
+from blendkit.authoring.examples.writer import write_notes
 from blendkit.model.blend import BASES, MASS_UNITS_KG
 
 COST_FORMAT = "#,##0.00"
@@ -158,48 +159,12 @@ def template_workbook() -> Workbook:
     """The blank template as an openpyxl Workbook, not yet saved."""
     workbook = Workbook()
     _write_readme(workbook.active)
-
-    ingredients = _table(workbook.create_sheet("Ingredients"), INGREDIENT_HEADER, INGREDIENT_ROWS, freeze="B2")
-    _number_format(ingredients, "B", COST_FORMAT)
-    for column in ("C", "D", "G", "H", "I", "J", "K"):
-        _number_format(ingredients, column, AMOUNT_FORMAT)
-    _choices(ingredients, "E", USE_CHOICES, "Use", "yes: the ingredient may be used; no: keep it out.")
-    for row in ingredients.iter_rows(min_row=2, max_row=LAST_ROW, min_col=5, max_col=5):
-        row[0].alignment = Alignment(horizontal="center")
-
-    specs = _table(workbook.create_sheet("Specs"), SPEC_HEADER, SPEC_ROWS, freeze="A2")
-    for column in ("C", "D"):
-        _number_format(specs, column, AMOUNT_FORMAT)
-    _choices(specs, "B", BASIS_CHOICES, "Basis", "as fed, or dry matter (level per unit of dry matter).")
-
-    groups = _table(workbook.create_sheet("Groups"), GROUP_HEADER, GROUP_ROWS, freeze="A2")
-    for column in ("C", "D"):
-        _number_format(groups, column, AMOUNT_FORMAT)
-
-    products = _table(workbook.create_sheet("Products"), PRODUCT_HEADER, (), freeze="A2")
-    _number_format(products, "B", AMOUNT_FORMAT)
-    limits = _table(workbook.create_sheet("Limits"), LIMIT_HEADER, (), freeze="A2")
-    for column in ("C", "D"):
-        _number_format(limits, column, AMOUNT_FORMAT)
-
-    settings = _table(workbook.create_sheet("Settings"), ("Setting", "Value"), SETTING_ROWS, freeze="A2")
-    for (cell,) in settings.iter_rows(min_row=2, min_col=2, max_col=2):
-        cell.alignment = Alignment(horizontal="left")
-    mode_row = 2 + [name for name, _ in SETTING_ROWS].index("Mode")
-    _choices(settings, f"B{mode_row}", MODE_CHOICES, "Mode", "blend: inclusions in %; diet: amounts of foods.")
-    units = tuple(MASS_UNITS_KG)
-    for name in ("Mass unit", "Cost per"):
-        row = 2 + [setting for setting, _ in SETTING_ROWS].index(name)
-        _choices(settings, f"B{row}", units, name, "A mass unit: " + ", ".join(units) + ".")
-
-    notes = workbook.create_sheet("Notes")
-    notes.append(["Notes"])
-    for paragraph in NOTES:
-        notes.append([paragraph])
-        notes.cell(row=notes.max_row, column=1).alignment = Alignment(wrap_text=True, vertical="top")
-    notes["A1"].font = Font(bold=True)
-    notes.freeze_panes = "A2"
-    notes.column_dimensions["A"].width = 110
+    _write_ingredients(workbook.create_sheet("Ingredients"))
+    _write_specs(workbook.create_sheet("Specs"))
+    _write_groups(workbook.create_sheet("Groups"))
+    _write_products_and_limits(workbook.create_sheet("Products"), workbook.create_sheet("Limits"))
+    _write_settings(workbook.create_sheet("Settings"))
+    write_notes(workbook.create_sheet("Notes"), NOTES)
     return workbook
 
 
@@ -247,6 +212,54 @@ def _write_readme(sheet: Worksheet) -> None:
     sheet.freeze_panes = "A2"
     for column, width in enumerate(README_WIDTHS, start=1):
         sheet.column_dimensions[get_column_letter(column)].width = width
+
+
+def _write_ingredients(sheet: Worksheet) -> None:
+    """The Ingredients sheet: example rows, number formats and the Use drop-down."""
+    _table(sheet, INGREDIENT_HEADER, INGREDIENT_ROWS, freeze="B2")
+    _number_format(sheet, "B", COST_FORMAT)
+    for column in ("C", "D", "G", "H", "I", "J", "K"):
+        _number_format(sheet, column, AMOUNT_FORMAT)
+    _choices(sheet, "E", USE_CHOICES, "Use", "yes: the ingredient may be used; no: keep it out.")
+    for row in sheet.iter_rows(min_row=2, max_row=LAST_ROW, min_col=5, max_col=5):
+        row[0].alignment = Alignment(horizontal="center")
+
+
+def _write_specs(sheet: Worksheet) -> None:
+    """The Specs sheet: example rows (a ratio, a dry-matter spec) and the Basis drop-down."""
+    _table(sheet, SPEC_HEADER, SPEC_ROWS, freeze="A2")
+    for column in ("C", "D"):
+        _number_format(sheet, column, AMOUNT_FORMAT)
+    _choices(sheet, "B", BASIS_CHOICES, "Basis", "as fed, or dry matter (level per unit of dry matter).")
+
+
+def _write_groups(sheet: Worksheet) -> None:
+    """The Groups sheet: one example group."""
+    _table(sheet, GROUP_HEADER, GROUP_ROWS, freeze="A2")
+    for column in ("C", "D"):
+        _number_format(sheet, column, AMOUNT_FORMAT)
+
+
+def _write_products_and_limits(products: Worksheet, limits: Worksheet) -> None:
+    """The Products and Limits sheets: headers only, since an empty sheet makes one blend."""
+    _table(products, PRODUCT_HEADER, (), freeze="A2")
+    _number_format(products, "B", AMOUNT_FORMAT)
+    _table(limits, LIMIT_HEADER, (), freeze="A2")
+    for column in ("C", "D"):
+        _number_format(limits, column, AMOUNT_FORMAT)
+
+
+def _write_settings(sheet: Worksheet) -> None:
+    """The Settings sheet: every setting with its default, drop-downs for Mode and the mass units."""
+    _table(sheet, ("Setting", "Value"), SETTING_ROWS, freeze="A2")
+    for (cell,) in sheet.iter_rows(min_row=2, min_col=2, max_col=2):
+        cell.alignment = Alignment(horizontal="left")
+    mode_row = 2 + [name for name, _ in SETTING_ROWS].index("Mode")
+    _choices(sheet, f"B{mode_row}", MODE_CHOICES, "Mode", "blend: inclusions in %; diet: amounts of foods.")
+    units = tuple(MASS_UNITS_KG)
+    for name in ("Mass unit", "Cost per"):
+        row = 2 + [setting for setting, _ in SETTING_ROWS].index(name)
+        _choices(sheet, f"B{row}", units, name, "A mass unit: " + ", ".join(units) + ".")
 
 
 def _table(sheet: Worksheet, header: tuple, rows: tuple, freeze: str) -> Worksheet:

@@ -1,0 +1,60 @@
+"""Benchmark: our engine beside HiGHS on blend-shaped LPs and on NETLIB problems.
+
+Run ``python -m blendkit.bench`` (``--quick`` for a fast look). This measures, it does not
+test: it prints the machine, then one section per benchmark family, each timing our
+`blendkit.engine` beside HiGHS on the same LPs and counting the answers that disagree.
+It needs highspy, which only the test extra installs (``pip install '.[test]'``); without
+it the command says so on one line and exits 2. Importing this package does not need it.
+
+One module per concern:
+
+    blends.py     the blend family: the random blend LP generator (make_blend,
+                  price_sweep, infeasible_blend) and its table (cold solves, price sweeps)
+    diagnosis.py  the diagnosis family: conflict diagnosis of infeasible blends
+    netlib.py     the NETLIB family: MPS files read and solved by both solvers
+    timing.py     shared by the families: timed, agreement, measure and its table
+    highs.py      highspy, imported only when needed, with the missing-extra message
+    machine.py    the machine lines: processor, cores, versions, load average
+    options.py    Options, the settings of one run
+    report.py     run (the machine, then the families in order) and main (the command line)
+
+A new benchmark family is one more module with ``section(options)`` yielding its lines,
+listed in `blendkit.bench.report.FAMILIES`.
+"""
+
+from blendkit.bench.blends import BlendInstance, infeasible_blend, make_blend, price_sweep
+from blendkit.bench.diagnosis import diagnosis_lines
+from blendkit.bench.highs import MissingTestExtra
+from blendkit.bench.machine import machine_lines
+from blendkit.bench.netlib import NetlibRow, netlib_folder, netlib_lines, run_netlib, solve_netlib
+from blendkit.bench.options import Options
+from blendkit.bench.report import DEFAULT_SEED, DEFAULT_SIZES, FAMILIES, main, parse_sizes, run
+from blendkit.bench.timing import OBJECTIVE_RTOL, Measurement, agreement, measure, measurement_lines, timed
+
+__all__ = [
+    "DEFAULT_SEED",
+    "DEFAULT_SIZES",
+    "FAMILIES",
+    "OBJECTIVE_RTOL",
+    "BlendInstance",
+    "Measurement",
+    "MissingTestExtra",
+    "NetlibRow",
+    "Options",
+    "agreement",
+    "diagnosis_lines",
+    "infeasible_blend",
+    "machine_lines",
+    "main",
+    "make_blend",
+    "measure",
+    "measurement_lines",
+    "netlib_folder",
+    "netlib_lines",
+    "parse_sizes",
+    "price_sweep",
+    "run",
+    "run_netlib",
+    "solve_netlib",
+    "timed",
+]
