@@ -150,3 +150,33 @@ def test_signal_during_start_up_prints_a_word_not_a_traceback(book, name, code, 
     assert done.returncode == code, done.stderr
     assert done.stderr.strip() == word
     assert leftovers(book.parent, {"f.xlsx"}) == set()
+
+
+# --- 4. numbers a user can type do not break the engine ------------------------------------
+
+BROILER = ROOT / "sample_workbooks" / "broiler_starter.xlsx"
+
+
+def _broiler_with(tmp_path: Path, cell: str, value) -> Path:
+    """A copy of the broiler sample with one Ingredients cell changed."""
+    import openpyxl
+
+    book = openpyxl.load_workbook(BROILER)
+    book["Ingredients"][cell] = value
+    path = tmp_path / "broiler.xlsx"
+    book.save(path)
+    return path
+
+
+@pytest.mark.parametrize("tiny", [1e-20, 1e-100, 1e-300])
+def test_a_tiny_content_is_treated_as_zero_and_named(tmp_path, tiny):
+    # Outside check: HiGHS (scipy) on the same workbook with that cell blank, i.e. 0.
+    from tests.test_examples import solve_with_highs
+
+    path = _broiler_with(tmp_path, "G3", tiny)  # Wheat's crude protein
+    result = run("solve", path, "-o", tmp_path / "out.xlsx", "--json")
+    assert result.exit_code == 0, result.output
+    doc = json.loads(result.stdout)
+    assert any(note.startswith("Ingredients!G3: ") and "treated as 0" in note for note in doc["notes"])
+    reference, *_ = solve_with_highs(_broiler_with(tmp_path, "G3", None))
+    assert doc["cost"] == pytest.approx(reference.fun, rel=1e-9)

@@ -183,13 +183,13 @@ class _Solution:
 def analyse(blend: Blend, lp: BlendLP, result: LPResult) -> Formula:
     """The Formula for `blend` from the engine's `result` on `lp`."""
     if result.status != "optimal":
-        return _unsolved(blend, result)
+        return _unsolved(blend, lp, result)
     solution = _Solution.of(blend, lp, result)
     products = [_product(solution, p) for p in range(len(lp.products))]
     stocks, stock_limits = _stocks(solution)
     every_limit = [limit for product in products for limit in product.limits] + stock_limits
     used = (solution.x > 0).any(axis=0)
-    notes = _violation_notes(every_limit) + _blank_notes(blend, used)
+    notes = _violation_notes(every_limit) + lp.notes + _blank_notes(blend, used)
     if lp.multi:
         total = float(sum(lp.cost_units[p] * product.cost for p, product in enumerate(products)))
         return Formula(
@@ -213,7 +213,7 @@ def analyse(blend: Blend, lp: BlendLP, result: LPResult) -> Formula:
     )
 
 
-def _unsolved(blend: Blend, result: LPResult) -> Formula:
+def _unsolved(blend: Blend, lp: BlendLP, result: LPResult) -> Formula:
     """A formula without numbers for a status other than optimal, with the reason."""
     message = MESSAGES.get(result.status, result.status)
     if result.status != "infeasible":
@@ -227,7 +227,7 @@ def _unsolved(blend: Blend, result: LPResult) -> Formula:
         nutrients=(),
         limits=(),
         iterations=result.iterations,
-        notes=_blank_notes(blend, None),
+        notes=lp.notes + _blank_notes(blend, None),
     )
 
 

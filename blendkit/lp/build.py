@@ -31,7 +31,8 @@ from dataclasses import dataclass
 import numpy as np
 
 from blendkit.engine import StandardForm
-from blendkit.model.blend import DRY_MATTER, Blend
+from blendkit.lp.tolerances import DROP_RELATIVE
+from blendkit.model.blend import AS_FED, DRY_MATTER, Blend
 
 TOTAL = 100.0  # inclusions are in % of the blend
 
@@ -92,6 +93,7 @@ class BlendLP:
     dry_matter: int | None  # index of the dry-matter nutrient, if the blend has it
     multi: bool  # True with a Products sheet: the objective is the run's total cost
     elastic: tuple[tuple[int, str, int], ...] = ()  # (row, "min" | "max", column) of soft specs
+    notes: tuple[str, ...] = ()  # content cells treated as 0 (see DROP_RELATIVE)
 
     @property
     def n_ingredients(self) -> int:
@@ -239,7 +241,8 @@ def build_lp(blend: Blend) -> BlendLP:
     rows.add_stocks()
     bounds = [column_bounds(blend, product, j) for product, _ in products for j in range(J)]
     weights = np.repeat(cost_units, J) if multi else np.ones(P * J)
-    A, c = rows.matrix(), np.tile(costs, P) * rows.per * weights
+    A, dropped = _drop_tiny(rows.matrix())
+    c = np.tile(costs, P) * rows.per * weights
     A, c, bounds, elastic = _with_elastic_columns(rows.meaning, A, c, bounds, cost_units if multi else None)
     form = StandardForm(
         c=c,
@@ -260,7 +263,39 @@ def build_lp(blend: Blend) -> BlendLP:
         dry_matter=rows.dm,
         multi=multi,
         elastic=tuple(elastic),
+        notes=_dropped_notes(blend, rows.meaning, dropped, J),
     )
+
+
+def _drop_tiny(A: np.ndarray) -> tuple[np.ndarray, list[tuple[int, int]]]:
+    """A with entries below DROP_RELATIVE of their row's or column's largest set to 0,
+    and the (row, column) of each entry so dropped."""
+    size = np.abs(A)
+    if size.size == 0:
+        return A, []
+    largest = np.maximum(size.max(axis=1, keepdims=True), size.max(axis=0, keepdims=True))
+    tiny = (size > 0) & (size < DROP_RELATIVE * largest)
+    if not tiny.any():
+        return A, []
+    A = np.where(tiny, 0.0, A)
+    return A, [(int(i), int(k)) for i, k in zip(*np.nonzero(tiny))]
+
+
+def _dropped_notes(blend: Blend, meaning: list[LPRow], dropped, J: int) -> tuple[str, ...]:
+    """One note per content cell whose entry in an as-fed nutrient row was dropped."""
+    notes = {}
+    for i, k in dropped:
+        row = meaning[i]
+        if row.kind != NUTRIENT or row.basis != AS_FED:
+            continue  # a ratio or dry-matter row: cancellation noise, not a cell
+        item = blend.ingredients[k % J]
+        value = item.contents.get(row.name, 0.0)
+        cell = item.content_cells.get(row.name, f"{item.name} / {row.name}")
+        notes[cell] = (
+            f"{cell}: {row.name} of {item.name} ({value:g}) is tiny beside the other numbers "
+            f"of its row and column (below {DROP_RELATIVE:g} of the largest) and is treated as 0"
+        )
+    return tuple(notes.values())
 
 
 def _with_elastic_columns(meaning: list[LPRow], A: np.ndarray, c: np.ndarray, bounds: list, cost_units):

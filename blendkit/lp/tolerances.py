@@ -22,3 +22,8 @@ LEAST_BOUND_SIZE = 1e-3
 # A reported move that differs from a round number by less than this (relative) is
 # solver noise and is reported as the round number.
 ROUND_NOISE = 1e-7
+# A matrix entry smaller than this, relative to the largest entry of its row or of its
+# column, is treated as 0 (as LP solvers do): a content of 1e-20 beside contents of 1 to
+# 100 means nothing for the blend but wrecks the scaling. A content cell so treated is
+# named in the run's notes.
+DROP_RELATIVE = 1e-10
