@@ -180,3 +180,26 @@ def test_a_tiny_content_is_treated_as_zero_and_named(tmp_path, tiny):
     assert any(note.startswith("Ingredients!G3: ") and "treated as 0" in note for note in doc["notes"])
     reference, *_ = solve_with_highs(_broiler_with(tmp_path, "G3", None))
     assert doc["cost"] == pytest.approx(reference.fun, rel=1e-9)
+
+
+# --- 5. meaningless specs, and an unbounded diet -------------------------------------------
+
+
+def test_an_unbounded_diet_names_the_food_and_its_cells(tmp_path):
+    # A food with a negative price and no Max: HiGHS (scipy) agrees the LP is unbounded.
+    from scipy.optimize import linprog
+
+    path = make_workbook(
+        tmp_path,
+        [["Ingredient", "Cost", "Max", "Protein (g)"], ["Bread", 0.3, None, 8], ["Coupon", -0.5, None, 0],
+         ["Milk", 0.2, 5, 3]],
+        [["Nutrient", "Min", "Max"], ["Protein", 50, None]],
+        [["Setting", "Value"], ["Mode", "diet"]],
+    )
+    reference = linprog([0.3, -0.5, 0.2], A_ub=[[-8, 0, -3]], b_ub=[-50], bounds=[(0, None), (0, None), (0, 5)])
+    assert reference.status == 3  # unbounded
+    result = run("solve", path, "-o", tmp_path / "out.xlsx")
+    assert result.exit_code == 3
+    assert ("the cost can fall without limit: more of Coupon always lowers the cost "
+            "(cost -0.5 in Ingredients!B3, no Max in Ingredients!C3)") in result.stdout
+    assert "Bread" not in result.stdout.split("Message:")[1].splitlines()[0]

@@ -216,7 +216,10 @@ def analyse(blend: Blend, lp: BlendLP, result: LPResult) -> Formula:
 def _unsolved(blend: Blend, lp: BlendLP, result: LPResult) -> Formula:
     """A formula without numbers for a status other than optimal, with the reason."""
     message = MESSAGES.get(result.status, result.status)
-    if result.status != "infeasible":
+    culprits = _unbounded_by(blend, lp, result) if result.status == "unbounded" else ""
+    if culprits:
+        message = f"the cost can fall without limit: {culprits}"
+    elif result.status != "infeasible":
         message = f"{message} ({result.message})"  # the engine's detail helps a bug report
     return Formula(
         blend=blend,
@@ -229,6 +232,25 @@ def _unsolved(blend: Blend, lp: BlendLP, result: LPResult) -> Formula:
         iterations=result.iterations,
         notes=lp.notes + _blank_notes(blend, None),
     )
+
+
+def _unbounded_by(blend: Blend, lp: BlendLP, result: LPResult) -> str:
+    """The ingredients (foods) whose amount can grow without end while the cost falls,
+    with their cost and Max cells, from the engine's unbounded ray ("" without one)."""
+    if result.ray is None:
+        return ""
+    J = lp.n_ingredients
+    ray = np.asarray(result.ray)[: len(lp.products) * J].reshape(len(lp.products), J)
+    growing = [j for j in range(J) if (ray[:, j] > ZERO_INCLUSION * max(1.0, np.abs(ray).max())).any()]
+    parts = []
+    for j in growing:
+        item = blend.ingredients[j]
+        where = item.cells.get("cost", item.cells["name"])
+        limit = f"no Max in {item.cells['max']}" if "max" in item.cells else "no Max column"
+        parts.append(f"more of {item.name} always lowers the cost (cost {item.cost:g} in {where}, {limit})")
+    if not parts:
+        return ""
+    return "; ".join(parts) + "; give it a Max or check its cost"
 
 
 def _product(solution: _Solution, p: int) -> ProductFormula:
