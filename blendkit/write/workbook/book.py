@@ -56,11 +56,9 @@ from blendkit.model.formula import (
     NutrientLine,
     ProductFormula,
     RunInfo,
-    cost_unit,
-    run_cost_unit,
-    shadow_price_unit,
 )
 from blendkit.model.blend import AS_FED, DRY_MATTER, Blend
+from blendkit.model.units import cost_unit, run_cost_unit, shadow_price_unit
 
 # Sheets this writer owns; any sheet with one of these names (any case) is replaced.
 OUTPUT_SHEETS = ("Result", "Conflicts", "Shadow prices", "Run info")
