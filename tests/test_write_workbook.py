@@ -16,7 +16,7 @@ import pytest
 from openpyxl import load_workbook
 from openpyxl.workbook.workbook import Workbook
 
-import blendkit.write.workbook.book
+import blendkit.write.workbook.save
 from blendkit import CAUTION
 from blendkit.read.workbook import read_workbook
 from blendkit.write.workbook.book import OUTPUT_SHEETS, write_workbook
@@ -447,7 +447,7 @@ def test_failed_move_removes_the_temporary_file(source: Path, tmp_path: Path, mo
         assert Path(src).parent == tmp_path and Path(src).stat().st_size > 0
         raise PermissionError("output is open in another program")
 
-    monkeypatch.setattr(blendkit.write.workbook.book.os, "replace", broken_replace)
+    monkeypatch.setattr(blendkit.write.workbook.save.os, "replace", broken_replace)
     with pytest.raises(PermissionError):
         write(formulas.optimal_formula(), source, tmp_path / "out.xlsx")
     assert list(tmp_path.iterdir()) == [source]
@@ -504,7 +504,7 @@ def test_live_formulas_read_percent_cells_as_shown(source: Path, tmp_path: Path)
 )
 def test_percent_rule_matches_the_reader(number_format: str):
     from blendkit.read.workbook import _is_percent_format
-    from blendkit.write.workbook.book import _scaled_as_percent
+    from blendkit.write.workbook.live import _scaled_as_percent
 
     assert _scaled_as_percent(1.0, number_format) == _is_percent_format(number_format)
 

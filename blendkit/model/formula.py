@@ -1,14 +1,15 @@
 """The outcome of formulating one blend: what the writers render.
 
 Built by `blendkit.lp.analyse` from the domain model and the engine's result. Writers
-(workbook, JSON, console) read these objects and compute nothing of their own.
+(workbook, JSON, console) read these objects and compute nothing of their own; the
+units printed beside the numbers are worded in `blendkit.model.units`.
 """
 
 from __future__ import annotations
 
 from dataclasses import dataclass
 
-from blendkit.model.blend import Blend, Settings
+from blendkit.model.blend import Blend
 
 # How the analysis starts a note about a broken soft spec; writers that show such specs
 # in a block of their own leave these notes out of the notes list.
@@ -176,6 +177,32 @@ class Formula:
         """True when the blend was solved to optimality."""
         return self.status == OPTIMAL
 
+    @property
+    def broken_limits(self) -> tuple[Limit, ...]:
+        """The soft limits the formula breaks, each once (a product's limits are also the
+        run's)."""
+        every = [*self.limits, *(limit for product in self.products for limit in product.limits)]
+        return tuple(limit for limit in dict.fromkeys(every) if limit.broken)
+
+    @property
+    def notes_besides_broken_limits(self) -> tuple[str, ...]:
+        """The notes, less those about broken soft limits when there are any: writers show
+        those limits in a block of their own."""
+        if not self.broken_limits:
+            return self.notes
+        return tuple(note for note in self.notes if not note.startswith(SOFT_LIMIT_NOTE))
+
+    @property
+    def conflict_sets(self) -> dict[int, tuple[ConflictLine, ...]]:
+        """The conflicting sets by number, in order; in each, the sum-to-100 rows come
+        last, so the limits the user can change come first."""
+        numbers = sorted({line.conflict for line in self.conflicts})
+        return {
+            number: tuple(sorted((line for line in self.conflicts if line.conflict == number),
+                                 key=lambda line: line.kind == "total"))
+            for number in numbers
+        }
+
 
 @dataclass(frozen=True)
 class RunInfo:
@@ -187,46 +214,13 @@ class RunInfo:
     input_sha256: str
 
 
-def cost_unit(settings: Settings) -> str:
-    """The blend cost's unit, e.g. "EUR per tonne"; "per tonne" when no currency is given."""
-    return f"{settings.currency} per {settings.cost_per}".strip()
-
-
-def run_cost_unit(blend: Blend) -> str:
-    """The unit of `Formula.cost`: "EUR per tonne" for one blend, "EUR per diet" for a
-    diet (the whole diet's cost) and "EUR" (the run's total) with several products."""
-    settings = blend.settings
-    if blend.diet:
-        return f"{settings.currency} per diet".strip()
-    if blend.products:
-        return settings.currency
-    return cost_unit(settings)
-
-
-def shadow_price_unit(limit: Limit, blend: Blend) -> str:
-    """E.g. "EUR/tonne per 1 unit of Crude protein (%)" or "EUR/tonne per 1 % inclusion"."""
-    settings = blend.settings
-    per = f"{settings.currency or 'cost'}/{settings.cost_per}"
-    if blend.diet:
-        per = f"{settings.currency or 'cost'}"
-    if limit.kind == "stock":
-        total = settings.currency or "cost"
-        if blend.diet:
-            unit = blend.ingredient(limit.name).unit
-            return f"{total} per unit ({unit}) of stock" if unit else f"{total} per unit of stock"
-        return f"{total} per 1 {settings.mass_unit} of stock"
-    if limit.kind in ("ingredient", "group"):
-        if blend.diet:
-            unit = blend.ingredient(limit.name).unit if limit.kind == "ingredient" else ""
-            return f"{per} per unit ({unit})" if unit else f"{per} per unit"
-        return f"{per} per 1 % inclusion"
-    if limit.kind == "ratio":
-        return f"{per} per 1 unit of the ratio {limit.name}"
-    unit = blend.nutrient_units.get(limit.name, "")
-    label = f"{limit.name} ({unit})" if unit else limit.name
-    if limit.basis == "dry matter":
-        label += " in dry matter"
-    return f"{per} per 1 unit of {label}"
+def basis_label(kind: str, basis: str) -> str:
+    """The word for a line's or a limit's basis: "ratio" for a ratio, else the nutrient's
+    basis ("as fed", "dry matter"); blank for limits that have none (ingredients, groups,
+    stocks)."""
+    if kind == "ratio":
+        return "ratio"
+    return basis if kind == "nutrient" else ""
 
 
 @dataclass(frozen=True)

@@ -13,31 +13,40 @@ from __future__ import annotations
 import math
 
 from blendkit import CAUTION
+from blendkit.model.blend import DRY_MATTER, Blend
 from blendkit.model.formula import (
-    SOFT_LIMIT_NOTE,
     ConflictLine,
     Formula,
     IngredientLine,
     Limit,
     NutrientLine,
     ProductFormula,
+    basis_label,
+)
+from blendkit.model.units import (
     cost_unit,
+    food_unit,
+    penalty_unit,
     run_cost_unit,
     shadow_price_unit,
+    stock_unit,
 )
-from blendkit.model.blend import DRY_MATTER, Blend
+from blendkit.write.numbers import (
+    AMOUNT_DECIMALS,
+    INCLUSION_DECIMALS,
+    decimals,
+    limit_key,
+    line_decimals,
+    nutrient_decimals,
+    whole_decimals,
+)
 
 # Gap between columns, in spaces.
 _GAP = "  "
-# Inclusions (and inclusion limits) are shown to 0.001 % of the blend; diet amounts to
-# 0.001 of the food's unit.
-_INCLUSION_DECIMALS = 3
 # Lines are kept within this width where the names in them allow it.
 _WIDTH = 80
 # Plain ASCII, like the rest of the summary: the text must survive any console encoding.
 _ARROW = "->"
-# How the analysis starts a broken soft limit's note; the summary shows those in a block
-# of their own, so the notes list skips them.
 
 
 def render_summary(formula: Formula) -> str:
@@ -63,8 +72,7 @@ def render_summary(formula: Formula) -> str:
         if not blend.diet and not formula.several:
             status.append(f"Batch: {settings.batch_size:g} {settings.mass_unit}")
     blocks.append(status)
-    broken = _broken_limits(formula)
-    blocks.append(_soft_limits(formula, broken))
+    blocks.append(_soft_limits(formula))
     if formula.status == "infeasible":
         blocks.append(_conflicts(formula))
         blocks.append(_way_out(formula))
@@ -80,35 +88,27 @@ def render_summary(formula: Formula) -> str:
             blocks.append(_nutrients(blend, formula.nutrients))
         blocks.append(_stocks(formula))
         blocks.append(_binding_limits(formula))
-    notes = [note for note in formula.notes if not (broken and note.startswith(SOFT_LIMIT_NOTE))]
+    notes = formula.notes_besides_broken_limits
     if notes:
         blocks.append(["Notes:", *(f"- {note}" for note in notes)])
     blocks.append([CAUTION])
     return "\n\n".join("\n".join(block) for block in blocks if block)
 
 
-def _broken_limits(formula: Formula) -> list[Limit]:
-    """The soft limits the formula breaks, each once (a product's limits are also the run's)."""
-    every = [*formula.limits, *(limit for product in formula.products for limit in product.limits)]
-    return [limit for limit in dict.fromkeys(every) if limit.broken]
-
-
-def _soft_limits(formula: Formula, broken: list[Limit]) -> list[str]:
+def _soft_limits(formula: Formula) -> list[str]:
     """The broken soft limits: bound, level, violation, penalty and cell of each."""
+    broken = formula.broken_limits
     if not broken:
         return []
-    blend = formula.blend
-    unit = run_cost_unit(blend) if blend.diet else cost_unit(blend.settings)
-    money = unit if blend.settings.currency else f"cost {unit}"
     rows = []
     for limit in broken:
-        decimals = _decimals([limit.bound, limit.level])
+        places = decimals([limit.bound, limit.level])
         row = [
             _limit_label(limit),
-            _fixed(limit.bound, decimals),
-            _fixed(limit.level, decimals),
-            _fixed(limit.violation, decimals),
-            _fixed(limit.penalty, _decimals([limit.penalty], least=2)),
+            _fixed(limit.bound, places),
+            _fixed(limit.level, places),
+            _fixed(limit.violation, places),
+            _fixed(limit.penalty, decimals([limit.penalty], least=2)),
             limit.cell,
         ]
         if formula.several:
@@ -123,7 +123,7 @@ def _soft_limits(formula: Formula, broken: list[Limit]) -> list[str]:
         count = f"{len(broken)} soft specs missed; meeting them would cost more."
     return [
         f"SOFT LIMITS BROKEN: {count}",
-        f"Penalty: {money} for each unit of violation (shortfall or excess).",
+        f"Penalty: {penalty_unit(formula.blend)} for each unit of violation (shortfall or excess).",
         *_table(headers, rows, left=2 if formula.several else 1, last_left=True),
     ]
 
@@ -132,17 +132,14 @@ def _conflicts(formula: Formula) -> list[str]:
     """Each conflicting set, its members in the workbook's words with their one-bound moves."""
     if not formula.conflicts:
         return []
-    numbers = sorted({line.conflict for line in formula.conflicts})
+    sets = formula.conflict_sets
     rows: list[list[str] | str] = []
-    for number in numbers:
-        if len(numbers) > 1:
-            rows.append(f"Conflict {number} of {len(numbers)}:")
-        # The sum-to-100 rows last: the limits the user can change come first.
-        members = sorted((line for line in formula.conflicts if line.conflict == number),
-                         key=lambda line: line.kind == "total")
+    for number, members in sets.items():
+        if len(sets) > 1:
+            rows.append(f"Conflict {number} of {len(sets)}:")
         rows.extend([member.text, f"{_ARROW} {_alone(member)}"] for member in members)
     lines = ["These limits cannot all hold together:", *_aligned(rows)]
-    what = "that conflict" if len(numbers) > 1 else "the conflict"
+    what = "that conflict" if len(sets) > 1 else "the conflict"
     lines.append(f"Dropping or moving any one limit of a conflict resolves {what}.")
     if not formula.conflicts_complete:
         lines.append("More conflicts may remain after these are fixed: solve again to see them.")
@@ -219,7 +216,7 @@ def _short(value: float | None) -> str:
 def _product_heading(blend: Blend, product: ProductFormula) -> str:
     """E.g. "Product: Starter crumb, 8,000 kg at 312.40 EUR per tonne"."""
     settings = blend.settings
-    return (f"Product: {product.name}, {product.amount:,.{0 if float(product.amount).is_integer() else 2}f} "
+    return (f"Product: {product.name}, {product.amount:,.{whole_decimals(product.amount)}f} "
             f"{settings.mass_unit} at {product.cost:,.2f} {cost_unit(settings)}")
 
 
@@ -232,14 +229,14 @@ def _ingredients(blend: Blend, lines: tuple[IngredientLine, ...]) -> list[str]:
     if blend.diet:
         money = blend.settings.currency or "cost"
         rows = [
-            [line.name, _fixed(line.amount, _INCLUSION_DECIMALS), _unit_of(blend, line.name),
+            [line.name, _fixed(line.amount, INCLUSION_DECIMALS), food_unit(blend, line.name),
              f"{line.batch_cost:,.2f}"]
             for line in used
         ]
         return _table(["Ingredient", "Amount", "Unit", f"Cost {money}"], rows, left=1, text=(2,))
     unit = blend.settings.mass_unit
     rows = [
-        [line.name, _fixed(line.inclusion, _INCLUSION_DECIMALS), f"{line.amount:,.2f}"]
+        [line.name, _fixed(line.inclusion, INCLUSION_DECIMALS), f"{line.amount:,.2f}"]
         for line in used
     ]
     return _table(["Ingredient", "Inclusion %", f"Amount {unit}"], rows, left=1)
@@ -252,15 +249,15 @@ def _nutrients(blend: Blend, lines: tuple[NutrientLine, ...]) -> list[str]:
         return []
     rows = []
     for line in lines:
-        decimals = _decimals([line.minimum, line.maximum, line.level])
+        places = line_decimals(line)
         rows.append(
             [
                 line.name,
-                "ratio" if line.kind == "ratio" else line.basis,
+                basis_label(line.kind, line.basis),
                 line.unit,
-                _fixed(line.minimum, decimals),
-                _fixed(line.maximum, decimals),
-                _fixed(line.level, decimals),
+                _fixed(line.minimum, places),
+                _fixed(line.maximum, places),
+                _fixed(line.level, places),
                 line.position,
             ]
         )
@@ -278,11 +275,11 @@ def _stocks(formula: Formula) -> list[str]:
     rows = [
         [
             line.ingredient,
-            _unit_of(blend, line.ingredient) if blend.diet else blend.settings.mass_unit,
+            stock_unit(blend, line.ingredient),
             f"{line.used:,.2f}",
             f"{line.available:,.2f}",
             "yes" if line.binding else "no",
-            _fixed(-line.shadow_price, _decimals([line.shadow_price], least=2)),
+            _fixed(-line.shadow_price, decimals([line.shadow_price], least=2)),
         ]
         for line in formula.stocks
     ]
@@ -297,25 +294,19 @@ def _binding_limits(formula: Formula) -> list[str]:
     if not binding:
         return ["No limit is binding."]
     # Bounds as in the tables above: a nutrient's own decimals, inclusions to 0.001 %.
-    places = {}
-    for product in formula.products if formula.several else ():
-        for line in product.nutrients:
-            places[(product.name, line.kind, line.name, line.basis)] = _line_decimals(line)
-    for line in formula.nutrients:
-        places[(None, line.kind, line.name, line.basis)] = _line_decimals(line)
+    places = nutrient_decimals(formula)
     rows = []
     for limit in binding:
         if limit.kind in ("ingredient", "group"):
-            decimals = _INCLUSION_DECIMALS
+            bound_places = INCLUSION_DECIMALS
         elif limit.kind == "stock":
-            decimals = 2
+            bound_places = AMOUNT_DECIMALS
         else:
-            decimals = places.get((limit.product, limit.kind, limit.name, limit.basis),
-                                  _decimals([limit.bound]))
+            bound_places = places.get(limit_key(limit), decimals([limit.bound]))
         row = [
             _limit_label(limit),
-            _fixed(limit.bound, decimals),
-            f"{limit.shadow_price + 0.0:+.{_decimals([limit.shadow_price], least=2)}f}",
+            _fixed(limit.bound, bound_places),
+            f"{limit.shadow_price + 0.0:+.{decimals([limit.shadow_price], least=2)}f}",
             shadow_price_unit(limit, formula.blend),
         ]
         if formula.several:
@@ -337,19 +328,6 @@ def _limit_label(limit: Limit) -> str:
     elif limit.kind in ("group", "stock"):
         name += f" ({limit.kind})"
     return f"{name} {limit.side}"
-
-
-def _unit_of(blend: Blend, name: str) -> str:
-    """A diet food's unit as written in its Unit cell (blank when unknown)."""
-    try:
-        return blend.ingredient(name).unit
-    except KeyError:
-        return ""
-
-
-def _line_decimals(line: NutrientLine) -> int:
-    """The decimals a nutrient line is shown with, for its bounds in the limit list too."""
-    return _decimals([line.minimum, line.maximum, line.level])
 
 
 def _table(
@@ -380,15 +358,3 @@ def _fixed(value: float | None, decimals: int) -> str:
     if value is None or not math.isfinite(value):
         return "-"
     return f"{value + 0.0:,.{decimals}f}"
-
-
-def _decimals(values: list[float | None], least: int = 1) -> int:
-    """Decimal places that show about four significant digits of the largest value."""
-    sizes = [abs(v) for v in values if v is not None and math.isfinite(v) and v != 0]
-    if not sizes:
-        return least
-    return min(6, max(least, 3 - math.floor(math.log10(max(sizes)))))
-
-
-
-

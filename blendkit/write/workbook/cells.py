@@ -1,0 +1,140 @@
+"""What every output sheet is made of: styles, column widths, number formats, and the
+few ways a cell is written (a plain value, a number, a live formula, a header row).
+
+Shared by the sheet modules of `blendkit.write.workbook`; no sheet's layout lives here.
+"""
+
+from __future__ import annotations
+
+import math
+
+from openpyxl.cell.cell import Cell
+from openpyxl.styles import Alignment, Border, Font, PatternFill, Side
+from openpyxl.workbook.workbook import Workbook
+from openpyxl.worksheet.worksheet import Worksheet
+
+from blendkit import CAUTION
+from blendkit.model.formula import NutrientLine
+from blendkit.write.numbers import decimals, line_decimals, whole_decimals
+
+# Fixed number formats; nutrient values and shadow prices get a format by magnitude.
+INCLUSION_FORMAT = "0.000"  # inclusions in %, and diet amounts
+MONEY_FORMAT = "#,##0.00"
+AMOUNT_FORMAT = "#,##0.00"
+REDUCED_COST_FORMAT = "#,##0.00##"  # two decimals, up to four where the value has them
+
+BOLD = Font(bold=True)
+TITLE_FONT = Font(bold=True, size=14)
+STATUS_ALERT = Font(bold=True, size=12)
+SECTION = Font(bold=True, size=12)  # a product's name, the Stocks heading
+THIN = Side(style="thin")
+HEADER_BORDER = Border(bottom=THIN)
+BOX = Border(left=THIN, right=THIN, top=THIN, bottom=THIN)
+WRAP_TOP = Alignment(wrap_text=True, vertical="top")
+LINK = Font(bold=True, size=12, underline="single", color="0563C1")
+# The broken soft limits block: a warm fill that stands out from the plain tables.
+ALERT_FILL = PatternFill(fill_type="solid", start_color="FCE4D6", end_color="FCE4D6")
+ALERT_TEXT = Font(bold=True, color="9C0006")
+
+# Result sheet column widths, in characters: name column, then the number columns. A
+# header's height and the caution's default width follow them.
+NAME_WIDTH = 30
+NUMBER_WIDTH = 16
+RESULT_COLUMNS = 8
+
+
+def new_sheet(workbook: Workbook, title: str) -> Worksheet:
+    """An output sheet that prints landscape, one page wide, for a reviewer's paper copy."""
+    sheet = workbook.create_sheet(title)
+    sheet.page_setup.orientation = "landscape"
+    sheet.sheet_properties.pageSetUpPr.fitToPage = True
+    sheet.page_setup.fitToWidth = 1
+    sheet.page_setup.fitToHeight = 0
+    return sheet
+
+
+def put(sheet: Worksheet, row: int, column: int, value: object) -> Cell:
+    """Write a plain value; text starting with "=" stays text, never becomes a formula."""
+    cell = sheet.cell(row, column, value)
+    if isinstance(value, str) and cell.data_type == "f":
+        cell.data_type = "s"
+    return cell
+
+
+def number(cell: Cell, value: float | None, number_format: str) -> None:
+    """Write a number (never a string); blank for None and for non-finite values."""
+    if value is None or not math.isfinite(value):
+        return
+    cell.value = float(value) + 0.0  # a plain float: no numpy scalar, no -0.0
+    cell.number_format = number_format
+
+
+def live(cell: Cell, formula_text: str, number_format: str) -> None:
+    """Write a live spreadsheet formula for the reviewer, formatted like the value it checks."""
+    cell.value = formula_text
+    cell.number_format = number_format
+
+
+def header(sheet: Worksheet, row: int, labels: list[str]) -> None:
+    """Bold, wrapped header labels with a rule underneath."""
+    for column, label in enumerate(labels, start=1):
+        cell = put(sheet, row, column, label)
+        cell.font = BOLD
+        cell.border = HEADER_BORDER
+        # Numbers sit right-aligned below; centred labels stay over their own column.
+        cell.alignment = Alignment(wrap_text=True, vertical="bottom",
+                                   horizontal="left" if column == 1 else "center")
+    longest = max(len(label) for label in labels[1:]) if len(labels) > 1 else 0
+    lines = max(1, math.ceil(longest / NUMBER_WIDTH))
+    sheet.row_dimensions[row].height = 15 * min(lines + 1, 6) + 2
+
+
+def paragraph(sheet: Worksheet, row: int, text: str, columns: int, width: int,
+              bold: bool = False) -> Cell:
+    """Text wrapped in one cell merged across `columns` columns (`width` characters in all),
+    its row tall enough to show it; returns the cell."""
+    cell = put(sheet, row, 1, text)
+    cell.alignment = WRAP_TOP
+    if bold:
+        cell.font = BOLD
+    sheet.merge_cells(start_row=row, start_column=1, end_row=row, end_column=columns)
+    lines = math.ceil(len(text) * (1.15 if bold else 1.05) / width)  # bold runs wider
+    sheet.row_dimensions[row].height = 15 * lines + 4
+    return cell
+
+
+def write_caution(
+    sheet: Worksheet,
+    row: int,
+    columns: int = RESULT_COLUMNS,
+    width: int = NAME_WIDTH + NUMBER_WIDTH * (RESULT_COLUMNS - 1),
+) -> None:
+    """The caution in a boxed, wrapped cell across `columns` columns, `width` characters."""
+    paragraph(sheet, row, CAUTION, columns, width, bold=True)
+    for column in range(1, columns + 1):
+        sheet.cell(row, column).border = BOX
+
+
+def fixed_format(places: int) -> str:
+    """A comma-grouped number format with `places` decimals."""
+    return "#,##0." + "0" * places if places else "#,##0"
+
+
+def format_by_size(values: list[float | None], least: int) -> str:
+    """A format showing about four significant digits of the largest value, comma-grouped."""
+    return fixed_format(decimals(values, least))
+
+
+def nutrient_format(line: NutrientLine) -> str:
+    """One format for a nutrient's min, max and level, wherever they appear."""
+    return fixed_format(line_decimals(line))
+
+
+def whole_format(value: float) -> str:
+    """No decimals for a whole amount (a 2000 kg batch), two otherwise."""
+    return fixed_format(whole_decimals(value))
+
+
+def plain(value: float) -> str:
+    """A number without a needless ".0" (1000, not 1000.0)."""
+    return f"{value:g}"

@@ -1,0 +1,180 @@
+"""Live formulas on the Result sheet that recompute the cost and the nutrient levels from
+the input sheets, so a reviewer can check the numbers in any spreadsheet program.
+
+An as-fed level (or a cost) is the sum of (inclusion cell on Result x input cell) / 100,
+or in a diet the sum of (amount cell x input cell); a ratio divides the two recomputed
+levels it names, and a dry-matter level divides the recomputed level by the recomputed
+dry matter (in %). Only plain + and * are used, so every spreadsheet program evaluates
+them the same way.
+"""
+
+from __future__ import annotations
+
+import re
+from typing import Callable
+
+from openpyxl.utils import get_column_letter
+from openpyxl.utils.cell import coordinate_to_tuple
+from openpyxl.workbook.workbook import Workbook
+from openpyxl.worksheet.worksheet import Worksheet
+
+from blendkit.model.blend import AS_FED, DRY_MATTER, Blend, Ingredient
+from blendkit.model.formula import IngredientLine, NutrientLine
+from blendkit.write.workbook.cells import live, nutrient_format
+
+# The sheet a bare cell reference from the reader (no "Sheet!" part) belongs to.
+INGREDIENTS_SHEET = "Ingredients"
+# Longest formula the common spreadsheet programs accept (Excel's limit, in characters).
+MAX_FORMULA_LENGTH = 8192
+# The nutrient table's column of live formulas; ratio and dry-matter lines divide its cells.
+LIVE_COLUMN = 8
+
+# Parts of a number format that never make it a percentage: quoted text, escaped
+# characters and [bracketed] sections. The same rule as the reader's.
+_LITERAL_FORMAT_PARTS = re.compile(r'"[^"]*"|\\.|\[[^\]]*\]')
+
+
+def recompute_formula(
+    blend: Blend,
+    lines: tuple[IngredientLine, ...],
+    inclusion_rows: dict[str, int],
+    workbook: Workbook,
+    input_cell: Callable[[Ingredient], str | None],
+) -> str | None:
+    """A live formula: sum of (inclusion cell on Result x input cell) / 100; in diet mode
+    the sum of (amount cell x input cell).
+
+    `input_cell(ingredient)` gives the reader's reference for the value to weigh. Every
+    ingredient is included, so editing any inclusion cell updates the result; if that
+    would pass the spreadsheet formula length limit, only the ingredients in the blend
+    are kept. Returns None when an input cell is unknown.
+    """
+    terms: list[tuple[float, str]] = []
+    for line in lines:
+        try:
+            reference = input_cell(blend.ingredient(line.name))
+        except KeyError:
+            return None
+        operand = _input_operand(workbook, reference)
+        if operand is None:
+            return None
+        terms.append((line.inclusion, f"B{inclusion_rows[line.name]}*{operand}"))
+    if not terms:
+        return None
+    percent = not blend.diet
+    text = _sum_formula([term for _, term in terms], percent)
+    if len(text) > MAX_FORMULA_LENGTH:
+        text = _sum_formula([term for inclusion, term in terms if inclusion != 0] or ["0"], percent)
+    return text if len(text) <= MAX_FORMULA_LENGTH else None
+
+
+def write_level_checks(
+    sheet: Worksheet,
+    workbook: Workbook,
+    blend: Blend,
+    lines: tuple[IngredientLine, ...],
+    nutrients: tuple[NutrientLine, ...],
+    header_row: int,
+    inclusion_rows: dict[str, int],
+) -> dict[str, int]:
+    """A live formula beside each as-fed nutrient line of the table under `header_row`,
+    from the input contents; returns each nutrient's row of its first such formula."""
+    live_rows: dict[str, int] = {}
+    for offset, line in enumerate(nutrients, start=1):
+        if line.kind == "nutrient" and line.basis == AS_FED:
+            check = recompute_formula(
+                blend, lines, inclusion_rows, workbook,
+                lambda item, nutrient=line.name: item.content_cells.get(nutrient),
+            )
+            if check is not None:
+                live(sheet.cell(header_row + offset, LIVE_COLUMN), check, nutrient_format(line))
+                live_rows.setdefault(line.name, header_row + offset)
+    return live_rows
+
+
+def write_derived_check(
+    sheet: Worksheet, row: int, blend: Blend, line: NutrientLine, live_rows: dict[str, int]
+) -> None:
+    """A ratio's or a dry-matter level's live formula on `row`, dividing the as-fed checks
+    in `live_rows`; nothing when one of those is missing or the level is undefined."""
+    if line.level is None:
+        return  # an undefined ratio (a zero level below the line) has nothing to check
+    live_column = get_column_letter(LIVE_COLUMN)
+    if line.kind == "ratio":
+        parts = _ratio_parts(blend, line.name)
+        if parts and parts[0] in live_rows and parts[1] in live_rows:
+            top, bottom = (live_rows[part] for part in parts)
+            text = f"={live_column}{top}/{live_column}{bottom}"
+            live(sheet.cell(row, LIVE_COLUMN), text, nutrient_format(line))
+    elif line.basis == DRY_MATTER:
+        dry = blend.settings.dry_matter
+        if line.name in live_rows and dry in live_rows:
+            text = f"={live_column}{live_rows[line.name]}/{live_column}{live_rows[dry]}*100"
+            live(sheet.cell(row, LIVE_COLUMN), text, nutrient_format(line))
+
+
+def quote_sheet(name: str) -> str:
+    """Quote a sheet name only when a formula needs it (spaces, symbols, cell-like)."""
+    plain = re.fullmatch(r"[A-Za-z_][A-Za-z0-9_]*", name)
+    cell_like = re.fullmatch(r"[A-Za-z]{1,3}[0-9]+|[Rr][0-9]*([Cc][0-9]*)?", name)
+    if plain and not cell_like:
+        return name
+    return "'" + name.replace("'", "''") + "'"
+
+
+def _ratio_parts(blend: Blend, name: str) -> tuple[str, str] | None:
+    """The two nutrient columns of the ratio spec written as `name`, if there is one."""
+    for spec in blend.specs:
+        if spec.ratio is not None and spec.nutrient == name:
+            return spec.ratio
+    return None
+
+
+def _sum_formula(terms: list[str], percent: bool = True) -> str:
+    """Plain + and * only, so every spreadsheet program evaluates it the same way."""
+    return "=(" + "+".join(terms) + (")/100" if percent else ")")
+
+
+def _input_operand(workbook: Workbook, reference: str | None) -> str | None:
+    """The reader's "Sheet!A1" (or bare "A1", on Ingredients) as a formula operand.
+
+    A number shown as a percentage (0.05 shown as 5%) was read as the number shown, so
+    the operand is scaled the same way: ``Ingredients!F2*100``. None when the sheet is
+    not in the workbook.
+    """
+    if not reference:
+        return None
+    sheet_name, bang, coordinate = reference.rpartition("!")
+    if not bang:
+        sheet_name = INGREDIENTS_SHEET
+    if len(sheet_name) > 1 and sheet_name[0] == sheet_name[-1] == "'":
+        sheet_name = sheet_name[1:-1].replace("''", "'")
+    sheet = _sheet_named(workbook, sheet_name)
+    if sheet is None:
+        return None
+    try:
+        row, column = coordinate_to_tuple(coordinate.replace("$", ""))
+    except (ValueError, TypeError):
+        return None
+    operand = f"{quote_sheet(sheet.title)}!{coordinate}"
+    cell = sheet._cells.get((row, column))  # never sheet[...]: that would add a cell
+    if cell is not None and _scaled_as_percent(cell.value, cell.number_format):
+        operand += "*100"
+    return operand
+
+
+def _sheet_named(workbook: Workbook, name: str) -> Worksheet | None:
+    """The worksheet called `name`, ignoring case as spreadsheet programs do."""
+    for sheet in workbook.worksheets:
+        if sheet.title.casefold() == name.casefold():
+            return sheet
+    return None
+
+
+def _scaled_as_percent(value: object, number_format: str) -> bool:
+    """The reader's rule: a number (typed or computed) in a format with an unquoted,
+    unescaped % outside [brackets] is read as the percentage shown. Keep in step with
+    `blendkit.read.workbook`."""
+    if isinstance(value, str) and not value.startswith("="):
+        return False  # text that looks like a number is read as written
+    return "%" in _LITERAL_FORMAT_PARTS.sub("", number_format or "")

@@ -1,0 +1,291 @@
+"""The Result sheet, the reviewer's main sheet.
+
+Title, caution, status, cost, a highlighted block of broken soft limits (if any), the
+ingredient table and the nutrient table (a diet shows amounts in each food's unit; with
+several products, the run's total cost and one block of both tables per product), then
+the stocks, if the run has any, and the notes. Each cost has a live check from the input
+prices beside it. An infeasible run's Result points to the Conflicts sheet.
+"""
+
+from __future__ import annotations
+
+from openpyxl.utils import get_column_letter
+from openpyxl.workbook.workbook import Workbook
+from openpyxl.worksheet.hyperlink import Hyperlink
+from openpyxl.worksheet.worksheet import Worksheet
+
+from blendkit.model.blend import Blend
+from blendkit.model.formula import Formula, Limit, ProductFormula, RunInfo
+from blendkit.model.units import cost_unit, penalty_unit, run_cost_unit
+from blendkit.write.workbook.cells import (
+    ALERT_FILL,
+    ALERT_TEXT,
+    BOLD,
+    LINK,
+    MONEY_FORMAT,
+    NAME_WIDTH,
+    NUMBER_WIDTH,
+    RESULT_COLUMNS,
+    SECTION,
+    STATUS_ALERT,
+    TITLE_FONT,
+    format_by_size,
+    header,
+    live,
+    new_sheet,
+    number,
+    plain,
+    put,
+    whole_format,
+    write_caution,
+)
+from blendkit.write.workbook.conflicts import TITLE as CONFLICTS
+from blendkit.write.workbook.live import quote_sheet, recompute_formula
+from blendkit.write.workbook.result_tables import Block, write_stocks, write_tables
+
+TITLE = "Result"
+
+# Rows of broken soft limits (with their heading) that may join the frozen top of Result.
+_MOST_FROZEN_ROWS = 6
+# Where a live cost check could not be written.
+_NO_CHECK = "not available: input cells unknown or formula too long"
+
+
+def write(workbook: Workbook, formula: Formula, run: RunInfo, title: str) -> None:
+    """The reviewer's main sheet: caution and status on top, then the tables."""
+    sheet = new_sheet(workbook, TITLE)
+    sheet.column_dimensions["A"].width = NAME_WIDTH
+    for column in range(2, RESULT_COLUMNS + 1):
+        sheet.column_dimensions[get_column_letter(column)].width = NUMBER_WIDTH
+    _write_top(sheet, formula, title)
+    if not formula.solved:
+        _write_unsolved(sheet, formula)
+    elif formula.several:
+        _write_several(sheet, workbook, formula)
+    else:
+        _write_one(sheet, workbook, formula)
+
+
+def _write_top(sheet: Worksheet, formula: Formula, title: str) -> None:
+    """Rows 1-5: title, caution, status and message."""
+    put(sheet, 1, 1, title)
+    sheet["A1"].font = TITLE_FONT
+    write_caution(sheet, row=2)
+    sheet["A4"] = "Status"
+    put(sheet, 4, 2, formula.status)
+    sheet["A5"] = "Message"
+    put(sheet, 5, 2, formula.message)
+    for cell in ("A4", "A5"):
+        sheet[cell].font = BOLD
+
+
+def _write_unsolved(sheet: Worksheet, formula: Formula) -> None:
+    """No blend: the status stands out, an infeasible run points to Conflicts, no numbers."""
+    sheet["B4"].font = STATUS_ALERT
+    sheet["B5"].font = STATUS_ALERT
+    if formula.status == "infeasible":
+        _write_conflicts_pointer(sheet, formula, row=6)
+    sheet["A7"] = (
+        "No blend was found, so this sheet shows no numbers. Read the message above "
+        "and the notes below, correct the workbook and solve again."
+    )
+    _write_notes(sheet, formula.notes, row=9)
+
+
+def _write_one(sheet: Worksheet, workbook: Workbook, formula: Formula) -> None:
+    """One blend or one diet: its cost, the cost's live check and the batch, then the tables.
+
+    Rows 6-8 hold the top block; the ingredient table's header is on row 10, or below the
+    broken soft limits block when there is one.
+    """
+    blend = formula.blend
+    settings = blend.settings
+    header_row = _write_broken(sheet, formula, 10)
+    block = Block(
+        ingredients=formula.ingredients,
+        nutrients=formula.nutrients,
+        header_row=header_row,
+        amount=settings.batch_size,
+    )
+    label = "Diet cost" if blend.diet else "Blend cost"
+    _write_cost(sheet, workbook, blend, block, row=6, label=label, cost=formula.cost,
+                unit=run_cost_unit(blend))
+    if blend.diet:
+        sheet["A8"] = "Amounts"
+        put(sheet, 8, 2, "each in the food's own unit (Unit column); nutrient levels are totals")
+    else:
+        sheet["A8"] = "Batch"
+        number(sheet.cell(8, 2), settings.batch_size, whole_format(settings.batch_size))
+        put(sheet, 8, 3, settings.mass_unit)
+    sheet["A8"].font = BOLD
+
+    below = write_tables(sheet, workbook, blend, block)
+    below = write_stocks(sheet, formula, below)
+    _write_notes(sheet, formula.notes_besides_broken_limits, below)
+    if block.header_row - 10 <= _MOST_FROZEN_ROWS:
+        # The top block, the table header and the names stay in view.
+        sheet.freeze_panes = sheet.cell(block.header_row + 1, 2)
+    else:
+        sheet.freeze_panes = "B1"  # a long soft limits block would fill the screen: names only
+
+
+def _write_several(sheet: Worksheet, workbook: Workbook, formula: Formula) -> None:
+    """Several products: the run's total cost, one block per product, then the stocks.
+
+    The total's live check adds up each product's live cost check times the amount made
+    in `Cost per` units, so it follows any edit of an inclusion or an input price.
+    """
+    blend = formula.blend
+    sheet["A6"] = "Total cost"
+    number(sheet.cell(6, 2), formula.cost, MONEY_FORMAT)
+    put(sheet, 6, 3, run_cost_unit(blend))
+    put(sheet, 6, 4, "all products together")
+    sheet["A7"] = "Total cost from input prices"
+    for cell in ("A6", "A7"):
+        sheet[cell].font = BOLD
+
+    row = _write_broken(sheet, formula, 9)
+    checks: list[tuple[int, int]] = []  # (row of the amount made, row of the live cost)
+    for product in formula.products:
+        row, check = _write_product(sheet, workbook, formula, product, row)
+        if check is not None:
+            checks.append(check)
+    if formula.products and len(checks) == len(formula.products):
+        _write_total_check(sheet, blend, checks)
+    else:
+        sheet["C7"] = _NO_CHECK
+    row = write_stocks(sheet, formula, row)
+    _write_notes(sheet, formula.notes_besides_broken_limits, row)
+    sheet.freeze_panes = "B1"  # the name column stays; blocks scroll by
+
+
+def _write_total_check(sheet: Worksheet, blend: Blend, checks: list[tuple[int, int]]) -> None:
+    """Row 7: the run's total cost from each product's live cost check x amount made."""
+    per = blend.settings.cost_unit_in_mass_units
+    terms = "+".join(f"B{cost}*B{amount}" for amount, cost in checks)
+    live(sheet.cell(7, 2), f"=({terms})/{plain(per) if per.is_integer() else repr(per)}",
+         MONEY_FORMAT)
+    put(sheet, 7, 3, f"{run_cost_unit(blend)} (live formula: each product's cost from "
+                     "input prices x amount made)".strip())
+
+
+def _write_product(
+    sheet: Worksheet, workbook: Workbook, formula: Formula, product: ProductFormula, row: int
+) -> tuple[int, tuple[int, int] | None]:
+    """One product's block from `row`: name, amount made, cost and its check, the tables.
+
+    Returns the first row after the block, and the rows of its amount and live cost check
+    (None when the check could not be written).
+    """
+    blend = formula.blend
+    settings = blend.settings
+    put(sheet, row, 1, "Product").font = SECTION
+    put(sheet, row, 2, product.name).font = SECTION
+    put(sheet, row + 1, 1, "Amount made").font = BOLD
+    number(sheet.cell(row + 1, 2), product.amount, whole_format(product.amount))
+    put(sheet, row + 1, 3, settings.mass_unit)
+    block = Block(
+        ingredients=product.ingredients,
+        nutrients=product.nutrients,
+        header_row=row + 5,
+        amount=product.amount,
+        made=True,
+    )
+    check = _write_cost(sheet, workbook, blend, block, row=row + 2, label="Cost",
+                        cost=product.cost, unit=cost_unit(settings))
+    below = write_tables(sheet, workbook, blend, block)
+    return below + 1, (row + 1, check) if check is not None else None
+
+
+def _write_cost(
+    sheet: Worksheet,
+    workbook: Workbook,
+    blend: Blend,
+    block: Block,
+    *,
+    row: int,
+    label: str,
+    cost: float | None,
+    unit: str,
+) -> int | None:
+    """The cost on `row` and its live check from the input prices on the row below.
+
+    Returns the check's row, or None when it could not be written.
+    """
+    put(sheet, row, 1, label).font = BOLD
+    number(sheet.cell(row, 2), cost, MONEY_FORMAT)
+    put(sheet, row, 3, unit)
+    put(sheet, row + 1, 1, f"{label} from input prices").font = BOLD
+    check = recompute_formula(blend, block.ingredients, block.inclusion_rows, workbook,
+                              lambda item: item.cells.get("cost"))
+    if check is None:
+        put(sheet, row + 1, 3, _NO_CHECK)
+        return None
+    live(sheet.cell(row + 1, 2), check, MONEY_FORMAT)
+    what = "amounts" if blend.diet else "inclusions"
+    put(sheet, row + 1, 3, f"{unit} (live formula: {what} below x Cost column)".strip())
+    return row + 1
+
+
+def _write_broken(sheet: Worksheet, formula: Formula, row: int) -> int:
+    """The broken soft limits, highlighted, from `row`; returns the first row for what
+    follows (`row` itself when every limit is met)."""
+    broken = formula.broken_limits
+    if not broken:
+        return row
+    labels = ["Soft limit", "Side", "Bound", "Level", "Violation (shortfall or excess)",
+              f"Penalty ({penalty_unit(formula.blend)} per unit of violation)", "Bound read from"]
+    if formula.several:
+        labels.insert(1, "Product")
+    if len(broken) == 1:
+        count = "1 soft spec missed: meeting it would cost more than its penalty."
+    else:
+        count = f"{len(broken)} soft specs missed: meeting them would cost more than their penalties."
+    put(sheet, row, 1, "SOFT LIMITS BROKEN").font = ALERT_TEXT
+    put(sheet, row, 2, f"{count} Check that this is acceptable.").font = ALERT_TEXT
+    header(sheet, row + 1, labels)
+    for offset, limit in enumerate(broken, start=2):
+        _write_broken_row(sheet, row + offset, limit, formula.several)
+    last = row + 1 + len(broken)
+    for at in range(row, last + 1):
+        for column in range(1, len(labels) + 1):
+            sheet.cell(at, column).fill = ALERT_FILL
+    return last + 2
+
+
+def _write_broken_row(sheet: Worksheet, row: int, limit: Limit, several: bool) -> None:
+    """One broken soft limit: name, (product,) side, bound, level, violation, penalty, cell."""
+    values = [limit.name, limit.side]
+    if several:
+        values.insert(1, limit.product)
+    for column, value in enumerate(values, start=1):
+        put(sheet, row, column, value)
+    first = len(values) + 1
+    number_format = format_by_size([limit.bound, limit.level], 1)
+    for column, value in enumerate((limit.bound, limit.level, limit.violation), start=first):
+        number(sheet.cell(row, column), value, number_format)
+    number(sheet.cell(row, first + 3), limit.penalty, format_by_size([limit.penalty], 2))
+    put(sheet, row, first + 4, limit.cell)
+
+
+def _write_conflicts_pointer(sheet: Worksheet, formula: Formula, row: int) -> None:
+    """A line in the Result's message area that sends the reader to the Conflicts sheet."""
+    count = len(formula.conflict_sets)
+    if count:
+        sets = f"{count} set{'s' if count != 1 else ''} of limits that cannot all hold together"
+        text = f"See the Conflicts sheet: {sets}, their cells, and the cheapest way out."
+    else:
+        text = "See the Conflicts sheet."
+    put(sheet, row, 1, "Conflicts").font = BOLD
+    cell = put(sheet, row, 2, text)
+    cell.font = LINK
+    cell.hyperlink = Hyperlink(ref=cell.coordinate, location=f"{quote_sheet(CONFLICTS)}!A1")
+
+
+def _write_notes(sheet: Worksheet, notes: tuple[str, ...], row: int) -> None:
+    """Advisory notes, one per row, under a bold heading."""
+    if not notes:
+        return
+    put(sheet, row, 1, "Notes").font = BOLD
+    for offset, note in enumerate(notes, start=1):
+        put(sheet, row + offset, 1, note)

@@ -1,0 +1,219 @@
+"""The tables of the Result sheet: ingredients (with their Total row), nutrients (with a
+live formula recomputing each level) and stocks.
+
+One blend, one diet or one product is a `Block`: its lines and the row its ingredient
+table starts on. The sheet's top part and its blocks' order are `result`'s.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+
+from openpyxl.styles import Border
+from openpyxl.utils import get_column_letter
+from openpyxl.workbook.workbook import Workbook
+from openpyxl.worksheet.worksheet import Worksheet
+
+from blendkit.model.blend import Blend
+from blendkit.model.formula import Formula, IngredientLine, NutrientLine, basis_label
+from blendkit.model.units import cost_unit, food_unit, stock_unit
+from blendkit.write.workbook.cells import (
+    AMOUNT_FORMAT,
+    BOLD,
+    INCLUSION_FORMAT,
+    MONEY_FORMAT,
+    REDUCED_COST_FORMAT,
+    SECTION,
+    THIN,
+    format_by_size,
+    header,
+    number,
+    nutrient_format,
+    plain,
+    put,
+)
+from blendkit.write.workbook.live import write_derived_check, write_level_checks
+
+
+@dataclass(frozen=True)
+class Block:
+    """One blend's (or one product's) tables: its lines, and where they go."""
+
+    ingredients: tuple[IngredientLine, ...]
+    nutrients: tuple[NutrientLine, ...]
+    header_row: int  # the ingredient table's header; its rows and the nutrients follow
+    amount: float  # the batch size, or the amount of the product made
+    made: bool = False  # word the amount and cost columns for a product, not a batch
+
+    @property
+    def inclusion_rows(self) -> dict[str, int]:
+        """Where each ingredient's inclusion (or diet amount) is: column B below the header."""
+        return {line.name: self.header_row + offset
+                for offset, line in enumerate(self.ingredients, start=1)}
+
+
+def write_tables(sheet: Worksheet, workbook: Workbook, blend: Blend, block: Block) -> int:
+    """The ingredient table with its Total row, then the nutrient table; returns the first
+    free row after a blank one."""
+    _write_ingredients(sheet, blend, block)
+    total_row = _write_total_row(sheet, blend, block)
+    nutrient_header = total_row + 2
+    _write_nutrients(sheet, workbook, blend, block, nutrient_header)
+    return nutrient_header + len(block.nutrients) + 2
+
+
+def _write_ingredients(sheet: Worksheet, blend: Blend, block: Block) -> None:
+    """One row per ingredient line under its header, numbers as numbers."""
+    header(sheet, block.header_row, _ingredient_labels(blend, block))
+    for offset, line in enumerate(block.ingredients, start=1):
+        _write_ingredient_row(sheet, block.header_row + offset, blend, line)
+
+
+def _ingredient_labels(blend: Blend, block: Block) -> list[str]:
+    """The ingredient table's header: a diet's amounts and prices are per food unit, a
+    blend's per batch (or per amount made) and per `Cost per` unit."""
+    settings = blend.settings
+    money = settings.currency or "currency"
+    if blend.diet:
+        return [
+            "Ingredient",
+            "Amount",
+            "Unit",
+            f"Cost ({money})",
+            f"Price ({money} per unit)",
+            f"Reduced cost ({money} per 1 unit)",
+            f"Price at which it would come in ({money} per unit)",
+            f"Used more if its price falls below ({money} per unit)",
+            f"Used less if its price rises above ({money} per unit)",
+        ]
+    unit_of_cost = cost_unit(settings)
+    mass = settings.mass_unit
+    if block.made:
+        amount_label = f"Amount ({mass} in {plain(block.amount)} {mass} made)"
+        cost_label = f"Cost of the amount made ({money})"
+    else:
+        amount_label = f"Amount ({mass} per {plain(block.amount)} {mass} batch)"
+        cost_label = f"Cost per batch ({money})"
+    return [
+        "Ingredient",
+        "Inclusion (%)",
+        amount_label,
+        cost_label,
+        f"Price ({unit_of_cost})",
+        f"Reduced cost ({unit_of_cost} per 1 % inclusion)",
+        f"Price at which it would come in ({unit_of_cost})",
+        f"Used more if its price falls below ({unit_of_cost})",
+        f"Used less if its price rises above ({unit_of_cost})",
+    ]
+
+
+def _write_ingredient_row(sheet: Worksheet, row: int, blend: Blend, line: IngredientLine) -> None:
+    """One ingredient: inclusion % in column B (a diet: the amount in B and the food's unit
+    in C), its cost, price, reduced cost and the price range it stays in the formula."""
+    put(sheet, row, 1, line.name)
+    number(sheet.cell(row, 2), line.inclusion, INCLUSION_FORMAT)
+    if blend.diet:
+        put(sheet, row, 3, food_unit(blend, line.name))
+    else:
+        number(sheet.cell(row, 3), line.amount, AMOUNT_FORMAT)
+    number(sheet.cell(row, 4), line.batch_cost, MONEY_FORMAT)
+    number(sheet.cell(row, 5), line.cost, MONEY_FORMAT)
+    number(sheet.cell(row, 6), line.reduced_cost, REDUCED_COST_FORMAT)
+    if not line.used:
+        put(sheet, row, 7, "not in use (Use = no)")
+    elif line.entry_price is not None:
+        number(sheet.cell(row, 7), line.entry_price, MONEY_FORMAT)
+    # The price range over which this formula stays the cheapest (cost ranging); an
+    # unused ingredient's lower end is its entry price, already in column 7.
+    if line.more_below is not None and line.entry_price is None:
+        number(sheet.cell(row, 8), line.more_below, MONEY_FORMAT)
+    if line.less_above is not None:
+        number(sheet.cell(row, 9), line.less_above, MONEY_FORMAT)
+
+
+def _write_total_row(sheet: Worksheet, blend: Blend, block: Block) -> int:
+    """The Total row under the ingredients, with live sums; returns its row."""
+    first = block.header_row + 1
+    last = block.header_row + len(block.ingredients)
+    total_row = last + 1
+    put(sheet, total_row, 1, "Total").font = BOLD
+    # Diet amounts are in each food's own unit: only their cost adds up.
+    sums = ((4, MONEY_FORMAT),) if blend.diet else (
+        (2, INCLUSION_FORMAT), (3, AMOUNT_FORMAT), (4, MONEY_FORMAT))
+    if block.ingredients:
+        for column, number_format in sums:
+            letter = get_column_letter(column)
+            cell = sheet.cell(total_row, column, f"=SUM({letter}{first}:{letter}{last})")
+            cell.number_format = number_format
+            cell.font = BOLD
+            cell.border = Border(top=THIN)
+    return total_row
+
+
+def _write_nutrients(
+    sheet: Worksheet, workbook: Workbook, blend: Blend, block: Block, header_row: int
+) -> None:
+    """One row per nutrient line from `header_row`, with a live formula recomputing its
+    level from the input contents and the inclusions (amounts) on this sheet."""
+    level = "Total" if blend.diet else "Level"
+    header(
+        sheet,
+        header_row,
+        ["Nutrient", "Basis", "Unit", "Min", "Max", level, "Position",
+         f"{level} from input contents"],
+    )
+    live_rows = write_level_checks(sheet, workbook, blend, block.ingredients, block.nutrients,
+                                   header_row, block.inclusion_rows)
+    for offset, line in enumerate(block.nutrients, start=1):
+        row = header_row + offset
+        _write_nutrient_row(sheet, row, line)
+        write_derived_check(sheet, row, blend, line, live_rows)
+
+
+def _write_nutrient_row(sheet: Worksheet, row: int, line: NutrientLine) -> None:
+    """One nutrient line: name, basis, unit, min, max, level and position."""
+    number_format = nutrient_format(line)
+    put(sheet, row, 1, line.name)
+    put(sheet, row, 2, basis_label(line.kind, line.basis))
+    put(sheet, row, 3, line.unit)
+    number(sheet.cell(row, 4), line.minimum, number_format)
+    number(sheet.cell(row, 5), line.maximum, number_format)
+    number(sheet.cell(row, 6), line.level, number_format)
+    put(sheet, row, 7, line.position)
+
+
+def write_stocks(sheet: Worksheet, formula: Formula, row: int) -> int:
+    """The Stocks table from `row`, if the run has stocks; returns the first free row after."""
+    if not formula.stocks:
+        return row
+    blend = formula.blend
+    money = blend.settings.currency or "currency"
+    title = "Stocks (shared by all products)" if formula.several else "Stocks"
+    put(sheet, row, 1, title).font = SECTION
+    top = row + 1
+    header(
+        sheet,
+        top,
+        [
+            "Ingredient",
+            "Used",
+            "Available",
+            "Unit",
+            "Binding",
+            f"Shadow price ({money} per 1 unit of stock)",
+            f"Worth of one more unit ({money})",
+            "Stock read from",
+        ],
+    )
+    for offset, line in enumerate(formula.stocks, start=1):
+        at = top + offset
+        put(sheet, at, 1, line.ingredient)
+        number(sheet.cell(at, 2), line.used, AMOUNT_FORMAT)
+        number(sheet.cell(at, 3), line.available, AMOUNT_FORMAT)
+        put(sheet, at, 4, stock_unit(blend, line.ingredient))
+        put(sheet, at, 5, "yes" if line.binding else "no")
+        price_format = format_by_size([line.shadow_price], 2)
+        number(sheet.cell(at, 6), line.shadow_price, price_format)
+        number(sheet.cell(at, 7), -line.shadow_price, price_format)
+        put(sheet, at, 8, line.cell)
+    return top + len(formula.stocks) + 2

@@ -1,0 +1,44 @@
+"""The Run info sheet: key/value facts that tie the output to its input and to this run
+(tool version, time, input file name and SHA-256, status, caution)."""
+
+from __future__ import annotations
+
+import math
+
+from openpyxl.workbook.workbook import Workbook
+
+from blendkit import CAUTION
+from blendkit.model.formula import Formula, RunInfo
+from blendkit.write.workbook.cells import BOLD, WRAP_TOP, header, new_sheet, put
+
+TITLE = "Run info"
+
+# The caution's cell is about this many characters wide; its row grows to show it all.
+_CAUTION_LINE = 70
+
+
+def write(workbook: Workbook, formula: Formula, run: RunInfo, title: str) -> None:
+    """Key/value facts that tie the output to its input and to this run."""
+    sheet = new_sheet(workbook, TITLE)
+    rows = [
+        ("Blend", title),
+        ("Tool version", f"blendkit {run.tool_version}"),
+        ("Run at (UTC)", run.started_utc),
+        ("Input file", run.input_name),
+        ("Input SHA-256", run.input_sha256),
+        ("Status", formula.status),
+        ("Message", formula.message),
+        ("Iterations", formula.iterations),
+        ("Caution", CAUTION),
+    ]
+    header(sheet, 1, ["Item", "Value"])
+    for offset, (key, value) in enumerate(rows, start=2):
+        put(sheet, offset, 1, key).font = BOLD
+        cell = put(sheet, offset, 2, value)
+        if key == "Caution":
+            cell.alignment = WRAP_TOP
+            cell.font = BOLD
+            sheet.row_dimensions[offset].height = 15 * math.ceil(len(CAUTION) / _CAUTION_LINE) + 4
+    sheet.column_dimensions["A"].width = 16
+    sheet.column_dimensions["B"].width = 80
+    sheet.freeze_panes = "A2"

@@ -1,0 +1,118 @@
+"""The Shadow prices sheet: one row per limit the user wrote (spec, ratio, group, stock or
+inclusion limit, with its product), with its shadow price, its unit, and the bound values
+over which that price holds.
+"""
+
+from __future__ import annotations
+
+from openpyxl.utils import get_column_letter
+from openpyxl.workbook.workbook import Workbook
+from openpyxl.worksheet.worksheet import Worksheet
+
+from blendkit.model.blend import Blend
+from blendkit.model.formula import Formula, Limit, RunInfo, basis_label
+from blendkit.model.units import cost_unit, run_cost_unit, shadow_price_unit
+from blendkit.write.numbers import limit_key, nutrient_decimals
+from blendkit.write.workbook.cells import (
+    AMOUNT_FORMAT,
+    INCLUSION_FORMAT,
+    fixed_format,
+    format_by_size,
+    header,
+    new_sheet,
+    number,
+    put,
+)
+
+TITLE = "Shadow prices"
+
+_HEADERS = [
+    "Kind",
+    "Product",
+    "Name",
+    "Basis",
+    "Side",
+    "Bound",
+    "Level",
+    "Binding",
+    "Shadow price",
+    "Shadow price unit",
+    "Bound read from",
+    "Shadow price holds for bounds from",
+    "to",
+]
+# Column widths, in characters, in the order of the headers.
+_WIDTHS = [12, 18, 28, 11, 8, 14, 14, 9, 14, 44, 16, 16, 14]
+# The header row; one row per limit follows.
+_HEADER_ROW = 3
+
+
+def write(workbook: Workbook, formula: Formula, run: RunInfo, title: str) -> None:
+    """One row per limit the user wrote: how much the cost moves per unit of its bound."""
+    sheet = new_sheet(workbook, TITLE)
+    put(sheet, 1, 1, _intro(formula))
+    header(sheet, _HEADER_ROW, _HEADERS)
+    places = nutrient_decimals(formula)
+    for offset, limit in enumerate(formula.limits, start=1):
+        _write_limit(sheet, _HEADER_ROW + offset, limit, formula.blend, _bound_format(limit, places))
+    if not formula.limits:
+        if formula.solved:
+            empty = "No limits to show: the workbook sets no specs or inclusion limits."
+        else:
+            empty = f"No shadow prices: the solve ended with status {formula.status!r}."
+        put(sheet, _HEADER_ROW + 1, 1, empty)
+    for column, width in enumerate(_WIDTHS, start=1):
+        sheet.column_dimensions[get_column_letter(column)].width = width
+    sheet.freeze_panes = "A4"
+
+
+def _bound_format(limit: Limit, places: dict[tuple, int]) -> str:
+    """A limit's bound and level as in its table on Result: inclusions to 0.001 %, stocks
+    as amounts, a nutrient's bound as its nutrient line, others by size."""
+    if limit.kind in ("ingredient", "group"):
+        return INCLUSION_FORMAT
+    if limit.kind == "stock":
+        return AMOUNT_FORMAT
+    key = limit_key(limit)
+    if key in places:
+        return fixed_format(places[key])
+    return format_by_size([limit.bound, limit.level], 1)
+
+
+def _write_limit(sheet: Worksheet, row: int, limit: Limit, blend: Blend, number_format: str) -> None:
+    """One limit's row: which bound, its level, its shadow price and where that holds."""
+    put(sheet, row, 1, limit.kind)
+    put(sheet, row, 2, limit.product)
+    put(sheet, row, 3, limit.name)
+    put(sheet, row, 4, basis_label(limit.kind, limit.basis))
+    put(sheet, row, 5, limit.side)
+    number(sheet.cell(row, 6), limit.bound, number_format)
+    number(sheet.cell(row, 7), limit.level, number_format)
+    put(sheet, row, 8, "yes" if limit.binding else "no")
+    number(sheet.cell(row, 9), limit.shadow_price, format_by_size([limit.shadow_price], 2))
+    put(sheet, row, 10, shadow_price_unit(limit, blend))
+    put(sheet, row, 11, limit.cell)
+    # How far the bound may move with the same shadow price (blank: no end, or not
+    # known, as for ratio and dry-matter bounds).
+    if limit.holds_from is not None:
+        number(sheet.cell(row, 12), limit.holds_from, number_format)
+    if limit.holds_to is not None:
+        number(sheet.cell(row, 13), limit.holds_to, number_format)
+
+
+def _intro(formula: Formula) -> str:
+    """The sheet's first line: whose cost a shadow price moves, in which unit."""
+    blend = formula.blend
+    settings = blend.settings
+    total = settings.currency or "currency"
+    if formula.several:
+        whose = (f"a product's cost ({cost_unit(settings)}) for that product's own limits, or "
+                 f"the run's total cost ({total}) for a stock,")
+    elif blend.diet:
+        whose = f"the diet's cost ({run_cost_unit(blend)})"
+    else:
+        whose = f"the blend cost ({cost_unit(settings)})"
+        if formula.stocks:
+            whose += f", or the batch's cost ({total}) for a stock,"
+    return (f"Shadow price: change in {whose} when the bound is raised by 1 unit; 0 where "
+            "the bound does not bind. It holds for small changes only.")
