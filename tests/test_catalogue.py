@@ -111,7 +111,7 @@ if when == "import":
             return None
     sys.meta_path.insert(0, Hook())
 else:
-    import blendkit.write.workbook.book as book
+    import blendkit.write.workbook.save as book
     original = os.replace
     def replace_after_signal(src, dst):
         os.kill(os.getpid(), number)  # the temporary file is complete, not yet moved
