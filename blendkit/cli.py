@@ -32,6 +32,7 @@ app = typer.Typer(
     add_completion=False,
     no_args_is_help=True,
     pretty_exceptions_enable=False,
+    rich_markup_mode=None,
     help="Least-cost blends from a spreadsheet. Caution: formulations must be checked by a "
     "qualified nutritionist and against local regulations before use.",
 )
@@ -73,14 +74,15 @@ def _reporting(as_json: bool):
 
 @app.command()
 def solve(
-    book: Path = typer.Argument(..., help="The input workbook (.xlsx); it is never modified."),
-    output: Path = typer.Option(None, "-o", "--output", help="Where to write the output workbook [default: BOOK.result.xlsx beside the input]."),
+    book: Path = typer.Argument(..., metavar="BOOK", help="The input workbook (.xlsx); it is never modified (unless --in-place)."),
+    output: Path = typer.Option(None, "-o", "--output", metavar="OUT", help="Where to write the output workbook (default: BOOK.result.xlsx beside the input)."),
     as_json: bool = typer.Option(False, "--json", help="Print one JSON document on stdout instead of the summary."),
-    export_mps: Path = typer.Option(None, "--export-mps", help="Also write the blend's LP to this MPS file, for re-solving with any LP solver."),
+    export_mps: Path = typer.Option(None, "--export-mps", metavar="FILE", help="Also write the blend's LP to this MPS file, for re-solving with any LP solver."),
+    in_place: bool = typer.Option(False, "--in-place", help="Write the output over BOOK itself (to solve an output workbook again), keeping the previous file as BOOK.backup.xlsx."),
 ) -> None:
     """Find the least-cost blend and write the output workbook."""
     with _reporting(as_json):
-        outcome = solve_workbook(book, output, mps_file=export_mps)
+        outcome = solve_workbook(book, output, mps_file=export_mps, in_place=in_place)
     if as_json:
         typer.echo(json.dumps(formula_to_dict(outcome.formula), indent=2))
     else:
@@ -91,7 +93,7 @@ def solve(
 
 @app.command()
 def check(
-    book: Path = typer.Argument(..., help="The workbook (.xlsx) to validate."),
+    book: Path = typer.Argument(..., metavar="BOOK", help="The workbook (.xlsx) to validate."),
 ) -> None:
     """Validate a workbook without solving it."""
     with _reporting(False):
@@ -107,7 +109,7 @@ def check(
 
 @app.command()
 def new(
-    path: Path = typer.Argument(..., help="Where to write the new workbook (.xlsx); an existing file is never replaced."),
+    path: Path = typer.Argument(..., metavar="PATH", help="Where to write the new workbook (.xlsx); an existing file is never replaced."),
     example: str = typer.Option(None, "--example", help=f"Write a worked example instead of the blank template: {', '.join(EXAMPLES)}."),
 ) -> None:
     """Write a blank workbook template, or a worked example, to start from."""

@@ -8,7 +8,6 @@ from __future__ import annotations
 
 import dataclasses
 import hashlib
-import os
 from dataclasses import dataclass
 from datetime import UTC, datetime
 from pathlib import Path
@@ -24,6 +23,7 @@ from blendkit.model.blend import Blend
 from blendkit.read.workbook import read_workbook
 from blendkit.write.mps import export_mps
 from blendkit.write.workbook import write_workbook
+from blendkit.write.workbook.save import same_file, save_atomically
 
 
 @dataclass(frozen=True)
@@ -72,17 +72,6 @@ def default_output(book: Path) -> Path:
     return book.with_name(f"{stem}.result.xlsx")
 
 
-def _same_file(one: Path, other: Path) -> bool:
-    """True when two paths name one file: the same spelling resolved, a symlink, or a
-    hard link (same device and inode)."""
-    if one.resolve() == other.resolve():
-        return True
-    try:
-        return os.path.samefile(one, other)
-    except OSError:  # one of them does not exist yet
-        return False
-
-
 def _check_writable(path: Path, what: str) -> None:
     """Refuse an output path whose folder is missing or that names a folder."""
     if not path.parent.is_dir():
@@ -96,24 +85,45 @@ def check_outputs(book: Path, output: Path, mps_file: Path | None = None) -> Non
     input (under any spelling or link), that name one file twice, or cannot be written."""
     if output.suffix.lower() != ".xlsx":
         raise OutputError(f"{output}: the output must be an .xlsx file")
-    if _same_file(output, book):
+    if same_file(output, book):
         raise OutputError(f"{output}: the output would overwrite the input workbook; choose another name with -o")
     _check_writable(output, "output workbook")
     if mps_file is None:
         return
-    if _same_file(mps_file, book):
+    if same_file(mps_file, book):
         raise OutputError(f"{mps_file}: the MPS file would overwrite the input workbook; choose another name")
-    if _same_file(mps_file, output):
+    if same_file(mps_file, output):
         raise OutputError(f"{mps_file}: the MPS file and the output workbook are the same file; choose two names")
     _check_writable(mps_file, "MPS file")
 
 
+def backup_path(book: Path) -> Path:
+    """Where `--in-place` keeps the previous file: `<name>.backup.xlsx` beside it."""
+    stem = book.name[: -len(book.suffix)] if book.suffix else book.name
+    return book.with_name(f"{stem}.backup{book.suffix or '.xlsx'}")
+
+
+def _input_bytes(book: Path) -> bytes | None:
+    """The input's bytes, read once: what is parsed, hashed and copied (None when the
+    file cannot be read; the reader then reports why, with the file name)."""
+    try:
+        return book.read_bytes()
+    except OSError:
+        return None
+
+
 def solve_workbook(
-    book: str | Path, output: str | Path | None = None, *, mps_file: str | Path | None = None
+    book: str | Path,
+    output: str | Path | None = None,
+    *,
+    mps_file: str | Path | None = None,
+    in_place: bool = False,
 ) -> Outcome:
     """Read `book`, find the least-cost blend and write the output workbook.
 
-    With `mps_file`, the blend's LP is also written there as an MPS file.
+    With `mps_file`, the blend's LP is also written there as an MPS file. With
+    `in_place` (and no `output`), the output replaces `book` itself, after the previous
+    file was kept as `backup_path(book)`.
 
     Raises WorkbookError for problems in the workbook and OutputError when the output
     cannot be written; an infeasible blend is a status of the returned formula, and
@@ -121,20 +131,39 @@ def solve_workbook(
     """
     book = Path(book)
     started = datetime.now(UTC).strftime("%Y-%m-%dT%H:%M:%SZ")
-    blend = read_workbook(book)
-    target = Path(output) if output is not None else default_output(book)
-    check_outputs(book, target, None if mps_file is None else Path(mps_file))
+    data = _input_bytes(book)
+    blend = read_workbook(book, data=data)
+    target = _target(book, output, in_place)
+    check_outputs(book, target if not in_place else backup_path(book), None if mps_file is None else Path(mps_file))
     formula = formulate(blend)
     run = RunInfo(
         tool_version=__version__,
         started_utc=started,
         input_name=book.name,
-        input_sha256=hashlib.sha256(book.read_bytes()).hexdigest(),
+        input_sha256=hashlib.sha256(data).hexdigest(),
     )
     try:
-        written = write_workbook(formula, run, book, target)
+        if in_place:
+            save_atomically(data, backup_path(book))
+        written = write_workbook(formula, run, book, target, data=data)
     except OSError as error:
         raise OutputError(f"{target}: could not write the output workbook ({error.strerror or error})") from None
     if mps_file is not None:
         export_mps(blend, mps_file)
     return Outcome(formula=formula, run=run, output=Path(written))
+
+
+def _target(book: Path, output: str | Path | None, in_place: bool) -> Path:
+    """The output workbook's path: `output`, the input itself (in place) or the default."""
+    if in_place and output is not None:
+        raise OutputError("--in-place writes over the input workbook; it cannot be used with -o")
+    if in_place:
+        return book
+    target = Path(output) if output is not None else default_output(book)
+    if output is None and same_file(target, book):
+        raise OutputError(
+            f"{book}: is already an output workbook, and solving it writes over it; add --in-place "
+            f"to replace it (the previous file is kept as {backup_path(book).name}), or choose "
+            "another name with -o"
+        )
+    return target

@@ -49,18 +49,23 @@ SHEET_WRITERS = (
 OUTPUT_SHEETS = tuple(writer.TITLE for writer in SHEET_WRITERS)
 
 
-def write_workbook(formula: Formula, run: RunInfo, source: Path, output: Path) -> Path:
+def write_workbook(
+    formula: Formula, run: RunInfo, source: Path, output: Path, *, data: bytes | None = None
+) -> Path:
     """Write `formula` into a copy of the `source` workbook at `output`; return `output`.
 
-    Every input sheet is kept unchanged; existing output sheets (see `OUTPUT_SHEETS`) are
-    removed and written afresh. Raises ValueError if `output` is the source file itself,
-    or if the source no longer matches the SHA-256 recorded in `run` (it changed on disk
-    since it was read). The write is atomic: on any failure no output file is left behind
-    and an existing output is untouched.
+    `data` is the source's bytes as they were read and solved (the pipeline passes them,
+    so that the copy is of what was solved even if the file changes meanwhile); without
+    it the file is read here. Every input sheet is kept unchanged; existing output sheets
+    (see `OUTPUT_SHEETS`) are removed and written afresh. Without `data`, raises
+    ValueError if `output` is the source file itself, or if the source no longer matches
+    the SHA-256 recorded in `run`. The write is atomic: on any failure no output file is
+    left behind and an existing output is untouched.
     """
     source = Path(source)
     output = Path(output)
-    data = _read_source(source, output, run)
+    if data is None:
+        data = _read_source(source, output, run)
     workbook = load_workbook(io.BytesIO(data), data_only=False)
     _remove_output_sheets(workbook)
     saved = saved_results(data, workbook)
