@@ -503,10 +503,10 @@ def test_live_formulas_read_percent_cells_as_shown(source: Path, tmp_path: Path)
      "0.0%;-0.0%"],
 )
 def test_percent_rule_matches_the_reader(number_format: str):
-    from blendkit.read.workbook import _is_percent_format
+    from blendkit.read.values import is_percent_format
     from blendkit.write.workbook.live import _scaled_as_percent
 
-    assert _scaled_as_percent(1.0, number_format) == _is_percent_format(number_format)
+    assert _scaled_as_percent(1.0, number_format) == is_percent_format(number_format)
 
 
 # --- saved formula results ---------------------------------------------------------------

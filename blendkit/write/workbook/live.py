@@ -174,7 +174,7 @@ def _sheet_named(workbook: Workbook, name: str) -> Worksheet | None:
 def _scaled_as_percent(value: object, number_format: str) -> bool:
     """The reader's rule: a number (typed or computed) in a format with an unquoted,
     unescaped % outside [brackets] is read as the percentage shown. Keep in step with
-    `blendkit.read.workbook`."""
+    `blendkit.read.values.is_percent_format` (a test checks)."""
     if isinstance(value, str) and not value.startswith("="):
         return False  # text that looks like a number is read as written
     return "%" in _LITERAL_FORMAT_PARTS.sub("", number_format or "")
