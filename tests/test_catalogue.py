@@ -203,3 +203,56 @@ def test_an_unbounded_diet_names_the_food_and_its_cells(tmp_path):
     assert ("the cost can fall without limit: more of Coupon always lowers the cost "
             "(cost -0.5 in Ingredients!B3, no Max in Ingredients!C3)") in result.stdout
     assert "Bread" not in result.stdout.split("Message:")[1].splitlines()[0]
+
+
+# --- 2. what was solved is what was read ---------------------------------------------------
+
+
+def test_input_replaced_during_the_solve_does_not_reach_the_output(book, tmp_path, monkeypatch):
+    import hashlib
+
+    import openpyxl
+
+    import blendkit.pipeline as pipeline
+
+    original = book.read_bytes()
+    (tmp_path / "other").mkdir()
+    other = make_workbook(tmp_path / "other", INGREDIENTS, SPECS, name="other.xlsx")
+    edited = openpyxl.load_workbook(other)
+    edited["Ingredients"]["A2"] = "Replaced maize"
+    edited.save(other)
+    formulate = pipeline.formulate
+
+    def formulate_while_the_file_changes(blend, **options):
+        book.write_bytes(other.read_bytes())  # another program saves over the input
+        return formulate(blend, **options)
+
+    monkeypatch.setattr(pipeline, "formulate", formulate_while_the_file_changes)
+    out = tmp_path / "out.xlsx"
+    result = run("solve", book, "-o", out)
+    assert result.exit_code == 0, result.output
+    written = openpyxl.load_workbook(out)
+    assert written["Ingredients"]["A2"].value == "Maize"  # the copy is of what was solved
+    info = {row[0]: row[1] for row in written["Run info"].iter_rows(values_only=True) if row and row[0]}
+    assert info["Input SHA-256"] == hashlib.sha256(original).hexdigest()
+
+
+# --- 8. solving an output again -------------------------------------------------------------
+
+
+def test_solving_an_output_again_needs_in_place_and_keeps_a_backup(book, tmp_path):
+    import openpyxl
+
+    output = book.with_name("f.result.xlsx")
+    assert run("solve", book).exit_code == 0
+    before = output.read_bytes()
+    refused = run("solve", output)
+    assert refused.exit_code == 2
+    assert "add --in-place to replace it (the previous file is kept as f.result.backup.xlsx)" in refused.stderr
+    assert output.read_bytes() == before
+    again = run("solve", output, "--in-place")
+    assert again.exit_code == 0, again.output
+    assert output.with_name("f.result.backup.xlsx").read_bytes() == before
+    names = openpyxl.load_workbook(output).sheetnames
+    assert names.count("Result") == 1 and names.count("Run info") == 1
+    assert run("solve", output, "--in-place", "-o", tmp_path / "x.xlsx").exit_code == 2
