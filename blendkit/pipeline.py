@@ -15,7 +15,9 @@ from pathlib import Path
 from blendkit import __version__
 from blendkit.lp.analyse import analyse
 from blendkit.lp.build import build_lp
+from blendkit.lp.combine import combine
 from blendkit.lp.diagnose import change_lines, conflict_lines, diagnose
+from blendkit.lp.split import part_blend, parts, unapplied_stocks
 from blendkit.engine import solve_form
 from blendkit.errors import OutputError
 from blendkit.model.formula import Formula, Relaxation, RunInfo
@@ -43,9 +45,20 @@ def check_workbook(book: str | Path) -> Blend:
 def formulate(blend: Blend, *, explain: bool = True) -> Formula:
     """The least-cost formula for a validated blend.
 
-    When the limits cannot all be met (and `explain` is on), the formula carries the
-    conflicting sets of limits and the least-cost relaxation with its formula.
+    Products that no stock links are formulated as separate LPs (see
+    `blendkit.lp.split`), and the run's Formula combines them. When the limits cannot
+    all be met (and `explain` is on), the formula of that LP carries the conflicting
+    sets of limits and the least-cost relaxation with its formula.
     """
+    groups = parts(blend) if blend.products else []
+    if len(groups) <= 1 and all(product.amount is not None for product in blend.products):
+        return _formulate_lp(blend, explain=explain)
+    formulas = [_formulate_lp(part_blend(blend, group), explain=explain) for group in groups]
+    return combine(blend, formulas, unapplied_stocks(blend))
+
+
+def _formulate_lp(blend: Blend, *, explain: bool) -> Formula:
+    """One LP's formula, with conflicts and the least-cost relaxation when infeasible."""
     lp = build_lp(blend)
     formula = analyse(blend, lp, solve_form(lp.form, ranging=True))
     if formula.status != "infeasible" or not explain:
@@ -53,7 +66,7 @@ def formulate(blend: Blend, *, explain: bool = True) -> Formula:
     diagnosis = diagnose(blend, lp)
     relaxed = None
     if diagnosis.relaxed_blend is not None:
-        relaxed = formulate(diagnosis.relaxed_blend, explain=False)
+        relaxed = _formulate_lp(diagnosis.relaxed_blend, explain=False)
         if not relaxed.solved:
             relaxed = None
     return dataclasses.replace(

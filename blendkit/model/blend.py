@@ -98,10 +98,14 @@ class Group:
 
 @dataclass(frozen=True)
 class Product:
-    """One row of the Products sheet: a product to make and how much (mass unit)."""
+    """One row of the Products sheet: a product to make and how much (mass unit).
+
+    `amount` is None when the row gives none: the product is then a formula of its own,
+    made per batch (the `Batch size` setting), and no stock applies to it.
+    """
 
     name: str
-    amount: float
+    amount: float | None
     cells: dict[str, str]  # "product", "amount" -> cell
 
 

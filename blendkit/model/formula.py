@@ -109,15 +109,25 @@ class Limit:
 class ProductFormula:
     """One product's formula: its cost per `Cost per` unit, lines and limits.
 
-    `amount` is the mass to make (the batch size for one blend; unused in diet mode).
+    `amount` is the mass to make (the batch size for one blend, or for a product without
+    an amount; unused in diet mode). `status` and `message` are those of the LP the
+    product was solved in (its own, or the joint LP of products linked by stocks); when
+    the status is not "optimal", `cost` is None and the lines are empty.
     """
 
     name: str | None
     amount: float
-    cost: float
+    cost: float | None
     ingredients: tuple[IngredientLine, ...]
     nutrients: tuple[NutrientLine, ...]
     limits: tuple[Limit, ...]
+    status: str = OPTIMAL
+    message: str = ""
+
+    @property
+    def solved(self) -> bool:
+        """True when this product's formula was found."""
+        return self.status == OPTIMAL
 
 
 @dataclass(frozen=True)
@@ -166,6 +176,9 @@ class Formula:
     conflicts: tuple[ConflictLine, ...] = ()  # when infeasible: the conflicting limits
     conflicts_complete: bool = True  # False when more conflicts may remain unreported
     relaxation: Relaxation | None = None  # when infeasible: the least-cost way out
+    # When the products were solved as several LPs (see `blendkit.lp.split`): each LP's
+    # own Formula, in Products-sheet order of their first product. Empty otherwise.
+    parts: tuple[Formula, ...] = ()
 
     @property
     def several(self) -> bool:
