@@ -73,26 +73,49 @@ def render_summary(formula: Formula) -> str:
             status.append(f"Batch: {settings.batch_size:g} {settings.mass_unit}")
     blocks.append(status)
     blocks.append(_soft_limits(formula))
-    if formula.status == "infeasible":
-        blocks.append(_conflicts(formula))
-        blocks.append(_way_out(formula))
-
-    if formula.solved:
-        if formula.several:
-            for product in formula.products:
-                blocks.append([_product_heading(blend, product)])
-                blocks.append(_ingredients(blend, product.ingredients))
-                blocks.append(_nutrients(blend, product.nutrients))
-        else:
-            blocks.append(_ingredients(blend, formula.ingredients))
-            blocks.append(_nutrients(blend, formula.nutrients))
-        blocks.append(_stocks(formula))
-        blocks.append(_binding_limits(formula))
+    blocks.extend(_explanations(formula))
+    if formula.solved or any(product.solved for product in formula.products):
+        blocks.extend(_formula_blocks(formula))
     notes = formula.notes_besides_broken_limits
     if notes:
         blocks.append(["Notes:", *(f"- {note}" for note in notes)])
     blocks.append([CAUTION])
     return "\n\n".join("\n".join(block) for block in blocks if block)
+
+
+def _explanations(formula: Formula) -> list[list[str]]:
+    """The conflicts and the cheapest way out of an infeasible run; with products solved as
+    separate LPs, one pair per infeasible LP under the names of its products."""
+    if formula.status != "infeasible":
+        return []
+    if not formula.parts:
+        return [_conflicts(formula), _way_out(formula)]
+    blocks = []
+    for part in formula.parts:
+        if part.status == "infeasible":
+            names = ", ".join(str(product.name) for product in part.blend.products)
+            blocks.extend([[f"{names}:"], _conflicts(part), _way_out(part)])
+    return blocks
+
+
+def _formula_blocks(formula: Formula) -> list[list[str]]:
+    """The ingredient and nutrient tables (per product when there are several), then the
+    stocks and the binding limits; a product without a formula shows its status."""
+    blend = formula.blend
+    blocks = []
+    if not formula.several:
+        blocks.append(_ingredients(blend, formula.ingredients))
+        blocks.append(_nutrients(blend, formula.nutrients))
+    for product in formula.products if formula.several else ():
+        if not product.solved:
+            blocks.append([f"{product.name}: {product.status}, no formula (see above)"])
+            continue
+        blocks.append([_product_heading(blend, product)])
+        blocks.append(_ingredients(blend, product.ingredients))
+        blocks.append(_nutrients(blend, product.nutrients))
+    blocks.append(_stocks(formula))
+    blocks.append(_binding_limits(formula))
+    return blocks
 
 
 def _soft_limits(formula: Formula) -> list[str]:

@@ -72,16 +72,7 @@ def formula_to_dict(formula: Formula) -> dict[str, Any]:
             "status": str(formula.status),
             "message": str(formula.message),
             "total_cost": _number(formula.cost) if formula.solved else None,
-            "products": {
-                str(product.name): {
-                    "cost": _number(product.cost),
-                    "ingredients": {str(line.name): _number(line.inclusion) for line in product.ingredients},
-                    "prices": _prices(product.ingredients),
-                    "nutrients": {_key(line): _number(line.level) for line in product.nutrients},
-                    "limits": [_limit(limit) for limit in product.limits],
-                }
-                for product in formula.products
-            },
+            "products": _products(formula),
             "stocks": stocks,
             "violations": _violations(formula),
             "notes": [str(note) for note in formula.notes],
@@ -100,17 +91,48 @@ def formula_to_dict(formula: Formula) -> dict[str, Any]:
     })
 
 
+def _products(formula: Formula) -> dict[str, Any]:
+    """One entry per product: its status and formula; with products solved as separate
+    LPs, an infeasible product also carries its LP's least-cost relaxation."""
+    relaxations = {
+        product.name: _relaxation(part)
+        for part in formula.parts
+        if part.status == "infeasible"
+        for product in part.blend.products
+    }
+    products = {}
+    for product in formula.products:
+        entry = {
+            "status": str(product.status),
+            "message": str(product.message),
+            "cost": _number(product.cost) if product.solved else None,
+            "ingredients": {str(line.name): _number(line.inclusion) for line in product.ingredients},
+            "prices": _prices(product.ingredients),
+            "nutrients": {_key(line): _number(line.level) for line in product.nutrients},
+            "limits": [_limit(limit) for limit in product.limits],
+        }
+        if product.name in relaxations:
+            entry["relaxation"] = relaxations[product.name]
+        products[str(product.name)] = entry
+    return products
+
+
 def _conflicts(formula: Formula, data: dict[str, Any]) -> dict[str, Any]:
     """`data` with the conflicts and relaxation keys added, for an infeasible formula."""
     if formula.status != "infeasible":
         return data
     data["conflicts"] = [dict(_member(line), conflict=line.conflict) for line in formula.conflicts]
-    relaxation = formula.relaxation
-    data["relaxation"] = None
-    if relaxation is not None:
-        cost = relaxation.formula.cost if relaxation.formula is not None else None
-        data["relaxation"] = {"changes": [_member(line) for line in relaxation.changes], "cost": _number(cost)}
+    data["relaxation"] = _relaxation(formula)
     return data
+
+
+def _relaxation(formula: Formula) -> dict[str, Any] | None:
+    """The least-cost way out of one LP: the bounds to move and the cost once moved."""
+    relaxation = formula.relaxation
+    if relaxation is None:
+        return None
+    cost = relaxation.formula.cost if relaxation.formula is not None else None
+    return {"changes": [_member(line) for line in relaxation.changes], "cost": _number(cost)}
 
 
 def _prices(lines) -> dict[str, dict[str, float | None]]:
