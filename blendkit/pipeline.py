@@ -8,6 +8,9 @@ from __future__ import annotations
 
 import dataclasses
 import hashlib
+import os
+from collections.abc import Iterable
+from concurrent.futures import ProcessPoolExecutor
 from dataclasses import dataclass
 from datetime import UTC, datetime
 from pathlib import Path
@@ -75,6 +78,27 @@ def _formulate_lp(blend: Blend, *, explain: bool) -> Formula:
         conflicts_complete=diagnosis.complete,
         relaxation=Relaxation(change_lines(diagnosis), relaxed) if diagnosis.changes else None,
     )
+
+
+def formulate_many(blends: Iterable[Blend], jobs: int | None = None) -> list[Formula]:
+    """The formula of each blend, in the order given, as `formulate` finds it.
+
+    The blends are formulated in `jobs` worker processes at once (default: one per CPU,
+    `os.cpu_count()`; never more than there are blends); `jobs=1` formulates them one
+    after another in this process. The results are the same for any `jobs`. Where worker
+    processes start afresh (Windows, macOS) they import the calling script again, so a
+    script calls it under ``if __name__ == "__main__":``.
+    """
+    blends = list(blends)
+    if jobs is None:
+        jobs = os.cpu_count() or 1
+    if jobs < 1:
+        raise ValueError(f"jobs must be 1 or more, not {jobs}")
+    jobs = min(jobs, len(blends))
+    if jobs <= 1:
+        return [formulate(blend) for blend in blends]
+    with ProcessPoolExecutor(max_workers=jobs) as pool:
+        return list(pool.map(formulate, blends))
 
 
 def default_output(book: Path) -> Path:

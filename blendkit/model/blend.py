@@ -9,6 +9,12 @@ from __future__ import annotations
 
 from dataclasses import dataclass, field
 from pathlib import Path
+from typing import TYPE_CHECKING
+
+if TYPE_CHECKING:
+    from collections.abc import Mapping
+
+    import pandas as pd
 
 # Mass units blendkit understands, in kilograms. Keys are lower-case.
 MASS_UNITS_KG: dict[str, float] = {
@@ -156,6 +162,29 @@ class Blend:
     groups: tuple[Group, ...] = ()
     products: tuple[Product, ...] = ()  # empty: one blend of `settings.batch_size`
     limits: tuple[ProductLimit, ...] = ()
+
+    @classmethod
+    def from_frames(
+        cls,
+        ingredients: pd.DataFrame,
+        specs: pd.DataFrame,
+        settings: pd.DataFrame | Mapping | None = None,
+        groups: pd.DataFrame | None = None,
+        products: pd.DataFrame | None = None,
+        limits: pd.DataFrame | None = None,
+    ) -> Blend:
+        """A blend from pandas DataFrames with the workbook's column names, one per sheet.
+
+        Each frame is checked exactly as its sheet would be; `settings` is a frame with
+        the columns Setting and Value or a mapping {setting: value}; None is an absent
+        sheet. Raises `WorkbookError` with every problem, each placed as
+        ``ingredients[row "Maize", column "Cost"]`` (the row's index label and the column's
+        name). See `blendkit.read.frames`.
+        """
+        from blendkit.read.frames import read_frames  # the reader and pandas only when used
+
+        return read_frames(ingredients, specs, settings=settings, groups=groups,
+                           products=products, limits=limits)
 
     @property
     def diet(self) -> bool:

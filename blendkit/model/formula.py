@@ -8,8 +8,12 @@ units printed beside the numbers are worded in `blendkit.model.units`.
 from __future__ import annotations
 
 from dataclasses import dataclass
+from typing import TYPE_CHECKING
 
 from blendkit.model.blend import Blend
+
+if TYPE_CHECKING:
+    import pandas as pd
 
 # How the analysis starts a note about a broken soft spec; writers that show such specs
 # in a block of their own leave these notes out of the notes list.
@@ -204,6 +208,14 @@ class Formula:
         if not self.broken_limits:
             return self.notes
         return tuple(note for note in self.notes if not note.startswith(SOFT_LIMIT_NOTE))
+
+    def to_frames(self) -> dict[str, pd.DataFrame]:
+        """The formula as pandas DataFrames: "inclusions", "nutrients", "limits" (with
+        shadow prices and the ranges they hold over), "prices" (each ingredient's price
+        range) and "stocks"; see `blendkit.write.frames` for their columns."""
+        from blendkit.write.frames import formula_frames  # pandas only when used
+
+        return formula_frames(self)
 
     @property
     def conflict_sets(self) -> dict[int, tuple[ConflictLine, ...]]:
