@@ -25,8 +25,9 @@ from tests.workbooks import store_saved_values
 
 INPUT_SHEETS = ["Ingredients", "Specs", "Settings"]
 # The output sheets of a solved run, and of an infeasible one (Conflicts after Result).
-SOLVED_SHEETS = ["Result", "Shadow prices", "Run info"]
-INFEASIBLE_SHEETS = ["Result", "Conflicts", "Shadow prices", "Run info"]
+# "Result data" is the hidden record of the run, which a later run compares with.
+SOLVED_SHEETS = ["Result", "Shadow prices", "Run info", "Result data"]
+INFEASIBLE_SHEETS = ["Result", "Conflicts", "Shadow prices", "Run info", "Result data"]
 LIVE = 8  # the nutrient table's column of live formulas (H)
 
 
@@ -184,7 +185,7 @@ def test_second_write_replaces_output_sheets(source: Path, tmp_path: Path):
     second = write(formulas.optimal_formula(), first, tmp_path / "second.xlsx")
     assert load_workbook(second).sheetnames == [*INPUT_SHEETS, *SOLVED_SHEETS]
     for name in [*INPUT_SHEETS, *SOLVED_SHEETS]:
-        if name != "Run info":  # the recorded input file differs, by design
+        if name not in ("Run info", "Result data"):  # the recorded input file differs, by design
             assert cell_values(second, name) == cell_values(first, name), name
 
 
@@ -886,8 +887,9 @@ def conflicts_rows(sheet) -> list[tuple]:
 
 
 def test_output_sheets_include_conflicts():
-    # Listed, so that solving again replaces or removes an earlier run's Conflicts sheet.
-    assert list(OUTPUT_SHEETS) == INFEASIBLE_SHEETS
+    # Listed, so that solving again replaces or removes an earlier run's Conflicts (and
+    # Changes) sheet.
+    assert list(OUTPUT_SHEETS) == ["Result", "Conflicts", "Changes", "Shadow prices", "Run info", "Result data"]
 
 
 def test_conflicts_sheet(source: Path, tmp_path: Path):

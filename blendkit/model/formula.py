@@ -10,6 +10,7 @@ from __future__ import annotations
 from dataclasses import dataclass
 
 from blendkit.model.blend import Blend
+from blendkit.model.changes import Changes
 
 # How the analysis starts a note about a broken soft spec; writers that show such specs
 # in a block of their own leave these notes out of the notes list.
@@ -166,6 +167,7 @@ class Formula:
     conflicts: tuple[ConflictLine, ...] = ()  # when infeasible: the conflicting limits
     conflicts_complete: bool = True  # False when more conflicts may remain unreported
     relaxation: Relaxation | None = None  # when infeasible: the least-cost way out
+    changes: Changes | None = None  # against an earlier result, when one was compared
 
     @property
     def several(self) -> bool:
