@@ -9,8 +9,9 @@ limits that started or stopped binding.
 
 from __future__ import annotations
 
-from openpyxl.worksheet.worksheet import Worksheet
+from openpyxl.styles import Alignment
 from openpyxl.workbook.workbook import Workbook
+from openpyxl.worksheet.worksheet import Worksheet
 
 from blendkit.model.blend import Blend
 from blendkit.model.changes import Changes, FormulaChanges, ValueChange
@@ -35,6 +36,8 @@ TITLE = "Changes"
 # Column widths, in characters: name, before, after, change, unit.
 _WIDTHS = {"A": 36, "B": 16, "C": 16, "D": 16, "E": 24}
 _COLUMNS = 5
+# Units sit one space off the numbers they follow.
+_UNIT = Alignment(horizontal="left", indent=1)
 _EXPLAINED = (
     "Price effect: how much more (or, negative, less) the earlier formula costs at this "
     "run's prices. Formula effect: the rest of the cost change, what reformulating saved "
@@ -93,7 +96,7 @@ def _write_cost(sheet: Worksheet, row: int, item: FormulaChanges, unit: str) -> 
     put(sheet, row + 3, 1, "of which formula effect")
     number(sheet.cell(row + 3, 4), item.formula_effect, MONEY_FORMAT)
     for offset in (1, 2, 3):
-        put(sheet, row + offset, 5, unit)
+        put(sheet, row + offset, 5, unit).alignment = _UNIT
     return row + 4
 
 
@@ -122,7 +125,7 @@ def _write_values(sheet: Worksheet, row: int, what: str, values: tuple[ValueChan
         number(sheet.cell(line, 3), change.after, fmt)
         if change.before is not None and change.after is not None:
             number(sheet.cell(line, 4), change.after - change.before, fmt)
-        put(sheet, line, 5, _value_unit(blend, change.name, inclusions))
+        put(sheet, line, 5, _value_unit(blend, change.name, inclusions)).alignment = _UNIT
     return row + len(values) + 1
 
 
