@@ -17,6 +17,7 @@ from blendkit import __version__
 from blendkit.errors import OutputError, WorkbookError
 from blendkit.authoring.examples import EXAMPLES
 from blendkit.authoring.template import write_new
+from blendkit.compare import check_earlier_output
 from blendkit.pipeline import check_workbook, solve_workbook
 from blendkit.write.console import render_summary
 from blendkit.write.json import formula_to_dict
@@ -72,6 +73,16 @@ def _reporting(as_json: bool):
         raise typer.Exit(EXIT_USAGE) from None
 
 
+def _earlier_output(path: Path | None) -> Path | None:
+    """Refuse a --compare file that is missing or not an output workbook (exit 2)."""
+    if path is not None:
+        try:
+            check_earlier_output(path)
+        except OutputError as error:
+            raise typer.BadParameter(str(error)) from None
+    return path
+
+
 @app.command()
 def solve(
     book: Path = typer.Argument(..., metavar="BOOK", help="The input workbook (.xlsx); it is never modified (unless --in-place)."),
@@ -79,10 +90,11 @@ def solve(
     as_json: bool = typer.Option(False, "--json", help="Print one JSON document on stdout instead of the summary."),
     export_mps: Path = typer.Option(None, "--export-mps", metavar="FILE", help="Also write the blend's LP to this MPS file, for re-solving with any LP solver."),
     in_place: bool = typer.Option(False, "--in-place", help="Write the output over BOOK itself (to solve an output workbook again), keeping the previous file as BOOK.backup.xlsx."),
+    compare: Path = typer.Option(None, "--compare", metavar="OLD", callback=_earlier_output, help="Show what changed since the earlier output workbook OLD (default: the output being replaced, when it holds a result of the same workbook)."),
 ) -> None:
     """Find the least-cost blend and write the output workbook."""
     with _reporting(as_json):
-        outcome = solve_workbook(book, output, mps_file=export_mps, in_place=in_place)
+        outcome = solve_workbook(book, output, mps_file=export_mps, in_place=in_place, compare=compare)
     if as_json:
         typer.echo(json.dumps(formula_to_dict(outcome.formula), indent=2))
     else:

@@ -16,6 +16,7 @@ from datetime import UTC, datetime
 from pathlib import Path
 
 from blendkit import __version__
+from blendkit.compare import compare_with_earlier
 from blendkit.lp.analyse import analyse
 from blendkit.lp.build import build_lp
 from blendkit.lp.combine import combine
@@ -155,12 +156,15 @@ def solve_workbook(
     *,
     mps_file: str | Path | None = None,
     in_place: bool = False,
+    compare: str | Path | None = None,
 ) -> Outcome:
     """Read `book`, find the least-cost blend and write the output workbook.
 
     With `mps_file`, the blend's LP is also written there as an MPS file. With
     `in_place` (and no `output`), the output replaces `book` itself, after the previous
-    file was kept as `backup_path(book)`.
+    file was kept as `backup_path(book)`. The formula carries what changed since the
+    earlier result (`blendkit.compare`): the `compare` output workbook, else the output
+    about to be replaced when it holds a result of the same workbook.
 
     Raises WorkbookError for problems in the workbook and OutputError when the output
     cannot be written; an infeasible blend is a status of the returned formula, and
@@ -179,6 +183,7 @@ def solve_workbook(
         input_name=book.name,
         input_sha256=hashlib.sha256(data).hexdigest(),
     )
+    formula = compare_with_earlier(formula, run, target, compare=compare, output_data=data if in_place else None)
     try:
         if in_place:
             save_atomically(data, backup_path(book))

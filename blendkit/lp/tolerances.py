@@ -7,6 +7,9 @@ AT_BOUND = 1e-7
 ZERO_INCLUSION = 1e-9
 # A violation below this (relative to 1 + |bound|) is rounding, not a change.
 CHANGED = 1e-6
+# An inclusion or level before and after within this (relative to 1 + |value|) of each
+# other is unchanged when a run is compared with an earlier one: the difference is noise.
+UNCHANGED = 1e-7
 # Dinkelbach's iteration for a ratio bound's least move stops when the ratio changes by
 # less than this (relative to 1 + |ratio|), or after RATIO_ROUNDS rounds.
 RATIO_STEADY = 1e-12

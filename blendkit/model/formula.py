@@ -11,6 +11,7 @@ from dataclasses import dataclass
 from typing import TYPE_CHECKING
 
 from blendkit.model.blend import Blend
+from blendkit.model.changes import Changes
 
 if TYPE_CHECKING:
     import pandas as pd
@@ -183,6 +184,7 @@ class Formula:
     # When the products were solved as several LPs (see `blendkit.lp.split`): each LP's
     # own Formula, in Products-sheet order of their first product. Empty otherwise.
     parts: tuple[Formula, ...] = ()
+    changes: Changes | None = None  # against an earlier result, when one was compared
 
     @property
     def several(self) -> bool:

@@ -72,6 +72,7 @@ def render_summary(formula: Formula) -> str:
         if not blend.diet and not formula.several:
             status.append(f"Batch: {settings.batch_size:g} {settings.mass_unit}")
     blocks.append(status)
+    blocks.append(_changes(formula))
     blocks.append(_soft_limits(formula))
     blocks.extend(_explanations(formula))
     if formula.solved or any(product.solved for product in formula.products):
@@ -116,6 +117,20 @@ def _formula_blocks(formula: Formula) -> list[list[str]]:
     blocks.append(_stocks(formula))
     blocks.append(_binding_limits(formula))
     return blocks
+def _changes(formula: Formula) -> list[str]:
+    """One line per formula compared with the earlier result: cost before -> after, and
+    the price effect and formula effect that make up the change."""
+    changes = formula.changes
+    if changes is None:
+        return []
+    unit = run_cost_unit(formula.blend) if formula.blend.diet else cost_unit(formula.blend.settings)
+    lines = [f"Changes since {changes.earlier_output} (details on the Changes sheet):"]
+    for item in changes.formulas:
+        lines.append(
+            f"  {item.key}: cost {item.cost_before:,.2f} {_ARROW} {item.cost_after:,.2f} {unit}: "
+            f"price effect {item.price_effect + 0.0:+,.2f}, formula effect {item.formula_effect + 0.0:+,.2f}"
+        )
+    return lines
 
 
 def _soft_limits(formula: Formula) -> list[str]:
