@@ -12,6 +12,7 @@ from pathlib import Path
 from typing import TYPE_CHECKING
 
 if TYPE_CHECKING:
+    from blendkit.model.prices import Replacement
     from collections.abc import Mapping
 
     import pandas as pd
@@ -162,6 +163,9 @@ class Blend:
     groups: tuple[Group, ...] = ()
     products: tuple[Product, ...] = ()  # empty: one blend of `settings.batch_size`
     limits: tuple[ProductLimit, ...] = ()
+    # Values a price list replaced (`blendkit.model.prices`), for the output to mark.
+    replaced: tuple[Replacement, ...] = ()
+    notes: tuple[str, ...] = ()  # what the reader found worth saying (hidden rows, kept sheets)
 
     @classmethod
     def from_frames(

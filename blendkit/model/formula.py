@@ -239,6 +239,8 @@ class RunInfo:
     started_utc: str  # ISO 8601, e.g. "2026-12-01T21:41:45Z"
     input_name: str
     input_sha256: str
+    price_list_name: str = ""  # `--prices`: the price list's file name and SHA-256
+    price_list_sha256: str = ""
 
 
 def basis_label(kind: str, basis: str) -> str:

@@ -44,6 +44,7 @@ from blendkit.write.workbook import (
     run_info,
     shadow_prices,
 )
+from blendkit.write.workbook.replaced import mark_replaced
 from blendkit.write.workbook.save import same_file, save_atomically
 from blendkit.write.workbook.saved_results import saved_results, with_saved_results
 
@@ -83,6 +84,7 @@ def write_workbook(
         data = _read_source(source, output, run)
     workbook = load_workbook(io.BytesIO(data), data_only=False)
     _remove_output_sheets(workbook)
+    mark_replaced(workbook, formula.blend.replaced)
     saved = saved_results(data, workbook)
     title = formula.blend.settings.name or source.stem
     for writer in SHEET_WRITERS:

@@ -26,6 +26,8 @@ def write(workbook: Workbook, formula: Formula, run: RunInfo, title: str) -> Non
         ("Run at (UTC)", run.started_utc),
         ("Input file", run.input_name),
         ("Input SHA-256", run.input_sha256),
+        *((("Price list", run.price_list_name), ("Price list SHA-256", run.price_list_sha256))
+          if run.price_list_name else ()),
         ("Status", formula.status),
         ("Message", formula.message),
         ("Iterations", formula.iterations),
