@@ -18,7 +18,11 @@ from blendkit.errors import OutputError, WorkbookError
 from blendkit.authoring.examples import EXAMPLES
 from blendkit.authoring.template import write_new
 from blendkit.compare import check_earlier_output
-from blendkit.pipeline import check_workbook, solve_workbook
+from blendkit.batch import BookResult
+from blendkit.pipeline import check_workbook
+from blendkit.run import solve_run
+from blendkit.write.progress import progress_bar
+from blendkit.write.books import books_to_dict, books_to_text
 from blendkit.write.console import render_summary
 from blendkit.write.json import formula_to_dict
 
@@ -85,22 +89,39 @@ def _earlier_output(path: Path | None) -> Path | None:
 
 @app.command()
 def solve(
-    book: Path = typer.Argument(..., metavar="BOOK", help="The input workbook (.xlsx); it is never modified (unless --in-place)."),
-    output: Path = typer.Option(None, "-o", "--output", metavar="OUT", help="Where to write the output workbook (default: BOOK.result.xlsx beside the input)."),
+    books: list[Path] = typer.Argument(..., metavar="BOOK...", help="The input workbooks (.xlsx); they are never modified (unless --in-place)."),
+    output: Path = typer.Option(None, "-o", "--output", metavar="OUT", help="Where to write the output workbook, with one BOOK (default: BOOK.result.xlsx beside each input)."),
     as_json: bool = typer.Option(False, "--json", help="Print one JSON document on stdout instead of the summary."),
-    export_mps: Path = typer.Option(None, "--export-mps", metavar="FILE", help="Also write the blend's LP to this MPS file, for re-solving with any LP solver."),
+    export_mps: Path = typer.Option(None, "--export-mps", metavar="FILE", help="Also write the blend's LP to this MPS file, for re-solving with any LP solver (one BOOK)."),
     in_place: bool = typer.Option(False, "--in-place", help="Write the output over BOOK itself (to solve an output workbook again), keeping the previous file as BOOK.backup.xlsx."),
     compare: Path = typer.Option(None, "--compare", metavar="OLD", callback=_earlier_output, help="Show what changed since the earlier output workbook OLD (default: the output being replaced, when it holds a result of the same workbook)."),
+    prices: Path = typer.Option(None, "--prices", metavar="PRICES", help="A workbook whose Ingredients sheet (Ingredient, Cost, nutrients, Stock) replaces those values in every BOOK before solving."),
+    overview: Path = typer.Option(None, "--overview", metavar="FILE", help="Also write one workbook summarising every book and formula of the run."),
+    jobs: int = typer.Option(None, "--jobs", min=1, metavar="N", help="Solve in N worker processes (default: one per CPU); the results are the same for any N."),
 ) -> None:
-    """Find the least-cost blend and write the output workbook."""
+    """Find the least-cost formulas of one or more workbooks and write an output beside each."""
     with _reporting(as_json):
-        outcome = solve_workbook(book, output, mps_file=export_mps, in_place=in_place, compare=compare)
+        results = solve_run(books, output=output, mps_file=export_mps, in_place=in_place, compare=compare,
+                            prices=prices, overview=overview, jobs=jobs, progress=progress_bar(as_json))
+    if len(results) == 1 and results[0].error is not None:
+        with _reporting(as_json):
+            raise results[0].error
     if as_json:
-        typer.echo(json.dumps(formula_to_dict(outcome.formula), indent=2))
+        document = books_to_dict(results) if len(results) > 1 else formula_to_dict(results[0].outcome.formula)
+        typer.echo(json.dumps(document, indent=2))
+    elif len(results) > 1:
+        typer.echo(books_to_text(results))
     else:
-        typer.echo(render_summary(outcome.formula))
-        typer.echo(f"\nOutput workbook: {outcome.output}")
-    raise typer.Exit(STATUS_EXIT.get(outcome.formula.status, EXIT_ENGINE))
+        typer.echo(render_summary(results[0].outcome.formula))
+        typer.echo(f"\nOutput workbook: {results[0].outcome.output}")
+    raise typer.Exit(max(_exit_code(result) for result in results))
+
+
+def _exit_code(result: BookResult) -> int:
+    """One book's exit code: 1 workbook problems, 2 output error, else by status."""
+    if result.error is not None:
+        return EXIT_WORKBOOK if isinstance(result.error, WorkbookError) else EXIT_USAGE
+    return STATUS_EXIT.get(result.outcome.formula.status, EXIT_ENGINE)
 
 
 @app.command()
