@@ -73,7 +73,11 @@ class _DualRun:
     (`way`, `back` = -way), so each iteration touches few arrays.
     """
 
+    __slots__ = ("state", "cost", "d", "rise", "fall", "way", "back", "two_way", "span", "weights",
+                 "primal_tol", "dual_tol", "pivot_tol", "stall", "xb", "lb", "ub", "slack")
+
     def __init__(self, state: SimplexState, cost: np.ndarray):
+        tol = state.tol
         self.state = state
         self.cost = cost
         self.d = state.fresh_duals(cost)
@@ -86,25 +90,27 @@ class _DualRun:
         self.two_way = bool(np.any(self.rise & self.fall))
         self.span = state.upper - state.lower
         self.weights = np.ones(state.m)
+        self.primal_tol, self.dual_tol, self.pivot_tol = tol.primal_feasibility, tol.dual_feasibility, tol.pivot
         self.stall = StallWatch(float(cost @ state.z))
         self.load_positions()
 
     def run(self) -> str:
         """The iterations; see `run_dual`."""
         state = self.state
-        factor = state.factor
+        factor, weights, stalled = state.factor, self.weights, self.stall.record
         while True:
             if state.iterations >= state.max_iterations:
                 self.store_positions()
                 return "iteration_limit"
-            r = leaving_position(self.xb, self.lb, self.ub, self.slack, self.weights)
+            xb, lb, ub = self.xb, self.lb, self.ub
+            r = leaving_position(xb, lb, ub, self.slack, weights)
             if r < 0:
                 if self.confirm_feasible():
                     state.d = self.d
                     return "optimal"
                 continue
-            rises = self.xb[r] < self.lb[r]  # the leaving variable moves up to its lower bound
-            target = self.lb[r] if rises else self.ub[r]
+            rises = xb[r] < lb[r]  # the leaving variable moves up to its lower bound
+            target = lb[r] if rises else ub[r]
             row = state.pivot_row(r)
             choice = self.entering(r, rises, target, row)
             if choice is None:
@@ -119,13 +125,12 @@ class _DualRun:
             state.iterations += 1
             if flipped.size:
                 self.flip(flipped)
-            progress = self.move(r, q, target, alpha, row)
-            self.swap(r, q, rises)
-            update_dual_weights(self.weights, alpha, pivot, r)
+            progress = self.pivot(r, q, rises, target, alpha, row)
+            update_dual_weights(weights, alpha, pivot, r)
             factor.update(r, alpha)
             if factor.due:
                 self.refresh()
-            if self.stall.record(progress):
+            if stalled(progress):
                 self.store_positions()
                 return "stalled"
 
@@ -136,7 +141,7 @@ class _DualRun:
         state = self.state
         head = state.head
         self.lb, self.ub = state.lower[head], state.upper[head]
-        self.slack = state.tol.primal_feasibility * (1 + np.minimum(np.abs(self.lb), np.abs(self.ub)))
+        self.slack = self.primal_tol * (1 + np.minimum(np.abs(self.lb), np.abs(self.ub)))
         self.xb = state.z[head].copy()
 
     def store_positions(self) -> None:
@@ -163,7 +168,7 @@ class _DualRun:
     def entering(self, r: int, rises: bool, target: float, row: np.ndarray):
         """(q, flipped) from the dual ratio test over pivot row `row`, or None when no
         variable can enter (the problem is infeasible)."""
-        smallest = self.state.tol.pivot * max(1.0, row.max(initial=0.0), -row.min(initial=0.0))
+        smallest = self.pivot_tol * max(1.0, row.max(initial=0.0), -row.min(initial=0.0))
         d = self.d
         if self.two_way:
             # Change of the leaving variable per unit rise of each nonbasic variable.
@@ -183,7 +188,7 @@ class _DualRun:
         if not order.size:
             return None
         infeasible_by = abs(self.xb[r] - target)
-        return dual_ratio_test(order, room, size, self.span, infeasible_by, self.state.tol.dual_feasibility)
+        return dual_ratio_test(order, room, size, self.span, infeasible_by, self.dual_tol)
 
     def flip(self, flipped: np.ndarray) -> None:
         """Move the variables `flipped` to their other bound and the basic values with them."""
@@ -197,31 +202,27 @@ class _DualRun:
         self.back[flipped] = -self.back[flipped]
         self.xb -= state.factor.ftran(state.M[:, flipped] @ change)
 
-    def move(self, r: int, q: int, target: float, alpha: np.ndarray, row: np.ndarray) -> float:
-        """Move q into position r, the leaving variable to `target`, update d; return the
-        rise of the objective."""
-        state, xb, d = self.state, self.xb, self.d
+    def pivot(self, r: int, q: int, rises: bool, target: float, alpha: np.ndarray, row: np.ndarray) -> float:
+        """Bring q into basis position r and move the leaving variable p = head[r] to
+        `target`, the bound it rises or falls to; update the values, d and the
+        mobility of p and q. Returns the rise of the objective."""
+        state, xb, d, rise, fall, way, back = self.state, self.xb, self.d, self.rise, self.fall, self.way, self.back
+        head, lb, ub = state.head, self.lb, self.ub
+        p = int(head[r])
         pivot = alpha[r]
         step = (xb[r] - target) / pivot  # how far q moves
         xb -= step * alpha
         xb[r] = state.z[q] + step  # q takes p's position
-        state.z[state.head[r]] = target
+        state.z[p] = target
         theta_d = d[q] / row[q]
         d -= theta_d * row
         d[q] = 0.0
-        return abs(theta_d * step * pivot)
-
-    def swap(self, r: int, q: int, rises: bool) -> None:
-        """Record the basis change: q basic in position r, p = head[r] nonbasic at the
-        bound it moved to."""
-        state, rise, fall, way, back = self.state, self.rise, self.fall, self.way, self.back
-        p = int(state.head[r])
         state.at_upper[p] = not rises
         state.basic[p] = False
         state.basic[q] = True
-        state.head[r] = q
-        self.lb[r], self.ub[r] = state.lower[q], state.upper[q]
-        self.slack[r] = state.tol.primal_feasibility * (1 + min(abs(self.lb[r]), abs(self.ub[r])))
+        head[r] = q
+        lb[r], ub[r] = state.lower[q], state.upper[q]
+        self.slack[r] = self.primal_tol * (1 + min(abs(lb[r]), abs(ub[r])))
         movable = self.span[p] != 0
         rise[p] = movable and rises
         fall[p] = movable and not rises
@@ -229,3 +230,4 @@ class _DualRun:
         way[p] = (1.0 if rises else -1.0) if movable else 0.0
         back[p] = -way[p]
         way[q] = back[q] = 0.0
+        return abs(theta_d * step * pivot)

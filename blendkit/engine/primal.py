@@ -30,6 +30,8 @@ class _PrimalRun:
     """One run of primal iterations: the reduced costs, Devex weights and each
     variable's freedom to rise or fall (1.0 / 0.0), kept up to date between iterations."""
 
+    __slots__ = ("state", "cost", "d", "stall", "weights", "rise", "fall", "bland")
+
     def __init__(self, state: SimplexState, cost: np.ndarray):
         self.state = state
         self.cost = cost
@@ -43,11 +45,12 @@ class _PrimalRun:
     def run(self) -> str:
         """The iterations; see `run_primal`."""
         state = self.state
-        tol = state.tol
+        dual_tol = state.tol.dual_feasibility
+        rise, fall, weights, stalled = self.rise, self.fall, self.weights, self.stall.record
         while True:
             if state.iterations >= state.max_iterations:
                 return "iteration_limit"
-            q = entering_variable(self.d, self.rise, self.fall, self.weights, self.bland, tol.dual_feasibility)
+            q = entering_variable(self.d, rise, fall, weights, self.bland, dual_tol)
             if q < 0:
                 if self.confirm_optimal():
                     state.d = self.d
@@ -75,7 +78,7 @@ class _PrimalRun:
                 self.flip(q, direction)
             else:
                 self.swap(q, r, direction * theta, hits_upper, alpha, row)
-            self.bland = self.stall.record(-progress)
+            self.bland = stalled(-progress)
 
     def confirm_optimal(self) -> bool:
         """True when no reduced cost asks a variable to move on a fresh factorisation
