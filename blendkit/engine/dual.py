@@ -181,7 +181,7 @@ class _DualRun:
             size = np.abs(gain[order])
         else:
             way = self.way
-            signed = row * (self.back if rises else way)  # = gain * way
+            signed = row * (self.back if rises else way)  # gain (as above) * way
             order = (signed > smallest).nonzero()[0]
             room = np.maximum(d[order] * way[order], 0.0)
             size = signed[order]
