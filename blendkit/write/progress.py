@@ -30,7 +30,7 @@ class ProgressBar:
             from rich.console import Console
             from rich.progress import Progress
 
-            self._bar = Progress(console=Console(file=sys.stderr), transient=True)
+            self._bar = Progress(console=Console(file=sys.stderr, force_terminal=True), transient=True)
             self._bar.start()
             self._task = self._bar.add_task("Solving formulas", total=total)
         self._bar.update(self._task, completed=done)
