@@ -10,6 +10,7 @@ and results are put back in their original order.
 
 from __future__ import annotations
 
+import dataclasses
 import os
 from collections.abc import Callable
 from concurrent.futures import ProcessPoolExecutor, as_completed
@@ -99,12 +100,35 @@ def solve_lps(blends: list[Blend], jobs: int | None = None, progress: Progress |
             results[k] = formulate_lp(blend)
             _report(progress, k + 1, len(blends))
         return results
-    with ProcessPoolExecutor(max_workers=jobs) as pool:
-        futures = {pool.submit(formulate_lp, blend): k for k, blend in enumerate(blends)}
-        for done, future in enumerate(as_completed(futures), start=1):
-            results[futures[future]] = future.result()
+    # Each worker gets the blends once; tasks are runs of indices, and a formula comes
+    # back without its blend (this process has it), to keep what crosses processes small.
+    size = max(1, min(_MOST_PER_TASK, len(blends) // (jobs * 4)))
+    chunks = [range(start, min(start + size, len(blends))) for start in range(0, len(blends), size)]
+    with ProcessPoolExecutor(max_workers=jobs, initializer=_receive, initargs=(blends,)) as pool:
+        futures = {pool.submit(_formulate_chunk, chunk): chunk for chunk in chunks}
+        done = 0
+        for future in as_completed(futures):
+            for k, formula in zip(futures[future], future.result()):
+                results[k] = dataclasses.replace(formula, blend=blends[k])
+            done += len(futures[future])
             _report(progress, done, len(blends))
     return results
+
+
+# At most this many LPs per task sent to a worker.
+_MOST_PER_TASK = 16
+# A worker's copy of the blends of the batch (set once by `_receive`).
+_BLENDS: list[Blend] = []
+
+
+def _receive(blends: list[Blend]) -> None:
+    """Worker start-up: keep the batch's blends."""
+    _BLENDS[:] = blends
+
+
+def _formulate_chunk(indices: range) -> list[Formula]:
+    """In a worker: the formulas of some blends of the batch, each without its blend."""
+    return [dataclasses.replace(formulate_lp(_BLENDS[k]), blend=None) for k in indices]
 
 
 def _report(progress: Progress | None, done: int, total: int) -> None:

@@ -8,6 +8,7 @@ Every bound keeps the cell it was read from, so reports can point back to it.
 from __future__ import annotations
 
 from dataclasses import dataclass, field
+from functools import cached_property
 from pathlib import Path
 from typing import TYPE_CHECKING
 
@@ -196,8 +197,10 @@ class Blend:
         return self.settings.mode == "diet"
 
     def ingredient(self, name: str) -> Ingredient:
-        """The ingredient called `name` (exact match)."""
-        for item in self.ingredients:
-            if item.name == name:
-                return item
-        raise KeyError(name)
+        """The ingredient called `name` (exact match); KeyError when there is none."""
+        return self._by_name[name]
+
+    @cached_property
+    def _by_name(self) -> dict[str, Ingredient]:
+        """Ingredients by name, built once: writers look them up per line."""
+        return {item.name: item for item in self.ingredients}
