@@ -14,17 +14,11 @@ from pathlib import Path
 import typer
 
 from blendkit import __version__
+from blendkit.authoring import EXAMPLE_NAMES
 from blendkit.errors import OutputError, WorkbookError
-from blendkit.authoring.examples import EXAMPLES
-from blendkit.authoring.template import write_new
-from blendkit.compare import check_earlier_output
-from blendkit.batch import BookResult
-from blendkit.pipeline import check_workbook
-from blendkit.run import solve_run
-from blendkit.write.progress import progress_bar
-from blendkit.write.books import books_to_dict, books_to_text
-from blendkit.write.console import render_summary
-from blendkit.write.json import formula_to_dict
+
+# Each command imports the library it needs when it runs, so that `blendkit --help` and
+# start-up stay fast (numpy, scipy and openpyxl are loaded only to do work).
 
 EXIT_SOLVED = 0
 EXIT_WORKBOOK = 1
@@ -80,6 +74,8 @@ def _reporting(as_json: bool):
 def _earlier_output(path: Path | None) -> Path | None:
     """Refuse a --compare file that is missing or not an output workbook (exit 2)."""
     if path is not None:
+        from blendkit.compare import check_earlier_output
+
         try:
             check_earlier_output(path)
         except OutputError as error:
@@ -100,6 +96,12 @@ def solve(
     jobs: int = typer.Option(None, "--jobs", min=1, metavar="N", help="Solve in N worker processes (default: one per CPU); the results are the same for any N."),
 ) -> None:
     """Find the least-cost formulas of one or more workbooks and write an output beside each."""
+    from blendkit.run import solve_run
+    from blendkit.write.books import books_to_dict, books_to_text
+    from blendkit.write.console import render_summary
+    from blendkit.write.json import formula_to_dict
+    from blendkit.write.progress import progress_bar
+
     with _reporting(as_json):
         results = solve_run(books, output=output, mps_file=export_mps, in_place=in_place, compare=compare,
                             prices=prices, overview=overview, jobs=jobs, progress=progress_bar(as_json))
@@ -117,7 +119,7 @@ def solve(
     raise typer.Exit(max(_exit_code(result) for result in results))
 
 
-def _exit_code(result: BookResult) -> int:
+def _exit_code(result) -> int:
     """One book's exit code: 1 workbook problems, 2 output error, else by status."""
     if result.error is not None:
         return EXIT_WORKBOOK if isinstance(result.error, WorkbookError) else EXIT_USAGE
@@ -129,6 +131,8 @@ def check(
     book: Path = typer.Argument(..., metavar="BOOK", help="The workbook (.xlsx) to validate."),
 ) -> None:
     """Validate a workbook without solving it."""
+    from blendkit.pipeline import check_workbook
+
     with _reporting(False):
         blend = check_workbook(book)
     typer.echo(
@@ -137,22 +141,25 @@ def check(
     )
     for item in blend.ingredients:
         if item.use and item.blanks:
-            typer.echo(f"  {item.name}: {len(item.blanks)} blank nutrient cells counted as 0 ({', '.join(item.blanks)})")
+            cells = "cell" if len(item.blanks) == 1 else "cells"
+            typer.echo(f"  {item.name}: {len(item.blanks)} blank nutrient {cells} counted as 0 ({', '.join(item.blanks)})")
 
 
 @app.command()
 def new(
     path: Path = typer.Argument(..., metavar="PATH", help="Where to write the new workbook (.xlsx); an existing file is never replaced."),
-    example: str = typer.Option(None, "--example", help=f"Write a worked example instead of the blank template: {', '.join(EXAMPLES)}."),
+    example: str = typer.Option(None, "--example", help=f"Write a worked example instead of the blank template: {', '.join(EXAMPLE_NAMES)}."),
 ) -> None:
     """Write a blank workbook template, or a worked example, to start from."""
+    from blendkit.authoring.template import write_new
+
     if path.suffix.lower() != ".xlsx":
         typer.echo(f"{path}: the new workbook must be an .xlsx file", err=True)
         raise typer.Exit(EXIT_USAGE)
     try:
         written = write_new(path, example)
     except KeyError:
-        typer.echo(f"no example called {example!r}; the examples are: {', '.join(EXAMPLES)}", err=True)
+        typer.echo(f"no example called {example!r}; the examples are: {', '.join(EXAMPLE_NAMES)}", err=True)
         raise typer.Exit(EXIT_USAGE) from None
     except FileExistsError:
         typer.echo(f"{path}: already exists; blendkit new never replaces a file, choose another name", err=True)
@@ -160,8 +167,10 @@ def new(
     except OSError as error:
         typer.echo(f"{path}: could not write the workbook ({error.strerror or error})", err=True)
         raise typer.Exit(EXIT_USAGE) from None
-    what = f"the {example} example" if example else "a blank template"
-    typer.echo(f"Wrote {what} to {written}. Fill it in, then run: blendkit solve {written}")
+    if example:
+        typer.echo(f"Wrote the {example} example to {written}. Solve it with: blendkit solve {written}")
+    else:
+        typer.echo(f"Wrote a blank template to {written}. Fill it in, then run: blendkit solve {written}")
 
 
 def main() -> None:

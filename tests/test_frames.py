@@ -30,7 +30,7 @@ ROOT = Path(__file__).resolve().parent.parent
 # Each sample workbook and its example's name in OPTIMUM.
 SAMPLES = {
     "broiler_starter.xlsx": "broiler",
-    "layer_feed.xlsx": "feed",
+    "layer_feed.xlsx": "layer",
     "day_menu.xlsx": "diet",
     "npk_15_15_15.xlsx": "fertilizer",
     "pig_feed_plant.xlsx": "plant",
@@ -338,7 +338,7 @@ def test_readme_pandas_example_runs(monkeypatch, capsys):
     assert costs == sorted(costs) and len(costs) == 4
     # Reference: the layer feed's HiGHS optimum at its own maize price (215 EUR/t), OPTIMUM
     # in tests/test_examples.py.
-    assert costs[1] == pytest.approx(OPTIMUM["feed"], abs=0.005)
+    assert costs[1] == pytest.approx(OPTIMUM["layer"], abs=0.005)
     assert printed[-1] == 'ingredients[row "Maize", column "Cost (EUR/t)"]: cost "n/a" is not a number'
     assert printed[-1] in readme_example()
 
