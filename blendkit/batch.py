@@ -46,6 +46,7 @@ def solve_books(
     price_list: PriceList | None = None,
     jobs: int | None = None,
     progress: Progress | None = None,
+    check: bool = True,
 ) -> list[BookResult]:
     """Solve every workbook in `books` (see the module docstring), in the order given.
 
@@ -53,6 +54,7 @@ def solve_books(
     paths are checked for every workbook before anything is solved: an OutputError for
     any of them is raised at once. `output`, `mps_file` and `compare` apply to a single
     workbook only. `jobs` is the number of worker processes (default: one per CPU).
+    `check` re-solves every LP with HiGHS as a cross-check.
     """
     if len(books) > 1 and (output is not None or mps_file is not None or compare is not None):
         raise OutputError("-o, --export-mps and --compare name one file, so they take one workbook only")
@@ -63,7 +65,7 @@ def solve_books(
         except WorkbookError as error:
             prepared.append(error)
     ready = [item for item in prepared if isinstance(item, Prepared)]
-    formulas = iter(_formulate_all([item.blend for item in ready], jobs, progress))
+    formulas = iter(_formulate_all([item.blend for item in ready], jobs, progress, check))
     results = []
     for book, item in zip(books, prepared):
         if isinstance(item, WorkbookError):
@@ -76,11 +78,12 @@ def solve_books(
     return results
 
 
-def _formulate_all(blends: list[Blend], jobs: int | None, progress: Progress | None) -> list[Formula]:
+def _formulate_all(blends: list[Blend], jobs: int | None, progress: Progress | None,
+                   check: bool) -> list[Formula]:
     """The formula of each blend, its LPs solved in a pool of `jobs` worker processes."""
     tasks = [lp_blends(blend) for blend in blends]
     flat = [part for parts in tasks for part in parts]
-    solved = solve_lps(flat, jobs, progress)
+    solved = solve_lps(flat, jobs, progress, check)
     formulas, at = [], 0
     for blend, parts in zip(blends, tasks):
         formulas.append(assemble(blend, solved[at : at + len(parts)]))
@@ -88,23 +91,25 @@ def _formulate_all(blends: list[Blend], jobs: int | None, progress: Progress | N
     return formulas
 
 
-def solve_lps(blends: list[Blend], jobs: int | None = None, progress: Progress | None = None) -> list[Formula]:
-    """`formulate_lp` of each blend, in order, in `jobs` worker processes (default: one
-    per CPU; never more than there are blends; 1 runs them in this process)."""
+def solve_lps(blends: list[Blend], jobs: int | None = None, progress: Progress | None = None,
+              check: bool = True) -> list[Formula]:
+    """`formulate_lp` of each blend (with the HiGHS cross-check when `check`), in order, in
+    `jobs` worker processes (default: one per CPU; never more than there are blends; 1 runs
+    them in this process)."""
     if jobs is not None and jobs < 1:
         raise ValueError(f"jobs must be 1 or more, not {jobs}")
     jobs = min(jobs or os.cpu_count() or 1, max(len(blends), 1))
     results: list[Formula | None] = [None] * len(blends)
     if jobs == 1:
         for k, blend in enumerate(blends):
-            results[k] = formulate_lp(blend)
+            results[k] = formulate_lp(blend, check=check)
             _report(progress, k + 1, len(blends))
         return results
     # Each worker gets the blends once; tasks are runs of indices, and a formula comes
     # back without its blend (this process has it), to keep what crosses processes small.
     size = max(1, min(_MOST_PER_TASK, len(blends) // (jobs * 4)))
     chunks = [range(start, min(start + size, len(blends))) for start in range(0, len(blends), size)]
-    with ProcessPoolExecutor(max_workers=jobs, initializer=_receive, initargs=(blends,)) as pool:
+    with ProcessPoolExecutor(max_workers=jobs, initializer=_receive, initargs=(blends, check)) as pool:
         futures = {pool.submit(_formulate_chunk, chunk): chunk for chunk in chunks}
         done = 0
         for future in as_completed(futures):
@@ -117,18 +122,21 @@ def solve_lps(blends: list[Blend], jobs: int | None = None, progress: Progress |
 
 # At most this many LPs per task sent to a worker.
 _MOST_PER_TASK = 16
-# A worker's copy of the blends of the batch (set once by `_receive`).
+# A worker's copy of the blends of the batch and of the cross-check switch (set once by
+# `_receive`).
 _BLENDS: list[Blend] = []
+_CHECK = [True]
 
 
-def _receive(blends: list[Blend]) -> None:
-    """Worker start-up: keep the batch's blends."""
+def _receive(blends: list[Blend], check: bool) -> None:
+    """Worker start-up: keep the batch's blends and whether to cross-check."""
     _BLENDS[:] = blends
+    _CHECK[0] = check
 
 
 def _formulate_chunk(indices: range) -> list[Formula]:
     """In a worker: the formulas of some blends of the batch, each without its blend."""
-    return [dataclasses.replace(formulate_lp(_BLENDS[k]), blend=None) for k in indices]
+    return [dataclasses.replace(formulate_lp(_BLENDS[k], check=_CHECK[0]), blend=None) for k in indices]
 
 
 def _report(progress: Progress | None, done: int, total: int) -> None:

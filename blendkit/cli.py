@@ -94,6 +94,7 @@ def solve(
     prices: Path = typer.Option(None, "--prices", metavar="PRICES", help="A workbook whose Ingredients sheet (Ingredient, Cost, nutrients, Stock) replaces those values in every BOOK before solving."),
     overview: Path = typer.Option(None, "--overview", metavar="FILE", help="Also write one workbook summarising every book and formula of the run."),
     jobs: int = typer.Option(None, "--jobs", min=1, metavar="N", help="Solve in N worker processes (default: one per CPU); the results are the same for any N."),
+    cross_check: bool = typer.Option(True, "--cross-check/--no-cross-check", help="Re-solve every LP with HiGHS (through scipy) and record the difference (default: on)."),
 ) -> None:
     """Find the least-cost formulas of one or more workbooks and write an output beside each."""
     from blendkit.run import solve_run
@@ -104,7 +105,8 @@ def solve(
 
     with _reporting(as_json):
         results = solve_run(books, output=output, mps_file=export_mps, in_place=in_place, compare=compare,
-                            prices=prices, overview=overview, jobs=jobs, progress=progress_bar(as_json))
+                            prices=prices, overview=overview, jobs=jobs, progress=progress_bar(as_json),
+                            check=cross_check)
     if len(results) == 1 and results[0].error is not None:
         with _reporting(as_json):
             raise results[0].error

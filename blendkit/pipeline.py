@@ -20,6 +20,8 @@ from blendkit.compare import compare_with_earlier
 from blendkit.lp.analyse import analyse
 from blendkit.lp.build import build_lp
 from blendkit.lp.combine import combine
+from blendkit.lp.cross_check import cross_check
+from blendkit.lp.cross_check import warning as cross_check_warning
 from blendkit.lp.diagnose import change_lines, conflict_lines, diagnose
 from blendkit.lp.split import part_blend, parts, unapplied_stocks
 from blendkit.engine import solve_form
@@ -48,7 +50,7 @@ def check_workbook(book: str | Path) -> Blend:
     return read_workbook(book)
 
 
-def formulate(blend: Blend, *, explain: bool = True) -> Formula:
+def formulate(blend: Blend, *, explain: bool = True, check: bool = True) -> Formula:
     """The least-cost formula for a validated blend.
 
     Products that no stock links are formulated as separate LPs (see
@@ -56,7 +58,7 @@ def formulate(blend: Blend, *, explain: bool = True) -> Formula:
     all be met (and `explain` is on), the formula of that LP carries the conflicting
     sets of limits and the least-cost relaxation with its formula.
     """
-    return assemble(blend, [formulate_lp(part, explain=explain) for part in lp_blends(blend)])
+    return assemble(blend, [formulate_lp(part, explain=explain, check=check) for part in lp_blends(blend)])
 
 
 def lp_blends(blend: Blend) -> list[Blend]:
@@ -81,16 +83,20 @@ def _split(blend: Blend):
     return groups
 
 
-def formulate_lp(blend: Blend, *, explain: bool = True) -> Formula:
-    """One LP's formula, with conflicts and the least-cost relaxation when infeasible."""
+def formulate_lp(blend: Blend, *, explain: bool = True, check: bool = True) -> Formula:
+    """One LP's formula, with conflicts and the least-cost relaxation when infeasible, and
+    (with `check`) the same LP re-solved with HiGHS as a cross-check."""
     lp = build_lp(blend)
-    formula = analyse(blend, lp, solve_form(lp.form, ranging=True))
+    result = solve_form(lp.form, ranging=True)
+    formula = analyse(blend, lp, result)
+    if check:
+        formula = _with_cross_check(formula, cross_check(lp.form, result), result)
     if formula.status != "infeasible" or not explain:
         return formula
     diagnosis = diagnose(blend, lp)
     relaxed = None
     if diagnosis.relaxed_blend is not None:
-        relaxed = formulate_lp(diagnosis.relaxed_blend, explain=False)
+        relaxed = formulate_lp(diagnosis.relaxed_blend, explain=False, check=False)
         if not relaxed.solved:
             relaxed = None
     return dataclasses.replace(
@@ -99,6 +105,13 @@ def formulate_lp(blend: Blend, *, explain: bool = True) -> Formula:
         conflicts_complete=diagnosis.complete,
         relaxation=Relaxation(change_lines(diagnosis), relaxed) if diagnosis.changes else None,
     )
+
+
+def _with_cross_check(formula: Formula, check, result) -> Formula:
+    """`formula` with its cross-check, and a warning note when the solvers disagree."""
+    note = cross_check_warning(check, result.objective)
+    notes = formula.notes if note is None else (note, *formula.notes)
+    return dataclasses.replace(formula, cross_check=check, notes=notes)
 
 
 def formulate_many(blends: Iterable[Blend], jobs: int | None = None) -> list[Formula]:
@@ -240,6 +253,7 @@ def solve_workbook(
     in_place: bool = False,
     compare: str | Path | None = None,
     price_list: PriceList | None = None,
+    check: bool = True,
 ) -> Outcome:
     """Read `book`, find the least-cost blend and write the output workbook.
 
@@ -248,14 +262,15 @@ def solve_workbook(
     file was kept as `backup_path(book)`. The formula carries what changed since the
     earlier result (`blendkit.compare`): the `compare` output workbook, else the output
     about to be replaced when it holds a result of the same workbook. With `price_list`,
-    its values replace the workbook's before solving (the file is never modified).
+    its values replace the workbook's before solving (the file is never modified). With
+    `check` (the default) every LP is also re-solved with HiGHS as a cross-check.
 
     Raises WorkbookError for problems in the workbook and OutputError when the output
     cannot be written; an infeasible blend is a status of the returned formula, and
     its output workbook is still written so the reviewer sees what was tried.
     """
     prepared = prepare(book, output, mps_file=mps_file, in_place=in_place, price_list=price_list)
-    return finish(prepared, formulate(prepared.blend), compare=compare)
+    return finish(prepared, formulate(prepared.blend, check=check), compare=compare)
 
 
 def _target(book: Path, output: str | Path | None, in_place: bool) -> Path:

@@ -23,16 +23,17 @@ def solve_run(
     overview: str | Path | None = None,
     jobs: int | None = None,
     progress: Progress | None = None,
+    check: bool = True,
 ) -> list[BookResult]:
     """Solve `books` with the price list `prices` (if any) and write the `overview`
-    workbook (if asked); raises WorkbookError for a bad price list and OutputError for
+    workbook (if asked), cross-checking every LP with HiGHS unless `check` is off; raises WorkbookError for a bad price list and OutputError for
     an output path that cannot be used."""
     books = [Path(book) for book in books]
     if overview is not None:
         _check_overview(Path(overview), books, prices)
     price_list = read_price_list(prices) if prices is not None else None
     results = solve_books(books, output=output, mps_file=mps_file, in_place=in_place, compare=compare,
-                          price_list=price_list, jobs=jobs, progress=progress)
+                          price_list=price_list, jobs=jobs, progress=progress, check=check)
     if overview is not None:
         try:
             write_overview(results, Path(overview))

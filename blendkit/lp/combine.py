@@ -12,6 +12,7 @@ import dataclasses
 
 import numpy as np
 
+from blendkit.lp.cross_check import combined
 from blendkit.model.blend import Blend
 from blendkit.model.formula import INFEASIBLE, OPTIMAL, Formula, ProductFormula
 
@@ -35,6 +36,7 @@ def combine(blend: Blend, parts: list[Formula], notes: tuple[str, ...] = ()) -> 
         conflicts=_renumbered(parts),
         conflicts_complete=all(part.conflicts_complete for part in parts),
         parts=tuple(parts),
+        cross_check=combined([part.cross_check for part in parts]),
     )
 
 

@@ -30,3 +30,6 @@ ROUND_NOISE = 1e-7
 # 100 means nothing for the blend but wrecks the scaling. A content cell so treated is
 # named in the run's notes.
 DROP_RELATIVE = 1e-10
+# The cross-check with HiGHS warns when the two costs differ by more than this, relative
+# to max(1, |cost|).
+CROSS_CHECK_RTOL = 1e-6

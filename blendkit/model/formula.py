@@ -152,6 +152,19 @@ class StockLine:
 
 
 @dataclass(frozen=True)
+class CrossCheck:
+    """The run's LP re-solved by another solver (`blendkit.lp.cross_check`): its status
+    and objective (in the formula's cost units), ours less its (None unless both are
+    optimal), and whether the two agree within the cross-check tolerance."""
+
+    solver: str
+    status: str
+    cost: float | None
+    difference: float | None
+    agrees: bool
+
+
+@dataclass(frozen=True)
 class Formula:
     """The full outcome of one run.
 
@@ -184,6 +197,7 @@ class Formula:
     # When the products were solved as several LPs (see `blendkit.lp.split`): each LP's
     # own Formula, in Products-sheet order of their first product. Empty otherwise.
     parts: tuple[Formula, ...] = ()
+    cross_check: CrossCheck | None = None  # the same LP re-solved with HiGHS (None when off)
     changes: Changes | None = None  # against an earlier result, when one was compared
 
     @property

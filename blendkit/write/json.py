@@ -96,6 +96,7 @@ def formula_to_dict(formula: Formula) -> dict[str, Any]:
             "stocks": stocks,
             "violations": _violations(formula),
             "notes": [str(note) for note in formula.notes],
+            "cross_check": _cross_check(formula),
         }))
     return _with_changes(formula, _conflicts(formula, {
         "status": str(formula.status),
@@ -108,7 +109,18 @@ def formula_to_dict(formula: Formula) -> dict[str, Any]:
         "stocks": stocks,
         "violations": _violations(formula),
         "notes": [str(note) for note in formula.notes],
+        "cross_check": _cross_check(formula),
     }))
+
+
+def _cross_check(formula: Formula) -> dict[str, Any] | None:
+    """The same LP re-solved with HiGHS: solver, status, cost and our cost less its (null
+    when the cross-check was turned off)."""
+    check = formula.cross_check
+    if check is None:
+        return None
+    return {"solver": check.solver, "status": check.status, "cost": _number(check.cost),
+            "difference": _number(check.difference), "agrees": bool(check.agrees)}
 
 
 def _with_changes(formula: Formula, data: dict[str, Any]) -> dict[str, Any]:
