@@ -9,6 +9,7 @@ from __future__ import annotations
 
 import dataclasses
 import json
+from pathlib import Path
 
 import numpy as np
 import pytest
@@ -124,7 +125,9 @@ def test_a_stock_against_product_amounts(tmp_path):
     specs = [["Nutrient", "Min", "Max"], ["Calcium", 0.8, None]]
     products = [["Product", "Amount"], ["Layer mash", 30000], ["Pullet mash", 10000]]
     blend, diagnosis = diagnosis_of(tmp_path, [HEADER, *feeds], specs, Products=products)
-    assert len(diagnosis.conflicts) == 1
+    # The stock conflicts with either product's calcium spec: sets that overlap in the stock.
+    assert len(diagnosis.conflicts) >= 1
+    assert not diagnosis.complete or len(diagnosis.conflicts) == 1
     members = diagnosis.conflicts[0].members
     kinds = [member.kind for member in members]
     assert "stock" in kinds
@@ -141,10 +144,10 @@ def test_two_independent_conflicts_are_both_reported(tmp_path):
     feeds[0][5:7] = [0.05, 0.35]
     specs = [["Nutrient", "Min", "Max"], ["Crude protein", 30, None], ["Phosphorus", None, 0.1]]
     blend, diagnosis = diagnosis_of(tmp_path, [HEADER, *feeds], specs)
-    assert len(diagnosis.conflicts) == 2
-    first, second = (texts(c) for c in diagnosis.conflicts)
-    assert any("Crude protein" in t for t in first | second)
-    assert any("Phosphorus" in t for t in first | second)
+    assert len(diagnosis.conflicts) >= 2 and not diagnosis.complete
+    every = set().union(*(texts(c) for c in diagnosis.conflicts))
+    assert any("Crude protein" in t for t in every)
+    assert any("Phosphorus" in t for t in every)
     check_irreducible(blend, diagnosis)
 
 
@@ -173,6 +176,7 @@ def test_cli_reports_conflicts_exit_3_and_json(tmp_path):
     assert entry == {
         "kind": "nutrient", "name": "Crude protein", "product": None, "side": "min", "bound": 30.0,
         "cell": "Specs!B2", "relax_to": pytest.approx(0.25 * 46 + 0.20 * 15.5 + 0.55 * 11.0), "conflict": 1,
+        "fixes_alone": True,
     }
     assert doc["relaxation"]["changes"]
     assert doc["relaxation"]["cost"] > 0
@@ -235,3 +239,39 @@ def test_priority_decides_what_gives_way(tmp_path):
     (tmp_path / "9").mkdir()
     assert "group" in changes(1) and "nutrient" not in changes(1)
     assert "nutrient" in changes(9) and "group" not in changes(9)
+
+
+def test_overlapping_conflicts_and_which_limit_alone_fixes_everything(tmp_path):
+    # The case a user met: the broiler sample with Limestone Use = no and crude protein held
+    # to 27-30 %. More than one set conflicts, so the report must not claim completeness,
+    # and each member's "dropped alone, fixes all" is checked by HiGHS on the workbook with
+    # that one limit cleared (tests/test_examples.py builds the LP from the cells alone).
+    import shutil
+
+    import openpyxl
+
+    from tests.test_examples import formulate_with_highs
+
+    path = tmp_path / "lime.xlsx"
+    shutil.copyfile(Path(__file__).resolve().parents[1] / "sample_workbooks" / "broiler_starter.xlsx", path)
+    book = openpyxl.load_workbook(path)
+    book["Ingredients"]["E12"] = "no"  # Limestone
+    book["Specs"]["B3"], book["Specs"]["C3"] = 27, 30  # Crude protein
+    book.save(path)
+    result = CliRunner().invoke(app, ["solve", str(path), "--json", "--no-cross-check"])
+    doc = json.loads(result.stdout)
+    assert result.exit_code == 3
+    assert len({item["conflict"] for item in doc["conflicts"]}) > 1
+    assert doc["conflicts_complete"] is False
+    checked = set()
+    for item in doc["conflicts"]:
+        if item["kind"] not in ("nutrient", "ingredient", "use") or item["cell"] in checked or len(checked) == 6:
+            continue
+        checked.add(item["cell"])
+        dropped = openpyxl.load_workbook(path)
+        sheet, _, cell = item["cell"].partition("!")
+        dropped[sheet][cell] = "yes" if item["kind"] == "use" else None
+        copy = tmp_path / f"without-{len(checked)}.xlsx"
+        dropped.save(copy)
+        feasible = formulate_with_highs(copy).result.status == 0
+        assert feasible == item["fixes_alone"], item

@@ -117,6 +117,7 @@ def test_not_optimal_has_null_cost_and_empty_tables():
         "notes": list(formula.notes),
         "cross_check": None,
         "conflicts": [],
+        "conflicts_complete": True,
         "relaxation": None,
     }
     # Even if a cost were left on the formula, it means nothing unless optimal.

@@ -24,6 +24,7 @@ Non-negativity of inclusions is physics, not a member, and stays on.
 
 from __future__ import annotations
 
+import time
 from dataclasses import dataclass
 
 import numpy as np
@@ -48,8 +49,10 @@ from blendkit.lp.relax import (
 from blendkit.model.blend import Blend
 from blendkit.model.formula import ConflictLine
 
-# How many independent conflicts to look for before saying more may remain.
+# The search for conflicting sets stops after this many sets, or after this many seconds
+# (then the report says that more conflicts may remain).
 MOST_CONFLICTS = 8
+SEARCH_SECONDS = 10.0
 
 
 @dataclass(frozen=True)
@@ -57,18 +60,23 @@ class Conflict:
     """One irreducible set of conflicting members, with each one's least move alone.
 
     `relax_to[k]` is the value member k's bound would have to move to (None where no
-    move of that bound alone is enough, as for a total).
+    move of that bound alone is enough, as for a total); `fixes_alone[k]` is True when
+    dropping member k alone makes the whole workbook feasible.
     """
 
     members: tuple[Member, ...]
     relax_to: tuple[float | None, ...]
+    fixes_alone: tuple[bool, ...] = ()
 
 
 @dataclass(frozen=True)
 class Diagnosis:
     """Everything found about an infeasible workbook.
 
-    `complete` is False when the search stopped at MOST_CONFLICTS with conflicts left.
+    `complete` is True only when the conflicts are proven to be all there are: one set,
+    every member of which makes the whole workbook feasible when dropped alone (then every
+    conflicting set contains each of them, so it is that set). Otherwise more conflicts
+    may remain once these are fixed.
     `relaxed_blend` is the blend with the least-cost relaxation's new bounds (None when
     no relaxation could be found), ready to formulate.
     """
@@ -122,50 +130,97 @@ def _deletion_filter(lp: BlendLP, members: list[Member], candidates: np.ndarray)
 def diagnose(blend: Blend, lp: BlendLP) -> Diagnosis:
     """Conflicting sets, single-bound moves and the least-cost relaxation of an infeasible LP."""
     members = members_of(blend, lp)
-    everything = np.ones(len(members), dtype=bool)
     totals = np.array([member.kind == "total" for member in members])
-    set_aside = np.zeros(len(members), dtype=bool)
-    found = []
-    complete = True
-    while True:
-        active = everything & ~set_aside
-        if feasible(form_with(lp, members, active)):
-            break
-        if len(found) == MOST_CONFLICTS:
-            complete = False
-            break
-        conflict = _deletion_filter(lp, members, _seed(lp, members, active))
-        found.append(conflict)
-        # Sum-to-100 rows can be part of several conflicts; they stay on.
-        set_aside |= conflict & ~totals
-    conflicts = []
-    for conflict in found:
-        # Each member's least move alone, with the other conflicts set aside.
-        others = np.zeros(len(members), dtype=bool)
-        for other in found:
-            if other is not conflict:
-                others |= other & ~totals
-        moves = []
-        for k in np.flatnonzero(conflict):
-            active = everything & ~others
-            active[k] = False
-            moves.append(outward(best_level(lp, members, active, members[k]), members[k].side))
-        conflicts.append(Conflict(tuple(members[k] for k in np.flatnonzero(conflict)), tuple(moves)))
+    deadline = time.monotonic() + SEARCH_SECONDS
+    found, stopped = _disjoint_conflicts(lp, members, totals, deadline)
+    found, stopped_again = _overlapping_conflicts(lp, members, totals, found, deadline)
+    fixes = _fixes_alone(lp, members, found)
+    conflicts = [_with_moves(lp, members, totals, found, conflict, fixes) for conflict in found]
+    proven = len(found) == 1 and all(fixes[k] for k in np.flatnonzero(found[0]) if not totals[k])
     changes = least_cost_relaxation(blend, lp, members)
     return Diagnosis(
         conflicts=tuple(conflicts),
         changes=changes,
-        complete=complete,
+        complete=proven and not stopped and not stopped_again,
         relaxed_blend=relaxed_blend(blend, changes) if changes else None,
     )
+
+
+def _disjoint_conflicts(lp, members, totals, deadline) -> tuple[list[np.ndarray], bool]:
+    """Conflicting sets found by setting each one aside and looking again, until the rest
+    is feasible; True when the search stopped at its limits first."""
+    everything = np.ones(len(members), dtype=bool)
+    set_aside = np.zeros(len(members), dtype=bool)
+    found: list[np.ndarray] = []
+    while True:
+        active = everything & ~set_aside
+        if feasible(form_with(lp, members, active)):
+            return found, False
+        if len(found) == MOST_CONFLICTS or time.monotonic() > deadline:
+            return found, True
+        conflict = _deletion_filter(lp, members, _seed(lp, members, active))
+        found.append(conflict)
+        # Sum-to-100 rows can be part of several conflicts; they stay on.
+        set_aside |= conflict & ~totals
+
+
+def _overlapping_conflicts(lp, members, totals, found, deadline) -> tuple[list[np.ndarray], bool]:
+    """More conflicting sets that share members with those found: with each member of a
+    found set dropped alone, the workbook may still hold a conflict not yet found."""
+    tried = set()
+    queue = [k for conflict in found for k in np.flatnonzero(conflict) if not totals[k]]
+    while queue:
+        k = queue.pop(0)
+        if k in tried:
+            continue
+        tried.add(k)
+        if len(found) >= MOST_CONFLICTS or time.monotonic() > deadline:
+            return found, True
+        active = np.ones(len(members), dtype=bool)
+        active[k] = False
+        if feasible(form_with(lp, members, active)):
+            continue
+        conflict = _deletion_filter(lp, members, _seed(lp, members, active))
+        if not any((conflict == other).all() for other in found):
+            found.append(conflict)
+            queue.extend(j for j in np.flatnonzero(conflict) if not totals[j])
+    return found, False
+
+
+def _fixes_alone(lp, members, found) -> dict[int, bool]:
+    """For each member of a conflicting set: does dropping it alone make the whole
+    workbook feasible?"""
+    fixes = {}
+    for k in sorted({int(k) for conflict in found for k in np.flatnonzero(conflict)}):
+        active = np.ones(len(members), dtype=bool)
+        active[k] = False
+        fixes[k] = members[k].kind != "total" and feasible(form_with(lp, members, active))
+    return fixes
+
+
+def _with_moves(lp, members, totals, found, conflict, fixes) -> Conflict:
+    """A conflicting set with each member's least move alone (the other sets set aside,
+    except for members this set shares with them) and whether dropping it alone fixes
+    the whole workbook."""
+    others = np.zeros(len(members), dtype=bool)
+    for other in found:
+        if other is not conflict:
+            others |= other & ~totals & ~conflict
+    moves = []
+    for k in np.flatnonzero(conflict):
+        active = ~others
+        active[k] = False
+        moves.append(outward(best_level(lp, members, active, members[k]), members[k].side))
+    indices = np.flatnonzero(conflict)
+    return Conflict(tuple(members[k] for k in indices), tuple(moves), tuple(fixes[int(k)] for k in indices))
 
 
 def conflict_lines(diagnosis: Diagnosis) -> tuple[ConflictLine, ...]:
     """The conflicting sets as report lines, numbered from 1."""
     lines = []
     for number, conflict in enumerate(diagnosis.conflicts, start=1):
-        for member, relax_to in zip(conflict.members, conflict.relax_to):
-            lines.append(_line(number, member, relax_to))
+        for member, relax_to, fixes in zip(conflict.members, conflict.relax_to, conflict.fixes_alone):
+            lines.append(_line(number, member, relax_to, fixes))
     return tuple(lines)
 
 
@@ -174,7 +229,8 @@ def change_lines(diagnosis: Diagnosis) -> tuple[ConflictLine, ...]:
     return tuple(_line(0, change.member, change.relax_to) for change in diagnosis.changes)
 
 
-def _line(number: int, member: Member, relax_to: float | None) -> ConflictLine:
+def _line(number: int, member: Member, relax_to: float | None, fixes_alone: bool = False) -> ConflictLine:
     """One report line for a member."""
-    return ConflictLine(number, member.kind, member.name, member.product, member.side, member.bound,
-                        member.cell, relax_to, member.describe())
+    return ConflictLine(conflict=number, kind=member.kind, name=member.name, product=member.product,
+                        side=member.side, bound=member.bound, cell=member.cell, relax_to=relax_to,
+                        text=member.describe(), fixes_alone=fixes_alone)

@@ -274,7 +274,9 @@ class ConflictLine:
     "nutrient", "ratio", "ingredient", "use", "group", "stock" or "total" (a product's
     sum-to-100 row); `relax_to` is the value this bound alone would have to move to for
     the workbook to become feasible (None where no move of it alone is enough).
-    `text` reads like "Specs!C5  Crude protein  min 24".
+    `text` reads like "Specs!C5  Crude protein  min 24". `fixes_alone` is True when
+    dropping this limit alone makes the whole workbook feasible (every conflicting set
+    contains it).
     """
 
     conflict: int
@@ -286,6 +288,7 @@ class ConflictLine:
     cell: str | None
     relax_to: float | None
     text: str
+    fixes_alone: bool = False
 
 
 @dataclass(frozen=True)

@@ -175,10 +175,13 @@ def _conflicts(formula: Formula) -> list[str]:
     for number, members in sets.items():
         if len(sets) > 1:
             rows.append(f"Conflict {number} of {len(sets)}:")
-        rows.extend([member.text, f"{_ARROW} {_alone(member)}"] for member in members)
+        rows.extend([member.text, f"{_ARROW} {_alone(member)}" + (" *" if member.fixes_alone else "")]
+                    for member in members)
     lines = ["These limits cannot all hold together:", *_aligned(rows)]
     what = "that conflict" if len(sets) > 1 else "the conflict"
     lines.append(f"Dropping or moving any one limit of a conflict resolves {what}.")
+    if any(line.fixes_alone for line in formula.conflicts):
+        lines.append("* dropping this limit alone makes the whole workbook feasible.")
     if not formula.conflicts_complete:
         lines.append("More conflicts may remain after these are fixed: solve again to see them.")
     return lines

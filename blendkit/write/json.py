@@ -183,7 +183,9 @@ def _conflicts(formula: Formula, data: dict[str, Any]) -> dict[str, Any]:
     """`data` with the conflicts and relaxation keys added, for an infeasible formula."""
     if formula.status != "infeasible":
         return data
-    data["conflicts"] = [dict(_member(line), conflict=line.conflict) for line in formula.conflicts]
+    data["conflicts"] = [dict(_member(line), conflict=line.conflict, fixes_alone=bool(line.fixes_alone))
+                         for line in formula.conflicts]
+    data["conflicts_complete"] = bool(formula.conflicts_complete)
     data["relaxation"] = _relaxation(formula)
     return data
 

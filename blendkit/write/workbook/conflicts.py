@@ -34,8 +34,8 @@ from blendkit.write.workbook.cells import (
 
 TITLE = "Conflicts"
 
-# Column widths, in characters: Kind, Name, Product, Side, Bound, Cell, move.
-_WIDTHS = (12, 28, 18, 8, 14, 18, 34)
+# Column widths, in characters: Kind, Name, Product, Side, Bound, Cell, move, fixes all.
+_WIDTHS = (12, 28, 18, 8, 14, 18, 34, 22)
 # Paragraphs span every column.
 _COLUMNS, _WIDTH = len(_WIDTHS), sum(_WIDTHS)
 
@@ -80,6 +80,8 @@ def _write_explanation(sheet: Worksheet, formula: Formula, row: int) -> int:
         ('"Alone it would have to move to": the value that one bound, moved on its own, would '
          "need for the workbook to become feasible (other conflicts set aside); "
          '"no single move" where moving it alone is not enough.'),
+        ('"Dropped alone, fixes all": yes when dropping that one limit makes the whole workbook '
+         "feasible (every conflicting set holds it); conflicts may share limits."),
     ]
     if "use" in kinds:
         explain.append('Kind "use" is a Use = no (a max of 0): its new value is the most of that '
@@ -109,10 +111,11 @@ def _write_conflict_sets(sheet: Worksheet, formula: Formula, row: int) -> int:
         heading = f"Conflict {number_of_set}" + (f" of {len(sets)}" if len(sets) > 1 else "")
         put(sheet, row, 1, heading).font = SECTION
         header(sheet, row + 1, ["Kind", "Name", "Product", "Side", "Bound", "Cell",
-                                "Alone it would have to move to"])
+                                "Alone it would have to move to", "Dropped alone, fixes all"])
         for offset, line in enumerate(members, start=2):
             number_format = _conflict_format(line)
             _write_member(sheet, row + offset, line, number_format)
+            put(sheet, row + offset, 8, "yes" if line.fixes_alone else "no")
             if line.kind == "total":
                 put(sheet, row + offset, 7, "cannot move: inclusions sum to 100 %")
             elif line.relax_to is None:
