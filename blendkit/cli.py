@@ -18,6 +18,7 @@ from blendkit.errors import OutputError, WorkbookError
 from blendkit.authoring.examples import EXAMPLES
 from blendkit.authoring.template import write_new
 from blendkit.pipeline import check_workbook, solve_workbook
+from blendkit.read.package import DEFAULT_MAX_CELLS, DEFAULT_MAX_UNPACKED_MB, ReadLimits
 from blendkit.write.console import render_summary
 from blendkit.write.json import formula_to_dict
 
@@ -26,6 +27,15 @@ EXIT_WORKBOOK = 1
 EXIT_USAGE = 2
 EXIT_NO_BLEND = 3
 EXIT_ENGINE = 4
+# The reader's limits, shared by solve and check.
+MAX_CELLS = typer.Option(
+    DEFAULT_MAX_CELLS, "--max-cells", metavar="N", min=1,
+    help="Refuse a workbook with more than N cells in all its sheets, formatted empty cells included.",
+)
+MAX_UNPACKED_MB = typer.Option(
+    DEFAULT_MAX_UNPACKED_MB, "--max-unpacked-mb", metavar="MB", min=0.001,
+    help="Refuse a workbook whose parts unpack to more than MB megabytes.",
+)
 STATUS_EXIT = {"optimal": EXIT_SOLVED, "infeasible": EXIT_NO_BLEND, "unbounded": EXIT_NO_BLEND}
 
 app = typer.Typer(
@@ -79,10 +89,13 @@ def solve(
     as_json: bool = typer.Option(False, "--json", help="Print one JSON document on stdout instead of the summary."),
     export_mps: Path = typer.Option(None, "--export-mps", metavar="FILE", help="Also write the blend's LP to this MPS file, for re-solving with any LP solver."),
     in_place: bool = typer.Option(False, "--in-place", help="Write the output over BOOK itself (to solve an output workbook again), keeping the previous file as BOOK.backup.xlsx."),
+    max_cells: int = MAX_CELLS,
+    max_unpacked_mb: float = MAX_UNPACKED_MB,
 ) -> None:
     """Find the least-cost blend and write the output workbook."""
+    limits = ReadLimits(max_cells=max_cells, max_unpacked_mb=max_unpacked_mb)
     with _reporting(as_json):
-        outcome = solve_workbook(book, output, mps_file=export_mps, in_place=in_place)
+        outcome = solve_workbook(book, output, mps_file=export_mps, in_place=in_place, limits=limits)
     if as_json:
         typer.echo(json.dumps(formula_to_dict(outcome.formula), indent=2))
     else:
@@ -94,10 +107,12 @@ def solve(
 @app.command()
 def check(
     book: Path = typer.Argument(..., metavar="BOOK", help="The workbook (.xlsx) to validate."),
+    max_cells: int = MAX_CELLS,
+    max_unpacked_mb: float = MAX_UNPACKED_MB,
 ) -> None:
     """Validate a workbook without solving it."""
     with _reporting(False):
-        blend = check_workbook(book)
+        blend = check_workbook(book, limits=ReadLimits(max_cells=max_cells, max_unpacked_mb=max_unpacked_mb))
     typer.echo(
         f"{book.name}: no problems found: {len(blend.ingredients)} ingredients, "
         f"{len(blend.nutrients)} nutrients, {len(blend.specs)} specs."

@@ -20,6 +20,7 @@ from blendkit.engine import solve_form
 from blendkit.errors import OutputError
 from blendkit.model.formula import Formula, Relaxation, RunInfo
 from blendkit.model.blend import Blend
+from blendkit.read.package import ReadLimits
 from blendkit.read.workbook import read_workbook
 from blendkit.write.mps import export_mps
 from blendkit.write.workbook import write_workbook
@@ -35,9 +36,10 @@ class Outcome:
     output: Path
 
 
-def check_workbook(book: str | Path) -> Blend:
-    """Read and validate `book` without solving; raises WorkbookError on any problem."""
-    return read_workbook(book)
+def check_workbook(book: str | Path, *, limits: ReadLimits = ReadLimits()) -> Blend:
+    """Read and validate `book` without solving; raises WorkbookError on any problem
+    (also when the workbook is larger than `limits` allow)."""
+    return read_workbook(book, limits=limits)
 
 
 def formulate(blend: Blend, *, explain: bool = True) -> Formula:
@@ -118,12 +120,14 @@ def solve_workbook(
     *,
     mps_file: str | Path | None = None,
     in_place: bool = False,
+    limits: ReadLimits = ReadLimits(),
 ) -> Outcome:
     """Read `book`, find the least-cost blend and write the output workbook.
 
     With `mps_file`, the blend's LP is also written there as an MPS file. With
     `in_place` (and no `output`), the output replaces `book` itself, after the previous
-    file was kept as `backup_path(book)`.
+    file was kept as `backup_path(book)`. `limits` bound the workbook's cells and
+    unpacked size (see `ReadLimits`).
 
     Raises WorkbookError for problems in the workbook and OutputError when the output
     cannot be written; an infeasible blend is a status of the returned formula, and
@@ -132,7 +136,7 @@ def solve_workbook(
     book = Path(book)
     started = datetime.now(UTC).strftime("%Y-%m-%dT%H:%M:%SZ")
     data = _input_bytes(book)
-    blend = read_workbook(book, data=data)
+    blend = read_workbook(book, data=data, limits=limits)
     target = _target(book, output, in_place)
     check_outputs(book, target if not in_place else backup_path(book), None if mps_file is None else Path(mps_file))
     formula = formulate(blend)

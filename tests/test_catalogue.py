@@ -256,3 +256,103 @@ def test_solving_an_output_again_needs_in_place_and_keeps_a_backup(book, tmp_pat
     names = openpyxl.load_workbook(output).sheetnames
     assert names.count("Result") == 1 and names.count("Run info") == 1
     assert run("solve", output, "--in-place", "-o", tmp_path / "x.xlsx").exit_code == 2
+
+
+# --- 1. resources are bounded --------------------------------------------------------------
+
+
+def _with_far_cell(tmp_path: Path, name: str) -> Path:
+    """A copy of the broiler sample with one formatted, empty cell at A1048576 (the last row
+    a sheet can have) in Ingredients: the used range then spans a million rows."""
+    import openpyxl
+    from openpyxl.styles import Font
+
+    book = openpyxl.load_workbook(BROILER)
+    book["Ingredients"]["A1048576"].font = Font(bold=True)
+    path = tmp_path / name
+    book.save(path)
+    return path
+
+
+def _check_in_child(path: Path, *options) -> subprocess.CompletedProcess:
+    """`blendkit check` in a child process, so a hang ends the test instead of the suite."""
+    return subprocess.run(
+        [sys.executable, "-m", "blendkit", "check", str(path), *options],
+        capture_output=True, text=True, cwd=ROOT, timeout=30,
+    )
+
+
+def test_a_formatted_cell_in_the_last_row_costs_nothing(tmp_path):
+    # Before the reader read only stored cells, this took over 70 s and 4 GB (the reader
+    # walked every position of the used range). The timeout is generous on purpose: the
+    # time is printed, never asserted.
+    import time
+
+    far = _with_far_cell(tmp_path, "far.xlsx")
+    plain = tmp_path / "plain.xlsx"
+    plain.write_bytes(BROILER.read_bytes())
+    started = time.perf_counter()
+    done = _check_in_child(far)
+    print(f"check with a cell at A1048576: {time.perf_counter() - started:.2f} s")
+    assert done.returncode == 0, done.stderr
+    same = _check_in_child(plain)
+    assert done.stdout.replace("far.xlsx", "plain.xlsx") == same.stdout
+
+
+def _big_ingredients(tmp_path: Path, rows: int) -> Path:
+    """A valid workbook whose Ingredients sheet has `rows` ingredients."""
+    ingredients = [INGREDIENTS[0]] + [
+        [f"Feed {k}", 200 + k % 50, None, None, "yes", 10 + k % 7, 12.0, 1.0] for k in range(rows)
+    ]
+    return make_workbook(tmp_path, ingredients, SPECS, name="big.xlsx")
+
+
+def test_too_many_cells_are_refused_with_the_sheet_named(tmp_path):
+    path = _big_ingredients(tmp_path, 300)
+    before = path.read_bytes()
+    checked = run("check", path, "--max-cells", 1000)
+    assert checked.exit_code == 1, checked.output
+    assert "Ingredients: the sheet holds 1,808 cells" in checked.stderr  # 8 headers, 300 rows x 6 filled
+    assert "more than the limit of 1,000; " in checked.stderr and "--max-cells" in checked.stderr
+    solved = run("solve", path, "--json", "--max-cells", 1000)
+    assert solved.exit_code == 1
+    problem = json.loads(solved.stdout)["problems"][0]
+    assert problem["where"] == "Ingredients" and "--max-cells" in problem["message"]
+    assert run("check", path, "--max-cells", 3000).exit_code == 0  # the limit can be raised
+    assert path.read_bytes() == before
+    assert leftovers(tmp_path, {"big.xlsx"}) == set()
+
+
+def test_a_workbook_that_unpacks_too_large_is_refused_with_the_sheet_named(tmp_path):
+    path = _big_ingredients(tmp_path, 2000)  # its Ingredients part unpacks to about 0.2 MB
+    checked = run("check", path, "--max-unpacked-mb", 0.1)
+    assert checked.exit_code == 1, checked.output
+    assert checked.stderr.splitlines()[1].startswith("  Ingredients: the workbook unpacks to 0.")
+    assert "more than the limit of 0.1 MB" in checked.stderr and "--max-unpacked-mb" in checked.stderr
+    solved = run("solve", path, "--json", "--max-unpacked-mb", 0.1)
+    assert solved.exit_code == 1
+    assert json.loads(solved.stdout)["problems"][0]["where"] == "Ingredients"
+    assert leftovers(tmp_path, {"big.xlsx"}) == set()
+
+
+def _rewrite_part(path: Path, part: str, change) -> None:
+    """Rewrite one part of the zip package at `path` with `change(text) -> text`."""
+    import zipfile
+
+    with zipfile.ZipFile(path) as archive:
+        members = {info.filename: archive.read(info) for info in archive.infolist()}
+    members[part] = change(members[part].decode("utf-8")).encode("utf-8")
+    with zipfile.ZipFile(path, "w", zipfile.ZIP_DEFLATED) as archive:
+        for member, data in members.items():
+            archive.writestr(member, data)
+
+
+def test_a_merged_range_over_the_whole_sheet_is_refused_before_it_is_loaded(tmp_path):
+    # openpyxl makes one object per merged cell: a merge over 17 billion cells would never end.
+    path = make_workbook(tmp_path, INGREDIENTS, SPECS, name="merged.xlsx")
+    _rewrite_part(path, "xl/worksheets/sheet1.xml", lambda xml: xml.replace(
+        "</sheetData>", '</sheetData><mergeCells count="1"><mergeCell ref="A20:XFD1048576"/></mergeCells>'
+    ))
+    done = _check_in_child(path)
+    assert done.returncode == 1, done.stderr
+    assert "Ingredients: the sheet holds 17,179,5" in done.stderr

@@ -9,6 +9,8 @@ from __future__ import annotations
 import difflib
 from dataclasses import dataclass, field
 
+from openpyxl.utils import get_column_letter
+
 from blendkit.errors import Problem
 from blendkit.read.cells import Cell, read_cell, unsaved_message
 from blendkit.read.values import as_text, name_key, split_unit
@@ -48,23 +50,24 @@ class Table:
 
 
 def read_table(values_sheet, formulas_sheet, problems: list[Problem]) -> Table | None:
-    """The sheet's table (None if the sheet is empty); header problems go to `problems`."""
-    title = values_sheet.title
-    last_row = max(values_sheet.max_row, formulas_sheet.max_row)
-    last_column = max(values_sheet.max_column, formulas_sheet.max_column)
-    rows = zip(
-        values_sheet.iter_rows(min_row=1, max_row=last_row, max_col=last_column),
-        formulas_sheet.iter_rows(min_row=1, max_row=last_row, max_col=last_column),
-    )
+    """The sheet's table (None if the sheet is empty); header problems go to `problems`.
+
+    Only the cells the sheet stores are read, so a cell formatted far below the table
+    costs nothing: the reader never walks the empty grid up to the last used row.
+    """
+    grid = stored_cells(values_sheet, formulas_sheet)
     table: Table | None = None
-    for value_cells, formula_cells in rows:
-        cells = [read_cell(title, v, f) for v, f in zip(value_cells, formula_cells)]
+    for row_number in sorted(grid):
+        cells = grid[row_number]
         if table is None:
-            if all(cell.kind == "blank" for cell in cells):
+            if all(cell.kind == "blank" for cell in cells.values()):
                 continue
-            table = Table(title, value_cells[0].row, _read_header(cells, problems))
+            table = Table(values_sheet.title, row_number, _read_header(cells, problems))
             continue
-        picked = {column.key: cells[column.index - 1] for column in table.columns}
+        picked = {
+            column.key: cells.get(column.index) or blank_cell(values_sheet.title, row_number, column.index)
+            for column in table.columns
+        }
         if all(cell.kind == "blank" for cell in picked.values()):
             continue
         for cell in picked.values():
@@ -74,11 +77,37 @@ def read_table(values_sheet, formulas_sheet, problems: list[Problem]) -> Table |
     return table
 
 
-def _read_header(cells: list[Cell], problems: list[Problem]) -> list[Column]:
-    """The headed columns of a header row, with problems for bad or repeated headers."""
+def stored_cells(values_sheet, formulas_sheet) -> dict[int, dict[int, Cell]]:
+    """Every cell either load of the sheet stores, by row and column number.
+
+    openpyxl keeps a sheet's stored cells in `_cells`, keyed (row, column); reading that
+    map rather than `iter_rows` avoids making a cell object for every empty position of
+    the used range. A position stored in one load only is read as empty in the other.
+    """
+    title = values_sheet.title
+    grid: dict[int, dict[int, Cell]] = {}
+    for position in values_sheet._cells.keys() | formulas_sheet._cells.keys():
+        row, column = position
+        value_cell = values_sheet._cells.get(position)
+        formula_cell = formulas_sheet._cells.get(position)
+        if value_cell is None or formula_cell is None:
+            value_cell = value_cell or values_sheet.cell(row=row, column=column)
+            formula_cell = formula_cell or formulas_sheet.cell(row=row, column=column)
+        grid.setdefault(row, {})[column] = read_cell(title, value_cell, formula_cell)
+    return grid
+
+
+def blank_cell(title: str, row: int, column: int) -> Cell:
+    """An empty cell at a position the sheet does not store."""
+    return Cell(ref=f"{title}!{get_column_letter(column)}{row}", kind="blank")
+
+
+def _read_header(cells: dict[int, Cell], problems: list[Problem]) -> list[Column]:
+    """The headed columns of a header row (cells by column number), with problems for bad
+    or repeated headers."""
     columns: list[Column] = []
     seen: dict[str, Column] = {}
-    for index, cell in enumerate(cells, start=1):
+    for index, cell in sorted(cells.items()):
         column = _header_column(cell, index, problems)
         if column is None:
             continue
