@@ -356,3 +356,27 @@ def test_a_merged_range_over_the_whole_sheet_is_refused_before_it_is_loaded(tmp_
     done = _check_in_child(path)
     assert done.returncode == 1, done.stderr
     assert "Ingredients: the sheet holds 17,179,5" in done.stderr
+
+
+# --- 2. numbers beyond a named size ----------------------------------------------------------
+
+
+@pytest.mark.parametrize("huge", [1e50, 1e300, -1e13])
+def test_a_huge_content_is_refused_with_its_cell(tmp_path, huge):
+    path = _broiler_with(tmp_path, "G3", huge)  # Wheat's crude protein
+    checked = run("check", path)
+    assert checked.exit_code == 1, checked.output
+    assert f"Ingredients!G3: Crude protein {huge:g} is too large: numbers must lie between -1e+12 and 1e+12" in checked.stderr
+    solved = run("solve", path, "--json")  # solve refuses what check reports
+    assert solved.exit_code == 1
+    assert json.loads(solved.stdout)["problems"][0]["where"] == "Ingredients!G3"
+    assert leftovers(tmp_path, {"broiler.xlsx"}) == set()
+
+
+def test_large_but_real_numbers_are_read(tmp_path):
+    # Vitamin premixes list vitamin A at about 1e9 IU/kg (common practice).
+    from blendkit.read.values import LARGEST_NUMBER
+
+    assert LARGEST_NUMBER == 1e12
+    path = _broiler_with(tmp_path, "G3", 1e9)
+    assert run("check", path).exit_code == 0

@@ -55,7 +55,7 @@ Numbers
     A number cell, or text that is a plain decimal number once trimmed (" 12.5", "-3",
     "1e3"). Anything else is an error worded ``<what> "<value>" is not a number``: words,
     dates, TRUE/FALSE, "nan", "inf", error values such as #DIV/0!, and numbers too large
-    to be finite. A number cell whose number format shows it as a percentage (the format
+    to be finite. A number beyond ±`LARGEST_NUMBER` (1e12, in `values`) is an error too. A number cell whose number format shows it as a percentage (the format
     has a % that is not in quotes, escaped with a backslash or inside [brackets]) is read
     as the percentage shown: 0.05 formatted as 5% reads as 5. This applies to every number
     read (a formula's result too, but never to text), so limits, contents and spec bounds
