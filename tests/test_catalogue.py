@@ -380,3 +380,49 @@ def test_large_but_real_numbers_are_read(tmp_path):
     assert LARGEST_NUMBER == 1e12
     path = _broiler_with(tmp_path, "G3", 1e9)
     assert run("check", path).exit_code == 0
+
+
+_WITH_PHOSPHORUS = [
+    [*INGREDIENTS[0], "Phosphorus (%)", "Dry matter (%)"],
+    *[[*row, None, 88] for row in INGREDIENTS[1:]],
+]
+
+
+def _specs_with(row: list) -> list[list]:
+    """The SPECS sheet with Basis and one more row."""
+    return [[*SPECS[0], "Basis"], *SPECS[1:], row]
+
+
+@pytest.mark.parametrize("phosphorus", [None, 0])
+def test_a_ratio_dividing_by_a_nutrient_no_ingredient_has_is_refused(tmp_path, phosphorus):
+    ingredients = [row[:] for row in _WITH_PHOSPHORUS]
+    for row in ingredients[1:]:
+        row[-2] = phosphorus
+    path = make_workbook(tmp_path, ingredients, _specs_with(["Calcium / Phosphorus", 1.5, None, None]))
+    for args in (("check", path), ("solve", path, "--json")):
+        result = run(*args)
+        assert result.exit_code == 1, result.output
+    assert ('Specs!A5: the ratio "Calcium / Phosphorus" divides by "Phosphorus", which is 0 or blank '
+            "in every ingredient that may be used (Use is not no)") in run("check", path).stderr
+
+
+def test_a_ratio_whose_divisor_only_an_unused_ingredient_has_is_refused(tmp_path):
+    ingredients = [row[:] for row in _WITH_PHOSPHORUS]
+    ingredients[3][-2], ingredients[3][4] = 1.1, "no"  # only Wheat bran has phosphorus, and Use = no
+    path = make_workbook(tmp_path, ingredients, _specs_with(["Calcium / Phosphorus", 1.5, None, None]))
+    assert "Specs!A5: the ratio" in run("check", path).stderr
+    ingredients[3][4] = "yes"
+    path = make_workbook(tmp_path, ingredients, _specs_with(["Calcium / Phosphorus", 1.5, None, None]))
+    assert run("check", path).exit_code == 0
+
+
+def test_a_dry_matter_spec_without_dry_matter_is_refused(tmp_path):
+    ingredients = [[*row[:-1], 0] if k else row for k, row in enumerate(_WITH_PHOSPHORUS)]
+    path = make_workbook(tmp_path, ingredients, _specs_with(["Crude protein", 18, None, "dry matter"]))
+    checked = run("check", path)
+    assert checked.exit_code == 1
+    assert ('Specs!D5: a dry-matter spec divides by the blend\'s dry matter, and "Dry matter" is 0 '
+            "or blank in every ingredient that may be used") in checked.stderr
+    solved = run("solve", path, "--json")
+    assert solved.exit_code == 1
+    assert json.loads(solved.stdout)["problems"][0]["where"] == "Specs!D5"

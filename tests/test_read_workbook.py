@@ -626,6 +626,7 @@ RATIO_INGREDIENTS = [
     ["Ingredient", "Cost", "Calcium (%)", "Phosphorus (%)", "Ca/P", "Energy (MJ/kg)"],
     ["Limestone", 48, 37.5, 0.02, 1875, 0],
     ["Monocalcium phosphate", 610, 16, 21, 0.76, 0],
+    ["Wheat", 190, 0.05, 0.3, 0.17, 12.8],  # some energy: a ratio by Energy must be able to have a value
 ]
 
 

@@ -29,7 +29,9 @@ notes).
                 dry-matter specs cannot be soft.
 ``Priority``    optional, 1 to 9: when limits conflict, those with a lower priority
                 give way first (also on Groups and Limits; defaults by kind).
-The same nutrient (or ratio) with the same basis and product at most once.
+The same nutrient (or ratio) with the same basis and product at most once. A ratio whose
+divisor, or a dry-matter spec whose dry matter, is 0 in every ingredient that may be used is
+an error (see `blendkit.read.undefined_specs`).
 """
 
 from __future__ import annotations

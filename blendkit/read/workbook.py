@@ -39,6 +39,7 @@ from blendkit.read.reading import Reading
 from blendkit.read.settings import SETTINGS, read_settings_sheet
 from blendkit.read.specs import SPECS, read_specs_sheet
 from blendkit.read.tables import read_table
+from blendkit.read.undefined_specs import check_undefined_specs
 from blendkit.read.values import name_key
 
 # Every sheet the reader knows, in the order its problems are listed.
@@ -53,6 +54,7 @@ READERS = (
     read_specs_sheet,  # refers to the nutrient columns, the dry-matter column and the products
     read_groups_sheet,  # refers to the ingredients and the products
     read_limits_sheet,  # refers to the ingredients and the products
+    check_undefined_specs,  # needs the ingredients' contents and the specs
 )
 
 # The first bytes of an old binary Excel file, which is also how password-protected
