@@ -117,6 +117,8 @@ def check(
         f"{book.name}: no problems found: {len(blend.ingredients)} ingredients, "
         f"{len(blend.nutrients)} nutrients, {len(blend.specs)} specs."
     )
+    for note in blend.notes:
+        typer.echo(f"  {note}")
     for item in blend.ingredients:
         if item.use and item.blanks:
             typer.echo(f"  {item.name}: {len(item.blanks)} blank nutrient cells counted as 0 ({', '.join(item.blanks)})")

@@ -312,7 +312,8 @@ def test_too_many_cells_are_refused_with_the_sheet_named(tmp_path):
     before = path.read_bytes()
     checked = run("check", path, "--max-cells", 1000)
     assert checked.exit_code == 1, checked.output
-    assert "Ingredients: the sheet holds 1,808 cells" in checked.stderr  # 8 headers, 300 rows x 6 filled
+    # 8 headers, 300 rows x 6 filled cells, and 301 row elements
+    assert "Ingredients: the sheet holds 2,109 cells" in checked.stderr
     assert "more than the limit of 1,000; " in checked.stderr and "--max-cells" in checked.stderr
     solved = run("solve", path, "--json", "--max-cells", 1000)
     assert solved.exit_code == 1
@@ -426,3 +427,163 @@ def test_a_dry_matter_spec_without_dry_matter_is_refused(tmp_path):
     solved = run("solve", path, "--json")
     assert solved.exit_code == 1
     assert json.loads(solved.stdout)["problems"][0]["where"] == "Specs!D5"
+
+
+# --- 4. nothing dropped silently --------------------------------------------------------------
+
+
+def _sheet_texts(path: Path, title: str) -> list[str]:
+    """Every text cell of one sheet of the workbook at `path`."""
+    import openpyxl
+
+    sheet = openpyxl.load_workbook(path)[title]
+    return [cell.value for row in sheet.iter_rows() for cell in row if isinstance(cell.value, str)]
+
+
+def test_the_output_sheet_titles_are_the_writers(tmp_path):
+    from blendkit.model.blend import OUTPUT_SHEET_TITLES
+    from blendkit.write.workbook.book import OUTPUT_SHEETS
+
+    assert set(OUTPUT_SHEET_TITLES) == set(OUTPUT_SHEETS)
+
+
+def test_a_users_own_result_sheet_is_kept_renamed_with_a_note(tmp_path):
+    import openpyxl
+
+    path = make_workbook(tmp_path, INGREDIENTS, SPECS, sheets={"Result": [["my own notes", 42]]}, name="f.xlsx")
+    before = path.read_bytes()
+    note = ('the sheet "Result" was not written by blendkit, whose output has a sheet of that name: '
+            'the output workbook keeps it as "Result (input)"')
+    checked = run("check", path)
+    assert checked.exit_code == 0 and f"  {note}" in checked.stdout
+    out = tmp_path / "out.xlsx"
+    solved = run("solve", path, "-o", out, "--json")
+    assert solved.exit_code == 0, solved.output
+    assert note in json.loads(solved.stdout)["notes"]
+    assert note in run("solve", path, "-o", tmp_path / "again.xlsx").stdout  # the console too
+    written = openpyxl.load_workbook(out)
+    assert written["Result (input)"]["A1"].value == "my own notes"
+    assert written["Result (input)"]["B1"].value == 42
+    assert note in _sheet_texts(out, "Result")
+    assert path.read_bytes() == before
+    # Solved again, the output's own sheets are replaced and the user's kept sheet stays as it is.
+    again = run("solve", out, "--in-place", "--json")
+    assert again.exit_code == 0, again.output
+    assert not any("was not written by blendkit" in n for n in json.loads(again.stdout)["notes"])
+    names = openpyxl.load_workbook(out).sheetnames
+    assert names.count("Result") == 1 and names.count("Result (input)") == 1 and len(names) == 6
+
+
+def test_every_output_sheet_name_of_the_users_is_kept(tmp_path):
+    import openpyxl
+
+    sheets = {title: [[f"mine: {title}"]] for title in ("RESULT", "Shadow prices", "Run info", "conflicts",
+                                                        "Run info (input)")}
+    path = make_workbook(tmp_path, INGREDIENTS, SPECS, sheets=sheets, name="f.xlsx")
+    out = tmp_path / "out.xlsx"
+    assert run("solve", path, "-o", out).exit_code == 0
+    written = openpyxl.load_workbook(out)
+    kept = {"RESULT (input)": "RESULT", "Shadow prices (input)": "Shadow prices",
+            "Run info (input 2)": "Run info", "conflicts (input)": "conflicts",
+            "Run info (input)": "Run info (input)"}
+    for title, was in kept.items():
+        assert written[title]["A1"].value == f"mine: {was}"
+    assert {"Result", "Shadow prices", "Run info"} <= set(written.sheetnames)
+    assert "Conflicts" not in written.sheetnames  # feasible: blendkit writes no Conflicts sheet
+    assert json.loads(written.custom_doc_props["blendkit output sheets"].value) == [
+        "Result", "Shadow prices", "Run info"
+    ]
+
+
+def test_a_kept_title_fits_in_31_characters():
+    from blendkit.model.blend import kept_sheet_titles
+
+    assert kept_sheet_titles(["Shadow prices", "Shadow prices (input)"], frozenset()) == {
+        "Shadow prices": "Shadow prices (input 2)"
+    }
+    assert kept_sheet_titles(["Result"], frozenset({"result"})) == {"Result": None}
+    assert all(len(t) <= 31 for t in kept_sheet_titles(["Run info"], frozenset()).values())
+
+
+def _edited(path: Path, change) -> Path:
+    """The workbook at `path` after `change(workbook)`, saved in place (a fixture, not an input
+    under test)."""
+    import openpyxl
+
+    book = openpyxl.load_workbook(path)
+    change(book)
+    book.save(path)
+    return path
+
+
+def test_numbers_under_a_blank_header_in_ingredients_are_a_problem(tmp_path):
+    ingredients = [row + [None, None] for row in INGREDIENTS]
+    ingredients[2][9] = 0.4  # column J: numbers with no header, after a blank column I
+    ingredients[4][9] = 0.1
+    path = make_workbook(tmp_path, ingredients, SPECS)
+    checked = run("check", path)
+    assert checked.exit_code == 1
+    assert ("Ingredients!J1: column J has no header, but holds numbers (Ingredients!J3 and 1 more below), "
+            'which are not read; type the nutrient\'s name and unit in J1, as in "Crude protein (%)", '
+            "or clear the column") in checked.stderr
+    assert run("solve", path, "--json").exit_code == 1
+
+
+def test_numbers_under_a_merged_header_are_a_problem(tmp_path):
+    ingredients = [row + [None] for row in INGREDIENTS]
+    ingredients[0][7:9] = ["Minerals (%)", None]
+    for row in ingredients[1:]:
+        row[7:9] = [0.3, 0.2]
+    path = _edited(make_workbook(tmp_path, ingredients, SPECS), lambda b: b["Ingredients"].merge_cells("H1:I1"))
+    checked = run("check", path)
+    assert checked.exit_code == 1
+    assert ("Ingredients!I1: I1 is covered by the merged cells H1:I1, so column I has no header of its "
+            "own, but holds numbers (Ingredients!I2 and 3 more below), which are not read; unmerge the "
+            "header cells and give each column its own header, or clear the column") in checked.stderr
+
+
+def test_merged_content_cells_are_a_problem(tmp_path):
+    path = _edited(make_workbook(tmp_path, INGREDIENTS, SPECS), lambda b: b["Ingredients"].merge_cells("H2:H3"))
+    checked = run("check", path)
+    assert checked.exit_code == 1
+    assert ("Ingredients!H2: the cells H2:H3 are merged, so only H2 holds a value and the others read as "
+            "blank (a content as 0); unmerge them and type the value in each row") in checked.stderr
+
+
+def test_text_under_a_blank_header_and_notes_on_other_sheets_are_noted(tmp_path):
+    ingredients = [row + [None, None] for row in INGREDIENTS]
+    ingredients[3][9] = "bought in March"
+    specs = [row + [None] for row in SPECS]
+    specs[2][3] = "from the feed table"
+    path = _edited(make_workbook(tmp_path, ingredients, specs), lambda b: b["Specs"].merge_cells("D3:D4"))
+    notes = [
+        "Ingredients: column J has no header, so its cell is not read (Ingredients!J4)",
+        "Specs: column D has no header, so its cell is not read (Specs!D3)",
+    ]
+    checked = run("check", path)
+    assert checked.exit_code == 0, checked.output
+    for note in notes:
+        assert f"  {note}\n" in checked.stdout
+    assert "D3:D4 are merged" not in checked.stdout  # a merge under no header blanks nothing read
+    solved = run("solve", path, "-o", tmp_path / "out.xlsx", "--json")
+    assert set(notes) <= set(json.loads(solved.stdout)["notes"])
+
+
+def test_hidden_rows_columns_and_sheets_are_read_and_noted(tmp_path):
+    def hide(book):
+        sheet = book["Ingredients"]
+        for row in (3, 4):
+            sheet.row_dimensions[row].hidden = True
+        sheet.column_dimensions["F"].hidden = True
+        book["Specs"].sheet_state = "hidden"
+
+    path = _edited(make_workbook(tmp_path, INGREDIENTS, SPECS), hide)
+    solved = run("solve", path, "-o", tmp_path / "out.xlsx", "--json")
+    assert solved.exit_code == 0, solved.output
+    doc = json.loads(solved.stdout)
+    assert doc["ingredients"]["Soybean meal"] > 0  # row 3, hidden, is read
+    assert {
+        "Ingredients: rows 3–4 are hidden; blendkit reads them like the others",
+        "Ingredients: column F is hidden; blendkit reads it like the others",
+        'the sheet "Specs" is hidden; blendkit reads it like the others',
+    } <= set(doc["notes"])

@@ -189,7 +189,7 @@ def analyse(blend: Blend, lp: BlendLP, result: LPResult) -> Formula:
     stocks, stock_limits = _stocks(solution)
     every_limit = [limit for product in products for limit in product.limits] + stock_limits
     used = (solution.x > 0).any(axis=0)
-    notes = _violation_notes(every_limit) + lp.notes + _blank_notes(blend, used)
+    notes = _violation_notes(every_limit) + blend.notes + lp.notes + _blank_notes(blend, used)
     if lp.multi:
         total = float(sum(lp.cost_units[p] * product.cost for p, product in enumerate(products)))
         return Formula(
@@ -230,7 +230,7 @@ def _unsolved(blend: Blend, lp: BlendLP, result: LPResult) -> Formula:
         nutrients=(),
         limits=(),
         iterations=result.iterations,
-        notes=lp.notes + _blank_notes(blend, None),
+        notes=blend.notes + lp.notes + _blank_notes(blend, None),
     )
 
 

@@ -12,7 +12,9 @@ The workbook format
 Files
     An Office Open XML workbook: .xlsx (also .xlsm, .xltx, .xltm). Old binary .xls files,
     password-protected workbooks, CSV and other files are refused with a problem whose
-    place is the file name.
+    place is the file name. Before anything is parsed, the file's unpacked size and cell
+    count are checked against `ReadLimits` (see `package`); a workbook over them is
+    refused with a problem on its largest sheet.
 
 Sheets
     Found by name, ignoring case and surrounding spaces: ``Ingredients`` (required),
@@ -25,7 +27,9 @@ Tables
     In each sheet the header row is the first row with any non-empty cell; the table
     may start in any column. The rows below it are data rows; rows that are blank in every
     headed column are skipped (a cell holding only spaces is blank). Columns with an empty
-    header are ignored, and so are the cells under them. A required sheet with no header
+    header are not read; data under them is pointed out (see `layout`: numbers in
+    Ingredients are a problem, anything else a note), and so are merged cells over data
+    rows and hidden rows, columns and sheets. Only the cells a sheet stores are read. A required sheet with no header
     row is reported as empty. A missing required column is reported on the header row
     (``Specs!1:1``); when the column that names the rows (Ingredient, Nutrient, Group,
     Product, Setting; Product and Ingredient on Limits) or Settings' Value column is
@@ -36,7 +40,9 @@ Headers
     without a trailing unit in parentheses: ``Cost (EUR/t)`` is the Cost column and
     ``Crude protein (%)`` is the nutrient "Crude protein" with unit "%". Only the last
     parenthesised part is a unit, so ``Lysine (digestible) (%)`` is the nutrient
-    "Lysine (digestible)". Two headers that are the same after this are an error, reported
+    "Lysine (digestible)". A name that refers to a column (Specs, the Dry matter setting)
+    is first compared whole, then less a trailing "(unit)": ``Lysine (digestible)`` names
+    that column. Two headers that are the same after this are an error, reported
     on the second.
 
 Names

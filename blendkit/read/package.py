@@ -7,8 +7,9 @@ anything:
 
 * the unpacked size: the sum of the parts' sizes as the archive records them (unpacking
   never yields more than the recorded size, so this bounds the work);
-* the number of cells: each worksheet part is scanned for cell elements, and a merged
-  range counts every cell it covers, because openpyxl makes a cell object for each.
+* the number of cells: each part is scanned for cell elements (row and column formats
+  count as cells too), and a merged range counts every cell it covers, because openpyxl
+  makes an object for each.
 
 Both limits are in `ReadLimits`; a user may raise them (``--max-cells``,
 ``--max-unpacked-mb``). The defaults fit any real formulation with a wide margin.
@@ -35,8 +36,9 @@ DEFAULT_MAX_UNPACKED_MB = 500.0
 
 _MB = 1_000_000
 
-# A cell element, with or without a namespace prefix: "<c r=...", "<x:c>", "<c/>".
-_CELL = re.compile(rb"<(?:[A-Za-z_][\w.-]{0,31}:)?c[\s/>]")
+# A cell, row or column element, with or without a namespace prefix: "<c r=...", "<x:c>",
+# "<row r=...>", "<col min=...>". openpyxl makes an object for each, so each counts.
+_CELL = re.compile(rb"<(?:[A-Za-z_][\w.-]{0,31}:)?(?:c|row|col)[\s/>]")
 # A merged range, as a worksheet stores it: <mergeCell ref="B2:D4"/>.
 _MERGE = re.compile(
     rb"<(?:[A-Za-z_][\w.-]{0,31}:)?mergeCell\s[^>]{0,200}?ref=[\"']"
@@ -81,8 +83,8 @@ def check_package(archive: zipfile.ZipFile, limits: ReadLimits, file_name: str) 
     where = sheets.get(biggest, file_name)
     holder = "the sheet holds" if biggest in sheets else f"the part {biggest} holds"
     return [Problem(where, (
-        f"{holder} {counts[biggest]:,} cells (the workbook {total:,} in all, counting "
-        f"formatted empty cells and merged ranges), more than the limit of {limits.max_cells:,}; "
+        f"{holder} {counts[biggest]:,} cells (the workbook {total:,} in all, counting formatted "
+        f"empty cells, rows and columns, and merged ranges), more than the limit of {limits.max_cells:,}; "
         "delete the unused rows and columns beyond the tables (cells formatted far below or to "
         "the right count too) and save the workbook again, or raise the limit with --max-cells"
     ))]
@@ -113,8 +115,8 @@ def _megabytes(size: int) -> str:
 
 
 def _count_cells(archive: zipfile.ZipFile, info: zipfile.ZipInfo) -> int:
-    """The cells openpyxl would make for one part: its cell elements plus the cells its
-    merged ranges cover (a merged range's first cell is usually stored too)."""
+    """The cells openpyxl would make for one part: its cell, row and column elements plus
+    the cells its merged ranges cover (a merged range's first cell is usually stored too)."""
     count = 0
     carry = b""
     with archive.open(info) as stream:

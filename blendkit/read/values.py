@@ -92,6 +92,11 @@ def read_number(cell: Cell | None, what: str, problems: list[Problem]) -> float 
     return number
 
 
+def is_number_cell(cell: Cell) -> bool:
+    """True when the cell holds a number, or text that reads as one."""
+    return cell.kind == "value" and _as_number(cell.value) is not None
+
+
 def _as_number(value: object) -> float | None:
     """A number cell's value, or text that is a plain decimal number, as a float; else None."""
     if isinstance(value, (int, float)) and not isinstance(value, bool):

@@ -28,10 +28,11 @@ import openpyxl
 from openpyxl.utils import column_index_from_string
 
 from blendkit.errors import Problem, WorkbookError
-from blendkit.model.blend import Blend
+from blendkit.model.blend import OUTPUT_SHEETS_PROPERTY, Blend, kept_sheet_titles, written_sheets
 from blendkit.read.dry_matter import find_dry_matter_column
 from blendkit.read.groups import GROUPS, read_groups_sheet
 from blendkit.read.ingredients import INGREDIENTS, read_ingredients_sheet
+from blendkit.read.layout import check_layout
 from blendkit.read.limits import LIMITS, read_limits_sheet
 from blendkit.read.package import ReadLimits, check_package, open_archive
 from blendkit.read.products import PRODUCTS, read_products_sheet
@@ -47,6 +48,7 @@ SHEETS = (INGREDIENTS, SPECS, GROUPS, PRODUCTS, LIMITS, SETTINGS)
 
 # The readers, in the order they run: each after the sheets it refers to.
 READERS = (
+    check_layout,  # hidden and merged parts, data under blank headers: on the tables alone
     read_settings_sheet,  # first: the mode and the units say how the other sheets read
     read_ingredients_sheet,
     find_dry_matter_column,  # the Dry matter setting's column among the nutrient columns
@@ -78,6 +80,7 @@ def read_workbook(path: str | Path, *, data: bytes | None = None, limits: ReadLi
     values_book, formulas_book = _load(path, data, limits)
     sheets, file_problems = _find_sheets(path, values_book, formulas_book)
     reading = _start_reading(sheets)
+    reading.notes.extend(_kept_sheet_notes(values_book))
     for read_sheet in READERS:
         read_sheet(reading)
     found = file_problems + [
@@ -112,7 +115,28 @@ def _blend(path: Path, reading: Reading) -> Blend:
         groups=tuple(reading.groups),
         products=tuple(reading.products),
         limits=tuple(reading.limits),
+        notes=tuple(reading.notes),
     )
+
+
+def _kept_sheet_notes(values_book: openpyxl.Workbook) -> list[str]:
+    """A note for each sheet of the user's that bears an output sheet's name: the output
+    keeps it under a new title (see `blendkit.model.blend.kept_sheet_titles`)."""
+    written = written_sheets(_custom_property(values_book, OUTPUT_SHEETS_PROPERTY))
+    return [
+        f'the sheet "{title}" was not written by blendkit, whose output has a sheet of that name: '
+        f'the output workbook keeps it as "{kept}"'
+        for title, kept in kept_sheet_titles(values_book.sheetnames, written).items()
+        if kept is not None
+    ]
+
+
+def _custom_property(book: openpyxl.Workbook, name: str) -> object:
+    """The value of the workbook's custom document property `name`, or None."""
+    for prop in book.custom_doc_props:
+        if prop.name == name:
+            return prop.value
+    return None
 
 
 def _reading_order(problem: Problem) -> tuple[int, int]:
