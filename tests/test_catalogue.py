@@ -16,6 +16,8 @@ import sys
 from pathlib import Path
 
 import pytest
+from hypothesis import HealthCheck, given, settings
+from hypothesis import strategies as st
 from typer.testing import CliRunner
 
 from blendkit.cli import app
@@ -297,6 +299,28 @@ def test_a_formatted_cell_in_the_last_row_costs_nothing(tmp_path):
     assert done.returncode == 0, done.stderr
     same = _check_in_child(plain)
     assert done.stdout.replace("far.xlsx", "plain.xlsx") == same.stdout
+
+
+def test_a_formatted_cell_far_away_on_another_sheet_does_not_slow_the_solve(tmp_path):
+    # The writer copies every sheet; it too must read only the cells a sheet stores (before,
+    # one cell at XFD1048576 on another sheet ran out of memory). Printed, never asserted.
+    import time
+
+    import openpyxl
+    from openpyxl.styles import Font
+
+    book = openpyxl.load_workbook(BROILER)
+    book.create_sheet("Price history")["XFD1048576"].font = Font(italic=True)
+    path = tmp_path / "far.xlsx"
+    book.save(path)
+    started = time.perf_counter()
+    done = subprocess.run(
+        [sys.executable, "-m", "blendkit", "solve", str(path), "--json"],
+        capture_output=True, text=True, cwd=ROOT, timeout=60,
+    )
+    print(f"solve with a cell at XFD1048576 on another sheet: {time.perf_counter() - started:.2f} s")
+    assert done.returncode == 0, done.stderr
+    assert openpyxl.load_workbook(tmp_path / "far.result.xlsx")["Price history"]["XFD1048576"].font.i
 
 
 def _big_ingredients(tmp_path: Path, rows: int) -> Path:
@@ -587,3 +611,105 @@ def test_hidden_rows_columns_and_sheets_are_read_and_noted(tmp_path):
         "Ingredients: column F is hidden; blendkit reads it like the others",
         'the sheet "Specs" is hidden; blendkit reads it like the others',
     } <= set(doc["notes"])
+
+
+# --- 5. corrupted files -------------------------------------------------------------------------
+
+SAMPLES = sorted((ROOT / "sample_workbooks").glob("*.xlsx"))
+
+# Junk to put in place of a part of the package: not XML, broken XML, XML of the wrong kind,
+# an entity bomb (refused by defusedxml), a cell far away, an empty part.
+_JUNK_PARTS = [
+    b"\x00\xff junk \x89PNG",
+    b'<?xml version="1.0"?><worksheet><sheetData><row r="1"><c r="A1"',
+    b'<?xml version="1.0"?><html><body>not a sheet</body></html>',
+    b'<?xml version="1.0"?><!DOCTYPE x [<!ENTITY a "aaaaaaaaaa"><!ENTITY b "&a;&a;&a;&a;&a;&a;">]><x>&b;</x>',
+    b'<worksheet xmlns="http://schemas.openxmlformats.org/spreadsheetml/2006/main"><sheetData>'
+    b'<row r="1048576"><c r="XFD1048576" t="n"><v>1e400</v></c></row></sheetData></worksheet>',
+    b"",
+]
+
+
+def _corrupt_member(data: bytes, draw) -> bytes:
+    """The package with one part replaced by junk, cut short, or with a few bytes changed."""
+    import io
+    import zipfile
+
+    with zipfile.ZipFile(io.BytesIO(data)) as archive:
+        members = [(info.filename, archive.read(info)) for info in archive.infolist()]
+    index = draw(st.integers(0, len(members) - 1))
+    name, content = members[index]
+    how = draw(st.sampled_from(["junk", "cut", "flip"]))
+    if how == "junk":
+        content = draw(st.sampled_from(_JUNK_PARTS))
+    elif how == "cut" or not content:
+        content = content[: draw(st.integers(0, len(content)))]
+    else:  # a few bytes of the XML itself changed: a valid archive of damaged parts
+        content = bytearray(content)
+        for _ in range(draw(st.integers(1, 4))):
+            content[draw(st.integers(0, len(content) - 1))] = draw(st.sampled_from(b'<>"/=x9 .-\x00'))
+        content = bytes(content)
+    members[index] = (name, content)
+    out = io.BytesIO()
+    with zipfile.ZipFile(out, "w", zipfile.ZIP_DEFLATED) as archive:
+        for member, body in members:
+            archive.writestr(member, body)
+    return out.getvalue()
+
+
+def _corrupt_bytes(data: bytes, draw) -> bytes:
+    """The file with bytes flipped, cut off or inserted."""
+    data = bytearray(data)
+    kind = draw(st.sampled_from(["flip", "truncate", "insert"]))
+    if kind == "truncate":
+        return bytes(data[: draw(st.integers(0, len(data) - 1))])
+    if kind == "insert":
+        at = draw(st.integers(0, len(data)))
+        return bytes(data[:at] + draw(st.binary(min_size=1, max_size=64)) + data[at:])
+    for _ in range(draw(st.integers(1, 8))):
+        at = draw(st.integers(0, len(data) - 1))
+        data[at] ^= draw(st.integers(1, 255))
+    return bytes(data)
+
+
+@st.composite
+def corrupted_workbooks(draw):
+    """A sample workbook's bytes, corrupted as a whole file or in one zip member."""
+    data = draw(st.sampled_from(SAMPLES)).read_bytes()
+    if draw(st.booleans()):
+        return _corrupt_member(data, draw)
+    return _corrupt_bytes(data, draw)
+
+
+def _check_corrupted_run(folder: Path, data: bytes) -> None:
+    """`check` and `solve --json` on one corrupted workbook end as the catalogue requires."""
+    path = folder / "damaged.xlsx"
+    path.write_bytes(data)
+    checked = run("check", path)
+    assert checked.exception is None or isinstance(checked.exception, SystemExit), repr(checked.exception)
+    assert checked.exit_code in (0, 1), checked.output
+    assert (checked.stdout if checked.exit_code == 0 else checked.stderr).strip()
+    assert leftovers(folder, {"damaged.xlsx"}) == set()
+    solved = run("solve", path, "--json")
+    assert solved.exception is None or isinstance(solved.exception, SystemExit), repr(solved.exception)
+    assert solved.exit_code in (0, 1, 3, 4), solved.output
+    assert "Traceback" not in solved.output + checked.output
+    doc = json.loads(solved.stdout)
+    assert solved.exit_code == {"optimal": 0, "workbook_error": 1, "infeasible": 3, "unbounded": 3}.get(doc["status"], 4)
+    assert (solved.exit_code == 1) == (checked.exit_code == 1)  # solve refuses what check reports
+    written = {"damaged.result.xlsx"} if solved.exit_code != 1 else set()
+    assert leftovers(folder, {"damaged.xlsx"}) == written  # no temporary file, no output from a failure
+    assert path.read_bytes() == data
+
+
+@settings(max_examples=150, deadline=None, suppress_health_check=[HealthCheck.too_slow, HealthCheck.function_scoped_fixture])
+@given(corrupted_workbooks())
+def test_a_corrupted_workbook_gets_a_message_and_an_exit_code(tmp_path_factory, data):
+    _check_corrupted_run(tmp_path_factory.mktemp("damaged"), data)
+
+
+@pytest.mark.long
+@settings(max_examples=2000, deadline=None, suppress_health_check=[HealthCheck.too_slow, HealthCheck.function_scoped_fixture])
+@given(corrupted_workbooks())
+def test_many_corrupted_workbooks_get_a_message_and_an_exit_code(tmp_path_factory, data):
+    _check_corrupted_run(tmp_path_factory.mktemp("damaged"), data)
