@@ -26,12 +26,12 @@ Sheets
 Tables
     In each sheet the header row is the first row with any non-empty cell; the table
     may start in any column. The rows below it are data rows; rows that are blank in every
-    headed column are skipped (a cell holding only spaces is blank). Columns with an empty
-    header are not read; data under them is pointed out (see `layout`: numbers in
-    Ingredients are a problem, anything else a note), and so are merged cells over data
-    rows and hidden rows, columns and sheets. Only the cells a sheet stores are read. A required sheet with no header
-    row is reported as empty. A missing required column is reported on the header row
-    (``Specs!1:1``); when the column that names the rows (Ingredient, Nutrient, Group,
+    headed column are skipped (a cell holding only spaces is blank). Only the cells a
+    sheet stores are read. Columns with an empty header are not read; data under them is
+    pointed out (see `layout`: numbers in Ingredients are a problem, anything else a
+    note), and so are merged cells over data rows and hidden rows, columns and sheets.
+    A required sheet with no header row is reported as empty. A missing required column
+    is reported on the header row (``Specs!1:1``); when the column that names the rows (Ingredient, Nutrient, Group,
     Product, Setting; Product and Ingredient on Limits) or Settings' Value column is
     missing, that sheet's rows are not checked further.
 
