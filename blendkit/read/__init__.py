@@ -31,9 +31,9 @@ Tables
     pointed out (see `layout`: numbers in Ingredients are a problem, anything else a
     note), and so are merged cells over data rows and hidden rows, columns and sheets.
     A required sheet with no header row is reported as empty. A missing required column
-    is reported on the header row (``Specs!1:1``); when the column that names the rows (Ingredient, Nutrient, Group,
-    Product, Setting; Product and Ingredient on Limits) or Settings' Value column is
-    missing, that sheet's rows are not checked further.
+    is reported on the header row (``Specs!1:1``); when the column that names the rows
+    (Ingredient, Nutrient, Group, Product, Setting; Product and Ingredient on Limits) or
+    Settings' Value column is missing, that sheet's rows are not checked further.
 
 Headers
     Compared without regard to case, surrounding spaces or runs of inner spaces, and
