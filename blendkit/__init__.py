@@ -29,6 +29,7 @@ _EXPORTS = {
     "read_workbook": "blendkit.read",
     "check_workbook": "blendkit.pipeline",
     "formulate": "blendkit.pipeline",
+    "formulate_many": "blendkit.pipeline",
     "solve_workbook": "blendkit.pipeline",
     "export_mps": "blendkit.write.mps",
 }

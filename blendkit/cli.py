@@ -14,13 +14,12 @@ from pathlib import Path
 import typer
 
 from blendkit import __version__
+from blendkit.authoring import EXAMPLE_NAMES
 from blendkit.errors import OutputError, WorkbookError
-from blendkit.authoring.examples import EXAMPLES
-from blendkit.authoring.template import write_new
-from blendkit.pipeline import check_workbook, solve_workbook
 from blendkit.read.package import DEFAULT_MAX_CELLS, DEFAULT_MAX_UNPACKED_MB, ReadLimits
-from blendkit.write.console import render_summary
-from blendkit.write.json import formula_to_dict
+
+# Each command imports the library it needs when it runs, so that `blendkit --help` and
+# start-up stay fast (numpy, scipy and openpyxl are loaded only to do work).
 
 EXIT_SOLVED = 0
 EXIT_WORKBOOK = 1
@@ -82,26 +81,64 @@ def _reporting(as_json: bool):
         raise typer.Exit(EXIT_USAGE) from None
 
 
+def _earlier_output(path: Path | None) -> Path | None:
+    """Refuse a --compare file that is missing or not an output workbook (exit 2)."""
+    if path is not None:
+        from blendkit.compare import check_earlier_output
+
+        try:
+            check_earlier_output(path)
+        except OutputError as error:
+            raise typer.BadParameter(str(error)) from None
+    return path
+
+
 @app.command()
 def solve(
-    book: Path = typer.Argument(..., metavar="BOOK", help="The input workbook (.xlsx); it is never modified (unless --in-place)."),
-    output: Path = typer.Option(None, "-o", "--output", metavar="OUT", help="Where to write the output workbook (default: BOOK.result.xlsx beside the input)."),
+    books: list[Path] = typer.Argument(..., metavar="BOOK...", help="The input workbooks (.xlsx); they are never modified (unless --in-place)."),
+    output: Path = typer.Option(None, "-o", "--output", metavar="OUT", help="Where to write the output workbook, with one BOOK (default: BOOK.result.xlsx beside each input)."),
     as_json: bool = typer.Option(False, "--json", help="Print one JSON document on stdout instead of the summary."),
-    export_mps: Path = typer.Option(None, "--export-mps", metavar="FILE", help="Also write the blend's LP to this MPS file, for re-solving with any LP solver."),
+    export_mps: Path = typer.Option(None, "--export-mps", metavar="FILE", help="Also write the blend's LP to this MPS file, for re-solving with any LP solver (one BOOK)."),
     in_place: bool = typer.Option(False, "--in-place", help="Write the output over BOOK itself (to solve an output workbook again), keeping the previous file as BOOK.backup.xlsx."),
+    compare: Path = typer.Option(None, "--compare", metavar="OLD", callback=_earlier_output, help="Show what changed since the earlier output workbook OLD (default: the output being replaced, when it holds a result of the same workbook)."),
+    prices: Path = typer.Option(None, "--prices", metavar="PRICES", help="A workbook whose Ingredients sheet (Ingredient, Cost, nutrients, Stock) replaces those values in every BOOK before solving."),
+    overview: Path = typer.Option(None, "--overview", metavar="FILE", help="Also write one workbook summarising every book and formula of the run."),
+    jobs: int = typer.Option(None, "--jobs", min=1, metavar="N", help="Solve in N worker processes (default: one per CPU); the results are the same for any N."),
+    cross_check: bool = typer.Option(True, "--cross-check/--no-cross-check", help="Re-solve every LP with HiGHS (through scipy) and record the difference (default: on)."),
     max_cells: int = MAX_CELLS,
     max_unpacked_mb: float = MAX_UNPACKED_MB,
 ) -> None:
-    """Find the least-cost blend and write the output workbook."""
-    limits = ReadLimits(max_cells=max_cells, max_unpacked_mb=max_unpacked_mb)
+    """Find the least-cost formulas of one or more workbooks and write an output beside each."""
+    from blendkit.run import solve_run
+    from blendkit.write.books import books_to_dict, books_to_text
+    from blendkit.write.console import render_summary
+    from blendkit.write.json import formula_to_dict
+    from blendkit.write.progress import progress_bar
+
     with _reporting(as_json):
-        outcome = solve_workbook(book, output, mps_file=export_mps, in_place=in_place, limits=limits)
+        results = solve_run(books, output=output, mps_file=export_mps, in_place=in_place, compare=compare,
+                            prices=prices, overview=overview, jobs=jobs, progress=progress_bar(as_json),
+                            check=cross_check,
+                            limits=ReadLimits(max_cells=max_cells, max_unpacked_mb=max_unpacked_mb))
+    if len(results) == 1 and results[0].error is not None:
+        with _reporting(as_json):
+            raise results[0].error
     if as_json:
-        typer.echo(json.dumps(formula_to_dict(outcome.formula), indent=2))
+        document = books_to_dict(results) if len(results) > 1 else formula_to_dict(results[0].outcome.formula)
+        typer.echo(json.dumps(document, indent=2))
+    elif len(results) > 1:
+        typer.echo(books_to_text(results))
     else:
-        typer.echo(render_summary(outcome.formula))
-        typer.echo(f"\nOutput workbook: {outcome.output}")
-    raise typer.Exit(STATUS_EXIT.get(outcome.formula.status, EXIT_ENGINE))
+        typer.echo(render_summary(results[0].outcome.formula))
+        typer.echo(f"\nOutput workbook: {results[0].outcome.output}")
+    raise typer.Exit(max(_exit_code(result) for result in results))
+
+
+def _exit_code(result) -> int:
+    """One book's exit code: 1 workbook problems, 2 output error, else by status."""
+    if result.error is not None:
+        return EXIT_WORKBOOK if isinstance(result.error, WorkbookError) else EXIT_USAGE
+    return STATUS_EXIT.get(result.outcome.formula.status, EXIT_ENGINE)
 
 
 @app.command()
@@ -111,6 +148,8 @@ def check(
     max_unpacked_mb: float = MAX_UNPACKED_MB,
 ) -> None:
     """Validate a workbook without solving it."""
+    from blendkit.pipeline import check_workbook
+
     with _reporting(False):
         blend = check_workbook(book, limits=ReadLimits(max_cells=max_cells, max_unpacked_mb=max_unpacked_mb))
     typer.echo(
@@ -121,22 +160,25 @@ def check(
         typer.echo(f"  {note}")
     for item in blend.ingredients:
         if item.use and item.blanks:
-            typer.echo(f"  {item.name}: {len(item.blanks)} blank nutrient cells counted as 0 ({', '.join(item.blanks)})")
+            cells = "cell" if len(item.blanks) == 1 else "cells"
+            typer.echo(f"  {item.name}: {len(item.blanks)} blank nutrient {cells} counted as 0 ({', '.join(item.blanks)})")
 
 
 @app.command()
 def new(
     path: Path = typer.Argument(..., metavar="PATH", help="Where to write the new workbook (.xlsx); an existing file is never replaced."),
-    example: str = typer.Option(None, "--example", help=f"Write a worked example instead of the blank template: {', '.join(EXAMPLES)}."),
+    example: str = typer.Option(None, "--example", help=f"Write a worked example instead of the blank template: {', '.join(EXAMPLE_NAMES)}."),
 ) -> None:
     """Write a blank workbook template, or a worked example, to start from."""
+    from blendkit.authoring.template import write_new
+
     if path.suffix.lower() != ".xlsx":
         typer.echo(f"{path}: the new workbook must be an .xlsx file", err=True)
         raise typer.Exit(EXIT_USAGE)
     try:
         written = write_new(path, example)
     except KeyError:
-        typer.echo(f"no example called {example!r}; the examples are: {', '.join(EXAMPLES)}", err=True)
+        typer.echo(f"no example called {example!r}; the examples are: {', '.join(EXAMPLE_NAMES)}", err=True)
         raise typer.Exit(EXIT_USAGE) from None
     except FileExistsError:
         typer.echo(f"{path}: already exists; blendkit new never replaces a file, choose another name", err=True)
@@ -144,8 +186,10 @@ def new(
     except OSError as error:
         typer.echo(f"{path}: could not write the workbook ({error.strerror or error})", err=True)
         raise typer.Exit(EXIT_USAGE) from None
-    what = f"the {example} example" if example else "a blank template"
-    typer.echo(f"Wrote {what} to {written}. Fill it in, then run: blendkit solve {written}")
+    if example:
+        typer.echo(f"Wrote the {example} example to {written}. Solve it with: blendkit solve {written}")
+    else:
+        typer.echo(f"Wrote a blank template to {written}. Fill it in, then run: blendkit solve {written}")
 
 
 def main() -> None:

@@ -22,16 +22,21 @@ class Problem:
 
 
 class WorkbookError(Exception):
-    """Raised once per run with every problem found in the workbook."""
+    """Raised once per run with every problem found in the workbook.
 
-    def __init__(self, problems: list[Problem] | tuple[Problem, ...]):
+    `within` names what was read in the count line: "the workbook", or "the frames" for
+    the tables of `Blend.from_frames`.
+    """
+
+    def __init__(self, problems: list[Problem] | tuple[Problem, ...], within: str = "the workbook"):
         self.problems = tuple(problems)
+        self.within = within
         super().__init__(self.describe())
 
     def describe(self) -> str:
         """All problems, one per line, with a count first."""
         count = len(self.problems)
-        head = f"{count} problem{'s' if count != 1 else ''} in the workbook:"
+        head = f"{count} problem{'s' if count != 1 else ''} in {self.within}:"
         return "\n".join([head, *(f"  {p}" for p in self.problems)])
 
 

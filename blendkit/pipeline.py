@@ -8,19 +8,29 @@ from __future__ import annotations
 
 import dataclasses
 import hashlib
+import os
+from collections.abc import Iterable
+from concurrent.futures import ProcessPoolExecutor
 from dataclasses import dataclass
 from datetime import UTC, datetime
 from pathlib import Path
 
 from blendkit import __version__
+from blendkit.compare import compare_with_earlier
 from blendkit.lp.analyse import analyse
 from blendkit.lp.build import build_lp
+from blendkit.lp.combine import combine
+from blendkit.lp.cross_check import cross_check
+from blendkit.lp.cross_check import warning as cross_check_warning
 from blendkit.lp.diagnose import change_lines, conflict_lines, diagnose
+from blendkit.lp.split import part_blend, parts, unapplied_stocks
 from blendkit.engine import solve_form
 from blendkit.errors import OutputError
 from blendkit.model.formula import Formula, Relaxation, RunInfo
 from blendkit.model.blend import Blend
+from blendkit.model.prices import PriceList, apply_price_list
 from blendkit.read.package import ReadLimits
+from blendkit.read.values import name_key
 from blendkit.read.workbook import read_workbook
 from blendkit.write.mps import export_mps
 from blendkit.write.workbook import write_workbook
@@ -42,20 +52,53 @@ def check_workbook(book: str | Path, *, limits: ReadLimits = ReadLimits()) -> Bl
     return read_workbook(book, limits=limits)
 
 
-def formulate(blend: Blend, *, explain: bool = True) -> Formula:
+def formulate(blend: Blend, *, explain: bool = True, check: bool = True) -> Formula:
     """The least-cost formula for a validated blend.
 
-    When the limits cannot all be met (and `explain` is on), the formula carries the
-    conflicting sets of limits and the least-cost relaxation with its formula.
+    Products that no stock links are formulated as separate LPs (see
+    `blendkit.lp.split`), and the run's Formula combines them. When the limits cannot
+    all be met (and `explain` is on), the formula of that LP carries the conflicting
+    sets of limits and the least-cost relaxation with its formula.
     """
+    return assemble(blend, [formulate_lp(part, explain=explain, check=check) for part in lp_blends(blend)])
+
+
+def lp_blends(blend: Blend) -> list[Blend]:
+    """The blends of the LPs that formulate `blend`: itself, or one per part of its
+    products (`blendkit.lp.split`); `assemble` puts their formulas together."""
+    groups = _split(blend)
+    return [blend] if groups is None else [part_blend(blend, group) for group in groups]
+
+
+def assemble(blend: Blend, formulas: list[Formula]) -> Formula:
+    """The run's formula from the formulas of `lp_blends(blend)`, in the same order."""
+    if _split(blend) is None:
+        return formulas[0]
+    return combine(blend, formulas, unapplied_stocks(blend))
+
+
+def _split(blend: Blend):
+    """The parts to solve separately, or None when the blend is one LP as it stands."""
+    groups = parts(blend) if blend.products else []
+    if len(groups) <= 1 and all(product.amount is not None for product in blend.products):
+        return None
+    return groups
+
+
+def formulate_lp(blend: Blend, *, explain: bool = True, check: bool = True) -> Formula:
+    """One LP's formula, with conflicts and the least-cost relaxation when infeasible, and
+    (with `check`) the same LP re-solved with HiGHS as a cross-check."""
     lp = build_lp(blend)
-    formula = analyse(blend, lp, solve_form(lp.form, ranging=True))
+    result = solve_form(lp.form, ranging=True)
+    formula = analyse(blend, lp, result)
+    if check:
+        formula = _with_cross_check(formula, cross_check(lp.form, result), result)
     if formula.status != "infeasible" or not explain:
         return formula
     diagnosis = diagnose(blend, lp)
     relaxed = None
     if diagnosis.relaxed_blend is not None:
-        relaxed = formulate(diagnosis.relaxed_blend, explain=False)
+        relaxed = formulate_lp(diagnosis.relaxed_blend, explain=False, check=False)
         if not relaxed.solved:
             relaxed = None
     return dataclasses.replace(
@@ -64,6 +107,34 @@ def formulate(blend: Blend, *, explain: bool = True) -> Formula:
         conflicts_complete=diagnosis.complete,
         relaxation=Relaxation(change_lines(diagnosis), relaxed) if diagnosis.changes else None,
     )
+
+
+def _with_cross_check(formula: Formula, check, result) -> Formula:
+    """`formula` with its cross-check, and a warning note when the solvers disagree."""
+    note = cross_check_warning(check, result.objective)
+    notes = formula.notes if note is None else (note, *formula.notes)
+    return dataclasses.replace(formula, cross_check=check, notes=notes)
+
+
+def formulate_many(blends: Iterable[Blend], jobs: int | None = None) -> list[Formula]:
+    """The formula of each blend, in the order given, as `formulate` finds it.
+
+    The blends are formulated in `jobs` worker processes at once (default: one per CPU,
+    `os.cpu_count()`; never more than there are blends); `jobs=1` formulates them one
+    after another in this process. The results are the same for any `jobs`. Where worker
+    processes start afresh (Windows, macOS) they import the calling script again, so a
+    script calls it under ``if __name__ == "__main__":``.
+    """
+    blends = list(blends)
+    if jobs is None:
+        jobs = os.cpu_count() or 1
+    if jobs < 1:
+        raise ValueError(f"jobs must be 1 or more, not {jobs}")
+    jobs = min(jobs, len(blends))
+    if jobs <= 1:
+        return [formulate(blend) for blend in blends]
+    with ProcessPoolExecutor(max_workers=jobs) as pool:
+        return list(pool.map(formulate, blends))
 
 
 def default_output(book: Path) -> Path:
@@ -114,47 +185,98 @@ def _input_bytes(book: Path) -> bytes | None:
         return None
 
 
+@dataclass(frozen=True)
+class Prepared:
+    """A workbook read and checked, ready to formulate: its bytes (read once), its blend
+    (with any price list applied), where its outputs go and the run's facts."""
+
+    book: Path
+    data: bytes
+    blend: Blend
+    target: Path
+    run: RunInfo
+    mps_file: Path | None = None
+    in_place: bool = False
+
+
+def prepare(
+    book: str | Path,
+    output: str | Path | None = None,
+    *,
+    mps_file: str | Path | None = None,
+    in_place: bool = False,
+    price_list: PriceList | None = None,
+    limits: ReadLimits = ReadLimits(),
+) -> Prepared:
+    """Read `book` once (within `limits`), apply `price_list`, and check every output path
+    before anything is solved; raises WorkbookError or OutputError."""
+    book = Path(book)
+    started = datetime.now(UTC).strftime("%Y-%m-%dT%H:%M:%SZ")
+    data = _input_bytes(book)
+    blend = read_workbook(book, data=data, limits=limits)
+    target = _target(book, output, in_place)
+    mps_path = None if mps_file is None else Path(mps_file)
+    check_outputs(book, target if not in_place else backup_path(book), mps_path)
+    if price_list is not None:
+        blend, replaced, notes = apply_price_list(blend, price_list, name_key)
+        blend = dataclasses.replace(blend, replaced=replaced, notes=(*blend.notes, *notes))
+    run = RunInfo(
+        tool_version=__version__,
+        started_utc=started,
+        input_name=book.name,
+        input_sha256=hashlib.sha256(data).hexdigest(),
+        price_list_name=price_list.file_name if price_list else "",
+        price_list_sha256=price_list.sha256 if price_list else "",
+    )
+    return Prepared(book=book, data=data, blend=blend, target=target, run=run, mps_file=mps_path,
+                    in_place=in_place)
+
+
+def finish(prepared: Prepared, formula: Formula, *, compare: str | Path | None = None) -> Outcome:
+    """Compare with the earlier result, write the output workbook (and the MPS file)."""
+    target, data = prepared.target, prepared.data
+    formula = compare_with_earlier(formula, prepared.run, target, compare=compare,
+                                   output_data=data if prepared.in_place else None)
+    try:
+        if prepared.in_place:
+            save_atomically(data, backup_path(prepared.book))
+        written = write_workbook(formula, prepared.run, prepared.book, target, data=data)
+    except OSError as error:
+        raise OutputError(f"{target}: could not write the output workbook ({error.strerror or error})") from None
+    if prepared.mps_file is not None:
+        export_mps(prepared.blend, prepared.mps_file)
+    return Outcome(formula=formula, run=prepared.run, output=Path(written))
+
+
 def solve_workbook(
     book: str | Path,
     output: str | Path | None = None,
     *,
     mps_file: str | Path | None = None,
     in_place: bool = False,
+    compare: str | Path | None = None,
+    price_list: PriceList | None = None,
+    check: bool = True,
     limits: ReadLimits = ReadLimits(),
 ) -> Outcome:
     """Read `book`, find the least-cost blend and write the output workbook.
 
     With `mps_file`, the blend's LP is also written there as an MPS file. With
     `in_place` (and no `output`), the output replaces `book` itself, after the previous
-    file was kept as `backup_path(book)`. `limits` bound the workbook's cells and
-    unpacked size (see `ReadLimits`).
+    file was kept as `backup_path(book)`. The formula carries what changed since the
+    earlier result (`blendkit.compare`): the `compare` output workbook, else the output
+    about to be replaced when it holds a result of the same workbook. With `price_list`,
+    its values replace the workbook's before solving (the file is never modified). With
+    `check` (the default) every LP is also re-solved with HiGHS as a cross-check.
+    `limits` bound the workbook's cells and unpacked size (see `ReadLimits`).
 
     Raises WorkbookError for problems in the workbook and OutputError when the output
     cannot be written; an infeasible blend is a status of the returned formula, and
     its output workbook is still written so the reviewer sees what was tried.
     """
-    book = Path(book)
-    started = datetime.now(UTC).strftime("%Y-%m-%dT%H:%M:%SZ")
-    data = _input_bytes(book)
-    blend = read_workbook(book, data=data, limits=limits)
-    target = _target(book, output, in_place)
-    check_outputs(book, target if not in_place else backup_path(book), None if mps_file is None else Path(mps_file))
-    formula = formulate(blend)
-    run = RunInfo(
-        tool_version=__version__,
-        started_utc=started,
-        input_name=book.name,
-        input_sha256=hashlib.sha256(data).hexdigest(),
-    )
-    try:
-        if in_place:
-            save_atomically(data, backup_path(book))
-        written = write_workbook(formula, run, book, target, data=data)
-    except OSError as error:
-        raise OutputError(f"{target}: could not write the output workbook ({error.strerror or error})") from None
-    if mps_file is not None:
-        export_mps(blend, mps_file)
-    return Outcome(formula=formula, run=run, output=Path(written))
+    prepared = prepare(book, output, mps_file=mps_file, in_place=in_place, price_list=price_list,
+                       limits=limits)
+    return finish(prepared, formulate(prepared.blend, check=check), compare=compare)
 
 
 def _target(book: Path, output: str | Path | None, in_place: bool) -> Path:

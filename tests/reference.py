@@ -27,11 +27,30 @@ class Reference:
     reduced_costs: np.ndarray | None
 
 
+def _unknown_status(c, kw) -> str:
+    """HiGHS sometimes ends with model status Unknown on small unbounded LPs; decide with
+    HiGHS again: infeasible when the zero-cost LP is, unbounded when the optimum keeps
+    falling as a box around the variables grows, else numerical trouble."""
+    if linprog(np.zeros(len(c)), method="highs", **kw).status == 2:
+        return "infeasible"
+    bounds = [kw["bounds"]] * len(c) if isinstance(kw["bounds"], tuple) else kw["bounds"]
+    values = []
+    for box in (1e3, 1e6):
+        boxed = [(-box if lo is None else lo, box if hi is None else hi) for lo, hi in bounds]
+        res = linprog(c, method="highs", **dict(kw, bounds=boxed))
+        if res.status != 0:
+            return "numerical_trouble"
+        values.append(res.fun)
+    return "unbounded" if values[1] < values[0] - 1.0 else "numerical_trouble"
+
+
 def highs(c, A_ub=None, b_ub=None, A_eq=None, b_eq=None, bounds=None) -> Reference:
     """Solve with scipy.optimize.linprog(method="highs")."""
     kw = dict(A_ub=A_ub, b_ub=b_ub, A_eq=A_eq, b_eq=b_eq, bounds=bounds if bounds is not None else (0, None))
     res = linprog(c, method="highs", **kw)
     status = STATUS_NAMES.get(res.status, str(res.status))
+    if status == "numerical_trouble" and "model_status is Unknown" in res.message:
+        status = _unknown_status(c, kw)
     if status == "infeasible":
         feasible = linprog(np.zeros(len(c)), method="highs", **kw)
         if feasible.status == 0:

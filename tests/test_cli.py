@@ -211,7 +211,7 @@ def test_export_mps_resolves_to_the_same_cost_in_highs(sample, tmp_path):
     assert "TOTAL" in text and "Maize" in text
 
 
-@pytest.mark.parametrize("example", [None, "feed", "diet", "fertilizer", "plant", "broiler"])
+@pytest.mark.parametrize("example", [None, "layer", "diet", "fertilizer", "plant", "broiler"])
 def test_new_writes_a_workbook_that_solves(tmp_path, example):
     target = tmp_path / "new.xlsx"
     args = ["new", target] + (["--example", example] if example else [])
@@ -244,3 +244,19 @@ def test_engine_trouble_exits_4_with_the_reason(sample, tmp_path, monkeypatch):
     assert result.exit_code == 4
     assert "iteration limit" in result.stdout
     assert (tmp_path / "o.xlsx").exists()  # the reviewer still gets the run's facts
+
+
+def test_example_names_listed_without_loading_the_examples_match_them():
+    from blendkit.authoring import EXAMPLE_NAMES
+    from blendkit.authoring.examples import EXAMPLES
+
+    assert EXAMPLE_NAMES == tuple(EXAMPLES)
+
+
+def test_help_loads_neither_the_numbers_nor_the_workbook_libraries():
+    # Start-up stays fast: `blendkit --help` must not import numpy, scipy, openpyxl or pandas.
+    code = ("import sys; sys.argv = ['blendkit', '--help']\n"
+            "try:\n    from blendkit.start import main; main()\nexcept SystemExit:\n    pass\n"
+            "print(sorted(m for m in ('numpy', 'scipy', 'openpyxl', 'pandas') if m in sys.modules))")
+    done = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True, cwd=ROOT)
+    assert done.stdout.strip().splitlines()[-1] == "[]"

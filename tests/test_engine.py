@@ -425,11 +425,11 @@ def test_large_sparse_problem_uses_sparse_factors_and_agrees_with_highs():
     # 450 rows at 2 % density: above the engine's sparse threshold (SPARSE_ROWS).
     import scipy.sparse as sp
 
-    from blendkit.engine import simplex
+    from blendkit.engine import tolerances
 
     rng = np.random.default_rng(3)
     m, n = 450, 700
-    assert m >= simplex.SPARSE_ROWS
+    assert m >= tolerances.SPARSE_ROWS
     A = sp.random(m, n, density=0.02, random_state=3, format="csr")
     A.data = rng.uniform(-1, 1, A.nnz) * 10
     b = A @ rng.uniform(0, 2, n) + rng.uniform(0, 1, m)
@@ -457,14 +457,14 @@ def test_degenerate_assignment_problems(size):
 def test_blands_rule_after_every_stall_still_agrees_with_highs(lp):
     # With a stall limit of 1, Bland's smallest-index rule takes over after every
     # degenerate step, so this exercises the anti-cycling path on the same families.
-    from blendkit.engine import simplex
+    from blendkit.engine import tolerances
 
-    saved = simplex.STALL_LIMIT
-    simplex.STALL_LIMIT = 1
+    saved = tolerances.STALL_LIMIT
+    tolerances.STALL_LIMIT = 1
     try:
         check_against_highs(lp)
     finally:
-        simplex.STALL_LIMIT = saved
+        tolerances.STALL_LIMIT = saved
 
 
 def test_residual_check_turns_a_doubtful_answer_into_numerical_trouble():

@@ -31,7 +31,7 @@ LEVEL_TOLERANCE = 1e-6
 BROILER_STARTER_COST = 349.12665
 OPTIMUM = {
     "broiler": BROILER_STARTER_COST,
-    "feed": 265.788105,
+    "layer": 265.788105,
     "diet": 2.50626496,
     "fertilizer": 409.695180,
     "plant": 42504.3284,
@@ -435,7 +435,7 @@ def test_highs_finds_a_plausible_least_cost_starter(broiler: Path):
 
 
 def test_layer_feed_structure(tmp_path: Path):
-    path = write_example(tmp_path, "feed")
+    path = write_example(tmp_path, "layer")
     table = rows(path, "Ingredients")
     assert 12 <= len(table) - 1 <= 18
     assert 10 <= len(table[0]) - 5 <= 14
@@ -450,7 +450,7 @@ def test_layer_feed_is_a_plausible_layer_mash(tmp_path: Path):
     # Reference: scipy's HiGHS; plausibility from common practice for layer feeds (from
     # memory): mostly cereal, about 8-10 % limestone, calcium near 4 % and a Ca : available
     # P ratio of roughly 8-12.
-    reference = formulate_with_highs(write_example(tmp_path, "feed"))
+    reference = formulate_with_highs(write_example(tmp_path, "layer"))
     inclusion, levels = reference.inclusion(), reference.levels()
     assert 200 < reference.result.fun < 400  # EUR per tonne
     assert max(inclusion, key=inclusion.get) == "Maize"

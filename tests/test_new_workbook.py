@@ -124,7 +124,7 @@ def test_write_new_unknown_example_writes_nothing(tmp_path: Path):
     with pytest.raises(KeyError, match="broiler"):  # the message lists the examples
         write_new(tmp_path / "x.xlsx", "no such example")
     assert not (tmp_path / "x.xlsx").exists()
-    assert set(EXAMPLES) >= {"broiler", "feed", "diet", "fertilizer", "plant"}
+    assert set(EXAMPLES) >= {"broiler", "layer", "diet", "fertilizer", "plant"}
 
 
 def test_main_writes_the_template(tmp_path: Path, capsys):

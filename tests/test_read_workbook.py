@@ -904,7 +904,6 @@ def test_product_rows_are_checked(tmp_path):
     ) == [
         'Products!A3: product "LAYER mash" is already listed in Products!A2 (names are compared ignoring '
         "case and spaces); give each product its own name, or delete one row",
-        "Products!B4: amount is blank; type how much of this product to make (in kg)",
         "Products!B5: amount 0 must be more than 0; it is how much of this product to make, in kg",
         'Products!B6: amount "a lot" is not a number',
         "Products!A7: this row has values but no product name; type a name, or clear the row",
@@ -921,12 +920,15 @@ def test_products_are_not_allowed_in_diet_mode(tmp_path):
     )
 
 
-def test_products_sheet_missing_a_column(tmp_path):
+def test_amount_is_optional(tmp_path):
+    # Without an Amount column, or with a blank amount, a product is a formula of its own.
     path = make_workbook(tmp_path, INGREDIENTS, SPECS, sheets={"Products": [["Product"], ["A"]]})
-    assert problems_of(path) == [
-        'Products!1:1: no column "Amount" (how much of each product to make, in the mass unit) in the '
-        'header row; add a column headed "Amount"'
-    ]
+    assert [(p.name, p.amount) for p in read_workbook(path).products] == [("A", None)]
+    products = [["Product", "Amount"], ["A", None], ["B", 500]]
+    path = make_workbook(tmp_path, INGREDIENTS, SPECS, sheets={"Products": products}, name="b.xlsx")
+    blend = read_workbook(path)
+    assert [(p.name, p.amount) for p in blend.products] == [("A", None), ("B", 500.0)]
+    assert blend.products[0].cells == {"product": "Products!A2", "amount": "Products!B2"}
 
 
 def test_spec_for_an_unknown_product(tmp_path):

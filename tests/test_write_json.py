@@ -11,7 +11,7 @@ import pytest
 from blendkit.write.json import formula_to_dict, formula_to_json
 from tests import formulas
 
-KEYS = ["status", "message", "cost", "ingredients", "prices", "nutrients", "limits", "stocks", "violations", "notes"]
+KEYS = ["status", "message", "cost", "ingredients", "prices", "nutrients", "limits", "stocks", "violations", "notes", "cross_check"]
 LIMIT_KEYS = ["kind", "name", "product", "side", "bound", "level", "binding", "shadow_price", "cell", "holds_from", "holds_to"]
 
 
@@ -115,6 +115,7 @@ def test_not_optimal_has_null_cost_and_empty_tables():
         "stocks": {},
         "violations": [],
         "notes": list(formula.notes),
+        "cross_check": None,
         "conflicts": [],
         "relaxation": None,
     }

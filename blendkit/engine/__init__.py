@@ -1,8 +1,12 @@
 """blendkit's own linear-programming engine: a two-phase bounded-variable simplex.
 
-Stages, one module each: `standard_form` (check and convert the arguments),
-`simplex` (the algorithm), `basis_factor` (LU factors of the basis), `verify`
-(residuals in the original problem), `solve` (the public entry point).
+Stages, one module each: `standard_form` (check and convert the arguments), `scaling`,
+`simplex` (the algorithm: phases, and the dual simplex first when it can), `verify`
+(residuals in the original problem), `solve` (the public entry point). The simplex's
+parts: `simplex_state` (matrix, values, basis), `primal` and `dual` (the iterations),
+`pricing`, `ratio_test`, `basis_factor` (LU factors of the basis), `ranging`, and
+`certificate` (why a problem is infeasible). `tolerances` names every tolerance and
+threshold; `mps` reads and writes MPS files.
 """
 
 from blendkit.engine.result import STATUSES, LPResult

@@ -14,6 +14,8 @@ import scipy.sparse as sp
 from scipy.linalg import lapack
 from scipy.sparse.linalg import splu
 
+from blendkit.engine.tolerances import SINGULAR_PIVOT
+
 
 class SingularBasis(Exception):
     """The basis matrix handed to `factor` is singular to working precision."""
@@ -41,19 +43,28 @@ class BasisFactor:
         """True when the update file is long enough that refactorising pays."""
         return len(self._eta_rows) >= self.refactor_every
 
-    def factor(self, B: np.ndarray) -> None:
-        """Factorise B afresh and clear the update file."""
+    def _clear(self, B) -> bool:
+        """Start a factorisation of B: empty the update file; False when B has no rows."""
         self._m = B.shape[0]
         self._eta_rows.clear()
         self._eta_cols.clear()
-        if self._m == 0:
+        return self._m > 0
+
+    @staticmethod
+    def _check_pivots(diagonal: np.ndarray) -> None:
+        """Raise SingularBasis when the smallest pivot of U is negligible (SINGULAR_PIVOT)."""
+        diag = np.abs(diagonal)
+        if diag.min() <= SINGULAR_PIVOT * max(1.0, diag.max()):
+            raise SingularBasis("basis matrix is singular to working precision")
+
+    def factor(self, B: np.ndarray) -> None:
+        """Factorise B afresh and clear the update file."""
+        if not self._clear(B):
             return
         lu, piv, info = lapack.dgetrf(np.asfortranarray(B, dtype=float))
         if info > 0:
             raise SingularBasis(f"basis matrix is singular (zero pivot at position {info})")
-        diag = np.abs(np.diag(lu))
-        if diag.min() <= 1e-13 * max(1.0, diag.max()):
-            raise SingularBasis("basis matrix is singular to working precision")
+        self._check_pivots(np.diag(lu))
         self._lu, self._piv = lu, piv
 
     def _solve(self, a: np.ndarray, transpose: bool) -> np.ndarray:
@@ -97,18 +108,13 @@ class SparseBasisFactor(BasisFactor):
 
     def factor(self, B) -> None:
         """Factorise the sparse basis B afresh and clear the update file."""
-        self._m = B.shape[0]
-        self._eta_rows.clear()
-        self._eta_cols.clear()
-        if self._m == 0:
+        if not self._clear(B):
             return
         try:
             self._lu = splu(sp.csc_matrix(B), permc_spec="COLAMD")
         except RuntimeError as error:
             raise SingularBasis(f"basis matrix is singular ({error})") from None
-        diag = np.abs(self._lu.U.diagonal())
-        if diag.min() <= 1e-13 * max(1.0, diag.max()):
-            raise SingularBasis("basis matrix is singular to working precision")
+        self._check_pivots(self._lu.U.diagonal())
 
     def _solve(self, a: np.ndarray, transpose: bool) -> np.ndarray:
         """Solve B0 z = a (or B0^T z = a) with SuperLU's factors."""

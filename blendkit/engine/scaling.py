@@ -17,10 +17,7 @@ import numpy as np
 import scipy.sparse as sp
 
 from blendkit.engine.standard_form import StandardForm
-
-# Geometric-mean passes over rows and columns. Two are enough: on our blend benchmark
-# six passes cost 10 % more time for no fewer iterations.
-GEOMETRIC_PASSES = 2
+from blendkit.engine.tolerances import GEOMETRIC_PASSES
 
 
 @dataclass(frozen=True)

@@ -6,11 +6,12 @@ from contextlib import contextmanager
 
 import numpy as np
 
-from blendkit.engine.result import Basis, Certificate, ConflictPart, LPResult
+from blendkit.engine.certificate import certificate
+from blendkit.engine.result import Basis, LPResult
 from blendkit.engine.scaling import Scaling, find_scaling, scale_form
 from blendkit.engine.simplex import SimplexOutcome, run_simplex
 from blendkit.engine.standard_form import StandardForm, to_standard_form
-from blendkit.engine.tolerances import Tolerances
+from blendkit.engine.tolerances import ITERATION_LIMIT_MIN, ITERATION_LIMIT_PER_LINE, Tolerances
 from blendkit.engine.verify import worst_violation
 
 # The engine's matrices are small: threaded BLAS only adds overhead, and on a busy
@@ -97,28 +98,40 @@ def solve_form(
         raise ValueError(f'algorithm must be "auto" or "primal", not {algorithm!r}')
     tol = tolerances or Tolerances()
     m, n = form.shape
-    limit = max_iterations if max_iterations is not None else max(10_000, 50 * (m + n))
+    if max_iterations is None:
+        max_iterations = max(ITERATION_LIMIT_MIN, ITERATION_LIMIT_PER_LINE * (m + n))
     scaling = find_scaling(form.A) if scale else Scaling(np.ones(m), np.ones(n))
     scaled = scale_form(form, scaling)
     start = None
     if basis is not None and tuple(basis.shape) == (m, n):
         start = (basis.head, basis.at_upper)
     with _one_blas_thread():
-        outcome = run_simplex(scaled, tol, limit, basis=start, allow_dual=algorithm == "auto", ranging=ranging)
+        outcome = run_simplex(scaled, tol, max_iterations, basis=start, allow_dual=algorithm == "auto", ranging=ranging)
     if outcome.status != "optimal":
-        return LPResult(
-            status=outcome.status,
-            message=outcome.message,
-            x=None,
-            objective=None,
-            iterations=outcome.iterations,
-            phase_one_iterations=outcome.phase_one_iterations,
-            marginals_ub=None,
-            marginals_eq=None,
-            reduced_costs=None,
-            certificate=_certificate(form, scaling, outcome, tol) if outcome.farkas is not None else None,
-            ray=None if outcome.ray is None else outcome.ray * scaling.cols,
-        )
+        return _without_solution(form, scaling, outcome, tol)
+    return _with_solution(form, scaling, outcome, tol)
+
+
+def _without_solution(form: StandardForm, scaling: Scaling, outcome: SimplexOutcome, tol: Tolerances) -> LPResult:
+    """The result of a solve that found no optimum: the certificate or ray, in original units."""
+    return LPResult(
+        status=outcome.status,
+        message=outcome.message,
+        x=None,
+        objective=None,
+        iterations=outcome.iterations,
+        phase_one_iterations=outcome.phase_one_iterations,
+        marginals_ub=None,
+        marginals_eq=None,
+        reduced_costs=None,
+        certificate=certificate(form, scaling, outcome, tol) if outcome.farkas is not None else None,
+        ray=None if outcome.ray is None else outcome.ray * scaling.cols,
+    )
+
+
+def _with_solution(form: StandardForm, scaling: Scaling, outcome: SimplexOutcome, tol: Tolerances) -> LPResult:
+    """The result of an optimal outcome, in original units, after the residual check."""
+    m, n = form.shape
     x = outcome.x * scaling.cols
     y = outcome.y * scaling.rows
     d = outcome.d / scaling.cols
@@ -149,38 +162,3 @@ def solve_form(
         bound_ranges=None if outcome.bound_ranges is None else outcome.bound_ranges
         * np.concatenate([scaling.cols, 1 / scaling.rows])[:, None],
     )
-
-
-def _certificate(form: StandardForm, scaling: Scaling, outcome: SimplexOutcome, tol: Tolerances) -> Certificate:
-    """The phase-one duals in original units, and the constraints they involve."""
-    m, n = form.shape
-    y = outcome.farkas * scaling.rows
-    d = outcome.farkas_d / scaling.cols
-    at_upper = outcome.farkas_at_upper
-    small = tol.dual_feasibility
-    parts = []
-    for i in np.flatnonzero(np.abs(outcome.farkas) > small):
-        if not form.from_linprog:
-            kind, index = "row", int(i)
-        elif i < form.n_ub:
-            kind, index = "ub", int(i)
-        else:
-            kind, index = "eq", int(i - form.n_ub)
-        if form.row_lower[i] == form.row_upper[i]:
-            side = "eq"
-        else:
-            side = "upper" if at_upper[n + i] else "lower"
-        parts.append(ConflictPart(kind, index, side, float(y[i])))
-    for j in np.flatnonzero(np.abs(outcome.farkas_d) > small):
-        if form.col_lower[j] == form.col_upper[j]:
-            side = "eq"
-        else:
-            side = "upper" if at_upper[j] else "lower"
-        parts.append(ConflictPart("bound", int(j), side, float(d[j])))
-    return Certificate(
-        infeasibility=float(outcome.infeasibility),
-        row_multipliers=y,
-        bound_multipliers=d,
-        parts=tuple(parts),
-    )
-

@@ -7,6 +7,9 @@ AT_BOUND = 1e-7
 ZERO_INCLUSION = 1e-9
 # A violation below this (relative to 1 + |bound|) is rounding, not a change.
 CHANGED = 1e-6
+# An inclusion or level before and after within this (relative to 1 + |value|) of each
+# other is unchanged when a run is compared with an earlier one: the difference is noise.
+UNCHANGED = 1e-7
 # Dinkelbach's iteration for a ratio bound's least move stops when the ratio changes by
 # less than this (relative to 1 + |ratio|), or after RATIO_ROUNDS rounds.
 RATIO_STEADY = 1e-12
@@ -27,3 +30,6 @@ ROUND_NOISE = 1e-7
 # 100 means nothing for the blend but wrecks the scaling. A content cell so treated is
 # named in the run's notes.
 DROP_RELATIVE = 1e-10
+# The cross-check with HiGHS warns when the two costs differ by more than this, relative
+# to max(1, |cost|).
+CROSS_CHECK_RTOL = 1e-6

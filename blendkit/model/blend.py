@@ -10,7 +10,15 @@ from __future__ import annotations
 import json
 from collections.abc import Iterable
 from dataclasses import dataclass, field
+from functools import cached_property
 from pathlib import Path
+from typing import TYPE_CHECKING
+
+if TYPE_CHECKING:
+    from blendkit.model.prices import Replacement
+    from collections.abc import Mapping
+
+    import pandas as pd
 
 # Mass units blendkit understands, in kilograms. Keys are lower-case.
 MASS_UNITS_KG: dict[str, float] = {
@@ -100,10 +108,14 @@ class Group:
 
 @dataclass(frozen=True)
 class Product:
-    """One row of the Products sheet: a product to make and how much (mass unit)."""
+    """One row of the Products sheet: a product to make and how much (mass unit).
+
+    `amount` is None when the row gives none: the product is then a formula of its own,
+    made per batch (the `Batch size` setting), and no stock applies to it.
+    """
 
     name: str
-    amount: float
+    amount: float | None
     cells: dict[str, str]  # "product", "amount" -> cell
 
 
@@ -154,7 +166,32 @@ class Blend:
     groups: tuple[Group, ...] = ()
     products: tuple[Product, ...] = ()  # empty: one blend of `settings.batch_size`
     limits: tuple[ProductLimit, ...] = ()
+    # Values a price list replaced (`blendkit.model.prices`), for the output to mark.
+    replaced: tuple[Replacement, ...] = ()
     notes: tuple[str, ...] = ()  # what the reader found worth saying (hidden rows, kept sheets)
+
+    @classmethod
+    def from_frames(
+        cls,
+        ingredients: pd.DataFrame,
+        specs: pd.DataFrame,
+        settings: pd.DataFrame | Mapping | None = None,
+        groups: pd.DataFrame | None = None,
+        products: pd.DataFrame | None = None,
+        limits: pd.DataFrame | None = None,
+    ) -> Blend:
+        """A blend from pandas DataFrames with the workbook's column names, one per sheet.
+
+        Each frame is checked exactly as its sheet would be; `settings` is a frame with
+        the columns Setting and Value or a mapping {setting: value}; None is an absent
+        sheet. Raises `WorkbookError` with every problem, each placed as
+        ``ingredients[row "Maize", column "Cost"]`` (the row's index label and the column's
+        name). See `blendkit.read.frames`.
+        """
+        from blendkit.read.frames import read_frames  # the reader and pandas only when used
+
+        return read_frames(ingredients, specs, settings=settings, groups=groups,
+                           products=products, limits=limits)
 
     @property
     def diet(self) -> bool:
@@ -162,11 +199,13 @@ class Blend:
         return self.settings.mode == "diet"
 
     def ingredient(self, name: str) -> Ingredient:
-        """The ingredient called `name` (exact match)."""
-        for item in self.ingredients:
-            if item.name == name:
-                return item
-        raise KeyError(name)
+        """The ingredient called `name` (exact match); KeyError when there is none."""
+        return self._by_name[name]
+
+    @cached_property
+    def _by_name(self) -> dict[str, Ingredient]:
+        """Ingredients by name, built once: writers look them up per line."""
+        return {item.name: item for item in self.ingredients}
 
 
 # --- The output sheets: blendkit's own, and a user's sheet of the same name --------------------
@@ -175,7 +214,7 @@ class Blend:
 # workbook property (a custom document property) listing those a run wrote. A later run
 # replaces only the sheets that property lists, and keeps a user's own sheet of one of these
 # names under a new title. The reader notes the new title; the writer gives it.
-OUTPUT_SHEET_TITLES = ("Result", "Conflicts", "Shadow prices", "Run info")
+OUTPUT_SHEET_TITLES = ("Overview", "Result", "Conflicts", "Changes", "Shadow prices", "Run info", "Result data")
 OUTPUT_SHEETS_PROPERTY = "blendkit output sheets"
 
 # Excel's longest sheet title.

@@ -8,8 +8,13 @@ units printed beside the numbers are worded in `blendkit.model.units`.
 from __future__ import annotations
 
 from dataclasses import dataclass
+from typing import TYPE_CHECKING
 
 from blendkit.model.blend import Blend
+from blendkit.model.changes import Changes
+
+if TYPE_CHECKING:
+    import pandas as pd
 
 # How the analysis starts a note about a broken soft spec; writers that show such specs
 # in a block of their own leave these notes out of the notes list.
@@ -109,15 +114,25 @@ class Limit:
 class ProductFormula:
     """One product's formula: its cost per `Cost per` unit, lines and limits.
 
-    `amount` is the mass to make (the batch size for one blend; unused in diet mode).
+    `amount` is the mass to make (the batch size for one blend, or for a product without
+    an amount; unused in diet mode). `status` and `message` are those of the LP the
+    product was solved in (its own, or the joint LP of products linked by stocks); when
+    the status is not "optimal", `cost` is None and the lines are empty.
     """
 
     name: str | None
     amount: float
-    cost: float
+    cost: float | None
     ingredients: tuple[IngredientLine, ...]
     nutrients: tuple[NutrientLine, ...]
     limits: tuple[Limit, ...]
+    status: str = OPTIMAL
+    message: str = ""
+
+    @property
+    def solved(self) -> bool:
+        """True when this product's formula was found."""
+        return self.status == OPTIMAL
 
 
 @dataclass(frozen=True)
@@ -134,6 +149,19 @@ class StockLine:
     binding: bool
     shadow_price: float
     cell: str
+
+
+@dataclass(frozen=True)
+class CrossCheck:
+    """The run's LP re-solved by another solver (`blendkit.lp.cross_check`): its status
+    and objective (in the formula's cost units), ours less its (None unless both are
+    optimal), and whether the two agree within the cross-check tolerance."""
+
+    solver: str
+    status: str
+    cost: float | None
+    difference: float | None
+    agrees: bool
 
 
 @dataclass(frozen=True)
@@ -166,6 +194,11 @@ class Formula:
     conflicts: tuple[ConflictLine, ...] = ()  # when infeasible: the conflicting limits
     conflicts_complete: bool = True  # False when more conflicts may remain unreported
     relaxation: Relaxation | None = None  # when infeasible: the least-cost way out
+    # When the products were solved as several LPs (see `blendkit.lp.split`): each LP's
+    # own Formula, in Products-sheet order of their first product. Empty otherwise.
+    parts: tuple[Formula, ...] = ()
+    cross_check: CrossCheck | None = None  # the same LP re-solved with HiGHS (None when off)
+    changes: Changes | None = None  # against an earlier result, when one was compared
 
     @property
     def several(self) -> bool:
@@ -192,6 +225,14 @@ class Formula:
             return self.notes
         return tuple(note for note in self.notes if not note.startswith(SOFT_LIMIT_NOTE))
 
+    def to_frames(self) -> dict[str, pd.DataFrame]:
+        """The formula as pandas DataFrames: "inclusions", "nutrients", "limits" (with
+        shadow prices and the ranges they hold over), "prices" (each ingredient's price
+        range) and "stocks"; see `blendkit.write.frames` for their columns."""
+        from blendkit.write.frames import formula_frames  # pandas only when used
+
+        return formula_frames(self)
+
     @property
     def conflict_sets(self) -> dict[int, tuple[ConflictLine, ...]]:
         """The conflicting sets by number, in order; in each, the sum-to-100 rows come
@@ -212,6 +253,8 @@ class RunInfo:
     started_utc: str  # ISO 8601, e.g. "2026-12-01T21:41:45Z"
     input_name: str
     input_sha256: str
+    price_list_name: str = ""  # `--prices`: the price list's file name and SHA-256
+    price_list_sha256: str = ""
 
 
 def basis_label(kind: str, basis: str) -> str:

@@ -74,6 +74,16 @@ Formulas
     opened in a spreadsheet program) is an error: open and save the file to store results.
 """
 
-from blendkit.read.workbook import read_workbook
+from __future__ import annotations
 
 __all__ = ["read_workbook"]
+
+
+def __getattr__(name: str):
+    """`read_workbook`, imported when first asked for: the command line imports the light
+    `blendkit.read.package` at start-up, and that must not load openpyxl."""
+    if name == "read_workbook":
+        from blendkit.read.workbook import read_workbook
+
+        return read_workbook
+    raise AttributeError(f"module {__name__!r} has no attribute {name!r}")

@@ -24,7 +24,6 @@ import zipfile
 from dataclasses import dataclass
 
 from defusedxml import ElementTree
-from openpyxl.utils import column_index_from_string
 
 from blendkit.errors import Problem
 
@@ -137,9 +136,17 @@ def _merged_area(match: re.Match) -> int:
     first_column, first_row, last_column, last_row = match.groups()
     if last_column is None:
         return 1
-    columns = abs(column_index_from_string(last_column.decode().upper())
-                  - column_index_from_string(first_column.decode().upper())) + 1
+    columns = abs(_column_number(last_column) - _column_number(first_column)) + 1
     return columns * (abs(int(last_row) - int(first_row)) + 1)
+
+
+def _column_number(letters: bytes) -> int:
+    """A column's number from its letters (A is 1, XFD is 16384); here rather than
+    openpyxl's, so that the command line can import this module without openpyxl."""
+    number = 0
+    for letter in letters.upper():
+        number = number * 26 + letter - ord("A") + 1
+    return number
 
 
 def _worksheet_parts(archive: zipfile.ZipFile) -> dict[str, str]:

@@ -1,7 +1,9 @@
 """The Products sheet (optional), one row per product made from the same ingredients.
 
 ``Product``     required column; the name, unique ignoring case and spaces.
-``Amount``      required column; how much to make, in the mass unit, more than 0.
+``Amount``      optional; how much to make, in the mass unit, more than 0. A product
+                without an amount is a formula of its own, made per batch, and no
+                stock applies to it (see `blendkit.lp.split`).
 Without Products rows there is one blend of ``Batch size``. Not allowed in diet mode.
 """
 
@@ -20,7 +22,7 @@ PRODUCTS = "Products"
 # The columns, by key (normalised header): header, what it is for, whether required.
 _COLUMNS: Wanted = {
     "product": ("Product", "the name of each product", True),
-    "amount": ("Amount", "how much of each product to make, in the mass unit", True),
+    "amount": ("Amount", "how much of each product to make, in the mass unit", False),
 }
 
 
@@ -63,20 +65,17 @@ def _read_product(
     problems_before = len(problems)
     name = read_row_name(row["product"], "product", seen, problems)
     amount = _amount(row, settings, problems)
-    if len(problems) > problems_before or name is None or amount is None:
+    if len(problems) > problems_before or name is None:
         return name, None
-    return name, Product(
-        name=name, amount=amount, cells={"product": row["product"].ref, "amount": row["amount"].ref}
-    )
+    cells = {"product": row["product"].ref}
+    if "amount" in row:
+        cells["amount"] = row["amount"].ref
+    return name, Product(name=name, amount=amount, cells=cells)
 
 
 def _amount(row: Row, settings: Settings, problems: list[Problem]) -> float | None:
-    """The row's amount; a blank one or one not above 0 is reported."""
+    """The row's amount (None when blank or absent); one not above 0 is reported."""
     amount = read_number(row.get("amount"), "amount", problems)
-    if "amount" in row and row["amount"].kind == "blank":
-        problems.append(Problem(row["amount"].ref, (
-            f"amount is blank; type how much of this product to make (in {settings.mass_unit})"
-        )))
     if amount is not None and amount <= 0:
         problems.append(Problem(row["amount"].ref, (
             f"amount {format_number(amount)} must be more than 0; it is how much of this product to make, "

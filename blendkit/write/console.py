@@ -72,27 +72,65 @@ def render_summary(formula: Formula) -> str:
         if not blend.diet and not formula.several:
             status.append(f"Batch: {settings.batch_size:g} {settings.mass_unit}")
     blocks.append(status)
+    blocks.append(_changes(formula))
     blocks.append(_soft_limits(formula))
-    if formula.status == "infeasible":
-        blocks.append(_conflicts(formula))
-        blocks.append(_way_out(formula))
-
-    if formula.solved:
-        if formula.several:
-            for product in formula.products:
-                blocks.append([_product_heading(blend, product)])
-                blocks.append(_ingredients(blend, product.ingredients))
-                blocks.append(_nutrients(blend, product.nutrients))
-        else:
-            blocks.append(_ingredients(blend, formula.ingredients))
-            blocks.append(_nutrients(blend, formula.nutrients))
-        blocks.append(_stocks(formula))
-        blocks.append(_binding_limits(formula))
+    blocks.extend(_explanations(formula))
+    if formula.solved or any(product.solved for product in formula.products):
+        blocks.extend(_formula_blocks(formula))
     notes = formula.notes_besides_broken_limits
     if notes:
         blocks.append(["Notes:", *(f"- {note}" for note in notes)])
     blocks.append([CAUTION])
     return "\n\n".join("\n".join(block) for block in blocks if block)
+
+
+def _explanations(formula: Formula) -> list[list[str]]:
+    """The conflicts and the cheapest way out of an infeasible run; with products solved as
+    separate LPs, one pair per infeasible LP under the names of its products."""
+    if formula.status != "infeasible":
+        return []
+    if not formula.parts:
+        return [_conflicts(formula), _way_out(formula)]
+    blocks = []
+    for part in formula.parts:
+        if part.status == "infeasible":
+            names = ", ".join(str(product.name) for product in part.blend.products)
+            blocks.extend([[f"{names}:"], _conflicts(part), _way_out(part)])
+    return blocks
+
+
+def _formula_blocks(formula: Formula) -> list[list[str]]:
+    """The ingredient and nutrient tables (per product when there are several), then the
+    stocks and the binding limits; a product without a formula shows its status."""
+    blend = formula.blend
+    blocks = []
+    if not formula.several:
+        blocks.append(_ingredients(blend, formula.ingredients))
+        blocks.append(_nutrients(blend, formula.nutrients))
+    for product in formula.products if formula.several else ():
+        if not product.solved:
+            blocks.append([f"{product.name}: {product.status}, no formula (see above)"])
+            continue
+        blocks.append([_product_heading(blend, product)])
+        blocks.append(_ingredients(blend, product.ingredients))
+        blocks.append(_nutrients(blend, product.nutrients))
+    blocks.append(_stocks(formula))
+    blocks.append(_binding_limits(formula))
+    return blocks
+def _changes(formula: Formula) -> list[str]:
+    """One line per formula compared with the earlier result: cost before -> after, and
+    the price effect and formula effect that make up the change."""
+    changes = formula.changes
+    if changes is None:
+        return []
+    unit = run_cost_unit(formula.blend) if formula.blend.diet else cost_unit(formula.blend.settings)
+    lines = [f"Changes since {changes.earlier_output} (details on the Changes sheet):"]
+    for item in changes.formulas:
+        lines.append(
+            f"  {item.key}: cost {item.cost_before:,.2f} {_ARROW} {item.cost_after:,.2f} {unit}: "
+            f"price effect {item.price_effect + 0.0:+,.2f}, formula effect {item.formula_effect + 0.0:+,.2f}"
+        )
+    return lines
 
 
 def _soft_limits(formula: Formula) -> list[str]:

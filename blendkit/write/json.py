@@ -41,6 +41,24 @@ where no move of it alone is enough). `kind` there may also be "use" (a Use = no
 "total" (a sum-to-100 row). `relaxation` is the least-cost way out: the bounds to move
 and the blend's cost (total cost with products) once they are moved.
 
+When the run was compared with an earlier result (`blendkit.model.changes`), two more
+keys come last::
+
+    "compared_with": {"output": str, "input": str, "run_at": str},
+    "changes": {formula: {"cost_before", "cost_after", "price_effect", "formula_effect",
+                          "came_in": [name], "went_out": [name],
+                          "inclusions": {name: [before, after]},
+                          "nutrients": {name: [before, after]},
+                          "started_binding": ["kind name side"],
+                          "stopped_binding": ["kind name side"]}}
+
+`compared_with` names the earlier output workbook, the input it was a result of and when
+that run was (UTC). A formula is keyed by its product's name, or for one blend by the
+workbook's Name (else "blend"). `price_effect` is what the earlier formula costs more at
+the new prices, `formula_effect` the rest of the cost change; they add up to
+`cost_after - cost_before`. `inclusions` and `nutrients` hold only the lines that changed
+(null on a side without that line).
+
 A nutrient's dry-matter level is keyed "<nutrient> (dry matter)"; a ratio by its text
 ("Calcium / Phosphorus"). `kind` is "nutrient", "ratio", "group", "stock" or
 "ingredient"; `product` is null for one blend and for stocks (shared by all products).
@@ -54,7 +72,9 @@ import json
 import math
 from typing import Any
 
+from blendkit.model.changes import FormulaChanges
 from blendkit.model.formula import ConflictLine, Formula, Limit, NutrientLine
+from blendkit.model.record import nutrient_key
 
 
 def formula_to_dict(formula: Formula) -> dict[str, Any]:
@@ -68,25 +88,17 @@ def formula_to_dict(formula: Formula) -> dict[str, Any]:
         for line in formula.stocks
     }
     if formula.several:
-        return _conflicts(formula, {
+        return _with_changes(formula, _conflicts(formula, {
             "status": str(formula.status),
             "message": str(formula.message),
             "total_cost": _number(formula.cost) if formula.solved else None,
-            "products": {
-                str(product.name): {
-                    "cost": _number(product.cost),
-                    "ingredients": {str(line.name): _number(line.inclusion) for line in product.ingredients},
-                    "prices": _prices(product.ingredients),
-                    "nutrients": {_key(line): _number(line.level) for line in product.nutrients},
-                    "limits": [_limit(limit) for limit in product.limits],
-                }
-                for product in formula.products
-            },
+            "products": _products(formula),
             "stocks": stocks,
             "violations": _violations(formula),
             "notes": [str(note) for note in formula.notes],
-        })
-    return _conflicts(formula, {
+            "cross_check": _cross_check(formula),
+        }))
+    return _with_changes(formula, _conflicts(formula, {
         "status": str(formula.status),
         "message": str(formula.message),
         "cost": _number(formula.cost) if formula.solved else None,
@@ -97,7 +109,74 @@ def formula_to_dict(formula: Formula) -> dict[str, Any]:
         "stocks": stocks,
         "violations": _violations(formula),
         "notes": [str(note) for note in formula.notes],
-    })
+        "cross_check": _cross_check(formula),
+    }))
+
+
+def _cross_check(formula: Formula) -> dict[str, Any] | None:
+    """The same LP re-solved with HiGHS: solver, status, cost and our cost less its (null
+    when the cross-check was turned off)."""
+    check = formula.cross_check
+    if check is None:
+        return None
+    return {"solver": check.solver, "status": check.status, "cost": _number(check.cost),
+            "difference": _number(check.difference), "agrees": bool(check.agrees)}
+
+
+def _with_changes(formula: Formula, data: dict[str, Any]) -> dict[str, Any]:
+    """`data` with the compared_with and changes keys added, when there was a comparison."""
+    changes = formula.changes
+    if changes is None:
+        return data
+    data["compared_with"] = {
+        "output": str(changes.earlier_output),
+        "input": str(changes.earlier_input),
+        "run_at": str(changes.earlier_run_utc),
+    }
+    data["changes"] = {str(item.key): _formula_changes(item) for item in changes.formulas}
+    return data
+
+
+def _formula_changes(item: FormulaChanges) -> dict[str, Any]:
+    """One formula's changes, keys in the documented order."""
+    return {
+        "cost_before": _number(item.cost_before),
+        "cost_after": _number(item.cost_after),
+        "price_effect": _number(item.price_effect),
+        "formula_effect": _number(item.formula_effect),
+        "came_in": [str(name) for name in item.came_in],
+        "went_out": [str(name) for name in item.went_out],
+        "inclusions": {str(c.name): [_number(c.before), _number(c.after)] for c in item.inclusions},
+        "nutrients": {str(c.name): [_number(c.before), _number(c.after)] for c in item.nutrients},
+        "started_binding": [str(label) for label in item.started_binding],
+        "stopped_binding": [str(label) for label in item.stopped_binding],
+    }
+
+
+def _products(formula: Formula) -> dict[str, Any]:
+    """One entry per product: its status and formula; with products solved as separate
+    LPs, an infeasible product also carries its LP's least-cost relaxation."""
+    relaxations = {
+        product.name: _relaxation(part)
+        for part in formula.parts
+        if part.status == "infeasible"
+        for product in part.blend.products
+    }
+    products = {}
+    for product in formula.products:
+        entry = {
+            "status": str(product.status),
+            "message": str(product.message),
+            "cost": _number(product.cost) if product.solved else None,
+            "ingredients": {str(line.name): _number(line.inclusion) for line in product.ingredients},
+            "prices": _prices(product.ingredients),
+            "nutrients": {_key(line): _number(line.level) for line in product.nutrients},
+            "limits": [_limit(limit) for limit in product.limits],
+        }
+        if product.name in relaxations:
+            entry["relaxation"] = relaxations[product.name]
+        products[str(product.name)] = entry
+    return products
 
 
 def _conflicts(formula: Formula, data: dict[str, Any]) -> dict[str, Any]:
@@ -105,12 +184,17 @@ def _conflicts(formula: Formula, data: dict[str, Any]) -> dict[str, Any]:
     if formula.status != "infeasible":
         return data
     data["conflicts"] = [dict(_member(line), conflict=line.conflict) for line in formula.conflicts]
-    relaxation = formula.relaxation
-    data["relaxation"] = None
-    if relaxation is not None:
-        cost = relaxation.formula.cost if relaxation.formula is not None else None
-        data["relaxation"] = {"changes": [_member(line) for line in relaxation.changes], "cost": _number(cost)}
+    data["relaxation"] = _relaxation(formula)
     return data
+
+
+def _relaxation(formula: Formula) -> dict[str, Any] | None:
+    """The least-cost way out of one LP: the bounds to move and the cost once moved."""
+    relaxation = formula.relaxation
+    if relaxation is None:
+        return None
+    cost = relaxation.formula.cost if relaxation.formula is not None else None
+    return {"changes": [_member(line) for line in relaxation.changes], "cost": _number(cost)}
 
 
 def _prices(lines) -> dict[str, dict[str, float | None]]:
@@ -158,7 +242,7 @@ def _which(item: Limit | ConflictLine) -> dict[str, Any]:
 
 def _key(line: NutrientLine) -> str:
     """A nutrient line's key: its name, with " (dry matter)" for a dry-matter level."""
-    return f"{line.name} (dry matter)" if line.basis == "dry matter" and line.kind == "nutrient" else str(line.name)
+    return nutrient_key(line)
 
 
 def formula_to_json(formula: Formula) -> str:

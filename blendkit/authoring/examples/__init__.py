@@ -7,7 +7,7 @@ new example by writing another module with its `Example` and listing it in `EXAM
 
     name        module         the example
     broiler     broiler.py     a broiler starter feed (one blend)
-    feed        layer.py       a laying-hen feed with a ratio spec and ingredient groups
+    layer       layer.py       a laying-hen feed with a ratio spec and ingredient groups
     diet        diet.py        a day's menu for one adult (diet mode: amounts of foods per 100 g)
     fertilizer  fertilizer.py  an N-P-K 15-15-15 bulk blend with sulphur, from straight materials
     plant       plant.py       a pig feed plant making three feeds from shared, limited stocks
@@ -51,7 +51,7 @@ __all__ = [
 # Every example, by the name `write_example` takes.
 EXAMPLES: dict[str, Example] = {
     "broiler": BROILER_STARTER,
-    "feed": LAYER_FEED,
+    "layer": LAYER_FEED,
     "diet": DAY_MENU,
     "fertilizer": NPK_BLEND,
     "plant": PIG_PLANT,

@@ -1,7 +1,7 @@
 """The output workbook: a copy of the input with result sheets added.
 
 `book` copies the input and calls one module per output sheet (`result`, `conflicts`,
-`shadow_prices`, `run_info`); the rest are their shared parts.
+`changes`, `shadow_prices`, `run_info`, `result_data`); the rest are their shared parts.
 """
 
 from blendkit.write.workbook.book import OUTPUT_SHEETS, write_workbook

@@ -13,8 +13,12 @@ only those: a user's own sheet of one of these names is kept as "<name> (input)"
 * ``Conflicts`` (`conflicts`, only when the run is infeasible): each conflicting set of
   limits and the least-cost way out. One left by an earlier run is removed when the
   workbook is now feasible.
+* ``Changes`` (`changes`, only when the run was compared with an earlier result): what
+  changed in each formula since then, and why.
 * ``Shadow prices`` (`shadow_prices`): one row per limit the user wrote.
 * ``Run info`` (`run_info`): tool version, time, input file name and SHA-256, status.
+* ``Result data`` (`result_data`, hidden): the run's machine-readable record, which a
+  later run reads back to show what changed.
 
 The save is atomic (`save`): a temporary file in the output's folder is moved into place,
 so a failed run leaves no half-written output. The source file is only ever read; the
@@ -34,7 +38,16 @@ from openpyxl.worksheet.worksheet import Worksheet
 
 from blendkit.model.blend import OUTPUT_SHEETS_PROPERTY, kept_sheet_titles, output_sheets_value, written_sheets
 from blendkit.model.formula import Formula, RunInfo
-from blendkit.write.workbook import conflicts, result, run_info, shadow_prices
+from blendkit.write.workbook import (
+    changes,
+    conflicts,
+    overview,
+    result,
+    result_data,
+    run_info,
+    shadow_prices,
+)
+from blendkit.write.workbook.replaced import mark_replaced
 from blendkit.write.workbook.save import same_file, save_atomically
 from blendkit.write.workbook.saved_results import saved_results, with_saved_results
 
@@ -43,9 +56,12 @@ from blendkit.write.workbook.saved_results import saved_results, with_saved_resu
 # does not call for it). A new output sheet is a module in this folder and one line here.
 SHEET_WRITERS = (
     result,
+    overview,  # written after Result (it links to its blocks), then moved first
     conflicts,
+    changes,
     shadow_prices,
     run_info,
+    result_data,
 )
 
 # Sheets this writer owns. A sheet of one of these names (any case) is replaced when the
@@ -75,6 +91,7 @@ def write_workbook(
         data = _read_source(source, output, run)
     workbook = load_workbook(io.BytesIO(data), data_only=False)
     kept = _make_room(workbook)
+    mark_replaced(workbook, formula.blend.replaced)
     saved = saved_results(data, workbook)  # by the titles the input gives its sheets
     _rename(workbook, kept)
     saved = {kept.get(title, title): cells for title, cells in saved.items()}
@@ -82,7 +99,8 @@ def write_workbook(
     for writer in SHEET_WRITERS:
         writer.write(workbook, formula, run, title)
     _mark_output_sheets(workbook)
-    _show_first(workbook, workbook[result.TITLE])
+    first = overview.TITLE if overview.TITLE in workbook.sheetnames else result.TITLE
+    _show_first(workbook, workbook[first])
     # The live formulas on Result have no saved result yet: ask for a full recalculation.
     workbook.calculation.fullCalcOnLoad = True
     buffer = io.BytesIO()

@@ -35,6 +35,8 @@ LINK = Font(bold=True, size=12, underline="single", color="0563C1")
 # The broken soft limits block: a warm fill that stands out from the plain tables.
 ALERT_FILL = PatternFill(fill_type="solid", start_color="FCE4D6", end_color="FCE4D6")
 ALERT_TEXT = Font(bold=True, color="9C0006")
+# An input cell whose value came from a price list (`solve --prices`): a pale green.
+REPLACED_FILL = PatternFill(fill_type="solid", start_color="E2F0D9", end_color="E2F0D9")
 
 # Result sheet column widths, in characters: name column, then the number columns. A
 # header's height and the caution's default width follow them.

@@ -57,8 +57,16 @@ def write(workbook: Workbook, formula: Formula, run: RunInfo, title: str) -> Non
     put(sheet, 1, 1, f"{title}: limits that cannot all be met").font = TITLE_FONT
     write_caution(sheet, 2, _COLUMNS, _WIDTH)
     row = _write_explanation(sheet, formula, 4)
-    row = _write_conflict_sets(sheet, formula, row)
-    _write_relaxation(sheet, formula, row)
+    if not formula.parts:
+        row = _write_conflict_sets(sheet, formula, row)
+        _write_relaxation(sheet, formula, row)
+        return
+    for part in formula.parts:  # products solved as separate LPs: one section each
+        if part.status == "infeasible":
+            names = ", ".join(str(product.name) for product in part.blend.products)
+            put(sheet, row, 1, f"Product: {names}").font = TITLE_FONT
+            row = _write_conflict_sets(sheet, part, row + 2)
+            row = _write_relaxation(sheet, part, row) + 2
 
 
 def _write_explanation(sheet: Worksheet, formula: Formula, row: int) -> int:
@@ -115,14 +123,15 @@ def _write_conflict_sets(sheet: Worksheet, formula: Formula, row: int) -> int:
     return row
 
 
-def _write_relaxation(sheet: Worksheet, formula: Formula, row: int) -> None:
-    """The least-cost relaxation from `row`: the changes, then the cost once they are made."""
+def _write_relaxation(sheet: Worksheet, formula: Formula, row: int) -> int:
+    """The least-cost relaxation from `row`: the changes, then the cost once they are made;
+    returns the last row written."""
     put(sheet, row, 1, "Least-cost way out").font = SECTION
     relaxation = formula.relaxation
     if relaxation is None or not relaxation.changes:
         put(sheet, row + 1, 1, "No relaxation was found: change the limits above by hand; "
                                "one move per conflict is enough.")
-        return
+        return row + 1
     paragraph(sheet, row + 1, "Move all of these bounds together: the smallest moves that make the "
                               "workbook feasible (limits with a lower Priority give way first), and "
                               "among those the one with the cheapest blend.", _COLUMNS, _WIDTH)
@@ -131,7 +140,9 @@ def _write_relaxation(sheet: Worksheet, formula: Formula, row: int) -> None:
         number_format = _conflict_format(line)
         _write_member(sheet, row + offset, line, number_format)
         number(sheet.cell(row + offset, 7), line.relax_to, number_format)
-    _write_relaxed_cost(sheet, formula, row + 3 + len(relaxation.changes) + 1)
+    last = row + 3 + len(relaxation.changes) + 1
+    _write_relaxed_cost(sheet, formula, last)
+    return last
 
 
 def _write_relaxed_cost(sheet: Worksheet, formula: Formula, row: int) -> None:

@@ -11,6 +11,7 @@ them the same way.
 from __future__ import annotations
 
 import re
+import weakref
 from typing import Callable
 
 from openpyxl.utils import get_column_letter
@@ -28,6 +29,9 @@ INGREDIENTS_SHEET = "Ingredients"
 MAX_FORMULA_LENGTH = 8192
 # The nutrient table's column of live formulas; ratio and dry-matter lines divide its cells.
 LIVE_COLUMN = 8
+
+# Operands already found, per workbook being written (forgotten with the workbook).
+_OPERANDS: weakref.WeakKeyDictionary = weakref.WeakKeyDictionary()
 
 # Parts of a number format that never make it a percentage: quoted text, escaped
 # characters and [bracketed] sections. The same rule as the reader's.
@@ -136,6 +140,15 @@ def _sum_formula(terms: list[str], percent: bool = True) -> str:
 
 
 def _input_operand(workbook: Workbook, reference: str | None) -> str | None:
+    """`_find_operand`, remembered per workbook: a Result sheet asks for each input cell
+    once per product and nutrient."""
+    known = _OPERANDS.setdefault(workbook, {})
+    if reference not in known:
+        known[reference] = _find_operand(workbook, reference)
+    return known[reference]
+
+
+def _find_operand(workbook: Workbook, reference: str | None) -> str | None:
     """The reader's "Sheet!A1" (or bare "A1", on Ingredients) as a formula operand.
 
     A number shown as a percentage (0.05 shown as 5%) was read as the number shown, so

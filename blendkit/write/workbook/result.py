@@ -58,10 +58,10 @@ def write(workbook: Workbook, formula: Formula, run: RunInfo, title: str) -> Non
     for column in range(2, RESULT_COLUMNS + 1):
         sheet.column_dimensions[get_column_letter(column)].width = NUMBER_WIDTH
     _write_top(sheet, formula, title)
-    if not formula.solved:
-        _write_unsolved(sheet, formula)
-    elif formula.several:
+    if formula.several and any(product.solved for product in formula.products):
         _write_several(sheet, workbook, formula)
+    elif not formula.solved:
+        _write_unsolved(sheet, formula)
     else:
         _write_one(sheet, workbook, formula)
 
@@ -139,10 +139,12 @@ def _write_several(sheet: Worksheet, workbook: Workbook, formula: Formula) -> No
     sheet["A6"] = "Total cost"
     number(sheet.cell(6, 2), formula.cost, MONEY_FORMAT)
     put(sheet, 6, 3, run_cost_unit(blend))
-    put(sheet, 6, 4, "all products together")
+    put(sheet, 6, 4, "all products together" if formula.solved else "not every product was formulated")
     sheet["A7"] = "Total cost from input prices"
     for cell in ("A6", "A7"):
         sheet[cell].font = BOLD
+    if formula.status == "infeasible":
+        _write_conflicts_pointer(sheet, formula, row=8)
 
     row = _write_broken(sheet, formula, 9)
     checks: list[tuple[int, int]] = []  # (row of the amount made, row of the live cost)
@@ -153,7 +155,7 @@ def _write_several(sheet: Worksheet, workbook: Workbook, formula: Formula) -> No
     if formula.products and len(checks) == len(formula.products):
         _write_total_check(sheet, blend, checks)
     else:
-        sheet["C7"] = _NO_CHECK
+        sheet["C7"] = _NO_CHECK if formula.solved else "not every product was formulated"
     row = write_stocks(sheet, formula, row)
     _write_notes(sheet, formula.notes_besides_broken_limits, row)
     sheet.freeze_panes = "B1"  # the name column stays; blocks scroll by
@@ -181,6 +183,8 @@ def _write_product(
     settings = blend.settings
     put(sheet, row, 1, "Product").font = SECTION
     put(sheet, row, 2, product.name).font = SECTION
+    if not product.solved:
+        return _write_unsolved_product(sheet, product, row), None
     put(sheet, row + 1, 1, "Amount made").font = BOLD
     number(sheet.cell(row + 1, 2), product.amount, whole_format(product.amount))
     put(sheet, row + 1, 3, settings.mass_unit)
@@ -195,6 +199,16 @@ def _write_product(
                         cost=product.cost, unit=cost_unit(settings))
     below = write_tables(sheet, workbook, blend, block)
     return below + 1, (row + 1, check) if check is not None else None
+
+
+def _write_unsolved_product(sheet: Worksheet, product: ProductFormula, row: int) -> int:
+    """A product without a formula: its status and message under its name; returns the
+    first row after the block."""
+    put(sheet, row + 1, 1, "Status").font = BOLD
+    put(sheet, row + 1, 2, product.status).font = STATUS_ALERT
+    put(sheet, row + 2, 1, "Message").font = BOLD
+    put(sheet, row + 2, 2, product.message)
+    return row + 4
 
 
 def _write_cost(

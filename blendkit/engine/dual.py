@@ -1,0 +1,233 @@
+"""The dual simplex method, used when a dual feasible basis is at hand.
+
+From a basis whose reduced costs all have the right sign (after a change of bounds or
+right-hand sides, or from the basis of logicals when no cost asks a variable to move),
+each iteration picks a basic variable outside its bounds to leave (`pricing`), and the
+entering variable by the dual ratio test with bound flipping (`ratio_test`), so the basis
+stays dual feasible throughout and the run ends at a primal feasible, hence optimal, one.
+The notation is the one of `blendkit.engine.simplex`.
+"""
+
+from __future__ import annotations
+
+import numpy as np
+
+from blendkit.engine.basis_factor import SingularBasis
+from blendkit.engine.pricing import StallWatch, leaving_position, update_dual_weights
+from blendkit.engine.ratio_test import dual_ratio_test
+from blendkit.engine.simplex_state import SimplexState, pivots_disagree
+
+
+def start_dual(state: SimplexState, basis=None) -> bool:
+    """Set up a dual feasible basis without artificials; False when there is none at hand.
+
+    From `basis` (head, at_upper) when given, else from the basis of logicals (all
+    duals zero, so d = c). A nonbasic variable with both bounds finite is put at the
+    bound its reduced cost favours; one with a single finite bound must already be
+    on the right side, and a free one must have a zero reduced cost.
+    """
+    n, m, td = state.n, state.m, state.tol.dual_feasibility
+    lo, up = state.lower[: n + m], state.upper[: n + m]
+    state.add_artificials(np.zeros(0, dtype=int), np.zeros(0))
+    if basis is not None:
+        head, at_upper = (np.asarray(b) for b in basis)
+        if head.shape != (m,) or np.any(head >= n + m) or np.unique(head).size != m:
+            return False
+    else:
+        head, at_upper = n + np.arange(m), np.zeros(n + m, dtype=bool)
+    state.set_head(head)
+    cost = np.concatenate([state.c_struct, np.zeros(m)])
+    try:
+        state.factor.factor(state.M[:, state.head])
+    except SingularBasis:
+        return False
+    d = cost - state.times_transpose(state.factor.btran(cost[state.head]))
+    low_ok, up_ok = np.isfinite(lo), np.isfinite(up)
+    nonbasic = ~state.basic & (lo != up)
+    wants_upper = d < -td
+    wants_lower = d > td
+    if np.any(nonbasic & wants_upper & ~up_ok) or np.any(nonbasic & wants_lower & ~low_ok):
+        return False
+    if np.any(nonbasic & ~low_ok & ~up_ok & (np.abs(d) > td)):
+        return False
+    state.place_nonbasics(np.where(wants_upper, True, np.where(wants_lower, False, np.asarray(at_upper, bool))))
+    state.basic_values()
+    return True
+
+
+def run_dual(state: SimplexState, cost: np.ndarray) -> str:
+    """Dual simplex iterations until primal feasible ("optimal"), or a reason to stop.
+
+    Returns "optimal", "infeasible" (no entering variable: the dual is unbounded),
+    "stalled" or "iteration_limit".
+    """
+    with np.errstate(divide="ignore", invalid="ignore", over="ignore"):  # infinite bounds
+        return _DualRun(state, cost).run()
+
+
+class _DualRun:
+    """One run of dual iterations, with the arrays each iteration reads kept at hand.
+
+    The basic values, their bounds and tolerances are kept by basis position (xb, lb, ub,
+    slack) between refactorisations, and each nonbasic variable's way to move as +1 / -1
+    (`way`, `back` = -way), so each iteration touches few arrays.
+    """
+
+    __slots__ = ("state", "cost", "d", "rise", "fall", "way", "back", "two_way", "span", "weights",
+                 "primal_tol", "dual_tol", "pivot_tol", "stall", "xb", "lb", "ub", "slack")
+
+    def __init__(self, state: SimplexState, cost: np.ndarray):
+        tol = state.tol
+        self.state = state
+        self.cost = cost
+        self.d = state.fresh_duals(cost)
+        rise_f, fall_f = state.mobility()
+        self.rise, self.fall = rise_f > 0, fall_f > 0
+        # The one way each nonbasic variable may move: +1 up, -1 down, 0 not at all.
+        # Free nonbasic variables (both ways) take the slower two-sided search below.
+        self.way = rise_f - fall_f
+        self.back = -self.way
+        self.two_way = bool(np.any(self.rise & self.fall))
+        self.span = state.upper - state.lower
+        self.weights = np.ones(state.m)
+        self.primal_tol, self.dual_tol, self.pivot_tol = tol.primal_feasibility, tol.dual_feasibility, tol.pivot
+        self.stall = StallWatch(float(cost @ state.z))
+        self.load_positions()
+
+    def run(self) -> str:
+        """The iterations; see `run_dual`."""
+        state = self.state
+        factor, weights, stalled = state.factor, self.weights, self.stall.record
+        while True:
+            if state.iterations >= state.max_iterations:
+                self.store_positions()
+                return "iteration_limit"
+            xb, lb, ub = self.xb, self.lb, self.ub
+            r = leaving_position(xb, lb, ub, self.slack, weights)
+            if r < 0:
+                if self.confirm_feasible():
+                    state.d = self.d
+                    return "optimal"
+                continue
+            rises = xb[r] < lb[r]  # the leaving variable moves up to its lower bound
+            target = lb[r] if rises else ub[r]
+            row = state.pivot_row(r)
+            choice = self.entering(r, rises, target, row)
+            if choice is None:
+                self.store_positions()
+                return "infeasible"
+            q, flipped = choice
+            alpha = factor.ftran(state.column(q))
+            pivot = alpha[r]
+            if pivots_disagree(row[q], pivot):
+                self.refresh()
+                continue
+            state.iterations += 1
+            if flipped.size:
+                self.flip(flipped)
+            progress = self.pivot(r, q, rises, target, alpha, row)
+            update_dual_weights(weights, alpha, pivot, r)
+            factor.update(r, alpha)
+            if factor.due:
+                self.refresh()
+            if stalled(progress):
+                self.store_positions()
+                return "stalled"
+
+    # ----- the position arrays and the refactorisation ------------------------------
+
+    def load_positions(self) -> None:
+        """Basic values, bounds and feasibility slack by basis position, from the state."""
+        state = self.state
+        head = state.head
+        self.lb, self.ub = state.lower[head], state.upper[head]
+        self.slack = self.primal_tol * (1 + np.minimum(np.abs(self.lb), np.abs(self.ub)))
+        self.xb = state.z[head].copy()
+
+    def store_positions(self) -> None:
+        """Write the basic values back into the state's z."""
+        self.state.z[self.state.head] = self.xb
+
+    def refresh(self) -> None:
+        """`SimplexState.refresh`, with the position arrays written back and reloaded."""
+        self.store_positions()
+        self.d = self.state.refresh(self.cost)
+        self.load_positions()
+
+    def confirm_feasible(self) -> bool:
+        """True when every basic value is within its bounds on a fresh factorisation
+        (refactorising first when updates are pending); the values end in the state."""
+        if not self.state.factor.updates:
+            self.store_positions()
+            return True
+        self.refresh()
+        return not np.any(np.maximum(self.lb - self.xb, self.xb - self.ub) > self.slack)
+
+    # ----- one iteration ------------------------------------------------------------
+
+    def entering(self, r: int, rises: bool, target: float, row: np.ndarray):
+        """(q, flipped) from the dual ratio test over pivot row `row`, or None when no
+        variable can enter (the problem is infeasible)."""
+        smallest = self.pivot_tol * max(1.0, row.max(initial=0.0), -row.min(initial=0.0))
+        d = self.d
+        if self.two_way:
+            # Change of the leaving variable per unit rise of each nonbasic variable.
+            gain = -row if rises else row
+            up = (self.rise & (gain > smallest)).nonzero()[0]
+            down = (self.fall & (gain < -smallest)).nonzero()[0]
+            order = np.concatenate([up, down])
+            # Distance of each reduced cost from changing sign, and its rate of change.
+            room = np.maximum(np.concatenate([d[up], -d[down]]), 0.0)
+            size = np.abs(gain[order])
+        else:
+            way = self.way
+            signed = row * (self.back if rises else way)  # gain (as above) * way
+            order = (signed > smallest).nonzero()[0]
+            room = np.maximum(d[order] * way[order], 0.0)
+            size = signed[order]
+        if not order.size:
+            return None
+        infeasible_by = abs(self.xb[r] - target)
+        return dual_ratio_test(order, room, size, self.span, infeasible_by, self.dual_tol)
+
+    def flip(self, flipped: np.ndarray) -> None:
+        """Move the variables `flipped` to their other bound and the basic values with them."""
+        state, span = self.state, self.span
+        at_upper = state.at_upper
+        change = np.where(at_upper[flipped], -span[flipped], span[flipped])
+        state.z[flipped] += change
+        at_upper[flipped] = ~at_upper[flipped]
+        self.rise[flipped], self.fall[flipped] = self.fall[flipped], self.rise[flipped]
+        self.way[flipped] = -self.way[flipped]
+        self.back[flipped] = -self.back[flipped]
+        self.xb -= state.factor.ftran(state.M[:, flipped] @ change)
+
+    def pivot(self, r: int, q: int, rises: bool, target: float, alpha: np.ndarray, row: np.ndarray) -> float:
+        """Bring q into basis position r and move the leaving variable p = head[r] to
+        `target`, the bound it rises or falls to; update the values, d and the
+        mobility of p and q. Returns the rise of the objective."""
+        state, xb, d, rise, fall, way, back = self.state, self.xb, self.d, self.rise, self.fall, self.way, self.back
+        head, lb, ub = state.head, self.lb, self.ub
+        p = int(head[r])
+        pivot = alpha[r]
+        step = (xb[r] - target) / pivot  # how far q moves
+        xb -= step * alpha
+        xb[r] = state.z[q] + step  # q takes p's position
+        state.z[p] = target
+        theta_d = d[q] / row[q]
+        d -= theta_d * row
+        d[q] = 0.0
+        state.at_upper[p] = not rises
+        state.basic[p] = False
+        state.basic[q] = True
+        head[r] = q
+        lb[r], ub[r] = state.lower[q], state.upper[q]
+        self.slack[r] = self.primal_tol * (1 + min(abs(lb[r]), abs(ub[r])))
+        movable = self.span[p] != 0
+        rise[p] = movable and rises
+        fall[p] = movable and not rises
+        rise[q] = fall[q] = False
+        way[p] = (1.0 if rises else -1.0) if movable else 0.0
+        back[p] = -way[p]
+        way[q] = back[q] = 0.0
+        return abs(theta_d * step * pivot)

@@ -1,0 +1,215 @@
+"""The state of one simplex run: the matrix M, the bounds, the values and the basis.
+
+`SimplexState` holds what the primal and the dual iterations (`primal`, `dual`) work on,
+the LU factors of the basis (`basis_factor`), the starting bases of the primal method,
+and the steps both iteration loops share: the pivot row, the pivot agreement check and the
+refactorisation that refreshes the values and the duals. The notation is the one of
+`blendkit.engine.simplex`.
+"""
+
+from __future__ import annotations
+
+import numpy as np
+import scipy.sparse as sp
+
+from blendkit.engine.basis_factor import BasisFactor, SingularBasis, SparseBasisFactor
+from blendkit.engine.standard_form import StandardForm
+from blendkit.engine.tolerances import (
+    DENSE_REFACTOR_MAX,
+    DENSE_REFACTOR_MIN,
+    DENSE_REFACTOR_PER_ROOT,
+    PIVOT_AGREEMENT,
+    SPARSE_DENSITY,
+    SPARSE_REFACTOR_EVERY,
+    SPARSE_ROWS,
+    Tolerances,
+)
+
+
+def pivots_disagree(row_entry: float, pivot: float) -> bool:
+    """True when the pivot row and the entering column give different pivot elements:
+    rounding has built up, and the basis should be refactorised before pivoting."""
+    return abs(row_entry - pivot) > PIVOT_AGREEMENT * (1 + abs(pivot))
+
+
+class SimplexState:
+    """One run's matrix, bounds, values and basis; see `blendkit.engine.simplex`.
+
+    `z` holds every variable's value, `head` the variable basic in each position,
+    `basic` and `at_upper` (for nonbasics) one flag per variable; `y` and `d` are the last
+    duals and reduced costs computed, `ray` the direction found when unbounded.
+    """
+
+    def __init__(self, sf: StandardForm, tol: Tolerances, max_iterations: int):
+        self.tol = tol
+        self.max_iterations = max_iterations
+        self.A = sf.A
+        self.m, self.n = sf.A.shape
+        self.c_struct = sf.c
+        self.lower = np.concatenate([sf.col_lower, sf.row_lower])
+        self.upper = np.concatenate([sf.col_upper, sf.row_upper])
+        self.art_row = np.zeros(0, dtype=int)
+        self.art_sign = np.zeros(0)
+        self.iterations = 0
+        self.y = self.d = self.ray = None
+        self._unit = np.zeros(self.m)  # e_r, for the pivot row
+        nonzeros = self.A.nnz if sp.issparse(self.A) else np.count_nonzero(self.A)
+        density = nonzeros / max(1, self.m * self.n)
+        self.sparse = self.m >= SPARSE_ROWS and density <= SPARSE_DENSITY
+        if self.sparse:
+            self.factor = SparseBasisFactor(refactor_every=SPARSE_REFACTOR_EVERY)
+            self.M = sp.hstack([sp.csc_matrix(self.A), -sp.identity(self.m, format="csc")], format="csc")
+        else:
+            every = np.clip(np.sqrt(self.m) * DENSE_REFACTOR_PER_ROOT, DENSE_REFACTOR_MIN, DENSE_REFACTOR_MAX)
+            self.factor = BasisFactor(refactor_every=int(every))
+            dense = self.A.toarray() if sp.issparse(self.A) else self.A
+            self.M = np.hstack([dense, -np.eye(self.m)])
+
+    # ----- the matrix M = [A, -I, artificial columns] -------------------------------
+
+    def column(self, j: int) -> np.ndarray:
+        """Column j of M, as a dense vector."""
+        if self.sparse:
+            M = self.M
+            col = np.zeros(self.m)
+            start, stop = M.indptr[j], M.indptr[j + 1]
+            col[M.indices[start:stop]] = M.data[start:stop]
+            return col
+        return self.M[:, j]
+
+    def times(self, z: np.ndarray) -> np.ndarray:
+        """M z."""
+        return self.M @ z
+
+    def times_transpose(self, y: np.ndarray) -> np.ndarray:
+        """M^T y."""
+        return self.M.T @ y
+
+    def add_artificials(self, rows: np.ndarray, signs: np.ndarray) -> None:
+        """Append one artificial column sign * e_row per given row to M."""
+        self.art_row, self.art_sign = rows, signs
+        if rows.size == 0 and self.M.shape[1] == self.n + self.m:
+            return  # nothing to add or remove
+        if self.sparse:
+            columns = sp.csc_matrix((signs, (rows, np.arange(rows.size))), shape=(self.m, rows.size))
+            self.M = sp.hstack([self.M[:, : self.n + self.m], columns], format="csc")
+        else:
+            columns = np.zeros((self.m, rows.size))
+            columns[rows, np.arange(rows.size)] = signs
+            self.M = np.hstack([self.M[:, : self.n + self.m], columns])
+
+    # ----- starting bases -----------------------------------------------------------
+
+    def set_head(self, head: np.ndarray) -> None:
+        """Make the variables in `head` basic, in that order, and every other nonbasic."""
+        self.head = np.array(head, dtype=int)
+        self.basic = np.zeros(self.lower.size, dtype=bool)
+        self.basic[self.head] = True
+
+    def place_nonbasics(self, at_upper: np.ndarray) -> None:
+        """Put each nonbasic variable at the bound `at_upper` asks for.
+
+        An infinite bound cannot be asked for: a variable without a finite upper bound
+        goes to its lower bound, one with only an upper bound to that, a free one to zero.
+        """
+        low_ok, up_ok = np.isfinite(self.lower), np.isfinite(self.upper)
+        at_upper = (at_upper & up_ok) | (~low_ok & up_ok)
+        at_upper[self.head] = False
+        self.at_upper = at_upper
+        self.z = np.where(at_upper, self.upper, np.where(low_ok, self.lower, 0.0))
+
+    def start_from(self, head: np.ndarray, at_upper: np.ndarray) -> bool:
+        """Take a given basis; True when it is primal feasible, so phase one can be skipped.
+
+        The basis is dropped (False) when it does not fit this problem, is singular, or
+        leaves a basic variable outside its bounds.
+        """
+        n, m, tp = self.n, self.m, self.tol.primal_feasibility
+        head = np.asarray(head, dtype=int)
+        at_upper = np.asarray(at_upper, dtype=bool)
+        if head.shape != (m,) or at_upper.shape != (n + m,) or np.any(head < 0) or np.any(head >= n + m):
+            return False
+        if np.unique(head).size != m:
+            return False
+        self.add_artificials(np.zeros(0, dtype=int), np.zeros(0))
+        self.set_head(head)
+        self.place_nonbasics(at_upper)
+        try:
+            self.refactor()
+        except SingularBasis:
+            return False
+        xb = self.z[self.head]
+        lb, ub = self.lower[self.head], self.upper[self.head]
+        return bool(np.all(xb >= lb - tp * (1 + np.abs(lb))) and np.all(xb <= ub + tp * (1 + np.abs(ub))))
+
+    def start(self) -> None:
+        """Phase one's start: nonbasics at a bound, logicals basic where they fit,
+        artificials elsewhere."""
+        n, m, tp = self.n, self.m, self.tol.primal_feasibility
+        lo, up = self.lower[: n + m], self.upper[: n + m]
+        x = np.where(np.isfinite(lo[:n]), lo[:n], np.where(np.isfinite(up[:n]), up[:n], 0.0))
+        at_upper = np.zeros(n + m, dtype=bool)
+        at_upper[:n] = ~np.isfinite(lo[:n]) & np.isfinite(up[:n])
+        activity = self.A @ x
+        rl, ru = lo[n:], up[n:]
+        below = activity < rl - tp * (1 + np.abs(rl))
+        above = activity > ru + tp * (1 + np.abs(ru))
+        fits = ~(below | above)
+        s = np.where(fits, activity, np.where(below, rl, ru))
+        at_upper[n:] = above
+        rows = np.flatnonzero(~fits)
+        self.add_artificials(rows, np.where(below[rows], 1.0, -1.0))
+        k = rows.size
+        self.lower = np.concatenate([lo, np.zeros(k)])
+        self.upper = np.concatenate([up, np.full(k, np.inf)])
+        self.z = np.concatenate([x, s, np.abs(activity[rows] - s[rows])])
+        self.at_upper = np.concatenate([at_upper, np.zeros(k, dtype=bool)])
+        head = np.where(fits, n + np.arange(m), 0)
+        head[rows] = n + m + np.arange(k)
+        self.set_head(head)
+        self.refactor()
+
+    # ----- values, duals and the pivot row --------------------------------------------
+
+    def refactor(self) -> None:
+        """Factorise the basis afresh and recompute the basic values from the nonbasics."""
+        self.factor.factor(self.M[:, self.head])
+        self.basic_values()
+
+    def basic_values(self) -> None:
+        """Set the basic variables from the nonbasic ones: B z_B = -N z_N."""
+        nonbasic_z = np.where(self.basic, 0.0, self.z)
+        self.z[self.head] = self.factor.ftran(-self.times(nonbasic_z))
+
+    def fresh_duals(self, cost: np.ndarray) -> np.ndarray:
+        """Recompute y and return d = cost - M^T y from the current factorisation."""
+        self.y = self.factor.btran(cost[self.head])
+        return cost - self.times_transpose(self.y)
+
+    def refresh(self, cost: np.ndarray) -> np.ndarray:
+        """Refactorise, then recompute the basic values, y and d = cost - M^T y.
+
+        Both iteration loops call this when the update file is full, when rounding has
+        built up, and before they stop, so that they stop on fresh numbers.
+        """
+        self.refactor()
+        return self.fresh_duals(cost)
+
+    def pivot_row(self, r: int) -> np.ndarray:
+        """Row r of B^-1 M (alpha_r): how basic position r changes with each variable."""
+        e_r = self._unit
+        e_r[r] = 1.0
+        row = self.times_transpose(self.factor.btran(e_r))
+        e_r[r] = 0.0
+        return row
+
+    def mobility(self) -> tuple[np.ndarray, np.ndarray]:
+        """1.0 where a variable may rise (fall) from where it sits, 0.0 where it may not.
+
+        Basic and fixed variables may do neither; a free nonbasic variable may do both.
+        """
+        movable = ~self.basic & (self.lower != self.upper)
+        free = ~np.isfinite(self.lower) & ~np.isfinite(self.upper)
+        rise = (movable & ~self.at_upper).astype(float)
+        fall = (movable & (self.at_upper | free)).astype(float)
+        return rise, fall

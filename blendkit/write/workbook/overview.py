@@ -1,0 +1,104 @@
+"""The Overview sheet, first in the workbook when a run makes more than one product.
+
+One row per product: its status, cost, the cost at the previous run and the change (when
+the run was compared with an earlier output), how many of its limits bind, how many
+soft specs it misses, and a link to its block on the Result sheet. The caution heads
+the sheet, as on every sheet a reviewer opens first.
+"""
+
+from __future__ import annotations
+
+from openpyxl.utils import get_column_letter
+from openpyxl.workbook.workbook import Workbook
+from openpyxl.worksheet.hyperlink import Hyperlink
+from openpyxl.worksheet.worksheet import Worksheet
+
+from blendkit.model.formula import Formula, ProductFormula, RunInfo
+from blendkit.model.units import cost_unit
+from blendkit.write.workbook import result
+from blendkit.write.workbook.cells import (
+    BOLD,
+    LINK,
+    MONEY_FORMAT,
+    STATUS_ALERT,
+    TITLE_FONT,
+    header,
+    new_sheet,
+    number,
+    put,
+    write_caution,
+)
+from blendkit.write.workbook.live import quote_sheet
+
+TITLE = "Overview"
+
+_LABELS = ("Product", "Status", "Cost", "Unit", "Previous cost", "Change", "Binding limits",
+           "Soft specs not met", "Result")
+_WIDTHS = (28, 12, 12, 14, 14, 12, 10, 10, 24)
+# The table's header row (rows above: title, caution, run summary).
+_HEADER_ROW = 7
+
+
+def write(workbook: Workbook, formula: Formula, run: RunInfo, title: str) -> None:
+    """One row per product, when the run has more than one; nothing otherwise."""
+    if len(formula.products) < 2:
+        return
+    sheet = new_sheet(workbook, TITLE)
+    for column, width in enumerate(_WIDTHS, start=1):
+        sheet.column_dimensions[get_column_letter(column)].width = width
+    put(sheet, 1, 1, f"{title}: {len(formula.products)} products").font = TITLE_FONT
+    write_caution(sheet, 2, len(_WIDTHS), sum(_WIDTHS))
+    put(sheet, 4, 1, "Status").font = BOLD
+    put(sheet, 4, 2, formula.status)
+    put(sheet, 5, 1, "Message").font = BOLD
+    put(sheet, 5, 2, formula.message)
+    header(sheet, _HEADER_ROW, list(_LABELS))
+    blocks = _result_blocks(workbook)
+    for row, product in enumerate(formula.products, start=_HEADER_ROW + 1):
+        _write_row(sheet, row, formula, product, blocks.get(product.name))
+    sheet.freeze_panes = sheet.cell(_HEADER_ROW + 1, 2)
+    workbook.move_sheet(sheet, offset=-workbook.index(sheet))
+
+
+def _write_row(sheet: Worksheet, row: int, formula: Formula, product: ProductFormula,
+               block_row: int | None) -> None:
+    """One product: name, status, cost and unit, previous cost and change, counts, link."""
+    put(sheet, row, 1, product.name)
+    status = put(sheet, row, 2, product.status)
+    if not product.solved:
+        status.font = STATUS_ALERT
+    number(sheet.cell(row, 3), product.cost, MONEY_FORMAT)
+    put(sheet, row, 4, cost_unit(formula.blend.settings))
+    before = _previous_cost(formula, product)
+    number(sheet.cell(row, 5), before, MONEY_FORMAT)
+    if before is not None and product.cost is not None:
+        number(sheet.cell(row, 6), product.cost - before, MONEY_FORMAT)
+    limits = [limit for limit in product.limits if limit.kind != "stock"]
+    if product.solved:
+        put(sheet, row, 7, sum(1 for limit in limits if limit.binding))
+        put(sheet, row, 8, sum(1 for limit in limits if limit.broken))
+    if block_row is not None:
+        link = put(sheet, row, 9, f"{result.TITLE}!A{block_row}")
+        link.font = LINK
+        link.hyperlink = Hyperlink(ref=link.coordinate, location=f"{quote_sheet(result.TITLE)}!A{block_row}")
+
+
+def _previous_cost(formula: Formula, product: ProductFormula) -> float | None:
+    """The product's cost at the run this one was compared with (None without one)."""
+    changes = formula.changes
+    if changes is None:
+        return None
+    entry = next((item for item in changes.formulas if item.key == product.name), None)
+    return None if entry is None else entry.cost_before
+
+
+def _result_blocks(workbook: Workbook) -> dict[str, int]:
+    """The row of each product's block on the Result sheet, by product name."""
+    if result.TITLE not in workbook.sheetnames:
+        return {}
+    sheet = workbook[result.TITLE]
+    return {
+        row[1].value: row[0].row
+        for row in sheet.iter_rows(min_col=1, max_col=2)
+        if row[0].value == "Product" and row[1].value is not None
+    }
