@@ -21,6 +21,7 @@ from blendkit.errors import OutputError, WorkbookError
 from blendkit.model.blend import Blend
 from blendkit.model.formula import Formula
 from blendkit.model.prices import PriceList
+from blendkit.read.package import ReadLimits
 from blendkit.pipeline import Outcome, Prepared, assemble, finish, formulate_lp, lp_blends, prepare
 
 # progress(done, total): called after each LP is solved.
@@ -47,6 +48,7 @@ def solve_books(
     jobs: int | None = None,
     progress: Progress | None = None,
     check: bool = True,
+    limits: ReadLimits = ReadLimits(),
 ) -> list[BookResult]:
     """Solve every workbook in `books` (see the module docstring), in the order given.
 
@@ -54,14 +56,16 @@ def solve_books(
     paths are checked for every workbook before anything is solved: an OutputError for
     any of them is raised at once. `output`, `mps_file` and `compare` apply to a single
     workbook only. `jobs` is the number of worker processes (default: one per CPU).
-    `check` re-solves every LP with HiGHS as a cross-check.
+    `check` re-solves every LP with HiGHS as a cross-check. `limits` bound each
+    workbook's cells and unpacked size.
     """
     if len(books) > 1 and (output is not None or mps_file is not None or compare is not None):
         raise OutputError("-o, --export-mps and --compare name one file, so they take one workbook only")
     prepared: list[Prepared | WorkbookError] = []
     for book in books:
         try:
-            prepared.append(prepare(book, output, mps_file=mps_file, in_place=in_place, price_list=price_list))
+            prepared.append(prepare(book, output, mps_file=mps_file, in_place=in_place, price_list=price_list,
+                                    limits=limits))
         except WorkbookError as error:
             prepared.append(error)
     ready = [item for item in prepared if isinstance(item, Prepared)]

@@ -16,6 +16,7 @@ import typer
 from blendkit import __version__
 from blendkit.authoring import EXAMPLE_NAMES
 from blendkit.errors import OutputError, WorkbookError
+from blendkit.read.package import DEFAULT_MAX_CELLS, DEFAULT_MAX_UNPACKED_MB, ReadLimits
 
 # Each command imports the library it needs when it runs, so that `blendkit --help` and
 # start-up stay fast (numpy, scipy and openpyxl are loaded only to do work).
@@ -25,6 +26,15 @@ EXIT_WORKBOOK = 1
 EXIT_USAGE = 2
 EXIT_NO_BLEND = 3
 EXIT_ENGINE = 4
+# The reader's limits, shared by solve and check.
+MAX_CELLS = typer.Option(
+    DEFAULT_MAX_CELLS, "--max-cells", metavar="N", min=1,
+    help="Refuse a workbook with more than N cells in all its sheets, formatted empty cells included.",
+)
+MAX_UNPACKED_MB = typer.Option(
+    DEFAULT_MAX_UNPACKED_MB, "--max-unpacked-mb", metavar="MB", min=0.001,
+    help="Refuse a workbook whose parts unpack to more than MB megabytes.",
+)
 STATUS_EXIT = {"optimal": EXIT_SOLVED, "infeasible": EXIT_NO_BLEND, "unbounded": EXIT_NO_BLEND}
 
 app = typer.Typer(
@@ -95,6 +105,8 @@ def solve(
     overview: Path = typer.Option(None, "--overview", metavar="FILE", help="Also write one workbook summarising every book and formula of the run."),
     jobs: int = typer.Option(None, "--jobs", min=1, metavar="N", help="Solve in N worker processes (default: one per CPU); the results are the same for any N."),
     cross_check: bool = typer.Option(True, "--cross-check/--no-cross-check", help="Re-solve every LP with HiGHS (through scipy) and record the difference (default: on)."),
+    max_cells: int = MAX_CELLS,
+    max_unpacked_mb: float = MAX_UNPACKED_MB,
 ) -> None:
     """Find the least-cost formulas of one or more workbooks and write an output beside each."""
     from blendkit.run import solve_run
@@ -106,7 +118,8 @@ def solve(
     with _reporting(as_json):
         results = solve_run(books, output=output, mps_file=export_mps, in_place=in_place, compare=compare,
                             prices=prices, overview=overview, jobs=jobs, progress=progress_bar(as_json),
-                            check=cross_check)
+                            check=cross_check,
+                            limits=ReadLimits(max_cells=max_cells, max_unpacked_mb=max_unpacked_mb))
     if len(results) == 1 and results[0].error is not None:
         with _reporting(as_json):
             raise results[0].error
@@ -131,16 +144,20 @@ def _exit_code(result) -> int:
 @app.command()
 def check(
     book: Path = typer.Argument(..., metavar="BOOK", help="The workbook (.xlsx) to validate."),
+    max_cells: int = MAX_CELLS,
+    max_unpacked_mb: float = MAX_UNPACKED_MB,
 ) -> None:
     """Validate a workbook without solving it."""
     from blendkit.pipeline import check_workbook
 
     with _reporting(False):
-        blend = check_workbook(book)
+        blend = check_workbook(book, limits=ReadLimits(max_cells=max_cells, max_unpacked_mb=max_unpacked_mb))
     typer.echo(
         f"{book.name}: no problems found: {len(blend.ingredients)} ingredients, "
         f"{len(blend.nutrients)} nutrients, {len(blend.specs)} specs."
     )
+    for note in blend.notes:
+        typer.echo(f"  {note}")
     for item in blend.ingredients:
         if item.use and item.blanks:
             cells = "cell" if len(item.blanks) == 1 else "cells"

@@ -29,6 +29,7 @@ from blendkit.errors import OutputError
 from blendkit.model.formula import Formula, Relaxation, RunInfo
 from blendkit.model.blend import Blend
 from blendkit.model.prices import PriceList, apply_price_list
+from blendkit.read.package import ReadLimits
 from blendkit.read.values import name_key
 from blendkit.read.workbook import read_workbook
 from blendkit.write.mps import export_mps
@@ -45,9 +46,10 @@ class Outcome:
     output: Path
 
 
-def check_workbook(book: str | Path) -> Blend:
-    """Read and validate `book` without solving; raises WorkbookError on any problem."""
-    return read_workbook(book)
+def check_workbook(book: str | Path, *, limits: ReadLimits = ReadLimits()) -> Blend:
+    """Read and validate `book` without solving; raises WorkbookError on any problem
+    (also when the workbook is larger than `limits` allow)."""
+    return read_workbook(book, limits=limits)
 
 
 def formulate(blend: Blend, *, explain: bool = True, check: bool = True) -> Formula:
@@ -204,13 +206,14 @@ def prepare(
     mps_file: str | Path | None = None,
     in_place: bool = False,
     price_list: PriceList | None = None,
+    limits: ReadLimits = ReadLimits(),
 ) -> Prepared:
-    """Read `book` once, apply `price_list`, and check every output path before anything
-    is solved; raises WorkbookError or OutputError."""
+    """Read `book` once (within `limits`), apply `price_list`, and check every output path
+    before anything is solved; raises WorkbookError or OutputError."""
     book = Path(book)
     started = datetime.now(UTC).strftime("%Y-%m-%dT%H:%M:%SZ")
     data = _input_bytes(book)
-    blend = read_workbook(book, data=data)
+    blend = read_workbook(book, data=data, limits=limits)
     target = _target(book, output, in_place)
     mps_path = None if mps_file is None else Path(mps_file)
     check_outputs(book, target if not in_place else backup_path(book), mps_path)
@@ -254,6 +257,7 @@ def solve_workbook(
     compare: str | Path | None = None,
     price_list: PriceList | None = None,
     check: bool = True,
+    limits: ReadLimits = ReadLimits(),
 ) -> Outcome:
     """Read `book`, find the least-cost blend and write the output workbook.
 
@@ -264,12 +268,14 @@ def solve_workbook(
     about to be replaced when it holds a result of the same workbook. With `price_list`,
     its values replace the workbook's before solving (the file is never modified). With
     `check` (the default) every LP is also re-solved with HiGHS as a cross-check.
+    `limits` bound the workbook's cells and unpacked size (see `ReadLimits`).
 
     Raises WorkbookError for problems in the workbook and OutputError when the output
     cannot be written; an infeasible blend is a status of the returned formula, and
     its output workbook is still written so the reviewer sees what was tried.
     """
-    prepared = prepare(book, output, mps_file=mps_file, in_place=in_place, price_list=price_list)
+    prepared = prepare(book, output, mps_file=mps_file, in_place=in_place, price_list=price_list,
+                       limits=limits)
     return finish(prepared, formulate(prepared.blend, check=check), compare=compare)
 
 

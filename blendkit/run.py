@@ -8,6 +8,7 @@ from pathlib import Path
 from blendkit.batch import BookResult, Progress, solve_books
 from blendkit.errors import OutputError
 from blendkit.pipeline import same_file
+from blendkit.read.package import ReadLimits
 from blendkit.read.prices import read_price_list
 from blendkit.write.overview_book import write_overview
 
@@ -24,16 +25,18 @@ def solve_run(
     jobs: int | None = None,
     progress: Progress | None = None,
     check: bool = True,
+    limits: ReadLimits = ReadLimits(),
 ) -> list[BookResult]:
     """Solve `books` with the price list `prices` (if any) and write the `overview`
     workbook (if asked), cross-checking every LP with HiGHS unless `check` is off; raises WorkbookError for a bad price list and OutputError for
-    an output path that cannot be used."""
+    an output path that cannot be used. `limits` bound each workbook's cells and unpacked
+    size (and the price list's)."""
     books = [Path(book) for book in books]
     if overview is not None:
         _check_overview(Path(overview), books, prices)
-    price_list = read_price_list(prices) if prices is not None else None
+    price_list = read_price_list(prices, limits=limits) if prices is not None else None
     results = solve_books(books, output=output, mps_file=mps_file, in_place=in_place, compare=compare,
-                          price_list=price_list, jobs=jobs, progress=progress, check=check)
+                          price_list=price_list, jobs=jobs, progress=progress, check=check, limits=limits)
     if overview is not None:
         try:
             write_overview(results, Path(overview))

@@ -16,6 +16,7 @@ from dataclasses import dataclass
 from pathlib import Path
 
 from openpyxl import Workbook
+from openpyxl.packaging.custom import StringProperty
 from openpyxl.utils import get_column_letter
 
 from blendkit.model.formula import (
@@ -31,7 +32,9 @@ from blendkit.model.formula import (
     RunInfo,
     StockLine,
 )
-from blendkit.model.blend import DRY_MATTER, Blend, Group, Ingredient, Product, Settings, Spec
+from blendkit.model.blend import (
+    DRY_MATTER, OUTPUT_SHEETS_PROPERTY, Blend, Group, Ingredient, Product, Settings, Spec, output_sheets_value,
+)
 
 NUTRIENTS = ("Crude protein", "Energy", "Calcium", "Fibre")
 UNITS = {"Crude protein": "%", "Energy": "MJ/kg", "Calcium": "%", "Fibre": "%"}
@@ -190,8 +193,8 @@ def run_info(sha256: str) -> RunInfo:
 def write_source(path: Path, extra_sheets: tuple[str, ...] = ()) -> Path:
     """A small input workbook laid out as `make_blend`'s cells say; returns `path`.
 
-    `extra_sheets` adds empty sheets with those names (for output sheets left by an
-    earlier run, for example).
+    `extra_sheets` adds sheets with those names, marked (as blendkit marks its output
+    sheets) as left by an earlier run.
     """
     workbook = Workbook()
     sheet = workbook.active
@@ -213,6 +216,8 @@ def write_source(path: Path, extra_sheets: tuple[str, ...] = ()) -> Path:
         settings.append([key, value])
     for name in extra_sheets:
         workbook.create_sheet(name)["A1"] = "left over from an earlier run"
+    if extra_sheets:
+        workbook.custom_doc_props.append(StringProperty(name=OUTPUT_SHEETS_PROPERTY, value=output_sheets_value(extra_sheets)))
     workbook.save(path)
     return path
 

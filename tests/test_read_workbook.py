@@ -626,6 +626,7 @@ RATIO_INGREDIENTS = [
     ["Ingredient", "Cost", "Calcium (%)", "Phosphorus (%)", "Ca/P", "Energy (MJ/kg)"],
     ["Limestone", 48, 37.5, 0.02, 1875, 0],
     ["Monocalcium phosphate", 610, 16, 21, 0.76, 0],
+    ["Wheat", 190, 0.05, 0.3, 0.17, 12.8],  # some energy: a ratio by Energy must be able to have a value
 ]
 
 
@@ -1422,3 +1423,46 @@ def test_bad_penalty_and_priority_name_their_cells(tmp_path):
     assert "Specs!D2: penalty -1 must be above 0" in text
     assert "Specs!E3: priority 12 must be from 1 to 9" in text
     assert "Specs!D4: a penalty makes only an as-fed nutrient spec soft" in text
+
+
+# --- Names with parentheses that are not units ------------------------------------------------
+
+PAREN_INGREDIENTS = [
+    ["Ingredient", "Cost", "Crude protein (N x 6.25) (%)", "Energy (MJ/kg)", "Dry matter (oven) (%)"],
+    ["Barley", 180, 10.5, 12.8, 87],
+    ["Peas", 260, 21.0, 13.4, 88],
+]
+
+
+def test_a_spec_names_a_nutrient_whose_name_has_parentheses(tmp_path):
+    specs = [
+        ["Nutrient", "Min", "Max", "Basis"],
+        ["Crude protein (N x 6.25)", 14, None, None],  # the name as the header has it, less "(%)"
+        ["crude protein (n x 6.25) (%)", None, 30, "dry matter"],  # with the unit too
+        ["Crude protein (N x 6.25) / Energy (MJ/kg)", 0.9, None, None],
+    ]
+    settings = [["Setting", "Value"], ["Dry matter", "Dry matter (oven)"]]
+    blend = read_workbook(make_workbook(tmp_path, PAREN_INGREDIENTS, specs, settings))
+    assert [(s.nutrient, s.ratio) for s in blend.specs] == [
+        ("Crude protein (N x 6.25)", None),
+        ("Crude protein (N x 6.25)", None),
+        ("Crude protein (N x 6.25) / Energy (MJ/kg)", ("Crude protein (N x 6.25)", "Energy")),
+    ]
+    assert blend.settings.dry_matter == "Dry matter (oven)"
+
+
+def test_a_spec_naming_such_a_nutrient_twice_is_one_spec_repeated(tmp_path):
+    specs = [["Nutrient", "Min", "Max"], ["Crude protein (N x 6.25)", 14, None], ["Crude protein (N x 6.25) (%)", None, 30]]
+    assert problems_of(make_workbook(tmp_path, PAREN_INGREDIENTS, specs)) == [
+        'Specs!A3: "Crude protein (N x 6.25)" already has a spec in Specs!A2; put both bounds in one row '
+        "and delete the other"
+    ]
+
+
+def test_a_misspelt_nutrient_with_parentheses_gets_the_column_as_written(tmp_path):
+    specs = [["Nutrient", "Min", "Max"], ["Crude protien (N x 6.25)", 14, None]]
+    [problem] = problems_of(make_workbook(tmp_path, PAREN_INGREDIENTS, specs))
+    assert problem.startswith(
+        'Specs!A2: no nutrient column "Crude protien (N x 6.25)" in Ingredients; a spec must name one of its '
+        'nutrient columns; did you mean "Crude protein (N x 6.25)"?'
+    )

@@ -7,6 +7,8 @@ Every bound keeps the cell it was read from, so reports can point back to it.
 
 from __future__ import annotations
 
+import json
+from collections.abc import Iterable
 from dataclasses import dataclass, field
 from functools import cached_property
 from pathlib import Path
@@ -204,3 +206,63 @@ class Blend:
     def _by_name(self) -> dict[str, Ingredient]:
         """Ingredients by name, built once: writers look them up per line."""
         return {item.name: item for item in self.ingredients}
+
+
+# --- The output sheets: blendkit's own, and a user's sheet of the same name --------------------
+
+# The sheets blendkit adds to an output workbook (the titles of the writer's sheets), and the
+# workbook property (a custom document property) listing those a run wrote. A later run
+# replaces only the sheets that property lists, and keeps a user's own sheet of one of these
+# names under a new title. The reader notes the new title; the writer gives it.
+OUTPUT_SHEET_TITLES = ("Overview", "Result", "Conflicts", "Changes", "Shadow prices", "Run info", "Result data")
+OUTPUT_SHEETS_PROPERTY = "blendkit output sheets"
+
+# Excel's longest sheet title.
+_LONGEST_TITLE = 31
+
+
+def output_sheets_value(titles: Iterable[str]) -> str:
+    """The value of OUTPUT_SHEETS_PROPERTY for the sheets a run wrote."""
+    return json.dumps(list(titles), ensure_ascii=False)
+
+
+def written_sheets(value: object) -> frozenset[str]:
+    """The sheet titles (case-folded) an OUTPUT_SHEETS_PROPERTY value lists; none when the
+    property is missing or not as blendkit writes it."""
+    try:
+        titles = json.loads(value) if isinstance(value, str) else []
+    except ValueError:
+        return frozenset()
+    if not isinstance(titles, list):
+        return frozenset()
+    return frozenset(title.casefold() for title in titles if isinstance(title, str))
+
+
+def kept_sheet_titles(titles: list[str], written: frozenset[str]) -> dict[str, str | None]:
+    """What becomes of each sheet named like an output sheet (ignoring case) when blendkit
+    writes its output: None for a sheet an earlier run wrote (`written`, see
+    `written_sheets`), which is replaced; for a user's own sheet, the title it keeps in the
+    output: "<title> (input)", numbered when taken, at most 31 characters."""
+    owned = {title.casefold() for title in OUTPUT_SHEET_TITLES}
+    taken = {title.casefold() for title in titles} | owned
+    fate: dict[str, str | None] = {}
+    for title in titles:
+        if title.casefold() not in owned:
+            continue
+        if title.casefold() in written:
+            fate[title] = None
+            continue
+        fate[title] = _free_title(title, taken)
+        taken.add(fate[title].casefold())
+    return fate
+
+
+def _free_title(title: str, taken: set[str]) -> str:
+    """The first of "<title> (input)", "<title> (input 2)", ... not in `taken` (case-folded)."""
+    number = 1
+    while True:
+        suffix = " (input)" if number == 1 else f" (input {number})"
+        candidate = title[: _LONGEST_TITLE - len(suffix)] + suffix
+        if candidate.casefold() not in taken:
+            return candidate
+        number += 1

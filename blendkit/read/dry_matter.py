@@ -16,8 +16,8 @@ from blendkit.read.ingredients import INGREDIENTS
 from blendkit.read.names import nutrient_suggestions
 from blendkit.read.reading import Reading
 from blendkit.read.settings import SETTINGS
-from blendkit.read.tables import Column, Table
-from blendkit.read.values import format_number, name_key, read_number, split_unit
+from blendkit.read.tables import Column, Table, find_column
+from blendkit.read.values import format_number, name_key, read_number
 
 
 def find_dry_matter_column(reading: Reading) -> None:
@@ -34,8 +34,7 @@ def resolve_dry_matter(
     """The settings with Dry matter named as in the header, and its column (None if none)."""
     if nutrients is None:
         return settings, None  # the Ingredients header could not be read
-    name, _unit = split_unit(settings.dry_matter)
-    column = next((column for column in nutrients if column.key == name_key(name)), None)
+    column, name, _unit = find_column(settings.dry_matter, {column.key: column for column in nutrients})
     if column is not None:
         return replace(settings, dry_matter=column.name), column
     if "dry matter" in settings.cells:

@@ -18,6 +18,7 @@ import openpyxl
 from blendkit.errors import Problem, WorkbookError
 from blendkit.model.prices import PriceEntry, PriceList
 from blendkit.read.names import read_row_name
+from blendkit.read.package import ReadLimits, check_package, open_archive
 from blendkit.read.tables import Row, Table, Wanted, check_columns, empty_sheet, read_table
 from blendkit.read.values import format_number, name_key, read_number
 
@@ -32,16 +33,17 @@ _COLUMNS: Wanted = {
 _IGNORED = {"min", "max", "use", "unit"}
 
 
-def read_price_list(path: str | Path) -> PriceList:
+def read_price_list(path: str | Path, *, limits: ReadLimits = ReadLimits()) -> PriceList:
     """The price list in the workbook at `path`; raises WorkbookError with every problem,
-    each placed as "<file> <sheet>!<cell>"."""
+    each placed as "<file> <sheet>!<cell>" (also when the file is larger than `limits`
+    allow, checked before it is parsed)."""
     path = Path(path)
     try:
         data = path.read_bytes()
     except OSError as error:
         raise WorkbookError([Problem(path.name, f"cannot read the price list ({error.strerror or error})")]) from None
     problems: list[Problem] = []
-    table = _ingredients_table(path, data, problems)
+    table = _ingredients_table(data, limits, problems)
     entries = _entries(table, problems) if table is not None else []
     if problems:
         raise WorkbookError([Problem(path.name if p.where == "file" else f"{path.name} {p.where}", p.message)
@@ -56,9 +58,14 @@ def read_price_list(path: str | Path) -> PriceList:
     )
 
 
-def _ingredients_table(path: Path, data: bytes, problems: list[Problem]) -> Table | None:
+def _ingredients_table(data: bytes, limits: ReadLimits, problems: list[Problem]) -> Table | None:
     """The price list's Ingredients table (None, with a problem, when there is none)."""
     try:
+        with open_archive(data) as archive:
+            too_large = check_package(archive, limits, "file")
+        if too_large:
+            problems.extend(too_large)
+            return None
         values = openpyxl.load_workbook(io.BytesIO(data), data_only=True)
         formulas = openpyxl.load_workbook(io.BytesIO(data), data_only=False)
     except Exception as error:  # any file openpyxl cannot open: say so, never a traceback

@@ -38,6 +38,7 @@ class Reading:
     specs: list[Spec] = field(default_factory=list)
     groups: list[Group] = field(default_factory=list)
     limits: list[ProductLimit] = field(default_factory=list)
+    notes: list[str] = field(default_factory=list)  # what the run should say, though no problem
 
     def has(self, sheet: str) -> bool:
         """True when the workbook has the sheet (even with nothing in it)."""

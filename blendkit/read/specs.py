@@ -29,11 +29,14 @@ notes).
                 dry-matter specs cannot be soft.
 ``Priority``    optional, 1 to 9: when limits conflict, those with a lower priority
                 give way first (also on Groups and Limits; defaults by kind).
-The same nutrient (or ratio) with the same basis and product at most once.
+The same nutrient (or ratio) with the same basis and product at most once. A ratio whose
+divisor, or a dry-matter spec whose dry matter, is 0 in every ingredient that may be used is
+an error (see `blendkit.read.undefined_specs`).
 """
 
 from __future__ import annotations
 
+import difflib
 from dataclasses import dataclass
 
 from blendkit.errors import Problem
@@ -44,7 +47,7 @@ from blendkit.read.dry_matter import check_dry_matter_column
 from blendkit.read.ingredients import INGREDIENTS
 from blendkit.read.names import Names, for_product, nutrient_suggestions, row_product
 from blendkit.read.reading import Reading
-from blendkit.read.tables import Column, Row, Table, Wanted, check_columns, empty_sheet
+from blendkit.read.tables import Column, Row, Table, Wanted, check_columns, empty_sheet, find_column
 from blendkit.read.values import name_key, read_name, read_number, split_unit
 
 SPECS = "Specs"
@@ -207,7 +210,10 @@ def _check_repeated(
     if key not in seen:
         seen[key] = cell.ref
         return
-    shown = split_unit(text)[0] if target.ratio is None else text
+    if target.ratio is not None or (target.column is not None and name_key(text) == target.column.key):
+        shown = text.strip()  # a ratio, or a name with parentheses (no unit)
+    else:
+        shown = split_unit(text)[0]
     dry = " on a dry-matter basis" if basis == DRY_MATTER else ""
     problems.append(Problem(cell.ref, (
         f'"{shown}"{dry}{for_product(product)} already has a spec in {seen[key]}; '
@@ -236,20 +242,20 @@ def _check_penalty(
 
 def _spec_target(cell: Cell, text: str, context: SpecContext, problems: list[Problem]) -> _Target:
     """The nutrient or ratio a Specs row names; unknown names and bad ratios are reported."""
-    name, unit = split_unit(text)
     if context.nutrients is None:
-        return _Target((name_key(name),))
+        return _Target((name_key(split_unit(text)[0]),))
     by_key = {column.key: column for column in context.nutrients}
-    column = by_key.get(name_key(name))
+    column, name, unit = find_column(text, by_key)
     slashes = _top_level_slashes(text)
     if column is None and slashes:
         return _ratio_target(cell, text, slashes, by_key, context, problems)
     if column is None:
-        message = _unknown_nutrient(name, context.nutrients, context.ingredients_title)
+        shown = _typed_name(text, name, by_key)
+        message = _unknown_nutrient(shown, context.nutrients, context.ingredients_title)
         problems.append(Problem(cell.ref, message))
     else:
         _check_unit(cell, unit, column, problems)
-    return _Target((name_key(name),), column=column)
+    return _Target((column.key if column is not None else name_key(name),), column=column)
 
 
 def _ratio_target(
@@ -299,8 +305,8 @@ def _top_level_slashes(text: str) -> list[int]:
 
 def _nutrient(side: str, by_key: dict[str, Column]) -> tuple[Column | None, str]:
     """The nutrient column one side of a ratio names (None if none), and the unit written."""
-    name, unit = split_unit(side)
-    return by_key.get(name_key(name)), unit
+    column, _name, unit = find_column(side, by_key)
+    return column, unit
 
 
 def _report_ratio_sides(
@@ -310,19 +316,34 @@ def _report_ratio_sides(
     """Report each side of the ratio `text` (split at `at`) that names no nutrient column."""
     title = context.ingredients_title
     for side, where in ((text[:at], "before"), (text[at + 1:], "after")):
-        name = split_unit(side)[0]
+        column, name, _unit = find_column(side, by_key)
         if not name:
             problems.append(Problem(cell.ref, (
                 f'the ratio "{text}" has no nutrient {where} the "/"; write a ratio as two nutrient '
                 'columns around one "/", as in "Calcium / Phosphorus"'
             )))
-        elif name_key(name) not in by_key:
+        elif column is None:
+            name = _typed_name(side, name, by_key)
             known = {key: column.name for key, column in by_key.items()}
             problems.append(Problem(cell.ref, (
                 f'the ratio "{text}" names "{name}" {where} the "/", which is not a nutrient column '
                 f"of {title}; a ratio divides one nutrient column by another"
                 + nutrient_suggestions(name, known, title)
             )))
+
+
+def _typed_name(text: str, name: str, by_key: dict[str, Column]) -> str:
+    """How to show an unknown nutrient: the whole text or the text less its trailing
+    "(unit)", whichever is closer to a nutrient column (a name may hold parentheses)."""
+    whole = text.strip()
+    if whole == name or not by_key:
+        return name
+
+    def closeness(form: str) -> float:
+        """How close `form` comes to the closest nutrient column."""
+        return max(difflib.SequenceMatcher(None, name_key(form), key).ratio() for key in by_key)
+
+    return whole if closeness(whole) > closeness(name) else name
 
 
 def _check_unit(cell: Cell, unit: str, column: Column, problems: list[Problem]) -> None:

@@ -9,13 +9,18 @@ from __future__ import annotations
 import difflib
 from dataclasses import dataclass, field
 
+from openpyxl.utils import column_index_from_string, get_column_letter
+
 from blendkit.errors import Problem
 from blendkit.read.cells import Cell, read_cell, unsaved_message
-from blendkit.read.values import as_text, name_key, split_unit
+from blendkit.read.values import as_text, is_number_cell, name_key, split_unit
 
 # What a sheet's reader wants of its columns: column key (normalised header) ->
 # (header as written in messages, what the column is for, whether it is required).
 Wanted = dict[str, tuple[str, str, bool]]
+
+# The last column a sheet can have (XFD).
+_LAST_COLUMN = 16384
 
 # A data row: its cells by column key, one for each headed column.
 Row = dict[str, Cell]
@@ -33,13 +38,42 @@ class Column:
 
 
 @dataclass
+class Unheaded:
+    """Cells below the header row in a column whose header cell is blank: the first of
+    them, how many there are, and whether any holds a number."""
+
+    first: Cell
+    count: int = 0
+    numbers: bool = False
+
+
+@dataclass(frozen=True)
+class Layout:
+    """What of a sheet's layout a reader may not see on screen, which the reader points
+    out: whether the sheet is hidden, its hidden rows and columns (numbers), and its merged
+    ranges as (first row, first column, last row, last column)."""
+
+    hidden: bool = False
+    hidden_rows: frozenset[int] = frozenset()
+    hidden_columns: frozenset[int] = frozenset()
+    merged: tuple[tuple[int, int, int, int], ...] = ()
+
+
+@dataclass
 class Table:
-    """A sheet's header and its non-blank data rows, cells keyed by column key."""
+    """A sheet's header and its non-blank data rows, cells keyed by column key.
+
+    `row_numbers` gives each data row's number; `unheaded` the data found under blank
+    header cells, by column number; `layout` the sheet's hidden and merged parts.
+    """
 
     title: str
     header_row: int
     columns: list[Column]
     rows: list[Row] = field(default_factory=list)
+    row_numbers: list[int] = field(default_factory=list)
+    unheaded: dict[int, Unheaded] = field(default_factory=dict)
+    layout: Layout = field(default_factory=Layout)
 
     @property
     def header_ref(self) -> str:
@@ -48,37 +82,102 @@ class Table:
 
 
 def read_table(values_sheet, formulas_sheet, problems: list[Problem]) -> Table | None:
-    """The sheet's table (None if the sheet is empty); header problems go to `problems`."""
+    """The sheet's table (None if the sheet is empty); header problems go to `problems`.
+
+    Only the cells the sheet stores are read, so a cell formatted far below the table
+    costs nothing: the reader never walks the empty grid up to the last used row.
+    """
     title = values_sheet.title
-    last_row = max(values_sheet.max_row, formulas_sheet.max_row)
-    last_column = max(values_sheet.max_column, formulas_sheet.max_column)
-    rows = zip(
-        values_sheet.iter_rows(min_row=1, max_row=last_row, max_col=last_column),
-        formulas_sheet.iter_rows(min_row=1, max_row=last_row, max_col=last_column),
-    )
+    grid = stored_cells(values_sheet, formulas_sheet)
     table: Table | None = None
-    for value_cells, formula_cells in rows:
-        cells = [read_cell(title, v, f) for v, f in zip(value_cells, formula_cells)]
+    labelled: set[int] = set()  # columns whose header cell is not blank
+    for row_number in sorted(grid):
+        cells = grid[row_number]
         if table is None:
-            if all(cell.kind == "blank" for cell in cells):
+            if all(cell.kind == "blank" for cell in cells.values()):
                 continue
-            table = Table(title, value_cells[0].row, _read_header(cells, problems))
+            table = Table(title, row_number, _read_header(cells, problems), layout=sheet_layout(values_sheet))
+            labelled = {index for index, cell in cells.items() if cell.kind != "blank"}
             continue
-        picked = {column.key: cells[column.index - 1] for column in table.columns}
+        _note_unheaded(table, cells, labelled)
+        picked = {
+            column.key: cells.get(column.index) or blank_cell(title, row_number, column.index)
+            for column in table.columns
+        }
         if all(cell.kind == "blank" for cell in picked.values()):
             continue
         for cell in picked.values():
             if cell.kind == "unsaved":
                 problems.append(Problem(cell.ref, unsaved_message(cell)))
         table.rows.append(picked)
+        table.row_numbers.append(row_number)
     return table
 
 
-def _read_header(cells: list[Cell], problems: list[Problem]) -> list[Column]:
-    """The headed columns of a header row, with problems for bad or repeated headers."""
+def _note_unheaded(table: Table, cells: dict[int, Cell], labelled: set[int]) -> None:
+    """Add one row's cells that lie under blank header cells to `table.unheaded`."""
+    for index, cell in cells.items():
+        if index in labelled or cell.kind == "blank":
+            continue
+        found = table.unheaded.setdefault(index, Unheaded(first=cell))
+        found.count += 1
+        found.numbers = found.numbers or is_number_cell(cell)
+
+
+def sheet_layout(sheet) -> Layout:
+    """The sheet's hidden rows and columns, merged ranges and whether it is hidden.
+
+    Row and column formats are read from the entries the sheet stores (never by looking a
+    row up, which would make an entry for it).
+    """
+    hidden_columns = set()
+    for key, dimension in sheet.column_dimensions.items():
+        if dimension.hidden:
+            first = dimension.min or column_index_from_string(key)
+            last = min(dimension.max or first, _LAST_COLUMN)  # a damaged file may say more
+            hidden_columns.update(range(first, last + 1))
+    return Layout(
+        hidden=sheet.sheet_state != "visible",
+        hidden_rows=frozenset(row for row, dimension in sheet.row_dimensions.items() if dimension.hidden),
+        hidden_columns=frozenset(hidden_columns),
+        merged=tuple(
+            (merged.min_row, merged.min_col, merged.max_row, merged.max_col)
+            for merged in sheet.merged_cells.ranges
+        ),
+    )
+
+
+def stored_cells(values_sheet, formulas_sheet) -> dict[int, dict[int, Cell]]:
+    """Every cell either load of the sheet stores, by row and column number.
+
+    openpyxl keeps a sheet's stored cells in `_cells`, keyed (row, column); reading that
+    map rather than `iter_rows` avoids making a cell object for every empty position of
+    the used range. A position stored in one load only is read as empty in the other.
+    """
+    title = values_sheet.title
+    grid: dict[int, dict[int, Cell]] = {}
+    for position in values_sheet._cells.keys() | formulas_sheet._cells.keys():
+        row, column = position
+        value_cell = values_sheet._cells.get(position)
+        formula_cell = formulas_sheet._cells.get(position)
+        if value_cell is None or formula_cell is None:
+            value_cell = value_cell or values_sheet.cell(row=row, column=column)
+            formula_cell = formula_cell or formulas_sheet.cell(row=row, column=column)
+        grid.setdefault(row, {})[column] = read_cell(title, value_cell, formula_cell)
+    return grid
+
+
+def blank_cell(title: str, row: int, column: int) -> Cell:
+    """An empty cell at a position the sheet does not store."""
+    return Cell(ref=f"{title}!{get_column_letter(column)}{row}", kind="blank")
+
+
+def _read_header(cells: dict[int, Cell], problems: list[Problem]) -> list[Column]:
+    """The headed columns of a header row (cells by column number), with problems for bad
+    or repeated headers."""
     columns: list[Column] = []
     seen: dict[str, Column] = {}
-    for index, cell in enumerate(cells, start=1):
+    for index, cell in sorted(cells.items()):
         column = _header_column(cell, index, problems)
         if column is None:
             continue
@@ -116,6 +215,19 @@ def _header_column(cell: Cell, index: int, problems: list[Problem]) -> Column | 
         )))
         return None
     return Column(key=name_key(name), name=name, unit=unit, index=index, ref=cell.ref)
+
+
+def find_column(text: str, by_key: dict[str, Column]) -> tuple[Column | None, str, str]:
+    """The column that `text` names (None if none), with the name and the unit written.
+
+    The whole text is tried first, so that ``Crude protein (N x 6.25)`` names the column
+    headed ``Crude protein (N x 6.25) (%)``; then the text less a trailing "(unit)".
+    """
+    whole = by_key.get(name_key(text))
+    if whole is not None:
+        return whole, text.strip(), ""
+    name, unit = split_unit(text)
+    return by_key.get(name_key(name)), name, unit
 
 
 def check_columns(table: Table, wanted: Wanted, problems: list[Problem]) -> set[str]:

@@ -22,6 +22,11 @@ _TRAILING_UNIT = re.compile(r"(?P<name>.*?)\s*\((?P<unit>[^()]*)\)\s*", re.DOTAL
 # [bracketed] sections (colours, conditions, locales).
 _LITERAL_FORMAT_PARTS = re.compile(r'"[^"]*"|\\.|\[[^\]]*\]')
 
+# The largest size of any number read (contents, costs, bounds, amounts, stocks, batch
+# size), either way. Vitamin premixes reach about 1e9 IU/kg; a bigger number is a slip (a
+# wrong unit, a pasted serial number) and would swamp the engine's tolerances.
+LARGEST_NUMBER = 1e12
+
 _YES = {"yes", "y", "true", "1"}
 _NO = {"no", "n", "false", "0"}
 
@@ -62,7 +67,10 @@ def is_percent_format(number_format: str) -> bool:
 
 
 def read_number(cell: Cell | None, what: str, problems: list[Problem]) -> float | None:
-    """The cell's number; None when blank, missing or wrong (wrong ones are reported)."""
+    """The cell's number; None when blank, missing or wrong (wrong ones are reported).
+
+    A number larger than `LARGEST_NUMBER` either way is wrong too.
+    """
     if cell is None or cell.kind in ("blank", "unsaved"):
         return None
     if cell.kind == "error":
@@ -75,7 +83,18 @@ def read_number(cell: Cell | None, what: str, problems: list[Problem]) -> float 
         return None
     if not isinstance(value, str) and is_percent_format(cell.number_format):
         number = float(Decimal(repr(number)) * 100)  # via Decimal so 0.07 gives 7, not 7.000000000000001
+    if abs(number) > LARGEST_NUMBER:
+        problems.append(Problem(cell.ref, (
+            f"{what} {format_number(number)} is too large: numbers must lie between {-LARGEST_NUMBER:g} "
+            f"and {LARGEST_NUMBER:g}; check the value, or give it in a larger unit"
+        )))
+        return None
     return number
+
+
+def is_number_cell(cell: Cell) -> bool:
+    """True when the cell holds a number, or text that reads as one."""
+    return cell.kind == "value" and _as_number(cell.value) is not None
 
 
 def _as_number(value: object) -> float | None:

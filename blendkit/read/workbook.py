@@ -28,16 +28,19 @@ import openpyxl
 from openpyxl.utils import column_index_from_string
 
 from blendkit.errors import Problem, WorkbookError
-from blendkit.model.blend import Blend
+from blendkit.model.blend import OUTPUT_SHEETS_PROPERTY, Blend, kept_sheet_titles, written_sheets
 from blendkit.read.dry_matter import find_dry_matter_column
 from blendkit.read.groups import GROUPS, read_groups_sheet
 from blendkit.read.ingredients import INGREDIENTS, read_ingredients_sheet
+from blendkit.read.layout import check_layout
 from blendkit.read.limits import LIMITS, read_limits_sheet
+from blendkit.read.package import ReadLimits, check_package, open_archive
 from blendkit.read.products import PRODUCTS, read_products_sheet
 from blendkit.read.reading import Reading
 from blendkit.read.settings import SETTINGS, read_settings_sheet
 from blendkit.read.specs import SPECS, read_specs_sheet
 from blendkit.read.tables import read_table
+from blendkit.read.undefined_specs import check_undefined_specs
 from blendkit.read.values import name_key
 
 # Every sheet the reader knows, in the order its problems are listed.
@@ -45,6 +48,7 @@ SHEETS = (INGREDIENTS, SPECS, GROUPS, PRODUCTS, LIMITS, SETTINGS)
 
 # The readers, in the order they run: each after the sheets it refers to.
 READERS = (
+    check_layout,  # hidden and merged parts, data under blank headers: on the tables alone
     read_settings_sheet,  # first: the mode and the units say how the other sheets read
     read_ingredients_sheet,
     find_dry_matter_column,  # the Dry matter setting's column among the nutrient columns
@@ -52,6 +56,7 @@ READERS = (
     read_specs_sheet,  # refers to the nutrient columns, the dry-matter column and the products
     read_groups_sheet,  # refers to the ingredients and the products
     read_limits_sheet,  # refers to the ingredients and the products
+    check_undefined_specs,  # needs the ingredients' contents and the specs
 )
 
 # The first bytes of an old binary Excel file, which is also how password-protected
@@ -61,19 +66,21 @@ _OLE_MAGIC = bytes.fromhex("D0CF11E0A1B11AE1")
 _SAVE_AS = "open it in a spreadsheet program and save it as an Excel workbook (.xlsx)"
 
 
-def read_workbook(path: str | Path, *, data: bytes | None = None) -> Blend:
+def read_workbook(path: str | Path, *, data: bytes | None = None, limits: ReadLimits = ReadLimits()) -> Blend:
     """Read the blend workbook at `path` into a `Blend`.
 
     With `data`, those bytes are parsed as the file at `path` (the caller read the file
     once, so that what is solved, hashed and copied is the same); the file itself is
     then not opened. Raises `WorkbookError` with every problem found (each with its
-    sheet and cell) when the file cannot be read or breaks any rule of the format
-    described in the `blendkit.read` package docstring. The file is never modified.
+    sheet and cell) when the file cannot be read, is larger than `limits` allow (checked
+    before anything is parsed) or breaks any rule of the format described in the
+    `blendkit.read` package docstring. The file is never modified.
     """
     path = Path(path)
-    values_book, formulas_book = _load(path, data)
+    values_book, formulas_book = _load(path, data, limits)
     sheets, file_problems = _find_sheets(path, values_book, formulas_book)
     reading = _start_reading(sheets)
+    reading.notes.extend(_kept_sheet_notes(values_book))
     for read_sheet in READERS:
         read_sheet(reading)
     found = file_problems + [
@@ -108,7 +115,28 @@ def _blend(path: Path, reading: Reading) -> Blend:
         groups=tuple(reading.groups),
         products=tuple(reading.products),
         limits=tuple(reading.limits),
+        notes=tuple(reading.notes),
     )
+
+
+def _kept_sheet_notes(values_book: openpyxl.Workbook) -> list[str]:
+    """A note for each sheet of the user's that bears an output sheet's name: the output
+    keeps it under a new title (see `blendkit.model.blend.kept_sheet_titles`)."""
+    written = written_sheets(_custom_property(values_book, OUTPUT_SHEETS_PROPERTY))
+    return [
+        f'the sheet "{title}" was not written by blendkit, whose output has a sheet of that name: '
+        f'the output workbook keeps it as "{kept}"'
+        for title, kept in kept_sheet_titles(values_book.sheetnames, written).items()
+        if kept is not None
+    ]
+
+
+def _custom_property(book: openpyxl.Workbook, name: str) -> object:
+    """The value of the workbook's custom document property `name`, or None."""
+    for prop in book.custom_doc_props:
+        if prop.name == name:
+            return prop.value
+    return None
 
 
 def _reading_order(problem: Problem) -> tuple[int, int]:
@@ -125,11 +153,13 @@ def _reading_order(problem: Problem) -> tuple[int, int]:
 # --- The file -------------------------------------------------------------------------
 
 
-def _load(path: Path, data: bytes | None) -> tuple[openpyxl.Workbook, openpyxl.Workbook]:
-    """Load the workbook twice, saved results and formulas, or say why the file is unreadable."""
+def _load(path: Path, data: bytes | None, limits: ReadLimits) -> tuple[openpyxl.Workbook, openpyxl.Workbook]:
+    """Load the workbook twice, saved results and formulas, or say why the file is unreadable
+    or too large to load."""
     if data is None:
         data = _read_bytes(path)
     _check_is_xlsx(path, data)
+    _check_size(path, data, limits)
     return _open(path, data, data_only=True), _open(path, data, data_only=False)
 
 
@@ -171,6 +201,25 @@ def _check_is_xlsx(path: Path, data: bytes) -> None:
         raise _file_error(path, f"the file is not an .xlsx workbook (it is {kind}); {_SAVE_AS}")
 
 
+def _check_size(path: Path, data: bytes, limits: ReadLimits) -> None:
+    """Refuse a workbook that unpacks to more, or holds more cells, than `limits` allow."""
+    try:
+        with open_archive(data) as archive:
+            problems = check_package(archive, limits, path.name or str(path))
+    except Exception as error:  # any failure to unpack means a damaged archive
+        raise _unreadable(path, error) from None
+    if problems:
+        raise WorkbookError(problems)
+
+
+def _unreadable(path: Path, error: Exception) -> WorkbookError:
+    """The error for a zip archive that is no readable workbook, with the reason."""
+    return _file_error(path, (
+        f"the file is a zip archive but not a readable .xlsx workbook ({type(error).__name__}: "
+        f"{error}); it may be damaged or another kind of file: {_SAVE_AS}"
+    ))
+
+
 def _open(path: Path, data: bytes, *, data_only: bool) -> openpyxl.Workbook:
     """One load of the workbook: saved results (`data_only`) or formulas."""
     try:
@@ -178,10 +227,7 @@ def _open(path: Path, data: bytes, *, data_only: bool) -> openpyxl.Workbook:
             warnings.simplefilter("ignore")  # openpyxl warns about features it skips
             return openpyxl.load_workbook(io.BytesIO(data), data_only=data_only)
     except Exception as error:  # any failure inside openpyxl means the file is unusable
-        raise _file_error(path, (
-            f"the file is a zip archive but not a readable .xlsx workbook ({type(error).__name__}: "
-            f"{error}); it may be damaged or another kind of file: {_SAVE_AS}"
-        )) from None
+        raise _unreadable(path, error) from None
 
 
 def _looks_like_text(data: bytes) -> bool:

@@ -5,7 +5,8 @@ live spreadsheet formulas that recompute the blend cost and every nutrient level
 input cells, so the numbers can be checked in any spreadsheet program.
 
 Output sheets (replaced, never duplicated, when an output workbook is solved again), one
-module each:
+module each. A workbook property lists the sheets a run wrote, so that a later run replaces
+only those: a user's own sheet of one of these names is kept as "<name> (input)".
 
 * ``Result`` (`result`, `result_tables`, `live`): status, cost, broken soft limits, the
   ingredient and nutrient tables with live checks, stocks and notes.
@@ -31,9 +32,11 @@ import io
 from pathlib import Path
 
 from openpyxl import load_workbook
+from openpyxl.packaging.custom import StringProperty
 from openpyxl.workbook.workbook import Workbook
 from openpyxl.worksheet.worksheet import Worksheet
 
+from blendkit.model.blend import OUTPUT_SHEETS_PROPERTY, kept_sheet_titles, output_sheets_value, written_sheets
 from blendkit.model.formula import Formula, RunInfo
 from blendkit.write.workbook import (
     changes,
@@ -61,7 +64,10 @@ SHEET_WRITERS = (
     result_data,
 )
 
-# Sheets this writer owns; any sheet with one of these names (any case) is replaced.
+# Sheets this writer owns. A sheet of one of these names (any case) is replaced when the
+# workbook property OUTPUT_SHEETS_PROPERTY lists it (an earlier run wrote it), and kept
+# under a new title otherwise (it is the user's). The model lists the same titles, for the
+# reader to note what is kept.
 OUTPUT_SHEETS = tuple(writer.TITLE for writer in SHEET_WRITERS)
 
 
@@ -72,8 +78,9 @@ def write_workbook(
 
     `data` is the source's bytes as they were read and solved (the pipeline passes them,
     so that the copy is of what was solved even if the file changes meanwhile); without
-    it the file is read here. Every input sheet is kept unchanged; existing output sheets
-    (see `OUTPUT_SHEETS`) are removed and written afresh. Without `data`, raises
+    it the file is read here. Every input sheet is kept unchanged; output sheets an earlier
+    run wrote (see `OUTPUT_SHEETS`) are removed and written afresh, and a user's own sheet
+    of such a name is kept under a new title. Without `data`, raises
     ValueError if `output` is the source file itself, or if the source no longer matches
     the SHA-256 recorded in `run`. The write is atomic: on any failure no output file is
     left behind and an existing output is untouched.
@@ -83,12 +90,15 @@ def write_workbook(
     if data is None:
         data = _read_source(source, output, run)
     workbook = load_workbook(io.BytesIO(data), data_only=False)
-    _remove_output_sheets(workbook)
+    kept = _make_room(workbook)
     mark_replaced(workbook, formula.blend.replaced)
-    saved = saved_results(data, workbook)
+    saved = saved_results(data, workbook)  # by the titles the input gives its sheets
+    _rename(workbook, kept)
+    saved = {kept.get(title, title): cells for title, cells in saved.items()}
     title = formula.blend.settings.name or source.stem
     for writer in SHEET_WRITERS:
         writer.write(workbook, formula, run, title)
+    _mark_output_sheets(workbook)
     first = overview.TITLE if overview.TITLE in workbook.sheetnames else result.TITLE
     _show_first(workbook, workbook[first])
     # The live formulas on Result have no saved result yet: ask for a full recalculation.
@@ -117,12 +127,42 @@ def _read_source(source: Path, output: Path, run: RunInfo) -> bytes:
     return data
 
 
-def _remove_output_sheets(workbook: Workbook) -> None:
-    """Drop earlier output sheets so a second solve replaces rather than adds copies."""
-    owned = {name.casefold() for name in OUTPUT_SHEETS}
+def _make_room(workbook: Workbook) -> dict[str, str]:
+    """Drop the output sheets an earlier run wrote, so a second solve replaces rather than
+    adds copies; return the user's own sheets of those names, each with the title it keeps
+    (the reader has noted it; see `kept_sheet_titles`)."""
+    written = written_sheets(_custom_property(workbook, OUTPUT_SHEETS_PROPERTY))
+    fate = kept_sheet_titles(workbook.sheetnames, written)
     for sheet in list(workbook._sheets):  # worksheets and chart sheets alike
-        if sheet.title.casefold() in owned:
+        if sheet.title in fate and fate[sheet.title] is None:
             workbook.remove(sheet)
+    return {title: kept for title, kept in fate.items() if kept is not None}
+
+
+def _rename(workbook: Workbook, kept: dict[str, str]) -> None:
+    """Give each of the user's sheets named like an output sheet its new title."""
+    for sheet in workbook._sheets:
+        if sheet.title in kept:
+            sheet.title = kept[sheet.title]
+
+
+def _mark_output_sheets(workbook: Workbook) -> None:
+    """Record in a workbook property which sheets this run wrote, so a later run removes
+    these and no sheet of the user's."""
+    owned = {name.casefold() for name in OUTPUT_SHEETS}
+    written = [sheet.title for sheet in workbook._sheets if sheet.title.casefold() in owned]
+    properties = workbook.custom_doc_props
+    if OUTPUT_SHEETS_PROPERTY in properties.names:
+        del properties[OUTPUT_SHEETS_PROPERTY]
+    properties.append(StringProperty(name=OUTPUT_SHEETS_PROPERTY, value=output_sheets_value(written)))
+
+
+def _custom_property(workbook: Workbook, name: str) -> object:
+    """The value of the workbook's custom document property `name`, or None."""
+    for prop in workbook.custom_doc_props:
+        if prop.name == name:
+            return prop.value
+    return None
 
 
 def _show_first(workbook: Workbook, sheet: Worksheet) -> None:

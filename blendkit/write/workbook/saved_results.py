@@ -43,13 +43,16 @@ def saved_results(data: bytes, workbook: Workbook) -> SavedResults:
     saved: SavedResults = {}
     for sheet in workbook.worksheets:
         cells: dict[str, object] = {}
-        for row in sheet.iter_rows():
-            for cell in row:
-                if cell.data_type != "f":
-                    continue
-                value = _stored_value(results[sheet.title][cell.coordinate].value, results.epoch)
-                if value is not None:
-                    cells[cell.coordinate] = value
+        # The stored cells only (openpyxl keeps them in `_cells`): iter_rows would make a
+        # cell for every empty position up to the last used row, which for one formatted
+        # cell in row 1,048,576 takes minutes and gigabytes.
+        for cell in list(sheet._cells.values()):
+            if cell.data_type != "f":
+                continue
+            stored = results[sheet.title]._cells.get((cell.row, cell.column))
+            value = _stored_value(stored.value if stored is not None else None, results.epoch)
+            if value is not None:
+                cells[cell.coordinate] = value
         if cells:
             saved[sheet.title] = cells
     return saved
