@@ -281,7 +281,10 @@ def _ingredient_line(solution: _Solution, p: int, j: int) -> IngredientLine:
     entry = None
     if value == 0.0 and not held:
         entry = float(item.cost - reduced / (lp.per * solution.scale(p)))
-    low, high = _price_range(lp, solution.result, p, j, solution.scale(p)) if item.use else (None, None)
+    if item.use:
+        low, high = _price_range(lp, solution.result, p, j, solution.scale(p))
+    else:  # Use = no: the price below which it would come in, were it allowed
+        low, high = entry, None
     return IngredientLine(
         name=item.name, inclusion=value, amount=float(mass), batch_cost=float(money), cost=item.cost,
         used=item.use, reduced_cost=float(reduced / solution.scale(p)), entry_price=entry,
