@@ -44,3 +44,35 @@ def test_a_use_no_ingredient_gets_the_price_at_which_it_would_come_in(tmp_path):
     # Allowed at a price just above it, HiGHS leaves it out; just below, HiGHS uses it.
     assert _inclusion_at_price(tmp_path, source, "Fish meal 65", price * 1.001, allow=True) <= 1e-9
     assert _inclusion_at_price(tmp_path, source, "Fish meal 65", price * 0.999, allow=True) > 1e-6
+
+
+def _cost_with_cell(tmp_path: Path, source: Path, cell: str, value: float) -> float:
+    """HiGHS's optimum of `source` with one bound cell set to `value`."""
+    sheet, _, coordinate = cell.partition("!")
+    book = openpyxl.load_workbook(source)
+    book[sheet][coordinate] = value
+    path = tmp_path / f"bound-{value:.9f}.xlsx"
+    book.save(path)
+    reference = formulate_with_highs(path)
+    assert reference.result.status == 0
+    return float(reference.result.fun)
+
+
+def test_one_sided_values_match_highs_just_above_and_below(tmp_path):
+    # The day menu's optimum is degenerate: some group minimums cost more to raise than
+    # they save when lowered. Each one-sided value is checked against HiGHS re-solved with
+    # the bound moved a little up and a little down (the optimum is piecewise linear in the
+    # bound, so a small move gives the rate exactly, up to HiGHS's own accuracy).
+    source = tmp_path / "day_menu.xlsx"
+    shutil.copyfile(ROOT / "sample_workbooks" / "day_menu.xlsx", source)
+    doc = json.loads(CliRunner().invoke(app, ["solve", str(source), "--json", "--no-cross-check"]).stdout)
+    uneven = [limit for limit in doc["limits"] if limit["binding"] and limit["kind"] in ("nutrient", "group")
+              and limit["shadow_price_up"] != limit["shadow_price_down"]]
+    assert uneven, "the day menu has limits whose cost changes differently up and down"
+    base = _cost_with_cell(tmp_path, source, uneven[0]["cell"], uneven[0]["bound"])
+    for limit in uneven[:3]:
+        h = 1e-5 * (1 + abs(limit["bound"]))
+        up = (_cost_with_cell(tmp_path, source, limit["cell"], limit["bound"] + h) - base) / h
+        down = (base - _cost_with_cell(tmp_path, source, limit["cell"], limit["bound"] - h)) / h
+        assert up == pytest.approx(limit["shadow_price_up"], rel=1e-4, abs=1e-7), limit["name"]
+        assert down == pytest.approx(limit["shadow_price_down"], rel=1e-4, abs=1e-7), limit["name"]

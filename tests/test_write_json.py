@@ -12,7 +12,8 @@ from blendkit.write.json import formula_to_dict, formula_to_json
 from tests import formulas
 
 KEYS = ["status", "message", "cost", "ingredients", "prices", "nutrients", "limits", "stocks", "violations", "notes", "cross_check"]
-LIMIT_KEYS = ["kind", "name", "product", "side", "bound", "level", "binding", "shadow_price", "cell", "holds_from", "holds_to"]
+LIMIT_KEYS = ["kind", "name", "product", "side", "bound", "level", "binding", "shadow_price", "shadow_price_up",
+              "shadow_price_down", "cell", "holds_from", "holds_to"]
 
 
 def test_exact_shape_of_an_optimal_formula():
@@ -31,12 +32,12 @@ def test_exact_shape_of_an_optimal_formula():
     assert data["limits"][0] == {
         "kind": "nutrient", "name": "Crude protein", "product": None, "side": "min", "bound": 17.12,
         "level": pytest.approx(17.12), "binding": True, "shadow_price": 4.5, "cell": "Specs!B2",
-        "holds_from": None, "holds_to": None,
+        "holds_from": None, "holds_to": None, "shadow_price_up": None, "shadow_price_down": None,
     }
     assert data["limits"][5] == {
         "kind": "ingredient", "name": "Rapeseed meal", "product": None, "side": "max", "bound": 18.0,
         "level": 18.0, "binding": True, "shadow_price": -1.25, "cell": "Ingredients!D4",
-        "holds_from": None, "holds_to": None,
+        "holds_from": None, "holds_to": None, "shadow_price_up": None, "shadow_price_down": None,
     }
     assert all(list(limit) == LIMIT_KEYS for limit in data["limits"])
     assert len(data["limits"]) == len(formula.limits)

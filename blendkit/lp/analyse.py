@@ -33,6 +33,7 @@ from blendkit.lp.build import (
     LPRow,
     ingredient_limits,
 )
+from blendkit.lp.one_sided import column_rates, row_rates
 from blendkit.lp.tolerances import AT_BOUND, ZERO_INCLUSION
 from blendkit.model.blend import AS_FED, DRY_MATTER, Blend
 from blendkit.model.formula import (
@@ -312,11 +313,16 @@ def _row_limits(solution: _Solution, p: int, levels: np.ndarray) -> list[Limit]:
                     price = marginal
             known = row.kind != RATIO and row.basis == AS_FED
             holds_from, holds_to = _room(lp, result, lp.form.c.size + i, side, level, binding, known)
+            up = down = 0.0 if not binding else None
+            if binding and known:
+                up, down = row_rates(lp.form, result, i, side.side, side.bound, factor / solution.scale(p),
+                                     price, len(row.sides) == 1)
             limits.append(Limit(
                 kind=row.kind, name=row.name, side=side.side, bound=side.bound,
                 level=float("nan") if level is None else float(level), binding=binding,
                 shadow_price=price, cell=side.cell, product=lp.products[p][0], basis=row.basis,
                 violation=violation, penalty=row.penalty, holds_from=holds_from, holds_to=holds_to,
+                shadow_price_up=up, shadow_price_down=down,
             ))
     return limits
 
@@ -335,11 +341,16 @@ def _ingredient_limits(solution: _Solution, p: int) -> list[Limit]:
             # sign says that bound holds it there (d > 0 at a min, d < 0 at a max).
             holds = reduced > 0 if side.side == "min" else reduced < 0
             price = float(reduced / solution.scale(p)) if binding and holds else 0.0
-            holds_from, holds_to = _room(lp, solution.result, p * lp.n_ingredients + j, side, level, binding, True)
+            k = p * lp.n_ingredients + j
+            holds_from, holds_to = _room(lp, solution.result, k, side, level, binding, True)
+            up = down = 0.0
+            if binding:
+                up, down = column_rates(lp.form, solution.result, k, side.side, side.bound,
+                                        solution.scale(p), price)
             limits.append(Limit(
                 kind="ingredient", name=item.name, side=side.side, bound=side.bound, level=level,
                 binding=binding, shadow_price=price, cell=side.cell, product=name,
-                holds_from=holds_from, holds_to=holds_to,
+                holds_from=holds_from, holds_to=holds_to, shadow_price_up=up, shadow_price_down=down,
             ))
     return limits
 
@@ -395,8 +406,12 @@ def _stocks(solution: _Solution) -> tuple[list[StockLine], list[Limit]]:
         price = float(result.row_marginals[i]) * per_run if binding else 0.0
         lines.append(StockLine(row.name, used, side.bound, binding, price, side.cell))
         holds_from, holds_to = _room(lp, result, lp.form.c.size + i, side, used, binding, True)
+        up = down = 0.0
+        if binding:
+            up, down = row_rates(lp.form, result, i, "max", side.bound, per_run, price, True)
         limits.append(Limit(
             kind=STOCK, name=row.name, side="max", bound=side.bound, level=used, binding=binding,
             shadow_price=price, cell=side.cell, holds_from=holds_from, holds_to=holds_to,
+            shadow_price_up=up, shadow_price_down=down,
         ))
     return lines, limits

@@ -33,3 +33,6 @@ DROP_RELATIVE = 1e-10
 # The cross-check with HiGHS warns when the two costs differ by more than this, relative
 # to max(1, |cost|).
 CROSS_CHECK_RTOL = 1e-6
+# A bound moved by this much (relative to 1 + |bound|) to find the rate at which the cost
+# changes on a side where the optimal basis cannot move it (one-sided shadow prices).
+ONE_SIDED_STEP = 1e-6

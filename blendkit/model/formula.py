@@ -103,6 +103,10 @@ class Limit:
     # not known, as for ratio and dry-matter bounds).
     holds_from: float | None = None
     holds_to: float | None = None
+    # d(cost)/d(bound) just above and just below the bound: they differ from each other
+    # at a degenerate optimum (None: not known, as for ratio and dry-matter bounds).
+    shadow_price_up: float | None = None
+    shadow_price_down: float | None = None
 
     @property
     def broken(self) -> bool:

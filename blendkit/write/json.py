@@ -259,6 +259,8 @@ def _limit(limit: Limit) -> dict[str, Any]:
         "level": _number(limit.level),
         "binding": bool(limit.binding),
         "shadow_price": _number(limit.shadow_price),
+        "shadow_price_up": _number(limit.shadow_price_up),
+        "shadow_price_down": _number(limit.shadow_price_down),
         "cell": str(limit.cell),
         "holds_from": _number(limit.holds_from),
         "holds_to": _number(limit.holds_to),
