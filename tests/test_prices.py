@@ -76,3 +76,17 @@ def test_one_sided_values_match_highs_just_above_and_below(tmp_path):
         down = (base - _cost_with_cell(tmp_path, source, limit["cell"], limit["bound"] - h)) / h
         assert up == pytest.approx(limit["shadow_price_up"], rel=1e-4, abs=1e-7), limit["name"]
         assert down == pytest.approx(limit["shadow_price_down"], rel=1e-4, abs=1e-7), limit["name"]
+
+
+def test_a_range_end_below_zero_is_an_honest_note(tmp_path):
+    # Salt in the broiler sample: no price of 0 or more makes the formula use more of it, so
+    # the lower end is null with a note; HiGHS at a price of 0 agrees (same inclusion).
+    source = tmp_path / "broiler_starter.xlsx"
+    shutil.copyfile(ROOT / "sample_workbooks" / "broiler_starter.xlsx", source)
+    doc = json.loads(CliRunner().invoke(app, ["solve", str(source), "--json", "--no-cross-check"]).stdout)
+    salt = doc["prices"]["Salt"]
+    assert salt["more_below"] is None and salt["note"] == "used no more at any price of 0 or more"
+    assert _inclusion_at_price(tmp_path, source, "Salt", 0.0, allow=False) == pytest.approx(
+        doc["ingredients"]["Salt"], abs=1e-7)
+    premix = next(limit for limit in doc["limits"] if limit["name"] == "Vitamin-mineral premix" and limit["side"] == "min")
+    assert premix["holds_from"] == 0.0  # an inclusion limit's range never starts below 0

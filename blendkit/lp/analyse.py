@@ -106,12 +106,15 @@ def _violation_notes(limits: list[Limit]) -> tuple[str, ...]:
     return tuple(notes)
 
 
-def _room(lp: BlendLP, result: LPResult, k: int, side, level, binding: bool, known: bool):
+def _room(lp: BlendLP, result: LPResult, k: int, side, level, binding: bool, known: bool,
+          negative: bool = False):
     """The bound values between which a limit's shadow price holds (None for an open end).
 
     `k` indexes the engine's variables (columns, then the rows' activities). A binding
     bound may move as far as the engine's bound ranging allows; a bound that does not
-    bind keeps its zero shadow price until it reaches the level.
+    bind keeps its zero shadow price until it reaches the level. A range reaching below 0
+    starts at 0 unless the limit's level can be `negative` (a nutrient with negative
+    contents): an inclusion, a group, a stock or such a level never is.
     """
     if not known or result.bound_ranges is None or level is None or not np.isfinite(level):
         return None, None
@@ -119,6 +122,8 @@ def _room(lp: BlendLP, result: LPResult, k: int, side, level, binding: bool, kno
         return (None, float(level)) if side.side == "min" else (float(level), None)
     down, up = result.bound_ranges[k]
     low, high = side.bound - down, side.bound + up
+    if low < 0 <= side.bound and not negative:  # no level of this limit can be below 0
+        low = 0.0
     return (float(low) if np.isfinite(low) else None), (float(high) if np.isfinite(high) else None)
 
 
@@ -286,10 +291,15 @@ def _ingredient_line(solution: _Solution, p: int, j: int) -> IngredientLine:
         low, high = _price_range(lp, solution.result, p, j, solution.scale(p))
     else:  # Use = no: the price below which it would come in, were it allowed
         low, high = entry, None
+    note = ""
+    if low is not None and low < 0 <= item.cost:  # a buyer pays no negative price
+        low, note = None, "used no more at any price of 0 or more"
+    if entry is not None and entry < 0 <= item.cost:
+        entry, note = None, "comes in at no price of 0 or more"
     return IngredientLine(
         name=item.name, inclusion=value, amount=float(mass), batch_cost=float(money), cost=item.cost,
         used=item.use, reduced_cost=float(reduced / solution.scale(p)), entry_price=entry,
-        more_below=low, less_above=high,
+        more_below=low, less_above=high, price_note=note,
     )
 
 
@@ -312,7 +322,8 @@ def _row_limits(solution: _Solution, p: int, levels: np.ndarray) -> list[Limit]:
                 if len(row.sides) == 1 or (marginal >= 0) == (side.side == "min"):
                     price = marginal
             known = row.kind != RATIO and row.basis == AS_FED
-            holds_from, holds_to = _room(lp, result, lp.form.c.size + i, side, level, binding, known)
+            negative = row.nutrient is not None and bool((lp.contents[row.nutrient] < 0).any())
+            holds_from, holds_to = _room(lp, result, lp.form.c.size + i, side, level, binding, known, negative)
             up = down = 0.0 if not binding else None
             if binding and known:
                 up, down = row_rates(lp.form, result, i, side.side, side.bound, factor / solution.scale(p),

@@ -50,6 +50,8 @@ class IngredientLine:
     entry_price: float | None  # price at which an unused ingredient would come in
     more_below: float | None = None
     less_above: float | None = None
+    # Why an end is missing when only a negative price would reach it ("" otherwise).
+    price_note: str = ""
 
 
 @dataclass(frozen=True)

@@ -202,7 +202,8 @@ def _relaxation(formula: Formula) -> dict[str, Any] | None:
 def _prices(lines) -> dict[str, dict[str, float | None]]:
     """Per ingredient, the price range over which the formula stays the cheapest."""
     return {
-        str(line.name): {"more_below": _number(line.more_below), "less_above": _number(line.less_above)}
+        str(line.name): {"more_below": _number(line.more_below), "less_above": _number(line.less_above),
+                         "note": line.price_note or None}
         for line in lines
     }
 
