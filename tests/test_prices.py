@@ -90,3 +90,50 @@ def test_a_range_end_below_zero_is_an_honest_note(tmp_path):
         doc["ingredients"]["Salt"], abs=1e-7)
     premix = next(limit for limit in doc["limits"] if limit["name"] == "Vitamin-mineral premix" and limit["side"] == "min")
     assert premix["holds_from"] == 0.0  # an inclusion limit's range never starts below 0
+
+
+def _plan_at_price(tmp_path: Path, source: Path, name: str, price: float):
+    """HiGHS's plan (every product's inclusions) for `source` with the one price of `name`
+    (its Cost cell, which every product pays) set to `price`."""
+    book = openpyxl.load_workbook(source)
+    sheet = book["Ingredients"]
+    header = [str(cell.value or "").lower() for cell in sheet[1]]
+    row = next(r for r in sheet.iter_rows(min_row=2) if r[0].value == name)
+    row[next(k for k, h in enumerate(header) if h.startswith("cost"))].value = price
+    path = tmp_path / f"plan-{name}-{price:.6f}.xlsx"
+    book.save(path)
+    reference = formulate_with_highs(path)
+    assert reference.result.status == 0
+    return reference.result.x
+
+
+def test_one_price_per_ingredient_for_a_plant_matches_highs_moving_every_product_together(tmp_path):
+    # Outside check: HiGHS re-solves the plant with the ingredient's one Cost cell (paid by
+    # every product) just inside each end of its range (same plan) and just outside it
+    # (another plan).
+    source = tmp_path / "pig_feed_plant.xlsx"
+    shutil.copyfile(ROOT / "sample_workbooks" / "pig_feed_plant.xlsx", source)
+    doc = json.loads(CliRunner().invoke(app, ["solve", str(source), "--json", "--no-cross-check"]).stdout)
+    checked = 0
+    for name in ("Barley", "Wheat", "Soybean meal 47", "Field peas"):
+        entry = doc["prices"][name]
+        price = _plan_price(source, name)
+        for end, outward in ((entry["more_below"], -1), (entry["less_above"], +1)):
+            if end is None:
+                continue
+            gap = 1e-3 * max(1.0, abs(end))
+            inside = _plan_at_price(tmp_path, source, name, end - outward * gap)
+            outside = _plan_at_price(tmp_path, source, name, end + outward * gap)
+            at_price = _plan_at_price(tmp_path, source, name, price)
+            assert inside == pytest.approx(at_price, abs=1e-6), (name, end)
+            assert abs(outside - at_price).max() > 1e-6, (name, end)
+            checked += 1
+    assert checked >= 4
+
+
+def _plan_price(source: Path, name: str) -> float:
+    """The Cost cell of `name` in `source`."""
+    sheet = openpyxl.load_workbook(source)["Ingredients"]
+    header = [str(cell.value or "").lower() for cell in sheet[1]]
+    row = next(r for r in sheet.iter_rows(min_row=2) if r[0].value == name)
+    return float(row[next(k for k, h in enumerate(header) if h.startswith("cost"))].value)

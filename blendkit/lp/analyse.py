@@ -34,6 +34,7 @@ from blendkit.lp.build import (
     ingredient_limits,
 )
 from blendkit.lp.one_sided import column_rates, row_rates
+from blendkit.lp.shared_prices import shared_prices
 from blendkit.lp.tolerances import AT_BOUND, ZERO_INCLUSION
 from blendkit.model.blend import AS_FED, DRY_MATTER, Blend
 from blendkit.model.formula import (
@@ -202,6 +203,7 @@ def analyse(blend: Blend, lp: BlendLP, result: LPResult) -> Formula:
             blend=blend, status="optimal", message="least-cost products found", cost=total,
             ingredients=(), nutrients=(), limits=tuple(every_limit), iterations=result.iterations,
             notes=notes, products=tuple(products), stocks=tuple(stocks),
+            shared_prices=shared_prices(blend, lp, result),
         )
     only = products[0]
     return Formula(

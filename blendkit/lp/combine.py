@@ -13,6 +13,7 @@ import dataclasses
 import numpy as np
 
 from blendkit.lp.cross_check import combined
+from blendkit.lp.shared_prices import intersect
 from blendkit.model.blend import Blend
 from blendkit.model.formula import INFEASIBLE, OPTIMAL, Formula, ProductFormula
 
@@ -37,6 +38,7 @@ def combine(blend: Blend, parts: list[Formula], notes: tuple[str, ...] = ()) -> 
         conflicts_complete=all(part.conflicts_complete for part in parts),
         parts=tuple(parts),
         cross_check=combined([part.cross_check for part in parts]),
+        shared_prices=intersect([part.shared_prices for part in parts]) if solved else (),
     )
 
 

@@ -36,3 +36,6 @@ CROSS_CHECK_RTOL = 1e-6
 # A bound moved by this much (relative to 1 + |bound|) to find the rate at which the cost
 # changes on a side where the optimal basis cannot move it (one-sided shadow prices).
 ONE_SIDED_STEP = 1e-6
+# A change of a reduced cost smaller than this along a price direction is no change (one
+# price per ingredient, `blendkit.lp.shared_prices`).
+DUAL_SIGN = 1e-12

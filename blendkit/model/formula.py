@@ -158,6 +158,20 @@ class StockLine:
 
 
 @dataclass(frozen=True)
+class SharedPrice:
+    """One ingredient's price range for the whole run: the one price a buyer pays, moving
+    in every product at once (`blendkit.lp.shared_prices`). Below `more_below` the plan
+    would use more of it, above `less_above` less; None for no end (`note` says why when
+    only a negative price would reach it)."""
+
+    name: str
+    price: float
+    more_below: float | None
+    less_above: float | None
+    note: str = ""
+
+
+@dataclass(frozen=True)
 class CrossCheck:
     """The run's LP re-solved by another solver (`blendkit.lp.cross_check`): its status
     and objective (in the formula's cost units), ours less its (None unless both are
@@ -204,6 +218,8 @@ class Formula:
     # own Formula, in Products-sheet order of their first product. Empty otherwise.
     parts: tuple[Formula, ...] = ()
     cross_check: CrossCheck | None = None  # the same LP re-solved with HiGHS (None when off)
+    # With several products: each ingredient's one price range for the whole run.
+    shared_prices: tuple[SharedPrice, ...] = ()
     changes: Changes | None = None  # against an earlier result, when one was compared
 
     @property

@@ -92,6 +92,11 @@ def formula_to_dict(formula: Formula) -> dict[str, Any]:
             "status": str(formula.status),
             "message": str(formula.message),
             "total_cost": _number(formula.cost) if formula.solved else None,
+            "prices": {
+                str(line.name): {"more_below": _number(line.more_below), "less_above": _number(line.less_above),
+                                 "note": line.note or None}
+                for line in formula.shared_prices
+            },
             "products": _products(formula),
             "stocks": stocks,
             "violations": _violations(formula),

@@ -1,0 +1,111 @@
+"""One price per ingredient: the price range over which a whole run's plan stays optimal.
+
+A buyer pays one price for an ingredient, whatever product it goes into. With several
+products solved jointly, that price is the cost of the ingredient's column in every
+product at once, so its range is a parametric cost analysis along that direction: with
+the optimal basis B (variables x and the rows' activities s, A x - s = 0), a change t of
+the price changes the costs by t·d (d = per × amount weight on each of the ingredient's
+columns), the duals by t·B⁻ᵀ d_B, and every nonbasic reduced cost by t·(d_N − M_Nᵀ B⁻ᵀ d_B).
+The plan stays optimal while no reduced cost changes sign: t in [t_low, t_high]. Below
+the price + t_low the plan uses more of it (or brings it in); above the price + t_high,
+less (or drops it). For products solved as separate LPs the run's plan stays while each
+part's does: the range is the intersection of the parts' ranges.
+"""
+
+from __future__ import annotations
+
+import numpy as np
+
+from blendkit.engine import LPResult
+from blendkit.lp.build import BlendLP
+from blendkit.model.blend import Blend
+from blendkit.lp.tolerances import DUAL_SIGN
+from blendkit.model.formula import SharedPrice
+
+
+def shared_prices(blend: Blend, lp: BlendLP, result: LPResult) -> tuple[SharedPrice, ...]:
+    """The one-price range of every ingredient of a jointly solved run."""
+    if result.basis is None or result.status != "optimal":
+        return ()
+    M, c = _full_form(lp)
+    head = np.asarray(result.basis.head)
+    B = M[:, head]
+    y = np.linalg.solve(B.T, c[head])
+    reduced = c - M.T @ y
+    nonbasic = np.setdiff1d(np.arange(M.shape[1]), head)
+    lines = []
+    for j, item in enumerate((item.name, item.cost) for item in blend.ingredients):
+        direction = _direction(lp, j, M.shape[1])
+        change = direction - M.T @ np.linalg.solve(B.T, direction[head])
+        low, high = _interval(reduced[nonbasic], change[nonbasic], result.basis.at_upper[nonbasic],
+                              _fixed(lp, nonbasic))
+        lines.append(_line(item, low, high))
+    return tuple(lines)
+
+
+def _full_form(lp: BlendLP) -> tuple[np.ndarray, np.ndarray]:
+    """M = [A, -I] and the costs of x and of the row activities (0)."""
+    form = lp.form
+    A = form.A.toarray() if hasattr(form.A, "toarray") else np.asarray(form.A, dtype=float)
+    m = A.shape[0]
+    return np.hstack([A, -np.eye(m)]), np.concatenate([form.c, np.zeros(m)])
+
+
+def _direction(lp: BlendLP, j: int, size: int) -> np.ndarray:
+    """The change of every cost when ingredient j's price rises by 1 in every product."""
+    direction = np.zeros(size)
+    J = lp.n_ingredients
+    for p in range(len(lp.products)):
+        weight = lp.cost_units[p] if lp.multi else 1.0
+        direction[p * J + j] = lp.per * weight
+    return direction
+
+
+def _fixed(lp: BlendLP, nonbasic: np.ndarray) -> np.ndarray:
+    """True for nonbasic variables whose bounds are equal: they never enter."""
+    form = lp.form
+    lower = np.concatenate([form.col_lower, form.row_lower])[nonbasic]
+    upper = np.concatenate([form.col_upper, form.row_upper])[nonbasic]
+    return lower == upper
+
+
+def _interval(reduced, change, at_upper, fixed) -> tuple[float, float]:
+    """The t for which each nonbasic reduced cost keeps its sign: r + t·Δr >= 0 at a lower
+    bound, <= 0 at an upper bound (fixed variables and zero changes set no limit)."""
+    low, high = -np.inf, np.inf
+    sign = np.where(at_upper, -1.0, 1.0)
+    r, dr = sign * reduced, sign * change
+    for value, rate, still in zip(r, dr, fixed):
+        if still or abs(rate) <= DUAL_SIGN:
+            continue
+        t = -max(value, 0.0) / rate
+        if rate > 0:
+            low = max(low, t)
+        else:
+            high = min(high, t)
+    return low, high
+
+
+def _line(item: tuple[str, float], low: float, high: float) -> SharedPrice:
+    """One ingredient's range as prices, an end only a negative price reaches noted."""
+    name, price = item
+    more_below = price + low if np.isfinite(low) else None
+    less_above = price + high if np.isfinite(high) else None
+    note = ""
+    if more_below is not None and more_below < 0 <= price:
+        more_below, note = None, "used no more at any price of 0 or more"
+    return SharedPrice(name=name, price=price, more_below=more_below, less_above=less_above, note=note)
+
+
+def intersect(parts: list[tuple[SharedPrice, ...]]) -> tuple[SharedPrice, ...]:
+    """The one-price ranges of a run solved in separate parts: each ingredient's range is
+    where every part's plan stays (the narrowest ends)."""
+    if not parts or any(not part for part in parts):
+        return ()
+    lines = []
+    for same in zip(*parts):
+        low = max((line.more_below for line in same if line.more_below is not None), default=None)
+        high = min((line.less_above for line in same if line.less_above is not None), default=None)
+        note = next((line.note for line in same if line.note), "") if low is None else ""
+        lines.append(SharedPrice(name=same[0].name, price=same[0].price, more_below=low, less_above=high, note=note))
+    return tuple(lines)
