@@ -27,28 +27,37 @@ def shared_prices(blend: Blend, lp: BlendLP, result: LPResult) -> tuple[SharedPr
     """The one-price range of every ingredient of a jointly solved run."""
     if result.basis is None or result.status != "optimal":
         return ()
-    M, c = _full_form(lp)
-    head = np.asarray(result.basis.head)
-    B = M[:, head]
-    y = np.linalg.solve(B.T, c[head])
-    reduced = c - M.T @ y
-    nonbasic = np.setdiff1d(np.arange(M.shape[1]), head)
     lines = []
-    for j, item in enumerate((item.name, item.cost) for item in blend.ingredients):
-        direction = _direction(lp, j, M.shape[1])
-        change = direction - M.T @ np.linalg.solve(B.T, direction[head])
-        low, high = _interval(reduced[nonbasic], change[nonbasic], result.basis.at_upper[nonbasic],
-                              _fixed(lp, nonbasic))
-        lines.append(_line(item, low, high))
+    for j, item in enumerate(blend.ingredients):
+        low, high = direction_range(lp, result, _direction(lp, j, lp.form.c.size + lp.form.A.shape[0]))
+        lines.append(_line((item.name, item.cost), low, high))
     return tuple(lines)
 
 
-def _full_form(lp: BlendLP) -> tuple[np.ndarray, np.ndarray]:
-    """M = [A, -I] and the costs of x and of the row activities (0)."""
+def direction_range(lp: BlendLP, result: LPResult, direction: np.ndarray,
+                    costs: np.ndarray | None = None) -> tuple[float, float]:
+    """The steps t (t_low <= 0 <= t_high) over which costs c + t·direction keep the
+    optimal basis of `result` optimal; `direction` covers the columns (and may cover the
+    row activities, which cost nothing); `costs` are the column costs `result` was solved
+    with (default: the LP's own)."""
+    M, c = _full_form(lp, costs)
+    full = np.zeros(M.shape[1])
+    full[: direction.size] = direction
+    head = np.asarray(result.basis.head)
+    B = M[:, head]
+    reduced = c - M.T @ np.linalg.solve(B.T, c[head])
+    change = full - M.T @ np.linalg.solve(B.T, full[head])
+    nonbasic = np.setdiff1d(np.arange(M.shape[1]), head)
+    return _interval(reduced[nonbasic], change[nonbasic], np.asarray(result.basis.at_upper)[nonbasic],
+                     _fixed(lp, nonbasic))
+
+
+def _full_form(lp: BlendLP, costs: np.ndarray | None = None) -> tuple[np.ndarray, np.ndarray]:
+    """M = [A, -I] and the costs of x (`costs`, or the LP's) and of the row activities (0)."""
     form = lp.form
     A = form.A.toarray() if hasattr(form.A, "toarray") else np.asarray(form.A, dtype=float)
     m = A.shape[0]
-    return np.hstack([A, -np.eye(m)]), np.concatenate([form.c, np.zeros(m)])
+    return np.hstack([A, -np.eye(m)]), np.concatenate([form.c if costs is None else costs, np.zeros(m)])
 
 
 def _direction(lp: BlendLP, j: int, size: int) -> np.ndarray:

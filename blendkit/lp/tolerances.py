@@ -39,3 +39,6 @@ ONE_SIDED_STEP = 1e-6
 # A change of a reduced cost smaller than this along a price direction is no change (one
 # price per ingredient, `blendkit.lp.shared_prices`).
 DUAL_SIGN = 1e-12
+# A sweep steps this far past a breakpoint (relative to 1 + |value|) to find the next
+# piece's basis.
+SWEEP_NUDGE = 1e-9
