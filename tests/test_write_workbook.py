@@ -376,7 +376,7 @@ def test_shadow_prices_sheet(source: Path, tmp_path: Path):
     assert len(rows) == len(formula.limits)
     assert [c.value for c in sheet[header]] == [
         "Kind", "Product", "Name", "Basis", "Side", "Bound", "Level", "Binding", "Shadow price",
-        "Shadow price unit", "Bound read from", "Shadow price holds for bounds from", "to"]
+        "Shadow price unit", "Bound read from", "Holds from", "Holds to"]
     for row, limit in zip(rows, formula.limits):
         kind, product, name, basis, side, bound, level, binding, shadow, unit, cell, low, high = row
         assert (low, high) == (limit.holds_from, limit.holds_to)
