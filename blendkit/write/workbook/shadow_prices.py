@@ -14,8 +14,8 @@ from openpyxl.worksheet.worksheet import Worksheet
 
 from blendkit.model.blend import Blend
 from blendkit.model.formula import Formula, Limit, RunInfo, basis_label
-from blendkit.model.units import cost_unit, run_cost_unit, shadow_price_unit
-from blendkit.write.numbers import limit_key, nutrient_decimals
+from blendkit.model.units import cost_unit, kind_word, run_cost_unit, shadow_price_unit
+from blendkit.write.numbers import decimals, limit_key, nutrient_decimals
 from blendkit.write.workbook.cells import (
     AMOUNT_FORMAT,
     INCLUSION_FORMAT,
@@ -109,7 +109,7 @@ def _bound_format(limit: Limit, places: dict[tuple, int]) -> str:
 
 def _write_limit(sheet: Worksheet, row: int, limit: Limit, blend: Blend, number_format: str) -> None:
     """One limit's row: which bound, its level, its shadow price and where that holds."""
-    put(sheet, row, 1, limit.kind)
+    put(sheet, row, 1, kind_word(limit.kind, blend))
     put(sheet, row, 2, limit.product)
     put(sheet, row, 3, limit.name)
     put(sheet, row, 4, basis_label(limit.kind, limit.basis))
@@ -117,7 +117,8 @@ def _write_limit(sheet: Worksheet, row: int, limit: Limit, blend: Blend, number_
     number(sheet.cell(row, 6), limit.bound, number_format)
     number(sheet.cell(row, 7), limit.level, number_format)
     put(sheet, row, 8, "yes" if limit.binding else "no")
-    number(sheet.cell(row, 9), limit.shadow_price, format_by_size([limit.shadow_price], 2))
+    places = decimals([limit.shadow_price], 2)
+    number(sheet.cell(row, 9), _no_negative_zero(limit.shadow_price, places), fixed_format(places))
     put(sheet, row, 10, shadow_price_unit(limit, blend))
     put(sheet, row, 11, limit.cell)
     # How far the bound may move with the same shadow price (blank: no end, or not
@@ -126,6 +127,11 @@ def _write_limit(sheet: Worksheet, row: int, limit: Limit, blend: Blend, number_
         number(sheet.cell(row, 12), limit.holds_from, number_format)
     if limit.holds_to is not None:
         number(sheet.cell(row, 13), limit.holds_to, number_format)
+
+
+def _no_negative_zero(value: float, places: int) -> float:
+    """0 for a value that would show as "-0.00" at `places` decimals (a rounding remnant)."""
+    return 0.0 if round(value, places) == 0 else value
 
 
 def _intro(formula: Formula) -> str:
