@@ -18,6 +18,7 @@ from blendkit.model.formula import RunInfo
 from blendkit.pipeline import solve_workbook
 from blendkit.write.workbook.printing import (
     PORTRAIT_CHARACTERS,
+    TITLE_CHARACTERS,
     fit_column_widths,
     footer_text,
     set_print_layout,
@@ -96,6 +97,16 @@ def test_an_ampersand_in_the_title_prints_as_itself():
     sheet = workbook.active
     set_print_layout(sheet, "Corn & soy", run_info())
     assert sheet.oddHeader.left.text == "Corn && soy"
+
+
+def test_a_long_title_is_cut_to_fit_the_header():
+    # Outside reference: Excel's specifications and limits, 255 characters in a page header
+    # or footer.
+    workbook = Workbook()
+    sheet = workbook.active
+    set_print_layout(sheet, "x" * 300, run_info())
+    assert len(sheet.oddHeader.left.text) == TITLE_CHARACTERS
+    assert sheet.oddHeader.left.text.endswith("...")
 
 
 def test_footer_without_a_sha_leaves_its_place_empty():

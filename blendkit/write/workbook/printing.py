@@ -23,6 +23,8 @@ PORTRAIT_CHARACTERS = 100
 DEFAULT_COLUMN_WIDTH = 8.43
 # How many characters of the input's SHA-256 the footer shows: enough to tell files apart.
 SHA_CHARACTERS = 12
+# A header or footer holds at most 255 characters in all: a longer title is cut to this.
+TITLE_CHARACTERS = 100
 # Rows above the frozen pane repeat on every printed page when there are at most this many.
 MOST_REPEATED_ROWS = 5
 
@@ -109,12 +111,19 @@ def _frozen_rows(sheet: Worksheet) -> int:
 def _header_and_footer(sheet: Worksheet, title: str, run: RunInfo) -> None:
     """The title and the sheet's name on top; page, run time and input SHA-256 below."""
     for header, footer in ((sheet.oddHeader, sheet.oddFooter), (sheet.evenHeader, sheet.evenFooter)):
-        header.left.text = _escaped(title)
+        header.left.text = _escaped(_shortened(title))
         header.right.text = "&A"  # the sheet's name
         left, centre, right = footer_text(run)
         footer.left.text = left
         footer.center.text = centre
         footer.right.text = right
+
+
+def _shortened(title: str) -> str:
+    """The title, cut with "..." when too long for a page header."""
+    if len(title) <= TITLE_CHARACTERS:
+        return title
+    return title[: TITLE_CHARACTERS - 3].rstrip() + "..."
 
 
 def _escaped(text: str) -> str:
