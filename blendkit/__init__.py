@@ -14,7 +14,8 @@ from importlib import import_module
 __version__ = "0.1.0"
 
 CAUTION = (
-    "Caution: formulations must be checked by a qualified nutritionist and against "
+    "Caution: formulations must be checked by a qualified nutritionist (or, for "
+    "fertilizer, an agronomist) and against "
     "local regulations before use. blendkit finds the cheapest mix that meets the "
     "limits you enter; it cannot tell whether those limits are right for the animals "
     "or people who will eat it, or for the crop and soil it is spread on."

@@ -780,7 +780,7 @@ def conflicted_formula(source: Path | None = None, complete: bool = False) -> Fo
 # blend stays at 17.12 % and pays for the 1.38 % it misses.
 SOFT_PROTEIN_MIN = 18.5
 SOFT_PENALTY = 6.0
-SOFT_NOTE = ("SOFT LIMIT BROKEN: Crude protein min 18.5 is missed by 1.38 (level 17.12) at a "
+SOFT_NOTE = ("Soft spec not met: Crude protein min 18.5 is missed by 1.38 (level 17.12) at a "
              "penalty of 6 per unit (Specs!B2)")
 
 

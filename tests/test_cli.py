@@ -260,3 +260,20 @@ def test_help_loads_neither_the_numbers_nor_the_workbook_libraries():
             "print(sorted(m for m in ('numpy', 'scipy', 'openpyxl', 'pandas') if m in sys.modules))")
     done = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True, cwd=ROOT)
     assert done.stdout.strip().splitlines()[-1] == "[]"
+
+
+def test_export_mps_keeps_a_long_name_in_free_mps(tmp_path):
+    # Outside reference: HiGHS (highspy) reads the free MPS file the long name makes.
+    import highspy
+
+    from blendkit.pipeline import check_workbook
+    from blendkit.write.mps import export_mps
+
+    blend = check_workbook(ROOT / "sample_workbooks" / "layer_feed.xlsx")
+    assert len(blend.settings.name) > 8
+    mps_file = export_mps(blend, tmp_path / "layer.mps")
+    first = mps_file.read_text().splitlines()[0]
+    assert first == "NAME " + "_".join(blend.settings.name.split())
+    h = highspy.Highs()
+    h.setOptionValue("output_flag", False)
+    assert h.readModel(str(mps_file)) == highspy.HighsStatus.kOk

@@ -218,7 +218,7 @@ def test_soft_spec_is_broken_at_its_penalty_and_reported(tmp_path):
     assert broken["name"] == "Crude protein" and broken["cell"] == "Specs!B2"
     assert broken["violation"] == pytest.approx(ref.x[4], rel=1e-7)
     assert broken["penalty"] == 5
-    assert "SOFT LIMIT BROKEN" in doc["notes"][0]
+    assert "Soft spec not met" in doc["notes"][0]
 
 
 def test_priority_decides_what_gives_way(tmp_path):

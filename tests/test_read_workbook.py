@@ -102,6 +102,20 @@ def test_headers_ignore_case_spaces_and_units(tmp_path):
     assert [s.nutrient for s in blend.specs] == ["Crude   protein", "Ash"]
 
 
+def test_a_food_column_is_read_as_the_ingredient_column(tmp_path):
+    ingredients = [["Food", "Cost", "Max", "Unit", "Protein"], ["Oats", 0.2, 2, "100 g", 13]]
+    blend = read_workbook(make_workbook(tmp_path, ingredients, [["Nutrient", "Min", "Max"], ["Protein", 5, None]]))
+    assert [item.name for item in blend.ingredients] == ["Oats"]
+    assert blend.ingredient("Oats").cells["name"] == "Ingredients!A2"
+    assert blend.nutrients == ("Protein",)
+
+
+def test_beside_an_ingredient_column_food_is_a_nutrient(tmp_path):
+    ingredients = [["Ingredient", "Cost", "Food"], ["Oats", 0.2, 1]]
+    blend = read_workbook(make_workbook(tmp_path, ingredients, [["Nutrient", "Min", "Max"], ["Food", 0.5, None]]))
+    assert blend.nutrients == ("Food",)
+
+
 def test_table_may_start_below_and_right_and_blank_rows_are_skipped(tmp_path):
     ingredients = [
         [],

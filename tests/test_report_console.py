@@ -137,7 +137,7 @@ def test_binding_ratio_group_and_stock_limits():
 
 def test_stocks_of_one_blend():
     stocks = block(render_summary(formulas.ration_formula()), "Stock ")
-    assert stocks[0].split() == ["Stock", "Unit", "Used", "Available", "Binding", "Worth", "of",
+    assert stocks[0].split() == ["Stock", "Unit", "Used", "Available", "Binding", "Value", "of",
                                  "one", "more", "unit", "EUR"]
     assert [line.split() for line in stocks[2:]] == [
         ["Barley", "kg", "300.00", "5,000.00", "no", "0.00"],
@@ -153,10 +153,10 @@ def test_diet_summary():
     text = render_summary(formulas.diet_formula())
     lines = text.splitlines()
     assert lines[0] == "Wrenhill hostel day menu"
-    assert "Cost: 3.08 EUR per diet" in lines  # 3.075, as stored in binary, rounds up here
+    assert "Cost: 3.08 EUR per day" in lines  # 3.075, as stored in binary, rounds up here
     assert not any(line.startswith("Batch:") for line in lines)
-    foods = block(text, "Ingredient")
-    assert foods[0].split() == ["Ingredient", "Amount", "Unit", "Cost", "EUR"]
+    foods = block(text, "Food")
+    assert foods[0].split() == ["Food", "Amount", "Unit", "Cost", "EUR"]
     assert foods[2] == "Porridge oats       2.000  40 g portion        0.16"
     assert foods[4] == "Semi-skimmed milk   2.500  glass (200 ml)      0.40"
     assert len(foods) == 2 + 7  # Cheddar and peanut butter are not in the diet
@@ -234,8 +234,8 @@ def test_infeasible_summary_explains_the_conflicts_and_the_way_out():
         "Dropping or moving any one limit of a conflict resolves that conflict.",
         "More conflicts may remain after these are fixed: solve again to see them.",
     ]
-    assert block(text, "Cheapest way out:") == [
-        "Cheapest way out:",
+    assert block(text, "Least-cost way out:") == [
+        "Least-cost way out:",
         "  Specs!B2  Crude protein  min 26      -> 21.5",
         "  Ingredients!E5  Limestone  Use = no  -> Use = yes, max 1.75",
         "Cost once all of them are moved: 232.00 EUR per tonne",
@@ -261,15 +261,15 @@ def test_no_single_move_and_no_way_out():
     formula = dataclasses.replace(formula, conflicts=conflicts, relaxation=None)
     text = render_summary(formula)
     assert "  Specs!B2  Crude protein  min 26        -> no single move" in text.splitlines()
-    assert block(text, "Cheapest way out:") == [
-        "Cheapest way out: none found; change the limits above by hand."]
+    assert block(text, "Least-cost way out:") == [
+        "Least-cost way out: none found; change the limits above by hand."]
 
 
 def test_a_way_out_whose_blend_did_not_solve():
     formula = formulas.conflicted_formula()
     relaxation = dataclasses.replace(formula.relaxation, formula=None)
     text = render_summary(dataclasses.replace(formula, relaxation=relaxation))
-    assert block(text, "Cheapest way out:")[-1] == (
+    assert block(text, "Least-cost way out:")[-1] == (
         "Cost once all of them are moved: unknown (the moved workbook did not solve).")
 
 
@@ -286,10 +286,10 @@ def test_long_names_wrap_the_move_onto_its_own_line():
 def test_broken_soft_limits_come_right_after_the_cost():
     text = render_summary(formulas.soft_formula())
     lines = text.splitlines()
-    start = lines.index("SOFT LIMITS BROKEN: 1 soft spec missed; meeting it would cost more.")
+    start = lines.index("Soft specs not met: 1. Meeting it would cost more than its penalty.")
     assert lines[start - 2:start] == ["Batch: 2000 kg", ""]
-    assert block(text, "SOFT LIMITS BROKEN") == [
-        "SOFT LIMITS BROKEN: 1 soft spec missed; meeting it would cost more.",
+    assert block(text, "Soft specs not met") == [
+        "Soft specs not met: 1. Meeting it would cost more than its penalty.",
         "Penalty: EUR per tonne for each unit of violation (shortfall or excess).",
         "Soft limit         Bound  Level  Violation  Penalty  Cell",
         "-----------------  -----  -----  ---------  -------  --------",
@@ -297,21 +297,21 @@ def test_broken_soft_limits_come_right_after_the_cost():
     ]
     assert start < lines.index(block(text, "Ingredient")[0])
     # Shown once: the note saying the same is left out of the notes.
-    assert "SOFT LIMIT BROKEN:" not in text
+    assert "Soft spec not met:" not in text
     assert block(text, "Notes:") == ["Notes:", f"- {formulas.NOTES[0]}"]
 
 
 def test_broken_soft_limits_of_products_name_the_product():
     text = render_summary(formulas.soft_mill_formula())
-    lines = block(text, "SOFT LIMITS BROKEN")
-    assert lines[0] == "SOFT LIMITS BROKEN: 1 soft spec missed; meeting it would cost more."
+    lines = block(text, "Soft specs not met")
+    assert lines[0] == "Soft specs not met: 1. Meeting it would cost more than its penalty."
     assert lines[2].split() == ["Soft", "limit", "Product", "Bound", "Level", "Violation", "Penalty", "Cell"]
     assert lines[4:] == ["Energy min  Grower pellet  12.70  12.50       0.20    3.500  Specs!B6"]
-    assert text.index("SOFT LIMITS BROKEN") < text.index("Product: Starter crumb")
+    assert text.index("Soft specs not met") < text.index("Product: Starter crumb")
 
 
 def test_no_soft_limits_block_when_every_limit_is_met():
-    assert "SOFT LIMITS" not in render_summary(formulas.optimal_formula())
+    assert "Soft specs" not in render_summary(formulas.optimal_formula())
 
 
 def test_several_broken_soft_limits_fit_in_80_columns():
@@ -320,7 +320,15 @@ def test_several_broken_soft_limits_fit_in_80_columns():
     broken = dataclasses.replace(calcium, bound=0.95, violation=0.95 - calcium.level, penalty=40.0)
     formula = dataclasses.replace(formula, limits=tuple(broken if limit is calcium else limit
                                                         for limit in formula.limits))
-    lines = block(render_summary(formula), "SOFT LIMITS BROKEN")
-    assert lines[0] == "SOFT LIMITS BROKEN: 2 soft specs missed; meeting them would cost more."
+    lines = block(render_summary(formula), "Soft specs not met")
+    assert lines[0] == "Soft specs not met: 2. Meeting them would cost more than their penalties."
     assert [line.split()[:2] for line in lines[4:]] == [["Crude", "protein"], ["Calcium", "min"]]
     assert all(len(line) <= 80 for line in lines)
+
+
+def test_a_rounding_remnant_never_shows_as_negative_zero():
+    formula = formulas.optimal_formula()
+    limits = tuple(dataclasses.replace(limit, shadow_price=-1e-12) if limit.binding else limit
+                   for limit in formula.limits)
+    text = render_summary(dataclasses.replace(formula, limits=limits))
+    assert "-0.00" not in text and "+0.00" in text

@@ -376,7 +376,7 @@ def test_shadow_prices_sheet(source: Path, tmp_path: Path):
     assert len(rows) == len(formula.limits)
     assert [c.value for c in sheet[header]] == [
         "Kind", "Product", "Name", "Basis", "Side", "Bound", "Level", "Binding", "Shadow price",
-        "Shadow price unit", "Bound read from", "Shadow price holds for bounds from", "to"]
+        "Shadow price unit", "Bound read from", "Holds from", "Holds to"]
     for row, limit in zip(rows, formula.limits):
         kind, product, name, basis, side, bound, level, binding, shadow, unit, cell, low, high = row
         assert (low, high) == (limit.holds_from, limit.holds_to)
@@ -710,7 +710,7 @@ def test_diet_result_shows_amounts_in_each_foods_unit(tmp_path: Path):
     assert result["A1"].value == "Wrenhill hostel day menu"
     cost = row_of(result, "Diet cost")
     assert [result.cell(cost, c).value for c in (2, 3)] == [pytest.approx(formulas.diet_cost()),
-                                                             "EUR per diet"]
+                                                             "EUR per day"]
     values = [c.value for row in result.iter_rows() for c in row]
     assert "Batch" not in values and "Blend cost" not in values and "Inclusion (%)" not in values
     header = row_of(result, "Ingredient")
@@ -752,7 +752,7 @@ def test_diet_nutrients_are_totals(tmp_path: Path):
 def test_diet_shadow_prices(tmp_path: Path):
     formula, workbook = written("diet", tmp_path)
     sheet = workbook["Shadow prices"]
-    assert "the diet's cost (EUR per diet)" in sheet["A1"].value
+    assert "the diet's cost (EUR per day)" in sheet["A1"].value
     rows = table(sheet, 3, len(formula.limits), columns=11)
     units = {(row[2], row[4]): row[9] for row in rows}
     assert units[("Vitamin C", "min")] == "EUR per 1 unit of Vitamin C (mg)"
@@ -760,6 +760,16 @@ def test_diet_shadow_prices(tmp_path: Path):
     assert units[("Fruit", "min")] == "EUR per unit"
     bread = next(row for row in rows if row[2] == "Wholemeal bread")
     assert bread[5:9] == [6, 6, "yes", -0.012]
+    assert bread[0] == "food"  # a diet's ingredients are foods, in every label
+
+
+def test_shadow_price_never_shows_negative_zero(source: Path, tmp_path: Path):
+    formula = formulas.optimal_formula()
+    first = dataclasses.replace(formula.limits[0], shadow_price=-1e-12)
+    formula = dataclasses.replace(formula, limits=(first, *formula.limits[1:]))
+    sheet = load_workbook(write(formula, source, tmp_path / "out.xlsx"))["Shadow prices"]
+    assert sheet.cell(4, 9).value == 0
+    assert math.copysign(1.0, sheet.cell(4, 9).value) == 1.0  # not -0.0
 
 
 def test_products_total_cost_and_its_live_check(tmp_path: Path):
@@ -901,7 +911,7 @@ def test_conflicts_sheet(source: Path, tmp_path: Path):
     assert "More conflicts may remain after these are fixed" in text
     assert 'Kind "use" is a Use = no' in text and 'Kind "total"' in text
 
-    header = ("Kind", "Name", "Product", "Side", "Bound", "Cell", "Alone it would have to move to")
+    header = ("Kind", "Name", "Product", "Side", "Bound", "Cell", "Move this bound alone to")
     first, second = rows_of(sheet, "Conflict 1 of 2"), rows_of(sheet, "Conflict 2 of 2")
     assert len(first) == len(second) == 1
     assert sheet.cell(first[0], 1).font.b
@@ -953,7 +963,7 @@ def test_conflicts_sheet_without_a_way_out(source: Path, tmp_path: Path):
     formula = dataclasses.replace(formulas.conflicted_formula(), relaxation=None)
     sheet = load_workbook(write(formula, source, tmp_path / "out.xlsx"))["Conflicts"]
     way_out = row_of(sheet, "Least-cost way out")
-    assert sheet.cell(way_out + 1, 1).value.startswith("No relaxation was found")
+    assert sheet.cell(way_out + 1, 1).value.startswith("No way out was found")
     assert sheet.max_row == way_out + 1
 
 

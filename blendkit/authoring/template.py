@@ -58,16 +58,17 @@ INGREDIENT_ROWS = (
     (f"Protein meal {EXAMPLE_ROW}", 420, None, 35, "yes", None, None, 89, 45.0, 0.30, 0.65),
     (f"Limestone {EXAMPLE_ROW}", 50, None, None, "yes", None, None, 99, 0.0, 38.0, 0.0),
 )
-SPEC_HEADER = ("Nutrient", "Basis", "Min", "Max", "Product")
+SPEC_HEADER = ("Nutrient", "Basis", "Min", "Max", "Product", "Penalty", "Priority")
 SPEC_ROWS = (
-    ("Crude protein", "dry matter", 18, None, None),
-    ("Calcium", "as fed", 0.6, 1.0, None),
-    ("Calcium / Phosphorus", "as fed", 1.5, 2.5, None),
+    ("Crude protein", "dry matter", 18, None, None, None, None),
+    ("Calcium", "as fed", 0.6, 1.0, None, None, None),
+    ("Calcium / Phosphorus", "as fed", 1.5, 2.5, None, None, None),
 )
-GROUP_HEADER = ("Group", "Ingredients", "Min (%)", "Max (%)", "Product")
-GROUP_ROWS = ((f"Grain and meal {EXAMPLE_ROW}", f"Grain {EXAMPLE_ROW}, Protein meal {EXAMPLE_ROW}", 90, None, None),)
+GROUP_HEADER = ("Group", "Ingredients", "Min (%)", "Max (%)", "Product", "Priority")
+GROUP_ROWS = ((f"Grain and meal {EXAMPLE_ROW}", f"Grain {EXAMPLE_ROW}, Protein meal {EXAMPLE_ROW}", 90, None, None,
+               None),)
 PRODUCT_HEADER = ("Product", "Amount (kg)")
-LIMIT_HEADER = ("Product", "Ingredient", "Min (%)", "Max (%)")
+LIMIT_HEADER = ("Product", "Ingredient", "Min (%)", "Max (%)", "Priority")
 SETTING_ROWS = (
     ("Name", "New blend"),
     ("Mode", "blend"),
@@ -117,11 +118,17 @@ README = (
      "blank, not both. In diet mode: totals, such as daily intakes."),
     ("Product", "Blank = every product; otherwise the product (from the Products sheet) the row "
      "applies to."),
+    ("Penalty", "Blank (the usual case): the spec must be met. A number makes an as-fed nutrient "
+     "spec soft: it may be missed, at that cost per unit it is missed by (currency per Cost per "
+     "unit of blend); every soft spec not met is reported first."),
+    ("Priority", "1 to 9, blank for the default. When limits cannot all be met, those with a lower "
+     "priority give way first in the least-cost way out. Defaults: ingredient limits 2, nutrient, "
+     "ratio and group specs 3, Use = no 4, stocks 5."),
     ("Groups sheet", "Optional: bounds on the total of several ingredients."),
     ("Group", "A name for the group."),
     ("Ingredients", "The ingredient names, separated by commas or semicolons."),
     ("Min, Max", "The least and most total inclusion in % of the blend (amounts in diet mode)."),
-    ("Product", "As on Specs."),
+    ("Product, Priority", "As on Specs."),
     ("Products sheet", "Optional; leave it empty to make one blend of Batch size. Fill it to make "
      "several products in one run from shared stocks (not in diet mode)."),
     ("Product", "The name of each product."),
@@ -132,6 +139,7 @@ README = (
     ("Product, Ingredient", "A product from Products and an ingredient from Ingredients."),
     ("Min, Max", "Inclusion limits in % of that product. They replace the Ingredients sheet's "
      "Min and Max for that ingredient in that product."),
+    ("Priority", "As on Specs."),
     ("Settings sheet", "Setting / Value rows; a blank value keeps the default."),
     ("Name", "A title for the blend."),
     ("Mode", "blend (default): the inclusions are in % and add up to 100. diet: the amount of "
@@ -228,7 +236,7 @@ def _write_ingredients(sheet: Worksheet) -> None:
 def _write_specs(sheet: Worksheet) -> None:
     """The Specs sheet: example rows (a ratio, a dry-matter spec) and the Basis drop-down."""
     _table(sheet, SPEC_HEADER, SPEC_ROWS, freeze="A2")
-    for column in ("C", "D"):
+    for column in ("C", "D", "F"):
         _number_format(sheet, column, AMOUNT_FORMAT)
     _choices(sheet, "B", BASIS_CHOICES, "Basis", "as fed, or dry matter (level per unit of dry matter).")
 

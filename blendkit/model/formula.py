@@ -18,7 +18,12 @@ if TYPE_CHECKING:
 
 # How the analysis starts a note about a broken soft spec; writers that show such specs
 # in a block of their own leave these notes out of the notes list.
-SOFT_LIMIT_NOTE = "SOFT LIMIT BROKEN:"
+SOFT_LIMIT_NOTE = "Soft spec not met:"
+# The heading of that block, followed by the count ("Soft specs not met: 2"): the console,
+# the Result and the Overview sheets word it the same way.
+SOFT_SPECS_NOT_MET = "Soft specs not met"
+# What an infeasible run's suggested bound moves are called, wherever they are shown.
+WAY_OUT = "Least-cost way out"
 
 # Statuses a formula can have; the engine's statuses pass through unchanged.
 OPTIMAL = "optimal"

@@ -16,21 +16,31 @@ def cost_unit(settings: Settings) -> str:
 
 
 def run_cost_unit(blend: Blend) -> str:
-    """The unit of `Formula.cost`: "EUR per tonne" for one blend, "EUR per diet" for a
-    diet (the whole diet's cost) and "EUR" (the run's total) with several products."""
+    """The unit of `Formula.cost`: "EUR per tonne" for one blend, "EUR per day" for a
+    diet (the whole day's diet) and "EUR" (the run's total) with several products."""
     settings = blend.settings
     if blend.diet:
-        return f"{settings.currency} per diet".strip()
+        return f"{settings.currency} per day".strip()
     if blend.products:
         return settings.currency
     return cost_unit(settings)
 
 
 def penalty_unit(blend: Blend) -> str:
-    """A soft limit's penalty per unit of violation: "EUR per tonne" ("EUR per diet"),
+    """A soft limit's penalty per unit of violation: "EUR per tonne" ("EUR per day"),
     or "cost per tonne" when no currency is given."""
     unit = run_cost_unit(blend) if blend.diet else cost_unit(blend.settings)
     return unit if blend.settings.currency else f"cost {unit}"
+
+
+def ingredient_word(blend: Blend) -> str:
+    """What a label calls an ingredient: "Food" in a diet, else "Ingredient"."""
+    return "Food" if blend.diet else "Ingredient"
+
+
+def kind_word(kind: str, blend: Blend) -> str:
+    """A limit's kind as a sheet shows it: "food" for an ingredient limit in a diet."""
+    return "food" if blend.diet and kind == "ingredient" else kind
 
 
 def food_unit(blend: Blend, name: str) -> str:

@@ -1,6 +1,8 @@
 """The Ingredients sheet (required), one row per ingredient.
 
-``Ingredient``  required column; the name, unique ignoring case and spaces.
+``Ingredient``  required column; the name, unique ignoring case and spaces. A column
+                headed ``Food`` (a diet's word) is read as this column when there is
+                no ``Ingredient`` column.
 ``Cost``        required column; price per ``Cost per`` unit of mass (see Settings),
                 or per the ingredient's unit in diet mode; any finite number (a
                 negative price is a credit).
@@ -21,6 +23,8 @@ At least one ingredient row is required. A row with values but no name is an err
 """
 
 from __future__ import annotations
+
+import dataclasses
 
 from blendkit.errors import Problem
 from blendkit.model.blend import Ingredient, Settings
@@ -44,6 +48,9 @@ _COLUMNS: Wanted = {
     "unit": ("Unit", "what one unit of the ingredient is, in diet mode", False),
     "stock": ("Stock", "the quantity on hand in the mass unit", False),
 }
+
+# The header a diet's food list may give its name column instead of "Ingredient".
+_FOOD = "food"
 
 # Ingredient cell keys as stored in Ingredient.cells, by column key.
 _CELL_KEYS = {
@@ -73,6 +80,7 @@ def read_ingredients(
     table: Table, settings: Settings, problems: list[Problem]
 ) -> tuple[list[Ingredient], list[Column], Names]:
     """The ingredients, the nutrient columns and every ingredient name of the Ingredients sheet."""
+    table = _food_as_ingredient(table)
     nutrients = [column for column in table.columns if column.key not in _COLUMNS]
     missing = check_columns(table, _COLUMNS, problems)
     if "ingredient" in missing:
@@ -93,6 +101,19 @@ def read_ingredients(
             "there are no ingredients under the header row; add at least one ingredient row"
         )))
     return ingredients, nutrients, Names(table.title, names)
+
+
+def _food_as_ingredient(table: Table) -> Table:
+    """The table with its Food column read as the Ingredient column, so a diet's list of
+    foods may say "Food"; unchanged when it has an Ingredient column or no Food column."""
+    keys = {column.key for column in table.columns}
+    if "ingredient" in keys or _FOOD not in keys:
+        return table
+    columns = [dataclasses.replace(column, key="ingredient") if column.key == _FOOD else column
+               for column in table.columns]
+    rows = [{("ingredient" if key == _FOOD else key): cell for key, cell in row.items()}
+            for row in table.rows]
+    return dataclasses.replace(table, columns=columns, rows=rows)
 
 
 def _read_ingredient(

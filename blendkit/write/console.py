@@ -5,7 +5,7 @@ terminal, a log file or an e-mail. The caution is always the last line.
 
 Broken soft specs come right after the cost, before the tables. An infeasible blend shows
 its conflicting sets of limits (each member with the value it alone would have to move
-to) and the cheapest way out, kept within 80 columns where the names allow.
+to) and the least-cost way out, kept within 80 columns where the names allow.
 """
 
 from __future__ import annotations
@@ -21,11 +21,14 @@ from blendkit.model.formula import (
     Limit,
     NutrientLine,
     ProductFormula,
+    SOFT_SPECS_NOT_MET,
+    WAY_OUT,
     basis_label,
 )
 from blendkit.model.units import (
     cost_unit,
     food_unit,
+    ingredient_word,
     penalty_unit,
     run_cost_unit,
     shadow_price_unit,
@@ -57,7 +60,7 @@ def render_summary(formula: Formula) -> str:
     products show the run's total cost, then each product's amount, cost and tables. For
     a blend that was not solved to optimality only the status, the message and any notes
     are shown (and the caution); an infeasible one adds its conflicting limits and the
-    cheapest way out."""
+    least-cost way out."""
     blend = formula.blend
     settings = blend.settings
     title = settings.name or (blend.source.stem if blend.source else "Blend")
@@ -85,7 +88,7 @@ def render_summary(formula: Formula) -> str:
 
 
 def _explanations(formula: Formula) -> list[list[str]]:
-    """The conflicts and the cheapest way out of an infeasible run; with products solved as
+    """The conflicts and the least-cost way out of an infeasible run; with products solved as
     separate LPs, one pair per infeasible LP under the names of its products."""
     if formula.status != "infeasible":
         return []
@@ -128,7 +131,7 @@ def _changes(formula: Formula) -> list[str]:
     for item in changes.formulas:
         lines.append(
             f"  {item.key}: cost {item.cost_before:,.2f} {_ARROW} {item.cost_after:,.2f} {unit}: "
-            f"price effect {item.price_effect + 0.0:+,.2f}, formula effect {item.formula_effect + 0.0:+,.2f}"
+            f"price effect {_signed(item.price_effect, 2)}, formula effect {_signed(item.formula_effect, 2)}"
         )
     return lines
 
@@ -156,11 +159,11 @@ def _soft_limits(formula: Formula) -> list[str]:
     if formula.several:
         headers.insert(1, "Product")
     if len(broken) == 1:
-        count = "1 soft spec missed; meeting it would cost more."
+        why = "Meeting it would cost more than its penalty."
     else:
-        count = f"{len(broken)} soft specs missed; meeting them would cost more."
+        why = "Meeting them would cost more than their penalties."
     return [
-        f"SOFT LIMITS BROKEN: {count}",
+        f"{SOFT_SPECS_NOT_MET}: {len(broken)}. {why}",
         f"Penalty: {penalty_unit(formula.blend)} for each unit of violation (shortfall or excess).",
         *_table(headers, rows, left=2 if formula.several else 1, last_left=True),
     ]
@@ -199,12 +202,12 @@ def _alone(line: ConflictLine) -> str:
 
 
 def _way_out(formula: Formula) -> list[str]:
-    """The least-cost relaxation: each bound's old and new value and cell, then the cost."""
+    """The least-cost way out: each bound's old and new value and cell, then the cost."""
     relaxation = formula.relaxation
     if relaxation is None or not relaxation.changes:
         if not formula.conflicts:
             return []
-        return ["Cheapest way out: none found; change the limits above by hand."]
+        return [f"{WAY_OUT}: none found; change the limits above by hand."]
     rows: list[list[str] | str] = []
     for change in relaxation.changes:
         # In the conflicts' own words: cell, name and old bound, then the new bound.
@@ -219,7 +222,7 @@ def _way_out(formula: Formula) -> list[str]:
         cost = f"{label} once all of them are moved: {result.cost:,.2f} {run_cost_unit(blend)}".rstrip()
     else:
         cost = f"{label} once all of them are moved: unknown (the moved workbook did not solve)."
-    return ["Cheapest way out:", *_aligned(rows), cost]
+    return [f"{WAY_OUT}:", *_aligned(rows), cost]
 
 
 def _aligned(rows: list[list[str] | str]) -> list[str]:
@@ -266,7 +269,7 @@ def _ingredients(blend: Blend, lines: tuple[IngredientLine, ...]) -> list[str]:
     diet, the amount in the food's unit and its cost."""
     used = [line for line in lines if line.inclusion > 0]
     if not used:
-        return [f"No ingredient is in the {'diet' if blend.diet else 'blend'}."]
+        return [f"No {ingredient_word(blend).lower()} is in the {'diet' if blend.diet else 'blend'}."]
     if blend.diet:
         money = blend.settings.currency or "cost"
         rows = [
@@ -274,7 +277,7 @@ def _ingredients(blend: Blend, lines: tuple[IngredientLine, ...]) -> list[str]:
              f"{line.batch_cost:,.2f}"]
             for line in used
         ]
-        return _table(["Ingredient", "Amount", "Unit", f"Cost {money}"], rows, left=1, text=(2,))
+        return _table(["Food", "Amount", "Unit", f"Cost {money}"], rows, left=1, text=(2,))
     unit = blend.settings.mass_unit
     rows = [
         [line.name, _fixed(line.inclusion, INCLUSION_DECIMALS), f"{line.amount:,.2f}"]
@@ -324,7 +327,7 @@ def _stocks(formula: Formula) -> list[str]:
         ]
         for line in formula.stocks
     ]
-    headers = ["Stock", "Unit", "Used", "Available", "Binding", f"Worth of one more unit {money}"]
+    headers = ["Stock", "Unit", "Used", "Available", "Binding", f"Value of one more unit {money}"]
     return _table(headers, rows, left=2)
 
 
@@ -347,7 +350,7 @@ def _binding_limits(formula: Formula) -> list[str]:
         row = [
             _limit_label(limit),
             _fixed(limit.bound, bound_places),
-            f"{limit.shadow_price + 0.0:+.{decimals([limit.shadow_price], least=2)}f}",
+            _signed(limit.shadow_price, decimals([limit.shadow_price], least=2)),
             shadow_price_unit(limit, formula.blend),
         ]
         if formula.several:
@@ -398,4 +401,9 @@ def _fixed(value: float | None, decimals: int) -> str:
     """A number with `decimals` places, or "-" for an open bound."""
     if value is None or not math.isfinite(value):
         return "-"
-    return f"{value + 0.0:,.{decimals}f}"
+    return f"{round(value, decimals) + 0.0:,.{decimals}f}"  # never "-0.00"
+
+
+def _signed(value: float, decimals: int) -> str:
+    """A number with its sign, "+0.00" (never "-0.00") for one that rounds to zero."""
+    return f"{round(value, decimals) + 0.0:+,.{decimals}f}"

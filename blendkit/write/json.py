@@ -160,7 +160,7 @@ def _formula_changes(item: FormulaChanges) -> dict[str, Any]:
 
 def _products(formula: Formula) -> dict[str, Any]:
     """One entry per product: its status and formula; with products solved as separate
-    LPs, an infeasible product also carries its LP's least-cost relaxation."""
+    LPs, an infeasible product also carries its LP's least-cost way out."""
     relaxations = {
         product.name: _relaxation(part)
         for part in formula.parts

@@ -32,7 +32,8 @@ def export_mps(blend: Blend, path: str | Path) -> Path:
     stock rows as the engine solves them (a ranged row where a spec has both a min and a
     max) and `TOTAL` (inclusions sum to 100). The objective `COST` is the blend cost per
     `Cost per` unit, or the run's total cost with several products. Names that the fixed
-    format cannot hold make the file free MPS, with blanks turned into underscores.
+    format cannot hold (such as the workbook's Name when longer than 8 characters) make the
+    file free MPS, with blanks turned into underscores.
     """
     lp = build_lp(blend)
     names = [item.name for item in blend.ingredients]
@@ -45,7 +46,7 @@ def export_mps(blend: Blend, path: str | Path) -> Path:
         mps.write(
             target,
             lp.form,
-            name=(blend.settings.name or "BLEND")[:8].strip().replace(" ", "_") or "BLEND",
+            name=(blend.settings.name or "").strip() or "BLEND",  # a long one makes the file free MPS
             row_names=[_row_name(blend, lp, i) for i in range(len(lp.rows))],
             column_names=columns,
         )

@@ -112,7 +112,9 @@ DAY_MENU = Example(
         "and saturated fat at most 10 % of energy; carbohydrate at least 45 % of energy); "
         "for demonstration only.",
         "The Groups sheet asks for at least 400 g of vegetables and fruit a day (potatoes "
-        "not counted) and at most 60 g of cheese and peanut butter together.",
+        "not counted), of which at least 200 g of fruit, and at least 150 g of eggs, fish, "
+        "meat and pulses together. Cheese and peanut butter are held down by their own Max "
+        "on Ingredients (50 g and 30 g).",
         CAUTION,
     ),
 )

@@ -20,6 +20,10 @@ only those: a user's own sheet of one of these names is kept as "<name> (input)"
 * ``Result data`` (`result_data`, hidden): the run's machine-readable record, which a
   later run reads back to show what changed.
 
+Every sheet, the input sheets too, then gets the same print layout (`printing`): one page
+wide, with the title, the page, the run time and the input's SHA-256 on every page. An
+input sheet's cells are never changed, only its print settings.
+
 The save is atomic (`save`): a temporary file in the output's folder is moved into place,
 so a failed run leaves no half-written output. The source file is only ever read; the
 results saved with its formula cells are put back into the output (`saved_results`).
@@ -42,6 +46,7 @@ from blendkit.write.workbook import (
     changes,
     conflicts,
     overview,
+    printing,
     result,
     result_data,
     run_info,
@@ -98,6 +103,7 @@ def write_workbook(
     title = formula.blend.settings.name or source.stem
     for writer in SHEET_WRITERS:
         writer.write(workbook, formula, run, title)
+    printing.apply_to_workbook(workbook, title, run)  # input sheets too
     _mark_output_sheets(workbook)
     first = overview.TITLE if overview.TITLE in workbook.sheetnames else result.TITLE
     _show_first(workbook, workbook[first])

@@ -76,7 +76,7 @@ def _write_formula(sheet: Worksheet, row: int, item: FormulaChanges, blend: Blen
     row = _write_cost(sheet, row + 1, item, _cost_unit(blend)) + 1
     row = _write_list(sheet, row, "Came in", item.came_in)
     row = _write_list(sheet, row, "Went out", item.went_out) + 1
-    what = "Ingredient (amount)" if blend.diet else "Ingredient (inclusion %)"
+    what = "Food (amount)" if blend.diet else "Ingredient (inclusion %)"
     row = _write_values(sheet, row, what, item.inclusions, blend, inclusions=True) + 1
     row = _write_values(sheet, row, "Nutrient (level)", item.nutrients, blend, inclusions=False) + 1
     row = _write_list(sheet, row, "Started binding", item.started_binding)

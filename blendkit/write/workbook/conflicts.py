@@ -2,7 +2,7 @@
 
 Title, caution, a short explanation, one block per irreducible conflicting set of
 limits (each member with the cell it was read from and how far its bound alone would
-have to move), then the least-cost relaxation and the cost of the blend once it is made.
+have to move), then the least-cost way out and the cost of the blend once it is made.
 A Conflicts sheet left by an earlier run is removed (by `book`) when the workbook is now
 feasible.
 """
@@ -13,8 +13,9 @@ from openpyxl.utils import get_column_letter
 from openpyxl.workbook.workbook import Workbook
 from openpyxl.worksheet.worksheet import Worksheet
 
-from blendkit.model.formula import ConflictLine, Formula, RunInfo
-from blendkit.model.units import run_cost_unit
+from blendkit.model.blend import Blend
+from blendkit.model.formula import WAY_OUT, ConflictLine, Formula, RunInfo
+from blendkit.model.units import ingredient_word, kind_word, run_cost_unit
 from blendkit.write.workbook.cells import (
     ALERT_TEXT,
     AMOUNT_FORMAT,
@@ -45,8 +46,8 @@ def write(workbook: Workbook, formula: Formula, run: RunInfo, title: str) -> Non
 
     Nothing is written unless the run is infeasible. Layout, top to bottom: title,
     caution, a short explanation, one block per conflict (heading, then Kind, Name,
-    Product, Side, Bound, Cell, "Alone it would have to move to"), the least-cost
-    relaxation (the same columns with "New bound" last) and the cost of the blend once
+    Product, Side, Bound, Cell, "Move this bound alone to"), the least-cost way out
+    (the same columns with "New bound" last) and the cost of the blend once
     it is made.
     """
     if formula.status != "infeasible":
@@ -77,7 +78,7 @@ def _write_explanation(sheet: Worksheet, formula: Formula, row: int) -> int:
     explain = [
         ("Each conflict below is an irreducible set of limits: they cannot all hold together, "
          "but drop or move any one of them and the rest of that set can be met."),
-        ('"Alone it would have to move to": the value that one bound, moved on its own, would '
+        ('"Move this bound alone to": the value that one bound, moved on its own, would '
          "need for the workbook to become feasible (other conflicts set aside); "
          '"no single move" where moving it alone is not enough.'),
         ('"Dropped alone, fixes all": yes when dropping that one limit makes the whole workbook '
@@ -85,7 +86,7 @@ def _write_explanation(sheet: Worksheet, formula: Formula, row: int) -> int:
     ]
     if "use" in kinds:
         explain.append('Kind "use" is a Use = no (a max of 0): its new value is the most of that '
-                       "ingredient to allow once Use is yes.")
+                       f"{ingredient_word(formula.blend).lower()} to allow once Use is yes.")
     if "total" in kinds:
         explain.append('Kind "total" is the rule that the inclusions sum to 100 % (for a product, '
                        "tied to its Amount cell); it cannot move.")
@@ -111,10 +112,10 @@ def _write_conflict_sets(sheet: Worksheet, formula: Formula, row: int) -> int:
         heading = f"Conflict {number_of_set}" + (f" of {len(sets)}" if len(sets) > 1 else "")
         put(sheet, row, 1, heading).font = SECTION
         header(sheet, row + 1, ["Kind", "Name", "Product", "Side", "Bound", "Cell",
-                                "Alone it would have to move to", "Dropped alone, fixes all"])
+                                "Move this bound alone to", "Dropped alone, fixes all"])
         for offset, line in enumerate(members, start=2):
             number_format = _conflict_format(line)
-            _write_member(sheet, row + offset, line, number_format)
+            _write_member(sheet, row + offset, line, formula.blend, number_format)
             put(sheet, row + offset, 8, "yes" if line.fixes_alone else "no")
             if line.kind == "total":
                 put(sheet, row + offset, 7, "cannot move: inclusions sum to 100 %")
@@ -127,12 +128,12 @@ def _write_conflict_sets(sheet: Worksheet, formula: Formula, row: int) -> int:
 
 
 def _write_relaxation(sheet: Worksheet, formula: Formula, row: int) -> int:
-    """The least-cost relaxation from `row`: the changes, then the cost once they are made;
+    """The least-cost way out from `row`: the changes, then the cost once they are made;
     returns the last row written."""
-    put(sheet, row, 1, "Least-cost way out").font = SECTION
+    put(sheet, row, 1, WAY_OUT).font = SECTION
     relaxation = formula.relaxation
     if relaxation is None or not relaxation.changes:
-        put(sheet, row + 1, 1, "No relaxation was found: change the limits above by hand; "
+        put(sheet, row + 1, 1, "No way out was found: change the limits above by hand; "
                                "one move per conflict is enough.")
         return row + 1
     paragraph(sheet, row + 1, "Move all of these bounds together: the smallest moves that make the "
@@ -141,7 +142,7 @@ def _write_relaxation(sheet: Worksheet, formula: Formula, row: int) -> int:
     header(sheet, row + 2, ["Kind", "Name", "Product", "Side", "Old bound", "Cell", "New bound"])
     for offset, line in enumerate(relaxation.changes, start=3):
         number_format = _conflict_format(line)
-        _write_member(sheet, row + offset, line, number_format)
+        _write_member(sheet, row + offset, line, formula.blend, number_format)
         number(sheet.cell(row + offset, 7), line.relax_to, number_format)
     last = row + 3 + len(relaxation.changes) + 1
     _write_relaxed_cost(sheet, formula, last)
@@ -149,7 +150,7 @@ def _write_relaxation(sheet: Worksheet, formula: Formula, row: int) -> int:
 
 
 def _write_relaxed_cost(sheet: Worksheet, formula: Formula, row: int) -> None:
-    """The cost of the blend once every move of the relaxation is made, on `row`."""
+    """The cost of the blend once every move of the way out is made, on `row`."""
     blend = formula.blend
     label = "Total cost" if formula.several else "Diet cost" if blend.diet else "Blend cost"
     put(sheet, row, 1, f"{label} once all of them are moved").font = BOLD
@@ -163,10 +164,11 @@ def _write_relaxed_cost(sheet: Worksheet, formula: Formula, row: int) -> None:
         put(sheet, row, 3, "unknown: the workbook with these moves did not solve")
 
 
-def _write_member(sheet: Worksheet, row: int, line: ConflictLine, number_format: str) -> None:
+def _write_member(sheet: Worksheet, row: int, line: ConflictLine, blend: Blend,
+                  number_format: str) -> None:
     """Kind, name, product, side, bound and cell of one conflict member (columns A-F)."""
     total = line.kind == "total"
-    put(sheet, row, 1, line.kind)
+    put(sheet, row, 1, kind_word(line.kind, blend))
     put(sheet, row, 2, "sum of inclusions" if total else line.name)
     put(sheet, row, 3, line.product)
     put(sheet, row, 4, "=" if line.side == "eq" else line.side)

@@ -13,7 +13,7 @@ from openpyxl.workbook.workbook import Workbook
 from openpyxl.worksheet.hyperlink import Hyperlink
 from openpyxl.worksheet.worksheet import Worksheet
 
-from blendkit.model.formula import Formula, ProductFormula, RunInfo
+from blendkit.model.formula import SOFT_SPECS_NOT_MET, Formula, ProductFormula, RunInfo
 from blendkit.model.units import cost_unit
 from blendkit.write.workbook import result
 from blendkit.write.workbook.cells import (
@@ -33,7 +33,7 @@ from blendkit.write.workbook.live import quote_sheet
 TITLE = "Overview"
 
 _LABELS = ("Product", "Status", "Cost", "Unit", "Previous cost", "Change", "Binding limits",
-           "Soft specs not met", "Result")
+           SOFT_SPECS_NOT_MET, "Result")
 _WIDTHS = (28, 12, 12, 14, 14, 12, 10, 10, 24)
 # The table's header row (rows above: title, caution, run summary).
 _HEADER_ROW = 7

@@ -5,14 +5,17 @@ over which that price holds.
 
 from __future__ import annotations
 
+import math
+
+from openpyxl.styles import Alignment
 from openpyxl.utils import get_column_letter
 from openpyxl.workbook.workbook import Workbook
 from openpyxl.worksheet.worksheet import Worksheet
 
 from blendkit.model.blend import Blend
 from blendkit.model.formula import Formula, Limit, RunInfo, basis_label
-from blendkit.model.units import cost_unit, run_cost_unit, shadow_price_unit
-from blendkit.write.numbers import limit_key, nutrient_decimals
+from blendkit.model.units import cost_unit, kind_word, run_cost_unit, shadow_price_unit
+from blendkit.write.numbers import decimals, limit_key, nutrient_decimals
 from blendkit.write.workbook.cells import (
     AMOUNT_FORMAT,
     INCLUSION_FORMAT,
@@ -23,6 +26,7 @@ from blendkit.write.workbook.cells import (
     number,
     put,
 )
+from blendkit.write.workbook.printing import fit_column_widths
 
 TITLE = "Shadow prices"
 
@@ -38,11 +42,16 @@ _HEADERS = [
     "Shadow price",
     "Shadow price unit",
     "Bound read from",
-    "Shadow price holds for bounds from",
-    "to",
+    "Holds from",
+    "Holds to",
 ]
-# Column widths, in characters, in the order of the headers.
-_WIDTHS = [12, 18, 28, 11, 8, 14, 14, 9, 14, 44, 16, 16, 14]
+# The unit column: at most this many characters wide, its longer units wrapped.
+_UNIT_COLUMN = 10
+_UNIT_WIDTH = 60
+# The text columns that follow a number column: Binding, the unit, Bound read from.
+_TEXT_AFTER_NUMBERS = (8, 10, 11)
+# No column wider than this many characters, but the unit's.
+_WIDEST = 70
 # The header row; one row per limit follows.
 _HEADER_ROW = 3
 
@@ -61,9 +70,28 @@ def write(workbook: Workbook, formula: Formula, run: RunInfo, title: str) -> Non
         else:
             empty = f"No shadow prices: the solve ended with status {formula.status!r}."
         put(sheet, _HEADER_ROW + 1, 1, empty)
-    for column, width in enumerate(_WIDTHS, start=1):
-        sheet.column_dimensions[get_column_letter(column)].width = width
-    sheet.freeze_panes = "A4"
+    _size_columns(sheet)
+    sheet.freeze_panes = "A4"  # the header row also repeats on every printed page
+
+
+def _size_columns(sheet: Worksheet) -> None:
+    """Each column as wide as what it holds, so no text runs into the next cell; a header
+    wraps between words, a unit longer than its column wraps onto a taller row."""
+    fit_column_widths(sheet, _HEADER_ROW + 1, least=6, most=_WIDEST)
+    for column, label in enumerate(_HEADERS, start=1):
+        dimension = sheet.column_dimensions[get_column_letter(column)]
+        longest_word = max(len(word) for word in label.split())
+        dimension.width = max(dimension.width or 0, longest_word + 2)
+    unit = sheet.column_dimensions[get_column_letter(_UNIT_COLUMN)]
+    unit.width = min(unit.width + 1, _UNIT_WIDTH)
+    # Text after a column of numbers starts one space in, clear of the number before it.
+    for column in _TEXT_AFTER_NUMBERS:
+        for (cell,) in sheet.iter_rows(min_row=_HEADER_ROW + 1, min_col=column, max_col=column):
+            long = column == _UNIT_COLUMN and len(str(cell.value or "")) + 3 > unit.width
+            cell.alignment = Alignment(horizontal="left", indent=1, wrap_text=long)
+            if long:
+                lines = math.ceil((len(str(cell.value)) + 3) / unit.width)
+                sheet.row_dimensions[cell.row].height = 15 * lines + 2
 
 
 def _bound_format(limit: Limit, places: dict[tuple, int]) -> str:
@@ -81,7 +109,7 @@ def _bound_format(limit: Limit, places: dict[tuple, int]) -> str:
 
 def _write_limit(sheet: Worksheet, row: int, limit: Limit, blend: Blend, number_format: str) -> None:
     """One limit's row: which bound, its level, its shadow price and where that holds."""
-    put(sheet, row, 1, limit.kind)
+    put(sheet, row, 1, kind_word(limit.kind, blend))
     put(sheet, row, 2, limit.product)
     put(sheet, row, 3, limit.name)
     put(sheet, row, 4, basis_label(limit.kind, limit.basis))
@@ -89,7 +117,8 @@ def _write_limit(sheet: Worksheet, row: int, limit: Limit, blend: Blend, number_
     number(sheet.cell(row, 6), limit.bound, number_format)
     number(sheet.cell(row, 7), limit.level, number_format)
     put(sheet, row, 8, "yes" if limit.binding else "no")
-    number(sheet.cell(row, 9), limit.shadow_price, format_by_size([limit.shadow_price], 2))
+    places = decimals([limit.shadow_price], 2)
+    number(sheet.cell(row, 9), _no_negative_zero(limit.shadow_price, places), fixed_format(places))
     put(sheet, row, 10, shadow_price_unit(limit, blend))
     put(sheet, row, 11, limit.cell)
     # How far the bound may move with the same shadow price (blank: no end, or not
@@ -98,6 +127,11 @@ def _write_limit(sheet: Worksheet, row: int, limit: Limit, blend: Blend, number_
         number(sheet.cell(row, 12), limit.holds_from, number_format)
     if limit.holds_to is not None:
         number(sheet.cell(row, 13), limit.holds_to, number_format)
+
+
+def _no_negative_zero(value: float, places: int) -> float:
+    """0 for a value that would show as "-0.00" at `places` decimals (a rounding remnant)."""
+    return 0.0 if round(value, places) == 0 else value
 
 
 def _intro(formula: Formula) -> str:
