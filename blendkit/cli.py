@@ -15,7 +15,7 @@ import typer
 
 from blendkit import __version__
 from blendkit.authoring import EXAMPLE_NAMES
-from blendkit.errors import OutputError, WorkbookError
+from blendkit.errors import OutputError, UsageError, WorkbookError
 from blendkit.read.package import DEFAULT_MAX_CELLS, DEFAULT_MAX_UNPACKED_MB, ReadLimits
 
 # Each command imports the library it needs when it runs, so that `blendkit --help` and
@@ -43,7 +43,8 @@ app = typer.Typer(
     pretty_exceptions_enable=False,
     rich_markup_mode=None,
     help="Least-cost blends from a spreadsheet. Caution: formulations must be checked by a "
-    "qualified nutritionist and against local regulations before use.",
+    "qualified nutritionist (or, for fertilizer, an agronomist) and against local regulations "
+    "before use.",
 )
 
 
@@ -78,6 +79,12 @@ def _reporting(as_json: bool):
             typer.echo(json.dumps({"status": "output_error", "message": str(error)}, indent=2))
         else:
             typer.echo(f"cannot write the output: {error}", err=True)
+        raise typer.Exit(EXIT_USAGE) from None
+    except UsageError as error:
+        if as_json:
+            typer.echo(json.dumps({"status": "usage_error", "message": str(error)}, indent=2))
+        else:
+            typer.echo(str(error), err=True)
         raise typer.Exit(EXIT_USAGE) from None
 
 
@@ -153,8 +160,8 @@ def check(
     with _reporting(False):
         blend = check_workbook(book, limits=ReadLimits(max_cells=max_cells, max_unpacked_mb=max_unpacked_mb))
     typer.echo(
-        f"{book.name}: no problems found: {len(blend.ingredients)} ingredients, "
-        f"{len(blend.nutrients)} nutrients, {len(blend.specs)} specs."
+        f"{book.name}: no problems found: {_count(blend.ingredients, 'ingredient')}, "
+        f"{_count(blend.nutrients, 'nutrient')}, {_count(blend.specs, 'spec')}."
     )
     for note in blend.notes:
         typer.echo(f"  {note}")
@@ -162,6 +169,36 @@ def check(
         if item.use and item.blanks:
             cells = "cell" if len(item.blanks) == 1 else "cells"
             typer.echo(f"  {item.name}: {len(item.blanks)} blank nutrient {cells} counted as 0 ({', '.join(item.blanks)})")
+
+
+@app.command()
+def sweep(
+    book: Path = typer.Argument(..., metavar="BOOK", help="The input workbook (.xlsx); it is never modified."),
+    ingredient: str = typer.Option(None, "--ingredient", metavar="NAME", help="Sweep this ingredient's price (in every product, or in --product)."),
+    spec: str = typer.Option(None, "--spec", metavar='"NUTRIENT min|max"', help="Sweep this bound of an as-fed spec."),
+    start: float = typer.Option(None, "--from", metavar="V1", help="Where the sweep starts (a price: default 0)."),
+    end: float = typer.Option(None, "--to", metavar="V2", help="Where the sweep ends (a price: default twice today's)."),
+    product: str = typer.Option(None, "--product", metavar="NAME", help="With products: sweep in this product alone."),
+    output: Path = typer.Option(None, "-o", "--output", metavar="OUT", help="Where to write the workbook (default: BOOK.sweep.xlsx beside the input)."),
+    as_json: bool = typer.Option(False, "--json", help="Print one JSON document on stdout instead of the table."),
+) -> None:
+    """Find every breakpoint as one price or one spec bound moves over a range."""
+    from blendkit.run import sweep_run
+    from blendkit.write.sweep_book import sweep_text, sweep_to_dict
+
+    with _reporting(as_json):
+        found, written = sweep_run(book, ingredient=ingredient, spec=spec, start=start, end=end,
+                                   product=product, output=output)
+    if as_json:
+        typer.echo(json.dumps(sweep_to_dict(found), indent=2))
+    else:
+        typer.echo(sweep_text(found))
+        typer.echo(f"\nOutput workbook: {written}")
+
+
+def _count(items, word: str) -> str:
+    """ "1 spec", "2 specs"."""
+    return f"{len(items)} {word}{'' if len(items) == 1 else 's'}"
 
 
 @app.command()

@@ -42,3 +42,8 @@ class WorkbookError(Exception):
 
 class OutputError(Exception):
     """The output cannot be written where asked (the input is never the target)."""
+
+
+class UsageError(Exception):
+    """A command asked for something the workbook does not have (exit code 2), such as a
+    sweep of an ingredient that is not in it."""

@@ -6,7 +6,7 @@ from __future__ import annotations
 from pathlib import Path
 
 from blendkit.batch import BookResult, Progress, solve_books
-from blendkit.errors import OutputError
+from blendkit.errors import OutputError, UsageError
 from blendkit.pipeline import same_file
 from blendkit.read.package import ReadLimits
 from blendkit.read.prices import read_price_list
@@ -57,3 +57,83 @@ def _check_overview(path: Path, books: list[Path], prices: str | Path | None) ->
         raise OutputError(f"{path}: folder {path.parent} does not exist")
     if path.is_dir():
         raise OutputError(f"{path}: is a folder, not a file name for the overview")
+
+
+def sweep_run(
+    book: str | Path,
+    *,
+    ingredient: str | None = None,
+    spec: str | None = None,
+    start: float | None = None,
+    end: float | None = None,
+    product: str | None = None,
+    output: str | Path | None = None,
+):
+    """`blendkit sweep`: sweep an ingredient's price (default range 0 to twice today's) or
+    a spec bound ("NUTRIENT min|max", range required) and write `<name>.sweep.xlsx`.
+
+    Returns the Sweep and the output path; raises WorkbookError, OutputError, or
+    UsageError for a name the workbook lacks or a range that is not a range."""
+    from blendkit.lp.sweep import sweep_bound, sweep_price
+    from blendkit.pipeline import check_outputs, read_workbook
+    from blendkit.write.sweep_book import write_sweep_book
+
+    book = Path(book)
+    data = book.read_bytes() if book.is_file() else None
+    blend = read_workbook(book, data=data)
+    target = Path(output) if output is not None else book.with_name(f"{_stem(book)}.sweep.xlsx")
+    check_outputs(book, target)
+    if (ingredient is None) == (spec is None):
+        raise UsageError("name one thing to sweep: --ingredient NAME or --spec \"NUTRIENT min|max\"")
+    if product is not None and product not in [p.name for p in blend.products]:
+        raise UsageError(f"no product {product!r} on the Products sheet")
+    if ingredient is not None:
+        item = _ingredient(blend, ingredient)
+        low, high = (0.0 if start is None else start), (2 * max(item.cost, 1.0) if end is None else end)
+        _check_range(low, high)
+        sweep = sweep_price(blend, item.name, low, high, product)
+    else:
+        nutrient, side = _spec(blend, spec)
+        if start is None or end is None:
+            raise UsageError("a spec sweep needs --from and --to")
+        _check_range(start, end)
+        try:
+            sweep = sweep_bound(blend, nutrient, side, start, end, product)
+        except ValueError as error:
+            raise UsageError(str(error)) from None
+    title = blend.settings.name or book.stem
+    return sweep, write_sweep_book(sweep, data, target, title)
+
+
+def _stem(book: Path) -> str:
+    """The workbook's name without .xlsx (and without .result)."""
+    stem = book.name[: -len(".xlsx")] if book.name.lower().endswith(".xlsx") else book.stem
+    return stem[: -len(".result")] if stem.lower().endswith(".result") else stem
+
+
+def _ingredient(blend, name: str):
+    """The ingredient called `name` (ignoring case and spaces), or UsageError."""
+    key = " ".join(name.split()).casefold()
+    for item in blend.ingredients:
+        if " ".join(item.name.split()).casefold() == key:
+            return item
+    raise UsageError(f"no ingredient {name!r} in the workbook")
+
+
+def _spec(blend, text: str) -> tuple[str, str]:
+    """("Crude protein", "min") from "Crude protein min", checked against the specs."""
+    words = text.split()
+    if len(words) < 2 or words[-1].lower() not in ("min", "max"):
+        raise UsageError(f'--spec takes "NUTRIENT min" or "NUTRIENT max", not {text!r}')
+    name, side = " ".join(words[:-1]), words[-1].lower()
+    key = name.casefold()
+    for nutrient in blend.nutrients:
+        if " ".join(nutrient.split()).casefold() == key:
+            return nutrient, side
+    raise UsageError(f"no nutrient column {name!r} in the workbook")
+
+
+def _check_range(low: float, high: float) -> None:
+    """A sweep runs from a lower value to a higher one."""
+    if not low < high:
+        raise UsageError(f"--from {low:g} must be below --to {high:g}")

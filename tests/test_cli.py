@@ -180,7 +180,7 @@ def test_solving_an_output_again_replaces_result_sheets(sample, tmp_path):
 def test_every_command_has_help_and_is_in_readme():
     readme = (ROOT / "README.md").read_text()
     commands = [command.name or command.callback.__name__ for command in app.registered_commands]
-    assert set(commands) == {"solve", "check", "new"}
+    assert set(commands) == {"solve", "check", "new", "sweep"}
     for name in commands:
         result = run(name, "--help")
         assert result.exit_code == 0

@@ -33,7 +33,7 @@ def write_overview(results: list[BookResult], path: Path) -> Path:
     sheet.title = "Overview"
     for column, width in enumerate(_WIDTHS, start=1):
         sheet.column_dimensions[get_column_letter(column)].width = width
-    put(sheet, 1, 1, f"Overview of {len(results)} workbooks").font = TITLE_FONT
+    put(sheet, 1, 1, f"Overview of {len(results)} workbook{'' if len(results) == 1 else 's'}").font = TITLE_FONT
     write_caution(sheet, 2, len(_WIDTHS), sum(_WIDTHS))
     header(sheet, _HEADER_ROW, list(_LABELS))
     row = _HEADER_ROW + 1
