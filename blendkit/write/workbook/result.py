@@ -49,6 +49,7 @@ from blendkit.write.workbook.first_page import write_binding_limits, write_notes
 from blendkit.write.workbook.layout import size_columns
 from blendkit.write.workbook.result_tables import Block, write_stocks, write_tables
 from blendkit.write.workbook.spec_checks import write_overall_check
+from blendkit.write.workbook.tidy import tidy
 
 TITLE = "Result"
 
@@ -150,7 +151,7 @@ def _write_several(sheet: Worksheet, workbook: Workbook, formula: Formula) -> No
     """
     blend = formula.blend
     sheet["A6"] = "Total cost"
-    number(sheet.cell(6, 2), formula.cost, MONEY_FORMAT)
+    number(sheet.cell(6, 2), tidy(formula.cost), MONEY_FORMAT)
     put(sheet, 6, 3, run_cost_unit(blend))
     put(sheet, 6, 4, "all products together" if formula.solved else "not every product was formulated")
     sheet["A7"] = "Total cost from input prices"
@@ -244,7 +245,7 @@ def _write_cost(
     Returns the check's row, or None when it could not be written.
     """
     put(sheet, row, 1, label).font = BOLD
-    number(sheet.cell(row, 2), cost, MONEY_FORMAT)
+    number(sheet.cell(row, 2), tidy(cost), MONEY_FORMAT)
     put(sheet, row, 3, unit)
     put(sheet, row + 1, 1, f"{label} from input prices").font = BOLD
     check = recompute_formula(blend, block.ingredients, block.inclusion_rows, workbook,
@@ -294,8 +295,8 @@ def _write_broken_row(sheet: Worksheet, row: int, limit: Limit, several: bool) -
     first = len(values) + 1
     number_format = format_by_size([limit.bound, limit.level], 1)
     for column, value in enumerate((limit.bound, limit.level, limit.violation), start=first):
-        number(sheet.cell(row, column), value, number_format)
-    number(sheet.cell(row, first + 3), limit.penalty, format_by_size([limit.penalty], 2))
+        number(sheet.cell(row, column), tidy(value), number_format)
+    number(sheet.cell(row, first + 3), tidy(limit.penalty), format_by_size([limit.penalty], 2))
     put(sheet, row, first + 4, limit.cell)
 
 
