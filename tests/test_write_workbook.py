@@ -64,13 +64,18 @@ def row_of(sheet, label: str, column: int = 1, below: int = 0) -> int:
 
 
 # --- a tiny evaluator for the live formulas we emit: numbers, cell references,
-# + - * /, parentheses and SUM over a range. Enough to check them without a spreadsheet.
+# + - * /, parentheses, SUM over a range and SUMPRODUCT of two ranges. Enough to check
+# them without a spreadsheet.
 
 _TOKEN = re.compile(
-    r"\s*(?:(?P<ref>(?:'(?:[^']|'')+'|[A-Za-z_][A-Za-z0-9_]*)!\$?[A-Z]+\$?\d+"
+    r"\s*(?:(?P<ref>(?:'(?:[^']|'')+'|[A-Za-z_][A-Za-z0-9_]*)!\$?[A-Z]+\$?\d+(?::\$?[A-Z]+\$?\d+)?"
     r"|\$?[A-Z]+\$?\d+(?::\$?[A-Z]+\$?\d+)?)"
-    r"|(?P<sum>SUM)\(|(?P<num>\d+(?:\.\d*)?(?:[eE][-+]?\d+)?)|(?P<op>[-+*/()]))"
+    r"|(?P<sumproduct>SUMPRODUCT)\(|(?P<sum>SUM)\(|(?P<num>\d+(?:\.\d*)?(?:[eE][-+]?\d+)?)"
+    r"|(?P<op>[-+*/(),]))"
 )
+# A live level as blendkit writes it: one SUMPRODUCT of aligned ranges; `{sheet}` is the
+# input sheet's name in the formula.
+SUMPRODUCT = r"=SUMPRODUCT\(B\d+:B\d+,{sheet}![A-Z]+\d+:[A-Z]+\d+\)"
 
 
 def evaluate(workbook: Workbook, sheet: str, text: str) -> float:
@@ -94,6 +99,14 @@ def evaluate(workbook: Workbook, sheet: str, text: str) -> float:
         nonlocal index
         index += 1
         return tokens[index - 1]
+
+    def values_in(span: str) -> list[float]:
+        where, bang, cells = span.rpartition("!")
+        name = sheet
+        if bang:
+            name = where[1:-1].replace("''", "'") if where.startswith("'") else where
+        start, end = cells.replace("$", "").split(":")
+        return [evaluate(workbook, name, c.value) for row in workbook[name][start:end] for c in row]
 
     def value_at(reference: str) -> float:
         where, bang, cell = reference.rpartition("!")
@@ -124,6 +137,13 @@ def evaluate(workbook: Workbook, sheet: str, text: str) -> float:
             inner = expression()
             assert take() == ("op", ")")
             return inner
+        if kind == "sumproduct":
+            kind, first = take()
+            assert kind == "ref" and ":" in first and take() == ("op", ","), first
+            kind, second = take()
+            assert kind == "ref" and ":" in second and take() == ("op", ")"), second
+            pairs = zip(values_in(first), values_in(second), strict=True)
+            return sum(a * b for a, b in pairs)
         if kind == "sum":
             kind, span = take()
             assert kind == "ref" and ":" in span, span
@@ -146,6 +166,7 @@ def test_evaluator_knows_the_rules_it_checks_by():
         (2 * 5 + 3 * 3) / 4 - 1
     )
     assert evaluate(workbook, "S", "=SUM(A1:A2)*2") == 10.0
+    assert evaluate(workbook, "S", "=SUMPRODUCT(A1:A2,'My sheet'!B1:B2)/5") == 2 * 0 / 5 + 3 * 5 / 5
 
 
 def _tiny_workbook() -> io.BytesIO:
@@ -280,8 +301,8 @@ def test_live_formulas_recompute_levels_and_cost(source: Path, tmp_path: Path):
     for offset, line in enumerate(formula.nutrients, start=1):
         text = result.cell(header + offset, LIVE).value
         # Plain arithmetic and cell references only, so any spreadsheet program agrees.
-        assert re.fullmatch(r"=\(B\d+\*Ingredients!\$?[A-Z]+\d+(\+B\d+\*Ingredients!"
-                            r"[A-Z]+\d+)*\)/100", text), text
+        # The input contents are one aligned column each: one SUMPRODUCT, scaled once.
+        assert re.fullmatch(SUMPRODUCT.format(sheet="Ingredients") + "/100", text), text
         assert evaluate(workbook, "Result", text) == pytest.approx(line.level, rel=1e-12)
     cost_check = result.cell(row_of(result, "Blend cost from input prices"), 2).value
     assert "Ingredients!B2" in cost_check  # reads the input Cost cell, itself a formula
@@ -491,8 +512,10 @@ def test_live_formulas_read_percent_cells_as_shown(source: Path, tmp_path: Path)
     formula = formulas.optimal_formula()
     workbook = load_workbook(write(formula, source, tmp_path / "out.xlsx"))
     result = workbook["Result"]
-    calcium = row_of(result, "Calcium")
+    calcium = row_of(result, "Calcium", below=row_of(result, "Nutrient"))
     text = result.cell(calcium, LIVE).value
+    # One cell of the column is a percentage: a sum of products, each scaled on its own.
+    assert text.startswith("=(")
     assert "Ingredients!H5*100" in text and "Ingredients!H4*100" not in text
     expected = next(line.level for line in formula.nutrients if line.name == "Calcium")
     assert evaluate(workbook, "Result", text) == pytest.approx(expected, rel=1e-12)
@@ -743,8 +766,7 @@ def test_diet_nutrients_are_totals(tmp_path: Path):
     for row, line in zip(rows, formula.nutrients):
         assert row[:3] == [line.name, "as fed", line.unit]
         assert row[5] == pytest.approx(totals[line.name])
-        assert re.fullmatch(r"=\(B\d+\*Ingredients![A-Z]+\d+(\+B\d+\*Ingredients![A-Z]+\d+)*\)",
-                            row[7]), row[7]
+        assert re.fullmatch(SUMPRODUCT.format(sheet="Ingredients"), row[7]), row[7]
         assert evaluate(workbook, "Result", row[7]) == pytest.approx(line.level, rel=1e-12)
     assert rows[3][6] == "at min"
 
