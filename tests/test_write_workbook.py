@@ -254,7 +254,8 @@ def test_title_falls_back_to_file_stem(source: Path, tmp_path: Path):
 
 def test_ingredient_table_numbers(source: Path, tmp_path: Path):
     formula = formulas.optimal_formula()
-    result = load_workbook(write(formula, source, tmp_path / "out.xlsx"))["Result"]
+    workbook = load_workbook(write(formula, source, tmp_path / "out.xlsx"))
+    result = workbook["Result"]
     header = row_of(result, "Ingredient")
     labels = [result.cell(header, c).value for c in range(1, 8)]
     assert labels[:2] == ["Ingredient", "Inclusion (%)"]
@@ -263,10 +264,13 @@ def test_ingredient_table_numbers(source: Path, tmp_path: Path):
     for offset, line in enumerate(formula.ingredients, start=1):
         row = header + offset
         assert result.cell(row, 1).value == line.name
-        numbers = [result.cell(row, c).value for c in range(2, 7)]
+        # The amount and the cost per batch are live: inclusion x batch, amount x price.
+        assert result.cell(row, 3).value == f"=B{row}*$B$8/100"
+        assert result.cell(row, 4).value.startswith(f"=C{row}*Ingredients!B")
+        numbers = [evaluate(workbook, "Result", result.cell(row, c).value) for c in range(2, 7)]
         expected = [line.inclusion, line.amount, line.batch_cost, line.cost, line.reduced_cost]
-        assert numbers == pytest.approx(expected)
-        assert all(is_number(v) for v in numbers)
+        assert numbers == pytest.approx(expected, rel=1e-12)
+        assert all(is_number(result.cell(row, c).value) for c in (2, 5, 6))
     assert result.cell(header + 1, 2).number_format == "0.000"
     wheat = row_of(result, "Wheat feed")
     assert result.cell(wheat, 7).value == 195.0
@@ -743,7 +747,8 @@ def test_diet_result_shows_amounts_in_each_foods_unit(tmp_path: Path):
     rows = table(result, header, len(formula.ingredients), columns=7)
     for row, food in zip(rows, formulas.DIET_ROWS):
         assert row[:3] == [food.name, food.x[0], food.unit]
-        assert row[3] == pytest.approx(food.x[0] * food.cost) and is_number(row[3])
+        live = evaluate(workbook, "Result", row[3])  # amount x input price, live
+        assert live == pytest.approx(food.x[0] * food.cost, rel=1e-12)
         assert row[4:6] == [food.cost, food.reduced_cost]
     assert rows[-2][6] == 0.31 and rows[-1][6] == "not in use (Use = no)"
     total = row_of(result, "Total")
@@ -819,9 +824,11 @@ def test_one_block_per_product(tmp_path: Path):
         rows = table(result, header, len(product.ingredients), columns=6)
         for row, item in zip(rows, formulas.MILL_ROWS):
             inclusion = item.x[p]
-            assert row[:3] == [item.name, inclusion, pytest.approx(inclusion / 100 * product.amount)]
-            assert row[3] == pytest.approx(inclusion / 100 * product.amount / 1000 * item.cost)
-            assert all(is_number(v) for v in row[1:])
+            amount, cost = (evaluate(workbook, "Result", value) for value in row[2:4])
+            assert row[:2] == [item.name, inclusion]
+            assert amount == pytest.approx(inclusion / 100 * product.amount)
+            assert cost == pytest.approx(inclusion / 100 * product.amount / 1000 * item.cost)
+            assert all(is_number(v) for v in row[4:])
         total = header + len(product.ingredients) + 1
         assert result.cell(total, 1).value == "Total"
         assert evaluate(workbook, "Result", result.cell(total, 2).value) == pytest.approx(100.0)

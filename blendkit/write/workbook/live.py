@@ -201,6 +201,12 @@ def _sum_formula(terms: list[str], percent: bool = True) -> str:
     return "=(" + "+".join(terms) + (")/100" if percent else ")")
 
 
+def input_operand(workbook: Workbook, reference: str | None) -> str | None:
+    """The reader's reference to an input cell as a formula operand, scaled *100 when the
+    cell is shown as a percentage; None when it cannot be found."""
+    return _input_operand(workbook, reference)
+
+
 def _input_operand(workbook: Workbook, reference: str | None) -> str | None:
     """`_find_operand`, remembered per workbook: a Result sheet asks for each input cell
     once per product and nutrient."""

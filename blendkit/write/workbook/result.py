@@ -114,6 +114,7 @@ def _write_one(sheet: Worksheet, workbook: Workbook, formula: Formula) -> None:
         header_row=page_two,
         amount=settings.batch_size,
         limits=formula.limits,
+        amount_cell="$B$8",
     )
     label = "Diet cost" if blend.diet else "Blend cost"
     _write_cost(sheet, workbook, blend, block, row=6, label=label, cost=formula.cost,
@@ -212,6 +213,7 @@ def _write_product(
         amount=product.amount,
         made=True,
         limits=product.limits,
+        amount_cell=f"$B${row + 1}",
     )
     check = _write_cost(sheet, workbook, blend, block, row=row + 2, label="Cost",
                         cost=product.cost, unit=cost_unit(settings))

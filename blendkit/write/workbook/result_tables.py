@@ -33,7 +33,7 @@ from blendkit.write.workbook.cells import (
     plain,
     put,
 )
-from blendkit.write.workbook.live import write_derived_check, write_level_checks
+from blendkit.write.workbook.live import input_operand, write_derived_check, write_level_checks
 from blendkit.write.workbook.spec_checks import write_spec_checks
 from blendkit.write.workbook.tidy import tidy, tidy_inclusion, tidy_level
 
@@ -48,6 +48,7 @@ class Block:
     amount: float  # the batch size, or the amount of the product made
     made: bool = False  # word the amount and cost columns for a product, not a batch
     limits: tuple[Limit, ...] = ()  # the blend's (product's) limits: which ingredients bind
+    amount_cell: str = ""  # the cell holding `amount` ("$B$8"): live amounts multiply it
 
     @property
     def first_row(self) -> int:
@@ -77,6 +78,7 @@ def write_tables(sheet: Worksheet, workbook: Workbook, blend: Blend, block: Bloc
     free row after a blank one, and the range of the nutrient table's check cells (None
     when it has none)."""
     _write_ingredients(sheet, blend, block)
+    _write_live_amounts(sheet, workbook, blend, block)
     total_row = _write_total_row(sheet, blend, block)
     nutrient_header = total_row + 2
     checks = _write_nutrients(sheet, workbook, blend, block, nutrient_header)
@@ -158,6 +160,26 @@ def _write_ingredient_row(
         number(sheet.cell(row, 8), tidy(line.more_below), MONEY_FORMAT)
     if line.less_above is not None:
         number(sheet.cell(row, 9), tidy(line.less_above), MONEY_FORMAT)
+
+
+def _write_live_amounts(sheet: Worksheet, workbook: Workbook, blend: Blend, block: Block) -> None:
+    """Turn each ingredient's amount (column C) and cost (D) into live formulas from its
+    inclusion (B), the batch size (or amount made) and its input price, so editing an
+    inclusion updates them; where a price cell is unknown the written cost stays."""
+    per = plain(blend.settings.cost_unit_in_mass_units)
+    for row, line in zip(range(block.first_row, block.last_row + 1), block.ingredients):
+        if not blend.diet and block.amount_cell:
+            sheet.cell(row, 3).value = f"=B{row}*{block.amount_cell}/100"
+        try:
+            price = input_operand(workbook, blend.ingredient(line.name).cells.get("cost"))
+        except KeyError:
+            price = None
+        if price is None:
+            continue
+        if blend.diet:
+            sheet.cell(row, 4).value = f"=B{row}*{price}"
+        elif block.amount_cell:
+            sheet.cell(row, 4).value = f"=C{row}*{price}/{per}"
 
 
 def _small_enough(column_format: str, amount: float) -> str:
