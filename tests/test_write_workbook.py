@@ -742,7 +742,7 @@ def test_diet_result_shows_amounts_in_each_foods_unit(tmp_path: Path):
     assert "Batch" not in values and "Blend cost" not in values and "Inclusion (%)" not in values
     header = row_of(result, "Ingredient")
     assert [c.value for c in result[header]][:7] == [
-        "Ingredient", "Amount", "Unit", "Cost (EUR)", "Price (EUR per unit)",
+        "Ingredient", "Amount", "Measure", "Cost (EUR)", "Price (EUR per unit)",
         "Reduced cost (EUR per 1 unit)", "Price at which it would come in (EUR per unit)"]
     rows = table(result, header, len(formula.ingredients), columns=7)
     for row, food in zip(rows, formulas.DIET_ROWS):

@@ -24,13 +24,13 @@ HEIGHT_CM = 7.5
 CHART_ROWS = 16
 
 
-def add_block_charts(sheet: Worksheet, block: Block, row: int) -> int:
+def add_block_charts(sheet: Worksheet, block: Block, row: int, diet: bool = False) -> int:
     """The composition and the cost share charts of `block` from `row` (a blend shows
     both, a diet only the cost share); returns the first row below them."""
     if not block.ingredients:
         return row
     names = Reference(sheet, min_col=1, min_row=block.first_row, max_row=block.last_row)
-    if not _is_diet(sheet, block):
+    if not diet:  # a diet's amounts are in each food's own unit: they do not add up
         composition = _bar_chart("Composition (inclusion, %)", sheet, names, 2, block)
         sheet.add_chart(composition, f"A{row}")
     share = PieChart()
@@ -41,11 +41,6 @@ def add_block_charts(sheet: Worksheet, block: Block, row: int) -> int:
     share.width, share.height = WIDTH_CM, HEIGHT_CM
     sheet.add_chart(share, f"E{row}")
     return row + CHART_ROWS
-
-
-def _is_diet(sheet: Worksheet, block: Block) -> bool:
-    """A diet's column C holds units (text), not amounts: its inclusions do not add up."""
-    return isinstance(sheet.cell(block.first_row, 3).value, str)
 
 
 def _bar_chart(title: str, sheet: Worksheet, names: Reference, column: int, block: Block) -> BarChart:

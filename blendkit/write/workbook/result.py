@@ -121,7 +121,7 @@ def _write_one(sheet: Worksheet, workbook: Workbook, formula: Formula) -> None:
                 unit=run_cost_unit(blend))
     if blend.diet:
         sheet["A8"] = "Amounts"
-        put(sheet, 8, 2, "each in the food's own unit (Unit column); nutrient levels are totals")
+        put(sheet, 8, 2, "each in the food's own unit (Measure column); nutrient levels are totals")
     else:
         sheet["A8"] = "Batch"
         number(sheet.cell(8, 2), settings.batch_size, whole_format(settings.batch_size))
@@ -131,7 +131,7 @@ def _write_one(sheet: Worksheet, workbook: Workbook, formula: Formula) -> None:
     below, checks = write_tables(sheet, workbook, blend, block)
     write_overall_check(sheet, _CHECK_ROW, [checks] if checks else [])
     below = write_stocks(sheet, formula, below)
-    add_block_charts(sheet, block, below)
+    add_block_charts(sheet, block, below, diet=blend.diet)
     sheet.freeze_panes = "B1"  # page one is long: the name column stays, the rest scrolls
 
 
@@ -218,6 +218,7 @@ def _write_product(
     check = _write_cost(sheet, workbook, blend, block, row=row + 2, label="Cost",
                         cost=product.cost, unit=cost_unit(settings))
     below, spec_checks = write_tables(sheet, workbook, blend, block)
+    below = add_block_charts(sheet, block, below)
     return below + 1, (row + 1, check) if check is not None else None, [spec_checks] if spec_checks else []
 
 

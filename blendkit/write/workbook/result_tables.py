@@ -8,6 +8,7 @@ table starts on. The sheet's top part and its blocks' order are `result`'s.
 
 from __future__ import annotations
 
+import re
 from dataclasses import dataclass
 
 from openpyxl.styles import Border
@@ -26,6 +27,7 @@ from blendkit.write.workbook.cells import (
     REDUCED_COST_FORMAT,
     SECTION,
     THIN,
+    fixed_format,
     format_by_size,
     header,
     number,
@@ -36,6 +38,10 @@ from blendkit.write.workbook.cells import (
 from blendkit.write.workbook.live import input_operand, write_derived_check, write_level_checks
 from blendkit.write.workbook.spec_checks import write_spec_checks
 from blendkit.write.workbook.tidy import tidy, tidy_inclusion, tidy_level
+
+
+# A diet food's unit that is a quantity in grams or millilitres: "100 g", "250 ml".
+_MEASURE = re.compile(r"(?P<size>\d+(?:\.\d+)?)\s*(?P<symbol>g|ml)")
 
 
 @dataclass(frozen=True)
@@ -104,7 +110,7 @@ def _ingredient_labels(blend: Blend, block: Block) -> list[str]:
         return [
             "Ingredient",
             "Amount",
-            "Unit",
+            "Measure",
             f"Cost ({money})",
             f"Price ({money} per unit)",
             f"Reduced cost ({money} per 1 unit)",
@@ -144,7 +150,7 @@ def _write_ingredient_row(
     inclusion = tidy_inclusion(line.inclusion)
     number(sheet.cell(row, 2), inclusion, INCLUSION_FORMAT)
     if blend.diet:
-        put(sheet, row, 3, food_unit(blend, line.name))
+        _write_measure(sheet, row, food_unit(blend, line.name), inclusion)
     else:
         number(sheet.cell(row, 3), tidy(line.amount) if inclusion else 0.0, amount_format)
     number(sheet.cell(row, 4), tidy(line.batch_cost) if inclusion else 0.0, MONEY_FORMAT)
@@ -160,6 +166,21 @@ def _write_ingredient_row(
         number(sheet.cell(row, 8), tidy(line.more_below), MONEY_FORMAT)
     if line.less_above is not None:
         number(sheet.cell(row, 9), tidy(line.less_above), MONEY_FORMAT)
+
+
+def _write_measure(sheet: Worksheet, row: int, unit: str, amount: float) -> None:
+    """A diet food's measure in column C: a unit that is a quantity of grams or millilitres
+    ("100 g") as a live amount in that measure ("82 g", from the Amount cell); any other
+    unit ("slice") as written."""
+    match = _MEASURE.fullmatch(unit.strip())
+    if not match:
+        put(sheet, row, 3, unit)
+        return
+    size, symbol = float(match["size"]), match["symbol"]
+    quantity = amount * size
+    places = 0 if quantity >= 10 or float(quantity).is_integer() else 1
+    cell = sheet.cell(row, 3, f"=B{row}*{plain(size)}")
+    cell.number_format = f'{fixed_format(places)}" {symbol}"'
 
 
 def _write_live_amounts(sheet: Worksheet, workbook: Workbook, blend: Blend, block: Block) -> None:
