@@ -7,7 +7,9 @@ The charts read the cells of the tables, so they follow any edit of an inclusion
 
 from __future__ import annotations
 
-from openpyxl.chart import BarChart, PieChart, Reference
+import math
+
+from openpyxl.chart import BarChart, Reference
 from openpyxl.worksheet.worksheet import Worksheet
 
 from blendkit.model.formula import Formula
@@ -22,6 +24,9 @@ WIDTH_CM = 15.0
 HEIGHT_CM = 7.5
 # Rows a chart covers at the default row height, so what follows goes below it.
 CHART_ROWS = 16
+# Height of one bar (an ingredient) and of a row at the default height, in centimetres.
+BAR_CM = 0.45
+ROW_CM = 0.53
 
 
 def add_block_charts(sheet: Worksheet, block: Block, row: int, diet: bool = False) -> int:
@@ -33,14 +38,9 @@ def add_block_charts(sheet: Worksheet, block: Block, row: int, diet: bool = Fals
     if not diet:  # a diet's amounts are in each food's own unit: they do not add up
         composition = _bar_chart("Composition (inclusion, %)", sheet, names, 2, block)
         sheet.add_chart(composition, f"A{row}")
-    share = PieChart()
-    share.title = "Share of the cost"
-    share.add_data(Reference(sheet, min_col=4, min_row=block.header_row, max_row=block.last_row),
-                   titles_from_data=True)
-    share.set_categories(names)
-    share.width, share.height = WIDTH_CM, HEIGHT_CM
-    sheet.add_chart(share, f"E{row}")
-    return row + CHART_ROWS
+    share = _bar_chart("Share of the cost", sheet, names, 4, block)
+    sheet.add_chart(share, f"A{row}" if diet else f"F{row}")
+    return row + _rows_covered(share.height)
 
 
 def _bar_chart(title: str, sheet: Worksheet, names: Reference, column: int, block: Block) -> BarChart:
@@ -53,8 +53,14 @@ def _bar_chart(title: str, sheet: Worksheet, names: Reference, column: int, bloc
                    titles_from_data=True)
     chart.set_categories(names)
     chart.series[0].graphicalProperties.solidFill = BAR_COLOUR
-    chart.width, chart.height = WIDTH_CM, HEIGHT_CM
+    count = block.last_row - block.first_row + 1
+    chart.width, chart.height = WIDTH_CM, max(HEIGHT_CM, BAR_CM * count + 2.5)
     return chart
+
+
+def _rows_covered(height_cm: float) -> int:
+    """Rows of default height a chart this tall covers, and one to spare."""
+    return math.ceil(height_cm / ROW_CM) + 1
 
 
 def add_product_cost_chart(sheet: Worksheet, formula: Formula, row: int) -> int:

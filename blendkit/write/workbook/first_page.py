@@ -9,6 +9,7 @@ worth is |shadow price x step|, and the limits are listed by that worth, largest
 
 from __future__ import annotations
 
+from openpyxl.styles import Alignment
 from openpyxl.worksheet.pagebreak import Break
 from openpyxl.worksheet.worksheet import Worksheet
 
@@ -30,6 +31,8 @@ from blendkit.write.workbook.cells import (
 from blendkit.write.workbook.tidy import tidy
 
 SIGN_OFF = ("Prepared by", "Checked by", "Date")
+# A unit written right of a right-aligned number: a space's indent keeps them apart.
+BESIDE_NUMBER = Alignment(indent=1)
 
 
 def limit_unit(blend: Blend, limit: Limit) -> str:
@@ -97,12 +100,13 @@ def _write_binding_row(sheet: Worksheet, row: int, formula: Formula, limit: Limi
         put(sheet, row, column, text)
     at = len(texts) + 1
     number(sheet.cell(row, at), tidy(limit.bound), format_by_size([limit.bound], 0))
-    put(sheet, row, at + 1, limit_unit(blend, limit) or None)
+    put(sheet, row, at + 1, limit_unit(blend, limit) or None).alignment = BESIDE_NUMBER
     number(sheet.cell(row, at + 2), tidy(step), format_by_size([step], 0))
     number(sheet.cell(row, at + 3), tidy(limit.shadow_price), format_by_size([limit.shadow_price], 2))
     number(sheet.cell(row, at + 4), tidy(worth), format_by_size([worth], 2))
     stock_or_diet = limit.kind == "stock" or blend.diet
-    put(sheet, row, at + 5, run_cost_unit(blend) if stock_or_diet else cost_unit(blend.settings))
+    unit = run_cost_unit(blend) if stock_or_diet else cost_unit(blend.settings)
+    put(sheet, row, at + 5, unit).alignment = BESIDE_NUMBER
 
 
 def write_notes(sheet: Worksheet, notes: tuple[str, ...], row: int) -> int:

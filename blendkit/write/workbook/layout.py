@@ -101,12 +101,18 @@ def _spread(sheet: Worksheet, cell: Cell) -> int:
     """Merge a long text with the empty cells to its right (up to `TEXT_COLUMNS`), so it
     wraps over them instead of running into them; returns the columns it now spans."""
     last = cell.column
-    while last < TEXT_COLUMNS and sheet._cells.get((cell.row, last + 1)) is None:
+    while last < TEXT_COLUMNS and _empty(sheet, cell.row, last + 1):
         last += 1
     if last > cell.column:
         sheet.merge_cells(start_row=cell.row, start_column=cell.column,
                           end_row=cell.row, end_column=last)
     return last - cell.column + 1
+
+
+def _empty(sheet: Worksheet, row: int, column: int) -> bool:
+    """No value in the cell (reading rows makes empty cells exist, so look at the value)."""
+    cell = sheet._cells.get((row, column))
+    return cell is None or cell.value is None
 
 
 def _width(sheet: Worksheet, column: int) -> float:

@@ -45,7 +45,12 @@ from blendkit.write.workbook.cells import (
 from blendkit.write.workbook.charts import add_block_charts, add_product_cost_chart
 from blendkit.write.workbook.conflicts import TITLE as CONFLICTS
 from blendkit.write.workbook.live import quote_sheet, recompute_formula
-from blendkit.write.workbook.first_page import write_binding_limits, write_notes, write_sign_off
+from blendkit.write.workbook.first_page import (
+    BESIDE_NUMBER,
+    write_binding_limits,
+    write_notes,
+    write_sign_off,
+)
 from blendkit.write.workbook.layout import size_columns
 from blendkit.write.workbook.result_tables import Block, write_stocks, write_tables
 from blendkit.write.workbook.spec_checks import write_overall_check
@@ -125,7 +130,7 @@ def _write_one(sheet: Worksheet, workbook: Workbook, formula: Formula) -> None:
     else:
         sheet["A8"] = "Batch"
         number(sheet.cell(8, 2), settings.batch_size, whole_format(settings.batch_size))
-        put(sheet, 8, 3, settings.mass_unit)
+        put(sheet, 8, 3, settings.mass_unit).alignment = BESIDE_NUMBER
     sheet["A8"].font = BOLD
 
     below, checks = write_tables(sheet, workbook, blend, block)
@@ -205,7 +210,7 @@ def _write_product(
         return _write_unsolved_product(sheet, product, row), None, []
     put(sheet, row + 1, 1, "Amount made").font = BOLD
     number(sheet.cell(row + 1, 2), product.amount, whole_format(product.amount))
-    put(sheet, row + 1, 3, settings.mass_unit)
+    put(sheet, row + 1, 3, settings.mass_unit).alignment = BESIDE_NUMBER
     block = Block(
         ingredients=product.ingredients,
         nutrients=product.nutrients,
@@ -249,7 +254,7 @@ def _write_cost(
     """
     put(sheet, row, 1, label).font = BOLD
     number(sheet.cell(row, 2), tidy(cost), MONEY_FORMAT)
-    put(sheet, row, 3, unit)
+    put(sheet, row, 3, unit).alignment = BESIDE_NUMBER
     put(sheet, row + 1, 1, f"{label} from input prices").font = BOLD
     check = recompute_formula(blend, block.ingredients, block.inclusion_rows, workbook,
                               lambda item: item.cells.get("cost"))
