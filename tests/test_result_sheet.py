@@ -243,6 +243,17 @@ def test_a_diet_shows_grams_where_the_unit_is_100_g(outputs):
     assert sheet.cell(oats, 3).number_format == '#,##0" g"'
 
 
+def test_an_amount_too_small_for_the_mass_unit_is_shown_in_grams(outputs):
+    # The pig feed plant counts in tonnes: a few kilograms of L-threonine would show 0.00 t.
+    sheet = load_workbook(outputs["pig_feed_plant"])["Result"]
+    shown = [(row, sheet.cell(row, 3).value) for row in range(1, sheet.max_row + 1)
+             if sheet.cell(row, 3).number_format.endswith('" g"')]
+    assert shown
+    for row, text in shown:
+        assert text.endswith("/100*1000000") and "e" not in text, text
+        assert "Total" in [sheet.cell(r, 1).value for r in range(row, row + 30)]
+
+
 # --- charts -----------------------------------------------------------------------------
 
 

@@ -11,12 +11,13 @@ from __future__ import annotations
 import re
 from dataclasses import dataclass
 
+from openpyxl.cell.cell import Cell
 from openpyxl.styles import Border
 from openpyxl.utils import get_column_letter
 from openpyxl.workbook.workbook import Workbook
 from openpyxl.worksheet.worksheet import Worksheet
 
-from blendkit.model.blend import Blend
+from blendkit.model.blend import MASS_UNITS_KG, Blend
 from blendkit.model.formula import Formula, IngredientLine, Limit, NutrientLine, basis_label
 from blendkit.model.units import cost_unit, food_unit, stock_unit
 from blendkit.write.workbook.cells import (
@@ -97,7 +98,7 @@ def _write_ingredients(sheet: Worksheet, blend: Blend, block: Block) -> None:
     amount_format = format_by_size([tidy(line.amount) for line in block.ingredients], 2)
     for offset, line in enumerate(block.ingredients, start=1):
         row = block.header_row + offset
-        _write_ingredient_row(sheet, row, blend, line, _small_enough(amount_format, line.amount))
+        _write_ingredient_row(sheet, row, blend, line, amount_format)
         put(sheet, row, 10, block.limit_of(line.name) or None)
 
 
@@ -186,11 +187,15 @@ def _write_measure(sheet: Worksheet, row: int, unit: str, amount: float) -> None
 def _write_live_amounts(sheet: Worksheet, workbook: Workbook, blend: Blend, block: Block) -> None:
     """Turn each ingredient's amount (column C) and cost (D) into live formulas from its
     inclusion (B), the batch size (or amount made) and its input price, so editing an
-    inclusion updates them; where a price cell is unknown the written cost stays."""
+    inclusion updates them; where a price cell is unknown the written cost stays. An
+    amount that would show as 0.00 in the mass unit (3 kg in tonnes) is shown in grams."""
     per = plain(blend.settings.cost_unit_in_mass_units)
     for row, line in zip(range(block.first_row, block.last_row + 1), block.ingredients):
+        amount = f"B{row}*{block.amount_cell}/100"
+        grams = None
         if not blend.diet and block.amount_cell:
-            sheet.cell(row, 3).value = f"=B{row}*{block.amount_cell}/100"
+            grams = _in_grams(sheet.cell(row, 3), blend.settings.mass_unit, line.amount)
+            sheet.cell(row, 3).value = f"={amount}*{grams:.12g}" if grams else f"={amount}"
         try:
             price = input_operand(workbook, blend.ingredient(line.name).cells.get("cost"))
         except KeyError:
@@ -200,16 +205,19 @@ def _write_live_amounts(sheet: Worksheet, workbook: Workbook, blend: Blend, bloc
         if blend.diet:
             sheet.cell(row, 4).value = f"=B{row}*{price}"
         elif block.amount_cell:
-            sheet.cell(row, 4).value = f"=C{row}*{price}/{per}"
+            sheet.cell(row, 4).value = f"={amount}*{price}/{per}" if grams else f"=C{row}*{price}/{per}"
 
 
-def _small_enough(column_format: str, amount: float) -> str:
-    """The column's amount format, or one with more decimals for an amount it would show
-    as 0.00 (3 kg in a batch counted in tonnes)."""
-    places = len(column_format.partition(".")[2])
-    if amount and round(abs(amount), places) == 0:
-        return format_by_size([amount], places)
-    return column_format
+def _in_grams(cell: Cell, mass_unit: str, amount: float) -> float | None:
+    """Grams per mass unit when `amount` would show as 0.00 in `cell`'s format (and the
+    unit is not grams already), the cell then formatted in grams; None otherwise."""
+    places = len(cell.number_format.partition(".")[2])
+    kilograms = MASS_UNITS_KG.get(mass_unit.lower())
+    if not amount or round(abs(amount), places) != 0 or not kilograms or kilograms <= 0.001:
+        return None
+    grams = round(kilograms * 1000, 9)
+    cell.number_format = format_by_size([amount * grams], 0) + '" g"'
+    return grams
 
 
 def _write_total_row(sheet: Worksheet, blend: Blend, block: Block) -> int:
@@ -220,16 +228,26 @@ def _write_total_row(sheet: Worksheet, blend: Blend, block: Block) -> int:
     put(sheet, total_row, 1, "Total").font = BOLD
     # Diet amounts are in each food's own unit: only their cost adds up.
     amounts = sheet.cell(block.first_row, 3).number_format if block.ingredients else AMOUNT_FORMAT
+    amounts = amounts if not amounts.endswith('" g"') else AMOUNT_FORMAT
     sums = ((4, MONEY_FORMAT),) if blend.diet else (
         (2, INCLUSION_FORMAT), (3, amounts), (4, MONEY_FORMAT))
     if block.ingredients:
         for column, number_format in sums:
             letter = get_column_letter(column)
             cell = sheet.cell(total_row, column, f"=SUM({letter}{first}:{letter}{last})")
+            if column == 3 and _any_in_grams(sheet, block):
+                # Amounts in two units do not add up: the total from the inclusions.
+                cell.value = f"=SUM(B{first}:B{last})*{block.amount_cell}/100"
             cell.number_format = number_format
             cell.font = BOLD
             cell.border = Border(top=THIN)
     return total_row
+
+
+def _any_in_grams(sheet: Worksheet, block: Block) -> bool:
+    """True when an amount of the block is shown in grams (see `_in_grams`)."""
+    return any(sheet.cell(row, 3).number_format.endswith('" g"')
+               for row in range(block.first_row, block.last_row + 1))
 
 
 def _write_nutrients(
