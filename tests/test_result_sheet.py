@@ -266,3 +266,36 @@ def test_charts_present(outputs, name: str):
     assert "Share of the cost" in titles
     if name == "pig_feed_plant":
         assert "Cost per product" in titles and "Composition" in titles
+
+
+# --- a Step column on Specs ---------------------------------------------------------------
+
+
+def broiler_with_steps(tmp_path: Path, steps: dict[str, object]) -> Path:
+    """The broiler sample with a Step column on Specs, filled for the named nutrients."""
+    workbook = load_workbook(SAMPLES / "broiler_starter.xlsx")
+    specs = workbook["Specs"]
+    column = specs.max_column + 1
+    specs.cell(1, column, "Step")
+    for row in range(2, specs.max_row + 1):
+        if specs.cell(row, 1).value in steps:
+            specs.cell(row, column, steps[specs.cell(row, 1).value])
+    path = tmp_path / "stepped.xlsx"
+    workbook.save(path)
+    return path
+
+
+def test_a_step_on_specs_overrides_the_default(tmp_path: Path):
+    output = tmp_path / "out.xlsx"
+    solve_workbook(broiler_with_steps(tmp_path, {"ME": 0.5}), output, check=False)
+    sheet = load_workbook(output)["Result"]
+    me = row_of(sheet, "ME", below=row_of(sheet, "Binding limits"))
+    assert sheet.cell(me, 6).value == 0.5
+    assert sheet.cell(me, 8).value == pytest.approx(abs(sheet.cell(me, 7).value) * 0.5)
+
+
+def test_a_step_must_be_above_zero(tmp_path: Path):
+    from blendkit.errors import WorkbookError
+
+    with pytest.raises(WorkbookError, match="step 0 must be above 0"):
+        solve_workbook(broiler_with_steps(tmp_path, {"ME": 0}), tmp_path / "out.xlsx", check=False)

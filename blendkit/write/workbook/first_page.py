@@ -58,9 +58,22 @@ def _food_unit(blend: Blend, name: str) -> str:
 
 
 def step_worth(blend: Blend, limit: Limit) -> tuple[float, float]:
-    """A limit's step and |shadow price x step|."""
-    step = step_for(limit_unit(blend, limit), limit.kind, limit.bound)
+    """A limit's step (the Specs sheet's Step, else the default by unit) and
+    |shadow price x step|."""
+    step = _spec_step(blend, limit) or step_for(limit_unit(blend, limit), limit.kind, limit.bound)
     return step, abs(limit.shadow_price * step)
+
+
+def _spec_step(blend: Blend, limit: Limit) -> float | None:
+    """The Step a nutrient or ratio limit's spec row gives, if any (a row for this product
+    before a row for every product)."""
+    if limit.kind not in ("nutrient", "ratio"):
+        return None
+    rows = [spec for spec in blend.specs if spec.nutrient == limit.name and spec.step
+            and (limit.kind == "ratio" or spec.basis == limit.basis)
+            and spec.product in (limit.product, None)]
+    rows.sort(key=lambda spec: spec.product is None)
+    return rows[0].step if rows else None
 
 
 def binding_limits(formula: Formula) -> list[Limit]:
