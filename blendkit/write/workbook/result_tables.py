@@ -67,6 +67,12 @@ class Block:
         """The last ingredient row."""
         return self.header_row + len(self.ingredients)
 
+    def bounds_of(self, name: str) -> tuple[float | None, float | None]:
+        """The min and max of ingredient `name`'s inclusion limits that bind (None: none)."""
+        found = {limit.side: limit.bound for limit in self.limits
+                 if limit.kind == "ingredient" and limit.name == name and limit.binding}
+        return found.get("min"), found.get("max")
+
     def limit_of(self, name: str) -> str:
         """"at min" / "at max" where an inclusion limit of ingredient `name` binds, else ""."""
         sides = [limit.side for limit in self.limits
@@ -98,7 +104,7 @@ def _write_ingredients(sheet: Worksheet, blend: Blend, block: Block) -> None:
     amount_format = format_by_size([tidy(line.amount) for line in block.ingredients], 2)
     for offset, line in enumerate(block.ingredients, start=1):
         row = block.header_row + offset
-        _write_ingredient_row(sheet, row, blend, line, amount_format)
+        _write_ingredient_row(sheet, row, blend, line, amount_format, block.bounds_of(line.name))
         put(sheet, row, 10, block.limit_of(line.name) or None)
 
 
@@ -143,12 +149,16 @@ def _ingredient_labels(blend: Blend, block: Block) -> list[str]:
 
 
 def _write_ingredient_row(
-    sheet: Worksheet, row: int, blend: Blend, line: IngredientLine, amount_format: str
+    sheet: Worksheet, row: int, blend: Blend, line: IngredientLine, amount_format: str,
+    bounds: tuple[float | None, float | None],
 ) -> None:
     """One ingredient: inclusion % in column B (a diet: the amount in B and the food's unit
-    in C), its cost, price, reduced cost and the price range it stays in the formula."""
+    in C; exactly its bound when at a binding limit), its cost, price, reduced cost and the
+    price range it stays in the formula."""
     put(sheet, row, 1, line.name)
     inclusion = tidy_inclusion(line.inclusion)
+    if inclusion and any(bound is not None for bound in bounds):
+        inclusion = tidy_level(inclusion, *bounds)
     number(sheet.cell(row, 2), inclusion, INCLUSION_FORMAT)
     if blend.diet:
         _write_measure(sheet, row, food_unit(blend, line.name), inclusion)
