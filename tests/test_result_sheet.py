@@ -113,6 +113,16 @@ def test_first_page_tells_the_story(outputs):
     assert signed[0] + 3 in [item.id for item in sheet.row_breaks.brk]  # tables on page two
 
 
+@pytest.mark.parametrize("name", SAMPLE_NAMES)
+def test_first_page_fits_one_printed_page(outputs, name: str):
+    # About 48 rows of default height fit a landscape page printed one page wide; the
+    # binding limits beyond the first 20 are left to the Shadow prices sheet.
+    sheet = load_workbook(outputs[name])["Result"]
+    page_break = min(item.id for item in sheet.row_breaks.brk)
+    assert page_break <= 48, (name, page_break)
+    assert page_break == row_of(sheet, "Date") + 1  # page two starts after a blank row
+
+
 def test_ingredient_limits_that_bind_are_marked(outputs):
     sheet = load_workbook(outputs["broiler_starter"])["Result"]
     header = row_of(sheet, "Ingredient")

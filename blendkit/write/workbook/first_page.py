@@ -31,6 +31,9 @@ from blendkit.write.workbook.cells import (
 from blendkit.write.workbook.tidy import tidy
 
 SIGN_OFF = ("Prepared by", "Checked by", "Date")
+# Most binding limits listed on page one (largest step worth first), so it prints on one
+# page; the rest are on the Shadow prices sheet.
+MOST_LISTED = 20
 # A unit written right of a right-aligned number: a space's indent keeps them apart.
 BESIDE_NUMBER = Alignment(indent=1)
 
@@ -96,9 +99,16 @@ def write_binding_limits(sheet: Worksheet, formula: Formula, row: int) -> int:
     if not formula.several:
         labels.remove("Product")
     header(sheet, row + 1, labels)
-    for offset, limit in enumerate(limits, start=2):
+    listed = limits[:MOST_LISTED]
+    for offset, limit in enumerate(listed, start=2):
         _write_binding_row(sheet, row + offset, formula, limit)
-    return row + len(limits) + 3
+    below = row + len(listed) + 2
+    if len(limits) > len(listed):
+        more = len(limits) - len(listed)
+        put(sheet, below, 1, f"... and {more} more binding limit{'s' if more != 1 else ''}, "
+                             "each worth less per step: see the Shadow prices sheet")
+        below += 1
+    return below + 1
 
 
 def _write_binding_row(sheet: Worksheet, row: int, formula: Formula, limit: Limit) -> None:

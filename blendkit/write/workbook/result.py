@@ -158,7 +158,7 @@ def _write_several(sheet: Worksheet, workbook: Workbook, formula: Formula) -> No
     blend = formula.blend
     sheet["A6"] = "Total cost"
     number(sheet.cell(6, 2), tidy(formula.cost), MONEY_FORMAT)
-    put(sheet, 6, 3, run_cost_unit(blend))
+    put(sheet, 6, 3, run_cost_unit(blend)).alignment = BESIDE_NUMBER
     put(sheet, 6, 4, "all products together" if formula.solved else "not every product was formulated")
     sheet["A7"] = "Total cost from input prices"
     for cell in ("A6", "A7"):
