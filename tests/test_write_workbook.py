@@ -55,22 +55,27 @@ def is_number(value) -> bool:
     return isinstance(value, (int, float)) and not isinstance(value, bool)
 
 
-def row_of(sheet, label: str, column: int = 1) -> int:
-    """The first row whose cell in `column` reads `label`."""
-    for row in range(1, sheet.max_row + 1):
+def row_of(sheet, label: str, column: int = 1, below: int = 0) -> int:
+    """The first row (after row `below`) whose cell in `column` reads `label`."""
+    for row in range(below + 1, sheet.max_row + 1):
         if sheet.cell(row, column).value == label:
             return row
     raise AssertionError(f"no {label!r} in column {column} of {sheet.title}")
 
 
 # --- a tiny evaluator for the live formulas we emit: numbers, cell references,
-# + - * /, parentheses and SUM over a range. Enough to check them without a spreadsheet.
+# + - * /, parentheses, SUM over a range and SUMPRODUCT of two ranges. Enough to check
+# them without a spreadsheet.
 
 _TOKEN = re.compile(
-    r"\s*(?:(?P<ref>(?:'(?:[^']|'')+'|[A-Za-z_][A-Za-z0-9_]*)!\$?[A-Z]+\$?\d+"
+    r"\s*(?:(?P<ref>(?:'(?:[^']|'')+'|[A-Za-z_][A-Za-z0-9_]*)!\$?[A-Z]+\$?\d+(?::\$?[A-Z]+\$?\d+)?"
     r"|\$?[A-Z]+\$?\d+(?::\$?[A-Z]+\$?\d+)?)"
-    r"|(?P<sum>SUM)\(|(?P<num>\d+(?:\.\d*)?(?:[eE][-+]?\d+)?)|(?P<op>[-+*/()]))"
+    r"|(?P<sumproduct>SUMPRODUCT)\(|(?P<sum>SUM)\(|(?P<num>\d+(?:\.\d*)?(?:[eE][-+]?\d+)?)"
+    r"|(?P<op>[-+*/(),]))"
 )
+# A live level as blendkit writes it: one SUMPRODUCT of aligned ranges; `{sheet}` is the
+# input sheet's name in the formula.
+SUMPRODUCT = r"=SUMPRODUCT\(B\d+:B\d+,{sheet}![A-Z]+\d+:[A-Z]+\d+\)"
 
 
 def evaluate(workbook: Workbook, sheet: str, text: str) -> float:
@@ -94,6 +99,14 @@ def evaluate(workbook: Workbook, sheet: str, text: str) -> float:
         nonlocal index
         index += 1
         return tokens[index - 1]
+
+    def values_in(span: str) -> list[float]:
+        where, bang, cells = span.rpartition("!")
+        name = sheet
+        if bang:
+            name = where[1:-1].replace("''", "'") if where.startswith("'") else where
+        start, end = cells.replace("$", "").split(":")
+        return [evaluate(workbook, name, c.value) for row in workbook[name][start:end] for c in row]
 
     def value_at(reference: str) -> float:
         where, bang, cell = reference.rpartition("!")
@@ -124,6 +137,13 @@ def evaluate(workbook: Workbook, sheet: str, text: str) -> float:
             inner = expression()
             assert take() == ("op", ")")
             return inner
+        if kind == "sumproduct":
+            kind, first = take()
+            assert kind == "ref" and ":" in first and take() == ("op", ","), first
+            kind, second = take()
+            assert kind == "ref" and ":" in second and take() == ("op", ")"), second
+            pairs = zip(values_in(first), values_in(second), strict=True)
+            return sum(a * b for a, b in pairs)
         if kind == "sum":
             kind, span = take()
             assert kind == "ref" and ":" in span, span
@@ -146,6 +166,7 @@ def test_evaluator_knows_the_rules_it_checks_by():
         (2 * 5 + 3 * 3) / 4 - 1
     )
     assert evaluate(workbook, "S", "=SUM(A1:A2)*2") == 10.0
+    assert evaluate(workbook, "S", "=SUMPRODUCT(A1:A2,'My sheet'!B1:B2)/5") == 2 * 0 / 5 + 3 * 5 / 5
 
 
 def _tiny_workbook() -> io.BytesIO:
@@ -233,7 +254,8 @@ def test_title_falls_back_to_file_stem(source: Path, tmp_path: Path):
 
 def test_ingredient_table_numbers(source: Path, tmp_path: Path):
     formula = formulas.optimal_formula()
-    result = load_workbook(write(formula, source, tmp_path / "out.xlsx"))["Result"]
+    workbook = load_workbook(write(formula, source, tmp_path / "out.xlsx"))
+    result = workbook["Result"]
     header = row_of(result, "Ingredient")
     labels = [result.cell(header, c).value for c in range(1, 8)]
     assert labels[:2] == ["Ingredient", "Inclusion (%)"]
@@ -242,16 +264,19 @@ def test_ingredient_table_numbers(source: Path, tmp_path: Path):
     for offset, line in enumerate(formula.ingredients, start=1):
         row = header + offset
         assert result.cell(row, 1).value == line.name
-        numbers = [result.cell(row, c).value for c in range(2, 7)]
+        # The amount and the cost per batch are live: inclusion x batch, amount x price.
+        assert result.cell(row, 3).value == f"=B{row}*$B$8/100"
+        assert result.cell(row, 4).value.startswith(f"=C{row}*Ingredients!B")
+        numbers = [evaluate(workbook, "Result", result.cell(row, c).value) for c in range(2, 7)]
         expected = [line.inclusion, line.amount, line.batch_cost, line.cost, line.reduced_cost]
-        assert numbers == pytest.approx(expected)
-        assert all(is_number(v) for v in numbers)
+        assert numbers == pytest.approx(expected, rel=1e-12)
+        assert all(is_number(result.cell(row, c).value) for c in (2, 5, 6))
     assert result.cell(header + 1, 2).number_format == "0.000"
     wheat = row_of(result, "Wheat feed")
     assert result.cell(wheat, 7).value == 195.0
     assert result.cell(row_of(result, "Barley"), 7).value is None  # in the blend: no entry price
     assert "Use = no" in result.cell(row_of(result, "Oat hulls"), 7).value
-    assert result.freeze_panes == f"B{header + 1}"
+    assert result.freeze_panes == "B1"  # page one is long: only the name column stays
 
 
 def test_nutrient_table_numbers(source: Path, tmp_path: Path):
@@ -280,8 +305,8 @@ def test_live_formulas_recompute_levels_and_cost(source: Path, tmp_path: Path):
     for offset, line in enumerate(formula.nutrients, start=1):
         text = result.cell(header + offset, LIVE).value
         # Plain arithmetic and cell references only, so any spreadsheet program agrees.
-        assert re.fullmatch(r"=\(B\d+\*Ingredients!\$?[A-Z]+\d+(\+B\d+\*Ingredients!"
-                            r"[A-Z]+\d+)*\)/100", text), text
+        # The input contents are one aligned column each: one SUMPRODUCT, scaled once.
+        assert re.fullmatch(SUMPRODUCT.format(sheet="Ingredients") + "/100", text), text
         assert evaluate(workbook, "Result", text) == pytest.approx(line.level, rel=1e-12)
     cost_check = result.cell(row_of(result, "Blend cost from input prices"), 2).value
     assert "Ingredients!B2" in cost_check  # reads the input Cost cell, itself a formula
@@ -491,8 +516,10 @@ def test_live_formulas_read_percent_cells_as_shown(source: Path, tmp_path: Path)
     formula = formulas.optimal_formula()
     workbook = load_workbook(write(formula, source, tmp_path / "out.xlsx"))
     result = workbook["Result"]
-    calcium = row_of(result, "Calcium")
+    calcium = row_of(result, "Calcium", below=row_of(result, "Nutrient"))
     text = result.cell(calcium, LIVE).value
+    # One cell of the column is a percentage: a sum of products, each scaled on its own.
+    assert text.startswith("=(")
     assert "Ingredients!H5*100" in text and "Ingredients!H4*100" not in text
     expected = next(line.level for line in formula.nutrients if line.name == "Calcium")
     assert evaluate(workbook, "Result", text) == pytest.approx(expected, rel=1e-12)
@@ -650,7 +677,7 @@ def test_a_ratio_that_cannot_be_worked_out_has_no_live_formula(tmp_path: Path):
     undefined = dataclasses.replace(formula.nutrients[-1], level=None, position="undefined")
     formula = dataclasses.replace(formula, nutrients=(*formula.nutrients[:-1], undefined))
     result = load_workbook(write(formula, source, tmp_path / "out.xlsx"))["Result"]
-    row = row_of(result, formulas.RATIO)
+    row = row_of(result, formulas.RATIO, below=row_of(result, "Nutrient"))
     assert result.cell(row, 6).value is None and result.cell(row, LIVE).value is None
     assert result.cell(row, 7).value == "undefined"
 
@@ -715,12 +742,13 @@ def test_diet_result_shows_amounts_in_each_foods_unit(tmp_path: Path):
     assert "Batch" not in values and "Blend cost" not in values and "Inclusion (%)" not in values
     header = row_of(result, "Ingredient")
     assert [c.value for c in result[header]][:7] == [
-        "Ingredient", "Amount", "Unit", "Cost (EUR)", "Price (EUR per unit)",
+        "Ingredient", "Amount", "Measure", "Cost (EUR)", "Price (EUR per unit)",
         "Reduced cost (EUR per 1 unit)", "Price at which it would come in (EUR per unit)"]
     rows = table(result, header, len(formula.ingredients), columns=7)
     for row, food in zip(rows, formulas.DIET_ROWS):
         assert row[:3] == [food.name, food.x[0], food.unit]
-        assert row[3] == pytest.approx(food.x[0] * food.cost) and is_number(row[3])
+        live = evaluate(workbook, "Result", row[3])  # amount x input price, live
+        assert live == pytest.approx(food.x[0] * food.cost, rel=1e-12)
         assert row[4:6] == [food.cost, food.reduced_cost]
     assert rows[-2][6] == 0.31 and rows[-1][6] == "not in use (Use = no)"
     total = row_of(result, "Total")
@@ -730,7 +758,7 @@ def test_diet_result_shows_amounts_in_each_foods_unit(tmp_path: Path):
     check = result.cell(row_of(result, "Diet cost from input prices"), 2).value
     assert "/100" not in check
     assert evaluate(workbook, "Result", check) == pytest.approx(formula.cost, rel=1e-12)
-    assert result.freeze_panes == f"B{header + 1}"
+    assert result.freeze_panes == "B1"  # page one is long: only the name column stays
 
 
 def test_diet_nutrients_are_totals(tmp_path: Path):
@@ -743,8 +771,7 @@ def test_diet_nutrients_are_totals(tmp_path: Path):
     for row, line in zip(rows, formula.nutrients):
         assert row[:3] == [line.name, "as fed", line.unit]
         assert row[5] == pytest.approx(totals[line.name])
-        assert re.fullmatch(r"=\(B\d+\*Ingredients![A-Z]+\d+(\+B\d+\*Ingredients![A-Z]+\d+)*\)",
-                            row[7]), row[7]
+        assert re.fullmatch(SUMPRODUCT.format(sheet="Ingredients"), row[7]), row[7]
         assert evaluate(workbook, "Result", row[7]) == pytest.approx(line.level, rel=1e-12)
     assert rows[3][6] == "at min"
 
@@ -807,9 +834,11 @@ def test_one_block_per_product(tmp_path: Path):
         rows = table(result, header, len(product.ingredients), columns=6)
         for row, item in zip(rows, formulas.MILL_ROWS):
             inclusion = item.x[p]
-            assert row[:3] == [item.name, inclusion, pytest.approx(inclusion / 100 * product.amount)]
-            assert row[3] == pytest.approx(inclusion / 100 * product.amount / 1000 * item.cost)
-            assert all(is_number(v) for v in row[1:])
+            amount, cost = (evaluate(workbook, "Result", value) for value in row[2:4])
+            assert row[:2] == [item.name, inclusion]
+            assert amount == pytest.approx(inclusion / 100 * product.amount)
+            assert cost == pytest.approx(inclusion / 100 * product.amount / 1000 * item.cost)
+            assert all(is_number(v) for v in row[4:])
         total = header + len(product.ingredients) + 1
         assert result.cell(total, 1).value == "Total"
         assert evaluate(workbook, "Result", result.cell(total, 2).value) == pytest.approx(100.0)
@@ -1017,7 +1046,7 @@ def test_broken_soft_limits_block_on_result(source: Path, tmp_path: Path):
     workbook = load_workbook(write(formula, source, tmp_path / "out.xlsx"))
     result = workbook["Result"]
     block = row_of(result, "SOFT LIMITS BROKEN")
-    assert block == row_of(result, "Batch") + 2  # right under the top block
+    assert block == row_of(result, "Spec check") + 2  # right under the top block
     assert result.cell(block, 2).value == ("1 soft spec missed: meeting it would cost more than its "
                                            "penalty. Check that this is acceptable.")
     assert [result.cell(block + 1, c).value for c in range(1, 8)] == [
@@ -1029,8 +1058,9 @@ def test_broken_soft_limits_block_on_result(source: Path, tmp_path: Path):
     assert row[6] == "Specs!B2"
     assert result.cell(block, 1).font.b
     assert result.cell(block + 2, 4).fill.fgColor.rgb.endswith("FCE4D6")  # highlighted
-    # The tables follow, their live formulas still right; the notes skip the soft limit.
-    assert row_of(result, "Ingredient") == block + 4
+    # The tables follow on page two, their live formulas still right; the notes skip the
+    # soft limit.
+    assert row_of(result, "Ingredient") > row_of(result, "Date") > block
     header = row_of(result, "Nutrient")
     protein = result.cell(header + 1, LIVE).value
     assert evaluate(workbook, "Result", protein) == pytest.approx(formulas.levels()["Crude protein"])
@@ -1040,7 +1070,7 @@ def test_broken_soft_limits_block_on_result(source: Path, tmp_path: Path):
     assert result.cell(notes + 1, 1).value == formulas.NOTES[0]
     values = [c.value for r in result.iter_rows() for c in r]
     assert formulas.SOFT_NOTE not in values
-    assert result.freeze_panes == f"B{row_of(result, 'Ingredient') + 1}"
+    assert result.freeze_panes == "B1"  # page one is long: only the name column stays
 
 
 def test_broken_soft_limits_of_products_name_the_product(tmp_path: Path):
@@ -1048,20 +1078,20 @@ def test_broken_soft_limits_of_products_name_the_product(tmp_path: Path):
     workbook = load_workbook(write(formulas.soft_mill_formula(), source, tmp_path / "out.xlsx"))
     result = workbook["Result"]
     block = row_of(result, "SOFT LIMITS BROKEN")
-    assert block == row_of(result, "Total cost from input prices") + 2
+    assert block == row_of(result, "Spec check") + 2
     assert result.cell(block + 1, 2).value == "Product"
     row = [result.cell(block + 2, c).value for c in range(1, 9)]
     assert row[:3] == ["Energy", "Grower pellet", "min"]
     assert row[3:7] == pytest.approx([12.7, 12.5, 0.2, 3.5])
     assert row[7] == "Specs!B6"
-    assert row_of(result, "Product") == block + 4
+    assert row_of(result, "Product") > row_of(result, "Date") > block
     assert result.cell(block + 3, 1).value is None  # listed once, not again for its product
 
 
 def test_no_soft_limits_block_when_every_limit_is_met(source: Path, tmp_path: Path):
     result = load_workbook(write(formulas.optimal_formula(), source, tmp_path / "out.xlsx"))["Result"]
     assert "SOFT LIMITS BROKEN" not in [c.value for row in result.iter_rows() for c in row]
-    assert row_of(result, "Ingredient") == 10
+    assert row_of(result, "Ingredient") > row_of(result, "Date")  # page two
 
 
 def test_cli_writes_the_conflicts_sheet_of_an_infeasible_workbook(tmp_path: Path):

@@ -87,6 +87,7 @@ class Spec:
     product: str | None = None
     penalty: float | None = None  # soft spec: cost per unit of violation (None = hard)
     priority: float | None = None  # which limits give way first when in conflict
+    step: float | None = None  # the change of a bound the Result sheet prices (None = by unit)
 
 
 @dataclass(frozen=True)

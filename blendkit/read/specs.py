@@ -2,7 +2,7 @@
 a ratio of two nutrients.
 
 ``Nutrient``, ``Min``, ``Max`` are required columns; ``Basis``, ``Product``,
-``Penalty`` and ``Priority`` are optional; other columns are ignored (use them for
+``Penalty``, ``Priority`` and ``Step`` are optional; other columns are ignored (use them for
 notes).
 ``Nutrient``    a nutrient column of Ingredients, compared like headers; a unit in
                 parentheses may be given and, if both it and the column have one,
@@ -29,6 +29,9 @@ notes).
                 dry-matter specs cannot be soft.
 ``Priority``    optional, 1 to 9: when limits conflict, those with a lower priority
                 give way first (also on Groups and Limits; defaults by kind).
+``Step``        optional, above 0: the change of the bound the Result sheet prices
+                (shadow price x step); blank for the default by unit
+                (`blendkit.model.steps`).
 The same nutrient (or ratio) with the same basis and product at most once. A ratio whose
 divisor, or a dry-matter spec whose dry matter, is 0 in every ingredient that may be used is
 an error (see `blendkit.read.undefined_specs`).
@@ -61,6 +64,7 @@ _COLUMNS: Wanted = {
     "product": ("Product", "the product the row applies to; blank for every product", False),
     "penalty": ("Penalty", "a soft spec's cost per unit of violation; blank for a hard spec", False),
     "priority": ("Priority", "which limits give way first when limits conflict", False),
+    "step": ("Step", "the change of the bound the Result sheet prices; blank for the default", False),
 }
 
 # The Basis column's words, compared after _basis_key.
@@ -149,6 +153,7 @@ def _read_spec(
     maximum = read_number(row.get("max"), "max", problems)
     penalty = read_number(row.get("penalty"), "penalty", problems)
     priority = read_priority(row.get("priority"), problems)
+    step = _read_step(row, problems)
     _check_penalty(row, penalty, target, basis, problems)
     if neither_bound(row) and text is not None:
         problems.append(Problem(name_cell.ref, (
@@ -175,13 +180,15 @@ def _read_spec(
         product=product,
         penalty=penalty,
         priority=priority,
+        step=step,
     )
 
 
 def _spec_cells(row: Row) -> dict[str, str]:
     """Where a spec was read: its Nutrient, Min and Max cells and those of its optional columns."""
     cells = {"nutrient": row["nutrient"].ref, "min": row["min"].ref, "max": row["max"].ref}
-    cells.update({key: row[key].ref for key in ("basis", "product", "penalty", "priority") if key in row})
+    cells.update({key: row[key].ref for key in ("basis", "product", "penalty", "priority", "step")
+                  if key in row})
     return cells
 
 
@@ -219,6 +226,18 @@ def _check_repeated(
         f'"{shown}"{dry}{for_product(product)} already has a spec in {seen[key]}; '
         "put both bounds in one row and delete the other"
     )))
+
+
+def _read_step(row: Row, problems: list[Problem]) -> float | None:
+    """The Step cell: blank, or a number above 0 (the change of a bound that is priced)."""
+    step = read_number(row.get("step"), "step", problems)
+    if step is not None and not step > 0:
+        problems.append(Problem(row["step"].ref, (
+            f"step {step:g} must be above 0: it is the change of the bound whose cost the "
+            "Result sheet shows; type a positive number, or leave it blank for the default"
+        )))
+        return None
+    return step
 
 
 def _check_penalty(

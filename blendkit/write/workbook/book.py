@@ -8,8 +8,10 @@ Output sheets (replaced, never duplicated, when an output workbook is solved aga
 module each. A workbook property lists the sheets a run wrote, so that a later run replaces
 only those: a user's own sheet of one of these names is kept as "<name> (input)".
 
-* ``Result`` (`result`, `result_tables`, `live`): status, cost, broken soft limits, the
-  ingredient and nutrient tables with live checks, stocks and notes.
+* ``Result`` (`result`, `first_page`, `result_tables`, `live`, `spec_checks`, `tidy`,
+  `layout`, `charts`): page one to sign (status, cost, spec check, binding limits, notes),
+  then the ingredient and nutrient tables with live checks, stocks and charts.
+* ``Overview`` (`overview`, several products only): one row per product, first.
 * ``Conflicts`` (`conflicts`, only when the run is infeasible): each conflicting set of
   limits and the least-cost way out. One left by an earlier run is removed when the
   workbook is now feasible.

@@ -4,8 +4,15 @@ the input sheets, so a reviewer can check the numbers in any spreadsheet program
 An as-fed level (or a cost) is the sum of (inclusion cell on Result x input cell) / 100,
 or in a diet the sum of (amount cell x input cell); a ratio divides the two recomputed
 levels it names, and a dry-matter level divides the recomputed level by the recomputed
-dry matter (in %). Only plain + and * are used, so every spreadsheet program evaluates
-them the same way.
+dry matter (in %).
+
+The Result sheet writes its ingredient table in the order the reader gives, which is the
+Ingredients sheet's row order. So when the input cells of a level are one unbroken column
+of that sheet, in the same order as the inclusion cells, and share one percent format
+(or none), the sum is one SUMPRODUCT of the two aligned ranges, scaled once:
+``=SUMPRODUCT(B24:B41,Ingredients!F2:F19)/100``. Otherwise (blank rows between
+ingredients, cells on several sheets, a percent format on some cells only) it falls back
+to the plain sum of products, each operand scaled on its own.
 """
 
 from __future__ import annotations
@@ -53,12 +60,18 @@ def recompute_formula(
     would pass the spreadsheet formula length limit, only the ingredients in the blend
     are kept. Returns None when an input cell is unknown.
     """
-    terms: list[tuple[float, str]] = []
+    references = []
     for line in lines:
         try:
-            reference = input_cell(blend.ingredient(line.name))
+            references.append(input_cell(blend.ingredient(line.name)))
         except KeyError:
             return None
+    rows = [inclusion_rows[line.name] for line in lines]
+    aligned = _sumproduct(workbook, references, rows, percent=not blend.diet)
+    if aligned is not None:
+        return aligned
+    terms: list[tuple[float, str]] = []
+    for line, reference in zip(lines, references):
         operand = _input_operand(workbook, reference)
         if operand is None:
             return None
@@ -134,9 +147,64 @@ def _ratio_parts(blend: Blend, name: str) -> tuple[str, str] | None:
     return None
 
 
+def _sumproduct(
+    workbook: Workbook, references: list[str | None], rows: list[int], percent: bool
+) -> str | None:
+    """One SUMPRODUCT of the inclusion cells (`rows` of column B) and the input cells
+    `references`, when both are unbroken ranges in the same order and the input cells
+    share their percent format; None otherwise."""
+    if not references or rows != list(range(rows[0], rows[0] + len(rows))):
+        return None
+    places = [_place(workbook, reference) for reference in references]
+    if any(place is None for place in places):
+        return None
+    sheets = {place[0].title for place in places}
+    columns = {place[2] for place in places}
+    first = places[0][1]
+    if len(sheets) != 1 or len(columns) != 1 or [place[1] for place in places] != list(
+            range(first, first + len(places))):
+        return None
+    scaled = {place[3] for place in places}
+    if len(scaled) != 1:
+        return None
+    sheet, _, column, _ = places[0]
+    letter = get_column_letter(column)
+    text = (f"=SUMPRODUCT(B{rows[0]}:B{rows[-1]},"
+            f"{quote_sheet(sheet.title)}!{letter}{first}:{letter}{first + len(places) - 1})")
+    factor = (100 if scaled.pop() else 1) / (100 if percent else 1)
+    return text + {1: "", 100: "*100", 0.01: "/100"}[factor]
+
+
+def _place(workbook: Workbook, reference: str | None) -> tuple[Worksheet, int, int, bool] | None:
+    """The reader's "Sheet!A1" as (sheet, row, column, shown as a percentage)."""
+    if not reference:
+        return None
+    sheet_name, bang, coordinate = reference.rpartition("!")
+    if not bang:
+        sheet_name = INGREDIENTS_SHEET
+    if len(sheet_name) > 1 and sheet_name[0] == sheet_name[-1] == "'":
+        sheet_name = sheet_name[1:-1].replace("''", "'")
+    sheet = _sheet_named(workbook, sheet_name)
+    if sheet is None:
+        return None
+    try:
+        row, column = coordinate_to_tuple(coordinate.replace("$", ""))
+    except (ValueError, TypeError):
+        return None
+    cell = sheet._cells.get((row, column))  # never sheet[...]: that would add a cell
+    scaled = cell is not None and _scaled_as_percent(cell.value, cell.number_format)
+    return sheet, row, column, scaled
+
+
 def _sum_formula(terms: list[str], percent: bool = True) -> str:
     """Plain + and * only, so every spreadsheet program evaluates it the same way."""
     return "=(" + "+".join(terms) + (")/100" if percent else ")")
+
+
+def input_operand(workbook: Workbook, reference: str | None) -> str | None:
+    """The reader's reference to an input cell as a formula operand, scaled *100 when the
+    cell is shown as a percentage; None when it cannot be found."""
+    return _input_operand(workbook, reference)
 
 
 def _input_operand(workbook: Workbook, reference: str | None) -> str | None:

@@ -1,10 +1,13 @@
 """The Result sheet, the reviewer's main sheet.
 
-Title, caution, status, cost, a highlighted block of broken soft limits (if any), the
-ingredient table and the nutrient table (a diet shows amounts in each food's unit; with
-several products, the run's total cost and one block of both tables per product), then
-the stocks, if the run has any, and the notes. Each cost has a live check from the input
-prices beside it. An infeasible run's Result points to the Conflicts sheet.
+Page one tells the story (`first_page`): title, caution, status, cost (with its live
+check from the input prices), the overall spec check, a highlighted block of broken soft
+limits (if any), the binding limits with what a step of each is worth, the notes, and
+blank cells to sign. Then, from page two, the ingredient table and the nutrient table (a
+diet shows amounts in each food's unit; with several products, one block of both tables
+per product), the stocks, if the run has any, and the charts (`charts`). Columns are
+sized to their content last (`layout`). An infeasible run's Result points to the
+Conflicts sheet.
 """
 
 from __future__ import annotations
@@ -39,14 +42,24 @@ from blendkit.write.workbook.cells import (
     whole_format,
     write_caution,
 )
+from blendkit.write.workbook.charts import add_block_charts, add_product_cost_chart
 from blendkit.write.workbook.conflicts import TITLE as CONFLICTS
 from blendkit.write.workbook.live import quote_sheet, recompute_formula
+from blendkit.write.workbook.first_page import (
+    BESIDE_NUMBER,
+    write_binding_limits,
+    write_notes,
+    write_sign_off,
+)
+from blendkit.write.workbook.layout import size_columns
 from blendkit.write.workbook.result_tables import Block, write_stocks, write_tables
+from blendkit.write.workbook.spec_checks import write_overall_check
+from blendkit.write.workbook.tidy import tidy
 
 TITLE = "Result"
 
-# Rows of broken soft limits (with their heading) that may join the frozen top of Result.
-_MOST_FROZEN_ROWS = 6
+# The row of the overall spec check on page one.
+_CHECK_ROW = 9
 # Where a live cost check could not be written.
 _NO_CHECK = "not available: input cells unknown or formula too long"
 
@@ -64,6 +77,7 @@ def write(workbook: Workbook, formula: Formula, run: RunInfo, title: str) -> Non
         _write_unsolved(sheet, formula)
     else:
         _write_one(sheet, workbook, formula)
+    size_columns(sheet)
 
 
 def _write_top(sheet: Worksheet, formula: Formula, title: str) -> None:
@@ -89,44 +103,50 @@ def _write_unsolved(sheet: Worksheet, formula: Formula) -> None:
         "No blend was found, so this sheet shows no numbers. Read the message above "
         "and the notes below, correct the workbook and solve again."
     )
-    _write_notes(sheet, formula.notes, row=9)
+    below = write_notes(sheet, formula.notes, row=9)
+    write_sign_off(sheet, below)
 
 
 def _write_one(sheet: Worksheet, workbook: Workbook, formula: Formula) -> None:
-    """One blend or one diet: its cost, the cost's live check and the batch, then the tables.
-
-    Rows 6-8 hold the top block; the ingredient table's header is on row 10, or below the
-    broken soft limits block when there is one.
-    """
+    """One blend or one diet: page one (cost, its live check, the batch, the spec check,
+    binding limits, notes, sign-off), then the tables, the stocks and the charts."""
     blend = formula.blend
     settings = blend.settings
-    header_row = _write_broken(sheet, formula, 10)
+    page_two = _write_page_one(sheet, formula, first=11)
     block = Block(
         ingredients=formula.ingredients,
         nutrients=formula.nutrients,
-        header_row=header_row,
+        header_row=page_two,
         amount=settings.batch_size,
+        limits=formula.limits,
+        amount_cell="$B$8",
     )
     label = "Diet cost" if blend.diet else "Blend cost"
     _write_cost(sheet, workbook, blend, block, row=6, label=label, cost=formula.cost,
                 unit=run_cost_unit(blend))
     if blend.diet:
         sheet["A8"] = "Amounts"
-        put(sheet, 8, 2, "each in the food's own unit (Unit column); nutrient levels are totals")
+        put(sheet, 8, 2, "each in the food's own unit (Measure column); nutrient levels are totals")
     else:
         sheet["A8"] = "Batch"
         number(sheet.cell(8, 2), settings.batch_size, whole_format(settings.batch_size))
-        put(sheet, 8, 3, settings.mass_unit)
+        put(sheet, 8, 3, settings.mass_unit).alignment = BESIDE_NUMBER
     sheet["A8"].font = BOLD
 
-    below = write_tables(sheet, workbook, blend, block)
+    below, checks = write_tables(sheet, workbook, blend, block)
+    write_overall_check(sheet, _CHECK_ROW, [checks] if checks else [])
     below = write_stocks(sheet, formula, below)
-    _write_notes(sheet, formula.notes_besides_broken_limits, below)
-    if block.header_row - 10 <= _MOST_FROZEN_ROWS:
-        # The top block, the table header and the names stay in view.
-        sheet.freeze_panes = sheet.cell(block.header_row + 1, 2)
-    else:
-        sheet.freeze_panes = "B1"  # a long soft limits block would fill the screen: names only
+    add_block_charts(sheet, block, below, diet=blend.diet)
+    sheet.freeze_panes = "B1"  # page one is long: the name column stays, the rest scrolls
+
+
+def _write_page_one(sheet: Worksheet, formula: Formula, first: int) -> int:
+    """Broken soft limits, binding limits, notes and sign-off from row `first`; returns
+    the first row of page two."""
+    row = _write_broken(sheet, formula, first)
+    row = write_binding_limits(sheet, formula, row)
+    row = write_notes(sheet, formula.notes_besides_broken_limits, row)
+    return write_sign_off(sheet, row)
 
 
 def _write_several(sheet: Worksheet, workbook: Workbook, formula: Formula) -> None:
@@ -137,8 +157,8 @@ def _write_several(sheet: Worksheet, workbook: Workbook, formula: Formula) -> No
     """
     blend = formula.blend
     sheet["A6"] = "Total cost"
-    number(sheet.cell(6, 2), formula.cost, MONEY_FORMAT)
-    put(sheet, 6, 3, run_cost_unit(blend))
+    number(sheet.cell(6, 2), tidy(formula.cost), MONEY_FORMAT)
+    put(sheet, 6, 3, run_cost_unit(blend)).alignment = BESIDE_NUMBER
     put(sheet, 6, 4, "all products together" if formula.solved else "not every product was formulated")
     sheet["A7"] = "Total cost from input prices"
     for cell in ("A6", "A7"):
@@ -146,18 +166,21 @@ def _write_several(sheet: Worksheet, workbook: Workbook, formula: Formula) -> No
     if formula.status == "infeasible":
         _write_conflicts_pointer(sheet, formula, row=8)
 
-    row = _write_broken(sheet, formula, 9)
+    row = _write_page_one(sheet, formula, first=11)
     checks: list[tuple[int, int]] = []  # (row of the amount made, row of the live cost)
+    spec_checks: list[str] = []
     for product in formula.products:
-        row, check = _write_product(sheet, workbook, formula, product, row)
+        row, check, product_checks = _write_product(sheet, workbook, formula, product, row)
+        spec_checks.extend(product_checks)
         if check is not None:
             checks.append(check)
     if formula.products and len(checks) == len(formula.products):
         _write_total_check(sheet, blend, checks)
     else:
         sheet["C7"] = _NO_CHECK if formula.solved else "not every product was formulated"
+    write_overall_check(sheet, _CHECK_ROW, spec_checks)
     row = write_stocks(sheet, formula, row)
-    _write_notes(sheet, formula.notes_besides_broken_limits, row)
+    add_product_cost_chart(sheet, formula, row)
     sheet.freeze_panes = "B1"  # the name column stays; blocks scroll by
 
 
@@ -173,32 +196,35 @@ def _write_total_check(sheet: Worksheet, blend: Blend, checks: list[tuple[int, i
 
 def _write_product(
     sheet: Worksheet, workbook: Workbook, formula: Formula, product: ProductFormula, row: int
-) -> tuple[int, tuple[int, int] | None]:
+) -> tuple[int, tuple[int, int] | None, list[str]]:
     """One product's block from `row`: name, amount made, cost and its check, the tables.
 
-    Returns the first row after the block, and the rows of its amount and live cost check
-    (None when the check could not be written).
+    Returns the first row after the block, the rows of its amount and live cost check
+    (None when the check could not be written), and the range of its spec checks.
     """
     blend = formula.blend
     settings = blend.settings
     put(sheet, row, 1, "Product").font = SECTION
     put(sheet, row, 2, product.name).font = SECTION
     if not product.solved:
-        return _write_unsolved_product(sheet, product, row), None
+        return _write_unsolved_product(sheet, product, row), None, []
     put(sheet, row + 1, 1, "Amount made").font = BOLD
     number(sheet.cell(row + 1, 2), product.amount, whole_format(product.amount))
-    put(sheet, row + 1, 3, settings.mass_unit)
+    put(sheet, row + 1, 3, settings.mass_unit).alignment = BESIDE_NUMBER
     block = Block(
         ingredients=product.ingredients,
         nutrients=product.nutrients,
         header_row=row + 5,
         amount=product.amount,
         made=True,
+        limits=product.limits,
+        amount_cell=f"$B${row + 1}",
     )
     check = _write_cost(sheet, workbook, blend, block, row=row + 2, label="Cost",
                         cost=product.cost, unit=cost_unit(settings))
-    below = write_tables(sheet, workbook, blend, block)
-    return below + 1, (row + 1, check) if check is not None else None
+    below, spec_checks = write_tables(sheet, workbook, blend, block)
+    below = add_block_charts(sheet, block, below)
+    return below + 1, (row + 1, check) if check is not None else None, [spec_checks] if spec_checks else []
 
 
 def _write_unsolved_product(sheet: Worksheet, product: ProductFormula, row: int) -> int:
@@ -227,8 +253,8 @@ def _write_cost(
     Returns the check's row, or None when it could not be written.
     """
     put(sheet, row, 1, label).font = BOLD
-    number(sheet.cell(row, 2), cost, MONEY_FORMAT)
-    put(sheet, row, 3, unit)
+    number(sheet.cell(row, 2), tidy(cost), MONEY_FORMAT)
+    put(sheet, row, 3, unit).alignment = BESIDE_NUMBER
     put(sheet, row + 1, 1, f"{label} from input prices").font = BOLD
     check = recompute_formula(blend, block.ingredients, block.inclusion_rows, workbook,
                               lambda item: item.cells.get("cost"))
@@ -277,8 +303,8 @@ def _write_broken_row(sheet: Worksheet, row: int, limit: Limit, several: bool) -
     first = len(values) + 1
     number_format = format_by_size([limit.bound, limit.level], 1)
     for column, value in enumerate((limit.bound, limit.level, limit.violation), start=first):
-        number(sheet.cell(row, column), value, number_format)
-    number(sheet.cell(row, first + 3), limit.penalty, format_by_size([limit.penalty], 2))
+        number(sheet.cell(row, column), tidy(value), number_format)
+    number(sheet.cell(row, first + 3), tidy(limit.penalty), format_by_size([limit.penalty], 2))
     put(sheet, row, first + 4, limit.cell)
 
 
@@ -294,12 +320,3 @@ def _write_conflicts_pointer(sheet: Worksheet, formula: Formula, row: int) -> No
     cell = put(sheet, row, 2, text)
     cell.font = LINK
     cell.hyperlink = Hyperlink(ref=cell.coordinate, location=f"{quote_sheet(CONFLICTS)}!A1")
-
-
-def _write_notes(sheet: Worksheet, notes: tuple[str, ...], row: int) -> None:
-    """Advisory notes, one per row, under a bold heading."""
-    if not notes:
-        return
-    put(sheet, row, 1, "Notes").font = BOLD
-    for offset, note in enumerate(notes, start=1):
-        put(sheet, row + offset, 1, note)
