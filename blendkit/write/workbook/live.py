@@ -223,25 +223,13 @@ def _find_operand(workbook: Workbook, reference: str | None) -> str | None:
     the operand is scaled the same way: ``Ingredients!F2*100``. None when the sheet is
     not in the workbook.
     """
-    if not reference:
+    place = _place(workbook, reference)
+    if place is None:
         return None
-    sheet_name, bang, coordinate = reference.rpartition("!")
-    if not bang:
-        sheet_name = INGREDIENTS_SHEET
-    if len(sheet_name) > 1 and sheet_name[0] == sheet_name[-1] == "'":
-        sheet_name = sheet_name[1:-1].replace("''", "'")
-    sheet = _sheet_named(workbook, sheet_name)
-    if sheet is None:
-        return None
-    try:
-        row, column = coordinate_to_tuple(coordinate.replace("$", ""))
-    except (ValueError, TypeError):
-        return None
+    sheet, _, _, scaled = place
+    coordinate = reference.rpartition("!")[2]
     operand = f"{quote_sheet(sheet.title)}!{coordinate}"
-    cell = sheet._cells.get((row, column))  # never sheet[...]: that would add a cell
-    if cell is not None and _scaled_as_percent(cell.value, cell.number_format):
-        operand += "*100"
-    return operand
+    return operand + "*100" if scaled else operand
 
 
 def _sheet_named(workbook: Workbook, name: str) -> Worksheet | None:
