@@ -11,10 +11,12 @@ pool) beside 200 separate calls of `scipy.optimize.linprog(method="highs")`.
 
 from __future__ import annotations
 
+import os
 import resource
 import tempfile
 import time
 from collections.abc import Iterator
+from concurrent.futures import ProcessPoolExecutor
 from pathlib import Path
 
 import numpy as np
@@ -24,6 +26,7 @@ from scipy.optimize import linprog
 from blendkit.batch import solve_lps
 from blendkit.bench.blends import TOTAL, _bounds_and_prices, _contents, _feasible_mixture, _kinds, _nutrient_classes
 from blendkit.bench.options import Options
+from blendkit.bench.timing import OBJECTIVE_RTOL
 from blendkit.engine import solve_form
 from blendkit.lp.build import build_lp
 from blendkit.pipeline import lp_blends
@@ -109,15 +112,21 @@ def _lp_lines(book: Path) -> Iterator[str]:
     ours = [solve_form(form) for form in forms]
     one_by_one = time.perf_counter() - started
     started = time.perf_counter()
-    solve_lps(blends)
+    solve_lps(blends, check=False)
     pooled = time.perf_counter() - started
+    started = time.perf_counter()
+    with ProcessPoolExecutor(max_workers=os.cpu_count() or 1) as pool:
+        list(pool.map(solve_form, forms, chunksize=max(1, len(forms) // (4 * (os.cpu_count() or 1)))))
+    pooled_plain = time.perf_counter() - started
     started = time.perf_counter()
     theirs = [_linprog(form) for form in forms]
     highs = time.perf_counter() - started
-    agree = sum(abs(a.objective - b.fun) <= 1e-7 * max(1, abs(b.fun)) for a, b in zip(ours, theirs)
+    agree = sum(abs(a.objective - b.fun) <= OBJECTIVE_RTOL * max(1, abs(b.fun)) for a, b in zip(ours, theirs)
                 if a.status == "optimal" and b.status == 0)
     yield f"  {len(forms)} LPs: ours one by one {one_by_one:.2f} s, HiGHS one by one {highs:.2f} s, " \
-          f"ratio {one_by_one / highs:.2f}; ours in the process pool (with analysis) {pooled:.2f} s"
+          f"ratio {one_by_one / highs:.2f}"
+    yield f"  ours in the process pool: LP solves alone {pooled_plain:.2f} s (ratio to HiGHS one by one " \
+          f"{pooled_plain / highs:.2f}); with the analysis and ranging of every formula {pooled:.2f} s"
     yield f"  objectives agreeing with HiGHS: {agree} of {len(forms)}"
 
 
