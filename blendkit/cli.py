@@ -37,6 +37,27 @@ MAX_UNPACKED_MB = typer.Option(
 )
 STATUS_EXIT = {"optimal": EXIT_SOLVED, "infeasible": EXIT_NO_BLEND, "unbounded": EXIT_NO_BLEND}
 
+class _Command(typer.core.TyperCommand):
+    """Usage lines and help in plain words: arguments by their names ("BOOK..."), without
+    braces or type labels such as "<list[Path]>"."""
+
+    def get_params(self, ctx) -> list:
+        """The parameters, each argument told to show no type label in the help."""
+        params = super().get_params(ctx)
+        for param in params:
+            if param.param_type_name == "argument":
+                param.display_type_rich = lambda ctx: ""
+        return params
+
+    def collect_usage_pieces(self, ctx) -> list[str]:
+        """[OPTIONS] then each argument's metavar as written."""
+        pieces = [self.options_metavar] if self.options_metavar else []
+        for param in self.get_params(ctx):
+            if param.param_type_name == "argument":
+                pieces.append(param.metavar or param.name.upper())
+        return pieces
+
+
 app = typer.Typer(
     add_completion=False,
     no_args_is_help=True,
@@ -100,7 +121,7 @@ def _earlier_output(path: Path | None) -> Path | None:
     return path
 
 
-@app.command()
+@app.command(cls=_Command)
 def solve(
     books: list[Path] = typer.Argument(..., metavar="BOOK...", help="The input workbooks (.xlsx); they are never modified (unless --in-place)."),
     output: Path = typer.Option(None, "-o", "--output", metavar="OUT", help="Where to write the output workbook, with one BOOK (default: BOOK.result.xlsx beside each input)."),
@@ -148,7 +169,7 @@ def _exit_code(result) -> int:
     return STATUS_EXIT.get(result.outcome.formula.status, EXIT_ENGINE)
 
 
-@app.command()
+@app.command(cls=_Command)
 def check(
     book: Path = typer.Argument(..., metavar="BOOK", help="The workbook (.xlsx) to validate."),
     max_cells: int = MAX_CELLS,
@@ -171,7 +192,7 @@ def check(
             typer.echo(f"  {item.name}: {len(item.blanks)} blank nutrient {cells} counted as 0 ({', '.join(item.blanks)})")
 
 
-@app.command()
+@app.command(cls=_Command)
 def sweep(
     book: Path = typer.Argument(..., metavar="BOOK", help="The input workbook (.xlsx); it is never modified."),
     ingredient: str = typer.Option(None, "--ingredient", metavar="NAME", help="Sweep this ingredient's price (in every product, or in --product)."),
@@ -201,7 +222,7 @@ def _count(items, word: str) -> str:
     return f"{len(items)} {word}{'' if len(items) == 1 else 's'}"
 
 
-@app.command()
+@app.command(cls=_Command)
 def new(
     path: Path = typer.Argument(..., metavar="PATH", help="Where to write the new workbook (.xlsx); an existing file is never replaced."),
     example: str = typer.Option(None, "--example", help=f"Write a worked example instead of the blank template: {', '.join(EXAMPLE_NAMES)}."),

@@ -277,3 +277,12 @@ def test_export_mps_keeps_a_long_name_in_free_mps(tmp_path):
     h = highspy.Highs()
     h.setOptionValue("output_flag", False)
     assert h.readModel(str(mps_file)) == highspy.HighsStatus.kOk
+
+
+def test_usage_names_arguments_plainly():
+    # Usage lines read "BOOK...", not "{book}" or "<bool>" (words a user sees; common practice
+    # of command-line help).
+    for command in ("solve", "check", "sweep", "new"):
+        text = run(command, "--help").stdout
+        assert "{" not in text and "<bool>" not in text and "<path>" not in text, command
+    assert "Usage: blendkit solve [OPTIONS] BOOK..." in run("solve", "--help").stdout
