@@ -225,7 +225,7 @@ def _count(items, word: str) -> str:
 @app.command(cls=_Command)
 def new(
     path: Path = typer.Argument(..., metavar="PATH", help="Where to write the new workbook (.xlsx); an existing file is never replaced."),
-    example: str = typer.Option(None, "--example", help=f"Write a worked example instead of the blank template: {', '.join(EXAMPLE_NAMES)}."),
+    example: str = typer.Option(None, "--example", metavar="NAME", help=f"Write a worked example instead of the blank template: {', '.join(EXAMPLE_NAMES)}."),
 ) -> None:
     """Write a blank workbook template, or a worked example, to start from."""
     from blendkit.authoring.template import write_new

@@ -284,5 +284,5 @@ def test_usage_names_arguments_plainly():
     # of command-line help).
     for command in ("solve", "check", "sweep", "new"):
         text = run(command, "--help").stdout
-        assert "{" not in text and "<bool>" not in text and "<path>" not in text, command
-    assert "Usage: blendkit solve [OPTIONS] BOOK..." in run("solve", "--help").stdout
+        assert "{" not in text and "<" not in text, command
+    assert "solve [OPTIONS] BOOK...\n" in run("solve", "--help").stdout
