@@ -209,7 +209,9 @@ def test_no_float_noise_or_e_notation(outputs, name: str):
 def assert_amounts_shown(sheet, name: str) -> None:
     """No nonzero inclusion, amount or cost in an ingredient table shows as 0.00 in its
     format; the live amounts add up to the batch (the amount made)."""
-    for header in rows_of(sheet, "Ingredient"):
+    headers = rows_of(sheet, "Ingredient") + rows_of(sheet, "Food")  # a diet says Food
+    assert headers, name
+    for header in headers:
         if sheet.cell(header, 10).value != "Limit":
             continue  # the stocks table
         total = row_of(sheet, "Total", below=header)
@@ -235,7 +237,7 @@ def test_columns_fit_their_content(outputs, name: str):
     for column in range(1, sheet.max_column + 1):
         letter = sheet.cell(1, column).column_letter
         assert widths.get(letter, 13) >= 8, (name, letter)  # no zero-width column
-    for header in rows_of(sheet, "Ingredient") + rows_of(sheet, "Nutrient"):
+    for header in rows_of(sheet, "Ingredient") + rows_of(sheet, "Food") + rows_of(sheet, "Nutrient"):
         for column in range(1, sheet.max_column + 1):
             label = sheet.cell(header, column).value
             if label:
@@ -246,7 +248,7 @@ def test_columns_fit_their_content(outputs, name: str):
 def test_a_diet_shows_grams_where_the_unit_is_100_g(outputs):
     # "1.000 100 g" reads badly: the Measure column shows the amount in grams, live.
     sheet = load_workbook(outputs["day_menu"])["Result"]
-    header = row_of(sheet, "Ingredient")
+    header = row_of(sheet, "Food")  # a diet says Food
     assert sheet.cell(header, 3).value == "Measure"
     oats = row_of(sheet, "Rolled oats", below=header)
     assert sheet.cell(oats, 3).value == f"=B{oats}*100"

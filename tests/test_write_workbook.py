@@ -689,7 +689,7 @@ def test_stocks_table_for_one_blend(tmp_path: Path):
     assert title > row_of(result, formulas.RATIO)  # under the nutrient table
     assert [c.value for c in result[title + 1]][:8] == [
         "Ingredient", "Used", "Available", "Unit", "Binding",
-        "Shadow price (EUR per 1 unit of stock)", "Worth of one more unit (EUR)", "Stock read from"]
+        "Shadow price (EUR per 1 unit of stock)", "Value of one more unit (EUR)", "Stock read from"]
     rows = table(result, title + 1, len(formula.stocks))
     assert rows == [
         ["Barley", 300, 5000, "kg", "no", 0, 0, "Ingredients!F3"],
@@ -740,9 +740,9 @@ def test_diet_result_shows_amounts_in_each_foods_unit(tmp_path: Path):
                                                              "EUR per day"]
     values = [c.value for row in result.iter_rows() for c in row]
     assert "Batch" not in values and "Blend cost" not in values and "Inclusion (%)" not in values
-    header = row_of(result, "Ingredient")
+    header = row_of(result, "Food")
     assert [c.value for c in result[header]][:7] == [
-        "Ingredient", "Amount", "Measure", "Cost (EUR)", "Price (EUR per unit)",
+        "Food", "Amount", "Measure", "Cost (EUR)", "Price (EUR per unit)",
         "Reduced cost (EUR per 1 unit)", "Price at which it would come in (EUR per unit)"]
     rows = table(result, header, len(formula.ingredients), columns=7)
     for row, food in zip(rows, formulas.DIET_ROWS):
@@ -858,7 +858,7 @@ def test_stocks_table_for_products(tmp_path: Path):
     result = workbook["Result"]
     title = row_of(result, "Stocks (shared by all products)")
     assert title > max(rows_of(result, "Nutrient"))
-    assert result.cell(title + 1, 7).value == "Worth of one more unit (EUR)"
+    assert result.cell(title + 1, 7).value == "Value of one more unit (EUR)"
     assert table(result, title + 1, 2) == [
         ["Soybean meal", 7000, 7000, "kg", "yes", -0.095, 0.095, "Ingredients!F3"],
         ["Rapeseed meal", 3820, 4000, "kg", "no", 0, 0, "Ingredients!F4"],
@@ -1016,7 +1016,7 @@ def test_result_points_to_the_conflicts_sheet(source: Path, tmp_path: Path):
     assert result["B4"].value == "infeasible"
     assert result["A6"].value == "Conflicts"
     assert result["B6"].value == ("See the Conflicts sheet: 2 sets of limits that cannot all hold "
-                                  "together, their cells, and the cheapest way out.")
+                                  "together, their cells, and the least-cost way out.")
     assert result["B6"].hyperlink.location == "Conflicts!A1"
     assert formula.notes[0] in [c.value for row in result.iter_rows() for c in row]
 
@@ -1045,9 +1045,9 @@ def test_broken_soft_limits_block_on_result(source: Path, tmp_path: Path):
     formula = formulas.soft_formula()
     workbook = load_workbook(write(formula, source, tmp_path / "out.xlsx"))
     result = workbook["Result"]
-    block = row_of(result, "SOFT LIMITS BROKEN")
+    block = row_of(result, "Soft specs not met: 1")
     assert block == row_of(result, "Spec check") + 2  # right under the top block
-    assert result.cell(block, 2).value == ("1 soft spec missed: meeting it would cost more than its "
+    assert result.cell(block, 2).value == ("Meeting it would cost more than its "
                                            "penalty. Check that this is acceptable.")
     assert [result.cell(block + 1, c).value for c in range(1, 8)] == [
         "Soft limit", "Side", "Bound", "Level", "Violation (shortfall or excess)",
@@ -1077,7 +1077,7 @@ def test_broken_soft_limits_of_products_name_the_product(tmp_path: Path):
     source = formulas.write_mill_source(tmp_path / "mill.xlsx")
     workbook = load_workbook(write(formulas.soft_mill_formula(), source, tmp_path / "out.xlsx"))
     result = workbook["Result"]
-    block = row_of(result, "SOFT LIMITS BROKEN")
+    block = row_of(result, "Soft specs not met: 1")
     assert block == row_of(result, "Spec check") + 2
     assert result.cell(block + 1, 2).value == "Product"
     row = [result.cell(block + 2, c).value for c in range(1, 9)]
@@ -1090,7 +1090,7 @@ def test_broken_soft_limits_of_products_name_the_product(tmp_path: Path):
 
 def test_no_soft_limits_block_when_every_limit_is_met(source: Path, tmp_path: Path):
     result = load_workbook(write(formulas.optimal_formula(), source, tmp_path / "out.xlsx"))["Result"]
-    assert "SOFT LIMITS BROKEN" not in [c.value for row in result.iter_rows() for c in row]
+    assert not any(str(c.value).startswith("Soft specs not met") for row in result.iter_rows() for c in row)
     assert row_of(result, "Ingredient") > row_of(result, "Date")  # page two
 
 

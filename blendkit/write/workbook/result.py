@@ -18,7 +18,7 @@ from openpyxl.worksheet.hyperlink import Hyperlink
 from openpyxl.worksheet.worksheet import Worksheet
 
 from blendkit.model.blend import Blend
-from blendkit.model.formula import Formula, Limit, ProductFormula, RunInfo
+from blendkit.model.formula import Formula, Limit, ProductFormula, RunInfo, SOFT_SPECS_NOT_MET, WAY_OUT
 from blendkit.model.units import cost_unit, penalty_unit, run_cost_unit
 from blendkit.write.workbook.cells import (
     ALERT_FILL,
@@ -277,12 +277,10 @@ def _write_broken(sheet: Worksheet, formula: Formula, row: int) -> int:
               f"Penalty ({penalty_unit(formula.blend)} per unit of violation)", "Bound read from"]
     if formula.several:
         labels.insert(1, "Product")
-    if len(broken) == 1:
-        count = "1 soft spec missed: meeting it would cost more than its penalty."
-    else:
-        count = f"{len(broken)} soft specs missed: meeting them would cost more than their penalties."
-    put(sheet, row, 1, "SOFT LIMITS BROKEN").font = ALERT_TEXT
-    put(sheet, row, 2, f"{count} Check that this is acceptable.").font = ALERT_TEXT
+    meeting = "meeting it would cost more than its penalty" if len(broken) == 1 else \
+        "meeting them would cost more than their penalties"
+    put(sheet, row, 1, f"{SOFT_SPECS_NOT_MET}: {len(broken)}").font = ALERT_TEXT
+    put(sheet, row, 2, f"{meeting[0].upper()}{meeting[1:]}. Check that this is acceptable.").font = ALERT_TEXT
     header(sheet, row + 1, labels)
     for offset, limit in enumerate(broken, start=2):
         _write_broken_row(sheet, row + offset, limit, formula.several)
@@ -313,7 +311,7 @@ def _write_conflicts_pointer(sheet: Worksheet, formula: Formula, row: int) -> No
     count = len(formula.conflict_sets)
     if count:
         sets = f"{count} set{'s' if count != 1 else ''} of limits that cannot all hold together"
-        text = f"See the Conflicts sheet: {sets}, their cells, and the cheapest way out."
+        text = f"See the Conflicts sheet: {sets}, their cells, and the {WAY_OUT.lower()}."
     else:
         text = "See the Conflicts sheet."
     put(sheet, row, 1, "Conflicts").font = BOLD

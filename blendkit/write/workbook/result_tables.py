@@ -19,7 +19,7 @@ from openpyxl.worksheet.worksheet import Worksheet
 
 from blendkit.model.blend import MASS_UNITS_KG, Blend
 from blendkit.model.formula import Formula, IngredientLine, Limit, NutrientLine, basis_label
-from blendkit.model.units import cost_unit, food_unit, stock_unit
+from blendkit.model.units import cost_unit, food_unit, ingredient_word, stock_unit
 from blendkit.write.workbook.cells import (
     AMOUNT_FORMAT,
     BOLD,
@@ -115,7 +115,7 @@ def _ingredient_labels(blend: Blend, block: Block) -> list[str]:
     money = settings.currency or "currency"
     if blend.diet:
         return [
-            "Ingredient",
+            ingredient_word(blend),
             "Amount",
             "Measure",
             f"Cost ({money})",
@@ -307,13 +307,13 @@ def write_stocks(sheet: Worksheet, formula: Formula, row: int) -> int:
         sheet,
         top,
         [
-            "Ingredient",
+            ingredient_word(blend),
             "Used",
             "Available",
             "Unit",
             "Binding",
             f"Shadow price ({money} per 1 unit of stock)",
-            f"Worth of one more unit ({money})",
+            f"Value of one more unit ({money})",
             "Stock read from",
         ],
     )
