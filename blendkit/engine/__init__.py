@@ -7,11 +7,22 @@ parts: `simplex_state` (matrix, values, basis), `primal` and `dual` (the iterati
 `pricing`, `ratio_test`, `basis_factor` (LU factors of the basis), `ranging`, and
 `certificate` (why a problem is infeasible). `tolerances` names every tolerance and
 threshold; `mps` reads and writes MPS files.
+
+Whole numbers and minimums if used: `mip` (the entry points `solve_mip` and
+`solve_mip_form`) checks the arguments (`mip_problem`) and runs our branch and bound
+(`branch_and_bound`), whose parts are `relaxation` (a node's LP from its parent's basis),
+`branching` and `strong_branching` (which column to branch on), `tightening` (bound
+propagation, reduced-cost fixing), `heuristics` and `incumbent` (solutions found early
+and verified), and `objective_grid` (bounds rounded up to the objective's step).
 """
 
-from blendkit.engine.result import STATUSES, LPResult
+from blendkit.engine.mip import solve_mip, solve_mip_form
+from blendkit.engine.result import MIP_STATUSES, STATUSES, LPResult, MIPResult
 from blendkit.engine.solve import solve, solve_form
 from blendkit.engine.standard_form import StandardForm
 from blendkit.engine.tolerances import Tolerances
 
-__all__ = ["STATUSES", "LPResult", "StandardForm", "Tolerances", "solve", "solve_form"]
+__all__ = [
+    "MIP_STATUSES", "STATUSES", "LPResult", "MIPResult", "StandardForm", "Tolerances", "solve", "solve_form",
+    "solve_mip", "solve_mip_form",
+]

@@ -100,3 +100,46 @@ class LPResult:
     def success(self) -> bool:
         """True when an optimal solution was found."""
         return self.status == "optimal"
+
+
+# Outcomes of `blendkit.engine.solve_mip`. "time_limit" also ends a search stopped by
+# its node limit; "unbounded" means the LP relaxation is unbounded.
+MIP_STATUSES = ("optimal", "infeasible", "unbounded", "time_limit", "numerical_trouble")
+
+
+@dataclass(frozen=True)
+class MIPResult:
+    """The outcome of `blendkit.engine.solve_mip`, the branch and bound.
+
+    `status` is one of MIP_STATUSES. `x` is the best solution found (None when none was):
+    its integer columns are whole numbers exactly, each semi-continuous column is 0 or at
+    least its threshold, and `objective` is c·x. `bound` is the best proven lower bound
+    on the optimum and `gap` = (objective - bound) / |objective| (0 when they are equal,
+    inf when there is no solution or the objective is 0 and the bound below it); an
+    "optimal" result has a gap within the tolerances' relative or absolute gap.
+    "time_limit" (time or node limit reached) keeps the best solution, if any, with its
+    proven gap. `lp_objective` is the optimum of the root LP relaxation (every integer
+    column free to take fractions, every semi-continuous column anywhere from 0 to its
+    upper bound). `nodes` counts the LP relaxations solved in the search, `iterations`
+    their simplex iterations. `fixed_lp` is the LP with every integer column fixed at
+    its value in x and each semi-continuous column held off (at 0) or on (at least its
+    threshold), solved at x: its marginals, reduced costs, basis and (with ranging=True)
+    ranges are those of the solution found.
+    """
+
+    status: str
+    message: str
+    x: np.ndarray | None
+    objective: float | None
+    bound: float | None
+    gap: float
+    lp_objective: float | None
+    nodes: int
+    iterations: int
+    seconds: float
+    fixed_lp: LPResult | None = None
+
+    @property
+    def success(self) -> bool:
+        """True when a proven optimal solution was found."""
+        return self.status == "optimal"

@@ -21,7 +21,7 @@ _blas = None
 
 
 @contextmanager
-def _one_blas_thread():
+def one_blas_thread():
     """Hold every loaded BLAS library to one thread for the duration (threadpoolctl).
 
     The libraries are found once; each solve then only sets and restores their thread
@@ -105,7 +105,7 @@ def solve_form(
     start = None
     if basis is not None and tuple(basis.shape) == (m, n):
         start = (basis.head, basis.at_upper)
-    with _one_blas_thread():
+    with one_blas_thread():
         outcome = run_simplex(scaled, tol, max_iterations, basis=start, allow_dual=algorithm == "auto", ranging=ranging)
     if outcome.status != "optimal":
         return _without_solution(form, scaling, outcome, tol)

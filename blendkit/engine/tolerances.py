@@ -1,9 +1,10 @@
 """Named tolerances and numeric limits of the engine, with their defaults.
 
-Every tolerance and threshold the engine uses lives here. The five in `Tolerances` are
+Every tolerance and threshold the engine uses lives here. The eight in `Tolerances` are
 passed explicitly to the code that needs them, so a report of numerical trouble can print
-the value that was broken; the module constants below them are fixed choices of the
-algorithm, imported by name where they are used.
+the value that was broken (the last three only matter to `solve_mip`, the branch and
+bound); the module constants below them are fixed choices of the algorithm, imported by
+name where they are used.
 """
 
 from __future__ import annotations
@@ -25,6 +26,16 @@ INFEASIBILITY = 1e-8
 # After solving, residuals in the original problem above this (relative to
 # 1 + the size of the row's terms) turn "optimal" into "numerical_trouble".
 RESIDUAL = 1e-6
+# A MIP: an integer column this close to a whole number counts as whole (absolute, as in
+# HiGHS's mip_feasibility_tolerance), and a semi-continuous column this close to 0 as off
+# or to its threshold as on. The solution returned has its integer columns rounded exactly.
+INTEGRALITY = 1e-6
+# A MIP search stops, optimal, when the best solution found is within this of the best
+# bound, relative to |objective| (RELATIVE_GAP), or absolutely (ABSOLUTE_GAP). HiGHS's
+# defaults are 1e-4 and 1e-6; ours ask for more, because a blend's cost is compared to
+# the cent per tonne.
+RELATIVE_GAP = 1e-6
+ABSOLUTE_GAP = 1e-6
 
 
 @dataclass(frozen=True)
@@ -36,6 +47,9 @@ class Tolerances:
     pivot: float = PIVOT
     infeasibility: float = INFEASIBILITY
     residual: float = RESIDUAL
+    integrality: float = INTEGRALITY
+    relative_gap: float = RELATIVE_GAP
+    absolute_gap: float = ABSOLUTE_GAP
 
 
 # ----- inside the simplex iterations ------------------------------------------------------
@@ -92,3 +106,54 @@ ITERATION_LIMIT_MIN = 10_000
 # Geometric-mean scaling passes over rows and columns. Two are enough: on our blend
 # benchmark six passes cost 10 % more time for no fewer iterations.
 GEOMETRIC_PASSES = 2
+
+# ----- the branch and bound (solve_mip) -----------------------------------------------------
+
+# When the dual simplex finds a node infeasible, the pivot rows of at most this many of the
+# most infeasible basic variables are checked for a proof (see `relaxation`); without one
+# the node is solved afresh by the two-phase method. A pivot row costs about as much as a
+# dual iteration, a fresh two-phase solve of a 40-ingredient blend MIP some hundred; the
+# most infeasible rows are often the ones without a proof (a logical free on one side).
+INFEASIBILITY_PROOF_ROWS = 50
+# In such a proof, entries of the pivot row below this, relative to its largest, are taken
+# as the rounding they are (in the cases we met: 1e-16 beside 1 to 100) and count as zero;
+# the dual simplex's own ratio test ignores entries up to 1e-9 (PIVOT) already.
+PROOF_ROW_ZERO = 1e-11
+# Branching scores multiply the two children's estimated objective rises, each at least
+# this, so that a column whose one child costs nothing still ranks by the other.
+PSEUDOCOST_FLOOR = 1e-6
+# Rounds of bound propagation through the rows at each node; a round that moves no
+# integer or semi-continuous column's bound ends it early.
+PROPAGATION_ROUNDS = 2
+# Bounds of continuous columns implied by the rows are loosened by this (relative to
+# 1 + |bound|) before later rounds use them, so rounding cannot cut a feasible point.
+PROPAGATION_SLACK = 1e-9
+# When every objective value lies on a grid, an LP bound within this many steps below a
+# grid point counts as that point.
+OBJECTIVE_GRID_TOLERANCE = 1e-6
+# The objective's grid is looked for on decimal scales up to 10^GRID_DECIMALS (prices with
+# cents, steps of a tenth of a kilogram in a batch of tonnes); a step counts as whole on a
+# scale when it is within GRID_WHOLE of a whole number, relative.
+GRID_DECIMALS = 9
+GRID_WHOLE = 1e-9
+# Until a first solution is found, the rounding heuristic runs at the root and at every
+# ROUNDING_EVERY-th node.
+ROUNDING_EVERY = 10
+# Once a solution is known, the search dives from the open node with the least estimate
+# (bound plus the pseudocost estimate of reaching integrality), which finds good
+# solutions sooner, except every BEST_BOUND_EVERY-th time from the least bound.
+BEST_BOUND_EVERY = 4
+# The diving heuristic (fix one column per step) runs at the root and at every
+# DIVE_EVERY-th node, for at most DIVE_STEPS steps and DIVE_BACKTRACKS steps back.
+DIVE_EVERY = 50
+DIVE_STEPS = 200
+DIVE_BACKTRACKS = 3
+# The neighbourhood search (at the root) and the agreement search (after each new
+# incumbent) each stop after this many nodes of their own.
+NEIGHBOURHOOD_NODES = 200
+# Reliability branching: a column's pseudocosts count once RELIABLE_COUNT children have
+# been seen in each direction; until then, up to STRONG_CANDIDATES such columns at a node
+# have their children solved, each for at most STRONG_ITERATIONS dual iterations.
+RELIABLE_COUNT = 1
+STRONG_CANDIDATES = 8
+STRONG_ITERATIONS = 25

@@ -1,8 +1,9 @@
 """The arrays of an MPS model from the records the reader collected.
 
 The coefficients go into A and c, each row's type, right-hand side and range become its
-two bounds, and the BOUNDS lines are applied in file order over the default 0 <= x < inf
-(the rules are listed in `reader`'s docstring).
+two bounds, the BOUNDS lines are applied in file order over the default 0 <= x < inf, and
+the integer columns are marked in `integrality` (the rules are listed in `reader`'s
+docstring).
 """
 
 from __future__ import annotations
@@ -26,6 +27,10 @@ def assemble(reader) -> MPSModel:
         c[j] = value
     row_lower, row_upper = _row_bounds(reader)
     col_lower, col_upper = _column_bounds(reader.bounds, n)
+    integrality = np.zeros(n, dtype=int)
+    integrality[sorted(reader.integer)] = 1
+    unbounded = sorted(reader.integer - {j for _, j, _ in reader.bounds})
+    col_upper[unbounded] = 1.0  # an integer column no BOUNDS line names is binary
     maximise = bool(reader.maximise)
     form = StandardForm(
         c=-c if maximise else c,
@@ -45,6 +50,7 @@ def assemble(reader) -> MPSModel:
         objective_name=reader.objective_name,
         objective_constant=constant,
         maximise=maximise,
+        integrality=integrality,
     )
 
 

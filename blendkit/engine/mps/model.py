@@ -37,7 +37,10 @@ class MPSModel:
     a maximising file (`maximise` True) has its objective negated in `form.c`.
     `row_names` and `column_names` name the rows and columns of `form.A`; the objective
     row's name is `objective_name` ("" when the file has no N row). The file's objective
-    is `objective(x)` = ±(form.c·x) + `objective_constant`.
+    is `objective(x)` = ±(form.c·x) + `objective_constant`. `integrality` gives per
+    column 1 for an integer column and 0 for a continuous one (scipy.optimize.milp's
+    codes, as `blendkit.engine.solve_mip_form` takes them); the reader always sets it,
+    None (a model made by hand) means every column is continuous.
     """
 
     name: str
@@ -47,6 +50,12 @@ class MPSModel:
     objective_name: str
     objective_constant: float
     maximise: bool = False
+    integrality: np.ndarray | None = None
+
+    @property
+    def is_mip(self) -> bool:
+        """True when some column is an integer column."""
+        return self.integrality is not None and bool(np.any(self.integrality))
 
     def objective(self, x) -> float:
         """The file's objective at x, in its own sense, with the constant."""

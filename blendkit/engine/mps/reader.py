@@ -24,8 +24,10 @@ ROWS
     with every entry on them.
 COLUMNS
     Entries on rows named in ROWS; each (column, row) pair at most once. A column named
-    again later gets more entries. ``'MARKER'`` lines (integer markers) are skipped and
-    the columns between them kept as continuous columns: this is an LP reader.
+    again later gets more entries. Columns between a ``'MARKER'`` line saying
+    ``'INTORG'`` and one saying ``'INTEND'`` are integer columns (`MPSModel.integrality`);
+    an integer column that no BOUNDS line names gets bounds 0..1 (the convention of the
+    MIPLIB files, which HiGHS keeps too). Other marker kinds are errors.
 RHS
     The first vector only (named by the first RHS line; a blank name is a name too).
     Rows without an entry have right-hand side 0. An entry on the objective row gives the
@@ -39,10 +41,11 @@ RANGES
 BOUNDS
     The first vector only, lines applied in order over the default 0 <= x < inf:
     UP (upper), LO (lower), FX (both), FR (free), MI (lower -inf), PL (upper +inf),
-    BV (0..1), LI (lower), UI (upper); integrality is ignored. UP or UI with a negative
-    value on a column whose lower bound is still the default 0 also sets the lower bound
-    to -inf (the common convention; write LO after UP to keep a lower bound of 0). Readers
-    differ on this point (some keep the 0), so `write` never relies on it.
+    BV (0..1), LI (lower), UI (upper); BV, LI and UI also make the column an integer
+    column. UP or UI with a negative value on a column whose lower bound is still the
+    default 0 also sets the lower bound to -inf (the common convention; write LO after UP
+    to keep a lower bound of 0). Readers differ on this point (some keep the 0), so
+    `write` never relies on it.
 Numbers
     Decimal numbers with an optional exponent (E or D); ``inf`` and ``infinity`` with a
     sign. In RHS, RANGES and BOUNDS a magnitude of 1e30 or more means infinity (the common
@@ -147,6 +150,8 @@ class _Reader:
         self.ranges: dict[int, float] = {}
         self.bound_vector: str | None = None
         self.bounds: list[tuple[str, int, float]] = []  # (type, column, value), in file order
+        self.integer: set[int] = set()  # integer columns (markers; BV, LI, UI bounds)
+        self.integer_run = False  # between INTORG and INTEND markers
 
     def error(self, message: str) -> MPSError:
         """An MPSError at the current line."""
@@ -229,7 +234,9 @@ class _Reader:
             self.row(*self.row_fields(line))
         elif self.section == "COLUMNS":
             column, pairs = self.pair_fields(line, "column")
-            if pairs is not None:
+            if pairs is None:
+                self.marker(line)
+            else:
                 self.column(column, pairs)
         elif self.section in ("RHS", "RANGES"):
             vector, pairs = self.pair_fields(line, "vector")
@@ -353,9 +360,20 @@ class _Reader:
         self.row_index[name] = len(self.row_types)
         self.row_types.append(kind)
 
+    def marker(self, line: str) -> None:
+        """An integer marker: 'INTORG' starts a run of integer columns, 'INTEND' ends it."""
+        fields = self.fixed_fields(line) if self.fixed else line.split()
+        kind = fields[4] if self.fixed else (fields[2] if len(fields) > 2 else "")
+        kind = kind.strip("'").upper()
+        if kind not in ("INTORG", "INTEND"):
+            raise self.error(f"a MARKER line must say 'INTORG' or 'INTEND', got {kind or 'nothing'!r}")
+        self.integer_run = kind == "INTORG"
+
     def column(self, name: str, pairs: list[tuple[str, str]]) -> None:
         """Entries of one column."""
         j = self.column_index.setdefault(name, len(self.column_index))
+        if self.integer_run:
+            self.integer.add(j)
         for row, text in pairs:
             value = self.number(text, f"the coefficient of column {name!r} in row {row!r}")
             if not abs(value) < INFINITY:
@@ -432,3 +450,5 @@ class _Reader:
         if kind == "FX" and math.isinf(value):
             raise self.error(f"column {column!r} is fixed at an infinite value")
         self.bounds.append((kind, self.column_index[column], value))
+        if kind in ("BV", "LI", "UI"):
+            self.integer.add(self.column_index[column])

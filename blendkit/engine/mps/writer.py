@@ -17,7 +17,10 @@ readers ignore, so reading drops them. Bounds go to BOUNDS only where they
 differ from 0 <= x < inf (UP before LO, so a lower bound of 0 under a negative upper bound
 survives the convention that UP with a negative value also frees the lower bound; see
 `reader`). A bound or row side of magnitude 1e30 or more is written as infinite. A
-maximising model gets ``OBJSENSE`` / ``MAX`` and its own objective.
+maximising model gets ``OBJSENSE`` / ``MAX`` and its own objective. Integer columns are
+written between ``'MARKER'`` lines (``'INTORG'`` ... ``'INTEND'``), and one whose bounds
+are 0 <= x < inf gets a ``PL`` bound, since readers take an integer column without bounds
+as binary.
 """
 
 from __future__ import annotations
@@ -42,15 +45,19 @@ def write(
     column_names=None,
     objective_constant: float | None = None,
     free: bool = False,
+    integrality=None,
 ) -> str:
     """Write an LP as MPS and return the layout written, "fixed" or "free".
 
     `form_or_model` is a StandardForm (minimised) or an MPSModel (its sense, names,
     objective name and constant are kept). `name`, `row_names`, `column_names` and
     `objective_constant` override those; left as None they come from the model, or are
-    "BLEND", R0001..., C0001... and 0 for a StandardForm. Fixed MPS is written unless
-    `free` is True or something does not fit it (see the module docstring). The file is
-    built in memory and written at once. Malformed forms and names raise ValueError.
+    "BLEND", R0001..., C0001... and 0 for a StandardForm. `integrality` (1 for an integer
+    column, 0 for a continuous one, as `solve_mip` takes it; default the model's, or all
+    continuous) puts the integer columns between integer markers. Fixed MPS is written
+    unless `free` is True or something does not fit it (see the module docstring). The
+    file is built in memory and written at once. Malformed forms and names raise
+    ValueError.
     """
     if isinstance(form_or_model, MPSModel):
         model = form_or_model
@@ -62,10 +69,11 @@ def write(
             row_names=model.row_names if row_names is None else row_names,
             column_names=model.column_names if column_names is None else column_names,
             objective_constant=model.objective_constant if objective_constant is None else objective_constant,
+            integrality=model.integrality if integrality is None else integrality,
         )
     elif isinstance(form_or_model, StandardForm):
         content = _content(form_or_model, False, "", name=name, row_names=row_names, column_names=column_names,
-                           objective_constant=objective_constant)
+                           objective_constant=objective_constant, integrality=integrality)
     else:
         raise TypeError(f"write takes a StandardForm or an MPSModel, got {type(form_or_model).__name__}")
     fits = not free and _fits_fixed(content)
@@ -91,13 +99,15 @@ class _Content:
     rhs: list[float]
     ranges: np.ndarray  # 0 for none
     bounds: list[tuple[str, int, float | None]]  # BOUNDS lines: (type, column, value)
+    integer: np.ndarray  # True for each integer column
 
 
 def _content(form: StandardForm, maximise: bool, objective_name: str, *, name, row_names, column_names,
-             objective_constant) -> _Content:
+             objective_constant, integrality=None) -> _Content:
     """The checked content of one file; malformed forms and names raise ValueError."""
     c, A, row_lower, row_upper, col_lower, col_upper = _checked(form)
     m, n = A.shape
+    integer = _integer_columns(integrality, n)
     constant = float(objective_constant or 0.0)
     if not math.isfinite(constant):
         raise ValueError(f"objective_constant must be finite, got {objective_constant}")
@@ -119,8 +129,19 @@ def _content(form: StandardForm, maximise: bool, objective_name: str, *, name, r
         row_kinds=row_kinds,
         rhs=rhs,
         ranges=ranges,
-        bounds=_bound_records(col_lower, col_upper),
+        bounds=_bound_records(col_lower, col_upper, integer),
+        integer=integer,
     )
+
+
+def _integer_columns(integrality, n: int) -> np.ndarray:
+    """A bool per column from 0 / 1 integrality codes (None: all continuous)."""
+    if integrality is None:
+        return np.zeros(n, dtype=bool)
+    codes = np.asarray(integrality, dtype=float).reshape(-1)
+    if codes.shape[0] != n or np.any((codes != 0) & (codes != 1)):
+        raise ValueError(f"integrality must give 0 or 1 for each of the {n} columns")
+    return codes == 1
 
 
 def _free_names(content: _Content) -> _Content:
@@ -159,13 +180,28 @@ def _columns_section(content: _Content, fixed: bool) -> list[str]:
     its nonzeros."""
     A, c, rows = content.A, content.c, content.rows
     lines = ["COLUMNS"]
+    integer, markers = content.integer, 0
     for j in range(A.shape[1]):
+        if integer[j] and (j == 0 or not integer[j - 1]):
+            markers += 1
+            lines.append(_marker_line(fixed, markers, "INTORG"))
         start, stop = A.indptr[j], A.indptr[j + 1]
         pairs = [(rows[i], v) for i, v in zip(A.indices[start:stop], A.data[start:stop])]
         if c[j] != 0 or not pairs:
             pairs.insert(0, (content.objective_name, c[j]))
         lines += _pair_lines(fixed, content.columns[j], pairs)
+        if integer[j] and (j == A.shape[1] - 1 or not integer[j + 1]):
+            markers += 1
+            lines.append(_marker_line(fixed, markers, "INTEND"))
     return lines
+
+
+def _marker_line(fixed: bool, k: int, kind: str) -> str:
+    """The k-th integer marker line, of kind INTORG or INTEND."""
+    name = f"MARK{k:04d}" if k < 10_000 else f"M{k:07d}"
+    if fixed:
+        return f"    {name:<8}  'MARKER'                 '{kind}'"
+    return f"    {name} 'MARKER' '{kind}'"
 
 
 def _rhs_and_ranges_sections(content: _Content, fixed: bool) -> list[str]:
@@ -347,11 +383,14 @@ def _range(lo: float, up: float) -> tuple[str, float, float]:
     return kind, b, r
 
 
-def _bound_records(lower: np.ndarray, upper: np.ndarray) -> list[tuple[str, int, float | None]]:
-    """BOUNDS lines (type, column, value) for the bounds that differ from 0 <= x < inf."""
+def _bound_records(lower: np.ndarray, upper: np.ndarray, integer: np.ndarray) -> list[tuple[str, int, float | None]]:
+    """BOUNDS lines (type, column, value) for the bounds that differ from 0 <= x < inf, and
+    PL for an integer column with those bounds (which readers would otherwise take as binary)."""
     records = []
     for j, (lo, up) in enumerate(zip(lower, upper)):
-        if lo == up:
+        if integer[j] and lo == 0 and up == math.inf:
+            records.append(("PL", j, None))
+        elif lo == up:
             records.append(("FX", j, float(lo)))
         elif lo == -math.inf and up == math.inf:
             records.append(("FR", j, None))
