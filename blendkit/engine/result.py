@@ -120,11 +120,13 @@ class MIPResult:
     "time_limit" (time or node limit reached) keeps the best solution, if any, with its
     proven gap. `lp_objective` is the optimum of the root LP relaxation (every integer
     column free to take fractions, every semi-continuous column anywhere from 0 to its
-    upper bound). `nodes` counts the LP relaxations solved in the search, `iterations`
-    their simplex iterations. `fixed_lp` is the LP with every integer column fixed at
-    its value in x and each semi-continuous column held off (at 0) or on (at least its
-    threshold), solved at x: its marginals, reduced costs, basis and (with ranging=True)
-    ranges are those of the solution found.
+    upper bound; after bound propagation, so it may lie above the plain LP's optimum).
+    `nodes` counts the nodes of the search tree whose LP relaxation was solved (the LPs
+    of strong branching and of the heuristics are not nodes), `iterations` the simplex
+    iterations of every LP, `seconds` the wall time. `fixed_lp` is the LP with every
+    integer column fixed at its value in x and each semi-continuous column held off (at
+    0) or on (at least its threshold), solved at x: its marginals, reduced costs, basis
+    and (with ranging=True) ranges are those of the solution found.
     """
 
     status: str
