@@ -12,6 +12,8 @@ One module per concern:
                   price_sweep, infeasible_blend) and its table (cold solves, price sweeps)
     diagnosis.py  the diagnosis family: conflict diagnosis of infeasible blends
     netlib.py     the NETLIB family: MPS files read and solved by both solvers
+    mip.py        the MIP family: blends with a minimum if used and at most 10 ingredients, and
+                  the broiler starter on a 0.5 kg scale step, beside scipy.optimize.milp
     timing.py     shared by the families: timed, agreement, measure and its table
     highs.py      highspy, imported only when needed, with the missing-extra message
     machine.py    the machine lines: processor, cores, versions, load average
