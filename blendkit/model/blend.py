@@ -59,6 +59,10 @@ class Ingredient:
     content_cells: dict[str, str] = field(default_factory=dict)
     unit: str = ""  # diet mode: what one unit of amount is ("100 g", "serving")
     stock: float | None = None
+    # Rules a mill can weigh (`blendkit.model.weighing`); None = no such rule.
+    min_if_used: float | None = None  # 0 or at least this (% of blend; diet: amount)
+    pack_size: float | None = None  # whole packs per batch (mass unit)
+    scale_step: float | None = None  # batch weight a whole multiple of this (mass unit)
 
 
 AS_FED = "as fed"
@@ -118,6 +122,7 @@ class Product:
     name: str
     amount: float | None
     cells: dict[str, str]  # "product", "amount" -> cell
+    max_ingredients: int | None = None  # overrides the Max ingredients setting
 
 
 @dataclass(frozen=True)
@@ -133,6 +138,8 @@ class ProductLimit:
     maximum: float | None
     cells: dict[str, str]  # "product", "ingredient", "min", "max" -> cell
     priority: float | None = None
+    min_if_used: float | None = None  # replaces the ingredient's own in this product
+    pack_size: float | None = None  # replaces the ingredient's own in this product
 
 
 @dataclass(frozen=True)
@@ -146,6 +153,9 @@ class Settings:
     name: str = ""
     mode: str = "blend"  # "blend" (inclusions in %, summing to 100) or "diet" (amounts)
     dry_matter: str = "Dry matter"  # the nutrient column (in %) that dry-matter specs use
+    max_ingredients: int | None = None  # at most this many ingredients above 0 per formula
+    scale_step: float | None = None  # every batch weight a whole multiple of this (mass)
+    hand_add_below: float | None = None  # Batch sheet: weights below this are hand-added
     cells: dict[str, str] = field(default_factory=dict)  # setting key -> cell of its value
 
     @property
