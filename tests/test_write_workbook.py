@@ -20,6 +20,7 @@ import blendkit.write.workbook.save
 from blendkit import CAUTION
 from blendkit.read.workbook import read_workbook
 from blendkit.write.workbook.book import write_workbook
+from blendkit.write.workbook.shadow_prices import ordered
 from tests import formulas
 from tests.workbooks import store_saved_values
 
@@ -401,18 +402,28 @@ def test_shadow_prices_sheet(source: Path, tmp_path: Path):
     assert len(rows) == len(formula.limits)
     assert [c.value for c in sheet[header]] == [
         "Kind", "Product", "Name", "Basis", "Side", "Bound", "Level", "Binding", "Shadow price",
-        "Shadow price unit", "Bound read from", "Holds from", "Holds to"]
-    for row, limit in zip(rows, formula.limits):
-        kind, product, name, basis, side, bound, level, binding, shadow, unit, cell, low, high = row
+        "Shadow price unit", "Bound read from", "Holds from", "Holds to", "Step", "Cost of a step",
+        "Cost change, raised a step", "Cost change, lowered a step", "Per step, in words", "Note"]
+    # Binding limits first, the larger cost of a step first: rapeseed meal max (1.25 per 1 %
+    # inclusion, a step of 0.1 %: 0.125) before crude protein min (4.5 per 1 %, a step of
+    # 0.01 %: 0.045); the limits that do not bind keep the workbook's order.
+    binding = [limit for limit in formula.limits if limit.binding]
+    expected = [binding[1], binding[0], *(limit for limit in formula.limits if not limit.binding)]
+    for row, limit in zip(rows, expected):
+        kind, product, name, basis, side, bound, level, binding_word, shadow, unit, cell, low, high = row[:13]
         assert (low, high) == (limit.holds_from, limit.holds_to)
         assert (kind, name, side, cell) == (limit.kind, limit.name, limit.side, limit.cell)
         assert product is None  # one blend
         assert basis == ("as fed" if limit.kind == "nutrient" else None)
         assert bound == limit.bound and level == pytest.approx(limit.level)
-        assert binding == ("yes" if limit.binding else "no")
+        assert binding_word == ("yes" if limit.binding else "no")
         assert shadow == limit.shadow_price and is_number(shadow)
-    assert rows[0][9] == "EUR/tonne per 1 unit of Crude protein (%)"
-    assert rows[5][9] == "EUR/tonne per 1 % inclusion"
+    assert rows[1][9] == "EUR/tonne per 1 unit of Crude protein (%)"
+    assert rows[0][9] == "EUR/tonne per 1 % inclusion"
+    assert rows[0][13:16] == [0.1, pytest.approx(-0.125), None]
+    assert rows[0][17] == "-0.1250 EUR/tonne per +0.1 % inclusion of Rapeseed meal"
+    assert rows[1][13:15] == [0.01, pytest.approx(0.045)]
+    assert rows[1][17] == "+0.04500 EUR/tonne per +0.01 % Crude protein"
     assert sheet["A1"].value.startswith("Shadow price: change in the blend cost (EUR per tonne) ")
 
 
@@ -711,7 +722,9 @@ def test_shadow_prices_of_ratio_group_and_stock_limits(tmp_path: Path):
     rows = table(sheet, 3, len(formula.limits), columns=11)
     assert sheet.cell(4 + len(formula.limits), 1).value is None
     by_kind = {}
-    for row, limit in zip(rows, formula.limits):
+    row_of_limit = {id(limit): row for row, limit in zip(rows, ordered(formula.blend, formula.limits))}
+    for limit in formula.limits:  # in the workbook's order, whatever the sheet's
+        row = row_of_limit[id(limit)]
         assert (row[0], row[2], row[4], row[10]) == (limit.kind, limit.name, limit.side, limit.cell)
         assert row[1] is None  # one blend: no product, and stocks have none
         assert row[8] == limit.shadow_price
@@ -728,7 +741,8 @@ def test_shadow_prices_of_ratio_group_and_stock_limits(tmp_path: Path):
     stock = by_kind["stock"][1]
     assert stock[2:10] == ["Soybean meal", None, "max", 440, 440, "yes", -0.0375,
                            "EUR per 1 kg of stock"]
-    assert sheet.cell(3 + len(formula.limits), 6).number_format == "#,##0.00"  # a stock
+    stock_row = 4 + next(k for k, row in enumerate(rows) if row[0] == "stock")
+    assert sheet.cell(stock_row, 6).number_format == "#,##0.00"  # a stock
 
 
 def test_diet_result_shows_amounts_in_each_foods_unit(tmp_path: Path):
@@ -795,8 +809,9 @@ def test_shadow_price_never_shows_negative_zero(source: Path, tmp_path: Path):
     first = dataclasses.replace(formula.limits[0], shadow_price=-1e-12)
     formula = dataclasses.replace(formula, limits=(first, *formula.limits[1:]))
     sheet = load_workbook(write(formula, source, tmp_path / "out.xlsx"))["Shadow prices"]
-    assert sheet.cell(4, 9).value == 0
-    assert math.copysign(1.0, sheet.cell(4, 9).value) == 1.0  # not -0.0
+    at = 4 + ordered(formula.blend, formula.limits).index(first)
+    assert sheet.cell(at, 9).value == 0
+    assert math.copysign(1.0, sheet.cell(at, 9).value) == 1.0  # not -0.0
 
 
 def test_products_total_cost_and_its_live_check(tmp_path: Path):
@@ -871,7 +886,7 @@ def test_products_shadow_prices_name_the_product(tmp_path: Path):
     assert "a product's cost (EUR per tonne)" in sheet["A1"].value
     assert "the run's total cost (EUR) for a stock" in sheet["A1"].value
     rows = table(sheet, 3, len(formula.limits), columns=11)
-    assert [row[1] for row in rows] == [limit.product for limit in formula.limits]
+    assert [row[1] for row in rows] == [limit.product for limit in ordered(formula.blend, formula.limits)]
     assert {row[1] for row in rows if row[0] != "stock"} == {name for name, _ in formulas.PRODUCTS}
     stock = next(row for row in rows if row[0] == "stock" and row[7] == "yes")
     assert stock[1:10] == [None, "Soybean meal", None, "max", 7000, 7000, "yes", -0.095,

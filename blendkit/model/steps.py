@@ -6,6 +6,9 @@ One table, by unit; anything else moves by 1 % of the bound (or by 1 when the bo
 
 from __future__ import annotations
 
+from blendkit.model.blend import Blend
+from blendkit.model.formula import Limit
+
 # A step by unit, keys lower-case with spaces removed. Energy in MJ/kg moves by 0.1, in
 # kcal/kg by 10; trace contents (mg/kg, ppm, g/kg) by 1; a % content by 0.01.
 STEPS_BY_UNIT = {
@@ -34,3 +37,48 @@ def step_for(unit: str, kind: str, bound: float) -> float:
     if key in STEPS_BY_UNIT:
         return STEPS_BY_UNIT[key]
     return abs(bound) * SHARE_OF_BOUND if bound else 1.0
+
+
+def limit_unit(blend: Blend, limit: Limit) -> str:
+    """The unit a limit's bound is written in: the nutrient's, % for an inclusion or group
+    (a diet food's unit in a diet), the mass unit for a stock, blank for a ratio."""
+    if limit.kind == "nutrient":
+        return blend.nutrient_units.get(limit.name, "")
+    if limit.kind == "ratio":
+        return ""
+    if limit.kind == "stock":
+        return blend.settings.mass_unit if not blend.diet else _food_unit(blend, limit.name)
+    if blend.diet:
+        return _food_unit(blend, limit.name) if limit.kind == "ingredient" else ""
+    return "%"
+
+
+def _food_unit(blend: Blend, name: str) -> str:
+    """A diet food's unit; blank for a name that is not an ingredient."""
+    try:
+        return blend.ingredient(name).unit
+    except KeyError:
+        return ""
+
+
+def spec_step(blend: Blend, limit: Limit) -> float | None:
+    """The Step a nutrient or ratio limit's spec row gives, if any (a row for this product
+    before a row for every product)."""
+    if limit.kind not in ("nutrient", "ratio"):
+        return None
+    rows = [spec for spec in blend.specs if spec.nutrient == limit.name and spec.step
+            and (limit.kind == "ratio" or spec.basis == limit.basis)
+            and spec.product in (limit.product, None)]
+    rows.sort(key=lambda spec: spec.product is None)
+    return rows[0].step if rows else None
+
+
+def limit_step(blend: Blend, limit: Limit) -> float:
+    """A limit's step: the Specs sheet's Step, else the default by its unit."""
+    return spec_step(blend, limit) or step_for(limit_unit(blend, limit), limit.kind, limit.bound)
+
+
+def step_worth(blend: Blend, limit: Limit) -> tuple[float, float]:
+    """A limit's step and |shadow price x step|, what one step of it moves the cost by."""
+    step = limit_step(blend, limit)
+    return step, abs(limit.shadow_price * step)

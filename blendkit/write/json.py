@@ -74,7 +74,10 @@ from typing import Any
 
 from blendkit.model.changes import FormulaChanges
 from blendkit.model.formula import ConflictLine, Formula, Limit, NutrientLine
+from blendkit.model.blend import Blend
 from blendkit.model.record import nutrient_key
+from blendkit.model.steps import limit_step
+from blendkit.write.step_words import limit_note
 
 
 def formula_to_dict(formula: Formula) -> dict[str, Any]:
@@ -110,7 +113,7 @@ def formula_to_dict(formula: Formula) -> dict[str, Any]:
         "ingredients": {str(line.name): _number(line.inclusion) for line in formula.ingredients},
         "prices": _prices(formula.ingredients),
         "nutrients": {_key(line): _number(line.level) for line in formula.nutrients},
-        "limits": [_limit(limit) for limit in formula.limits],
+        "limits": [_limit(limit, formula.blend, formula.limits) for limit in formula.limits],
         "stocks": stocks,
         "violations": _violations(formula),
         "notes": [str(note) for note in formula.notes],
@@ -176,7 +179,7 @@ def _products(formula: Formula) -> dict[str, Any]:
             "ingredients": {str(line.name): _number(line.inclusion) for line in product.ingredients},
             "prices": _prices(product.ingredients),
             "nutrients": {_key(line): _number(line.level) for line in product.nutrients},
-            "limits": [_limit(limit) for limit in product.limits],
+            "limits": [_limit(limit, formula.blend, product.limits) for limit in product.limits],
         }
         if product.name in relaxations:
             entry["relaxation"] = relaxations[product.name]
@@ -258,8 +261,9 @@ def formula_to_json(formula: Formula) -> str:
     return json.dumps(formula_to_dict(formula), indent=2, ensure_ascii=False, allow_nan=False)
 
 
-def _limit(limit: Limit) -> dict[str, Any]:
-    """One limit, keys in the documented order."""
+def _limit(limit: Limit, blend: Blend, limits: tuple[Limit, ...]) -> dict[str, Any]:
+    """One limit, keys in the documented order; `limits` are its formula's (for its note)."""
+    step = limit_step(blend, limit)
     return {
         **_which(limit),
         "level": _number(limit.level),
@@ -270,6 +274,9 @@ def _limit(limit: Limit) -> dict[str, Any]:
         "cell": str(limit.cell),
         "holds_from": _number(limit.holds_from),
         "holds_to": _number(limit.holds_to),
+        "step": _number(step),
+        "per_step": _number(limit.shadow_price * step),
+        "note": limit_note(limit, limits) or None,
     }
 
 

@@ -13,9 +13,8 @@ from openpyxl.styles import Alignment
 from openpyxl.worksheet.pagebreak import Break
 from openpyxl.worksheet.worksheet import Worksheet
 
-from blendkit.model.blend import Blend
 from blendkit.model.formula import Formula, Limit, basis_label
-from blendkit.model.steps import step_for
+from blendkit.model.steps import limit_unit, step_worth
 from blendkit.model.units import cost_unit, run_cost_unit
 from blendkit.write.workbook.cells import (
     BOLD,
@@ -36,47 +35,6 @@ SIGN_OFF = ("Prepared by", "Checked by", "Date")
 MOST_LISTED = 20
 # A unit written right of a right-aligned number: a space's indent keeps them apart.
 BESIDE_NUMBER = Alignment(indent=1)
-
-
-def limit_unit(blend: Blend, limit: Limit) -> str:
-    """The unit a limit's bound is written in: the nutrient's, % for an inclusion or group
-    (a diet food's unit in a diet), the mass unit for a stock."""
-    if limit.kind in ("nutrient",):
-        return blend.nutrient_units.get(limit.name, "")
-    if limit.kind == "ratio":
-        return ""
-    if limit.kind == "stock":
-        return blend.settings.mass_unit if not blend.diet else _food_unit(blend, limit.name)
-    if blend.diet:
-        return _food_unit(blend, limit.name) if limit.kind == "ingredient" else ""
-    return "%"
-
-
-def _food_unit(blend: Blend, name: str) -> str:
-    """A diet food's unit; blank for a name that is not an ingredient."""
-    try:
-        return blend.ingredient(name).unit
-    except KeyError:
-        return ""
-
-
-def step_worth(blend: Blend, limit: Limit) -> tuple[float, float]:
-    """A limit's step (the Specs sheet's Step, else the default by unit) and
-    |shadow price x step|."""
-    step = _spec_step(blend, limit) or step_for(limit_unit(blend, limit), limit.kind, limit.bound)
-    return step, abs(limit.shadow_price * step)
-
-
-def _spec_step(blend: Blend, limit: Limit) -> float | None:
-    """The Step a nutrient or ratio limit's spec row gives, if any (a row for this product
-    before a row for every product)."""
-    if limit.kind not in ("nutrient", "ratio"):
-        return None
-    rows = [spec for spec in blend.specs if spec.nutrient == limit.name and spec.step
-            and (limit.kind == "ratio" or spec.basis == limit.basis)
-            and spec.product in (limit.product, None)]
-    rows.sort(key=lambda spec: spec.product is None)
-    return rows[0].step if rows else None
 
 
 def binding_limits(formula: Formula) -> list[Limit]:

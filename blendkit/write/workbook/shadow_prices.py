@@ -1,6 +1,11 @@
 """The Shadow prices sheet: one row per limit the user wrote (spec, ratio, group, stock or
-inclusion limit, with its product), with its shadow price, its unit, and the bound values
-over which that price holds.
+inclusion limit, with its product), with its shadow price, its unit, the bound values
+over which that price holds, and the same per step of the bound: the step, what one step
+costs, the cost change when the bound is raised a step and when it is lowered a step (they
+differ at a degenerate optimum), the price per step in words, and a note.
+
+Binding limits come first, the largest cost of a step (either way) first; the limits that
+do not bind follow in the order of the workbook.
 """
 
 from __future__ import annotations
@@ -16,6 +21,7 @@ from blendkit.model.blend import Blend
 from blendkit.model.formula import Formula, Limit, RunInfo, basis_label
 from blendkit.model.units import cost_unit, kind_word, run_cost_unit, shadow_price_unit
 from blendkit.write.numbers import decimals, limit_key, nutrient_decimals
+from blendkit.write.step_words import limit_note, per_step_text, step_changes
 from blendkit.write.workbook.cells import (
     AMOUNT_FORMAT,
     INCLUSION_FORMAT,
@@ -27,6 +33,7 @@ from blendkit.write.workbook.cells import (
     put,
 )
 from blendkit.write.workbook.printing import fit_column_widths
+from blendkit.write.workbook.tidy import tidy
 
 TITLE = "Shadow prices"
 
@@ -44,6 +51,12 @@ _HEADERS = [
     "Bound read from",
     "Holds from",
     "Holds to",
+    "Step",
+    "Cost of a step",
+    "Cost change, raised a step",
+    "Cost change, lowered a step",
+    "Per step, in words",
+    "Note",
 ]
 # The unit column: at most this many characters wide, its longer units wrapped.
 _UNIT_COLUMN = 10
@@ -54,16 +67,21 @@ _TEXT_AFTER_NUMBERS = (8, 10, 11)
 _WIDEST = 70
 # The header row; one row per limit follows.
 _HEADER_ROW = 3
+# The columns of words that wrap when longer than the widest column: per step, note.
+_WORDS = (18, 19)
 
 
 def write(workbook: Workbook, formula: Formula, run: RunInfo, title: str) -> None:
     """One row per limit the user wrote: how much the cost moves per unit of its bound."""
     sheet = new_sheet(workbook, TITLE)
     put(sheet, 1, 1, _intro(formula))
+    put(sheet, 2, 1, _STEP_INTRO)
     header(sheet, _HEADER_ROW, _HEADERS)
     places = nutrient_decimals(formula)
-    for offset, limit in enumerate(formula.limits, start=1):
-        _write_limit(sheet, _HEADER_ROW + offset, limit, formula.blend, _bound_format(limit, places))
+    for offset, limit in enumerate(ordered(formula.blend, formula.limits), start=1):
+        row = _HEADER_ROW + offset
+        _write_limit(sheet, row, limit, formula.blend, _bound_format(limit, places))
+        _write_steps(sheet, row, limit, formula)
     if not formula.limits:
         if formula.solved:
             empty = "No limits to show: the workbook sets no specs or inclusion limits."
@@ -72,6 +90,37 @@ def write(workbook: Workbook, formula: Formula, run: RunInfo, title: str) -> Non
         put(sheet, _HEADER_ROW + 1, 1, empty)
     _size_columns(sheet)
     sheet.freeze_panes = "A4"  # the header row also repeats on every printed page
+
+
+def ordered(blend: Blend, limits: tuple[Limit, ...]) -> list[Limit]:
+    """Binding limits first, the largest cost of a step (the shadow price or either
+    one-sided value, times the step) first; then the others in their own order."""
+    binding = [limit for limit in limits if limit.binding]
+    binding.sort(key=lambda limit: -_largest_step_cost(blend, limit))
+    return [*binding, *(limit for limit in limits if not limit.binding)]
+
+
+def _largest_step_cost(blend: Blend, limit: Limit) -> float:
+    """The largest cost change of one step of a limit, up or down."""
+    step, raised, lowered = step_changes(blend, limit)
+    return max(abs(limit.shadow_price * step), abs(raised or 0.0), abs(lowered or 0.0))
+
+
+def _write_steps(sheet: Worksheet, row: int, limit: Limit, formula: Formula) -> None:
+    """A limit's step, what a step costs, the cost change raised and lowered a step, the
+    price per step in words and a note (blank where a value is not known)."""
+    blend = formula.blend
+    step, raised, lowered = step_changes(blend, limit)
+    number(sheet.cell(row, 14), tidy(step), format_by_size([step], 0))
+    worth = limit.shadow_price * step
+    money = fixed_format(decimals([worth, raised, lowered], 2))
+    number(sheet.cell(row, 15), _no_negative_zero(worth, 6), money)
+    if raised is not None:
+        number(sheet.cell(row, 16), _no_negative_zero(raised, 6), money)
+    if lowered is not None:
+        number(sheet.cell(row, 17), _no_negative_zero(lowered, 6), money)
+    put(sheet, row, 18, per_step_text(blend, limit) or None)
+    put(sheet, row, 19, limit_note(limit, formula.limits) or None)
 
 
 def _size_columns(sheet: Worksheet) -> None:
@@ -92,6 +141,20 @@ def _size_columns(sheet: Worksheet) -> None:
             if long:
                 lines = math.ceil((len(str(cell.value)) + 3) / unit.width)
                 sheet.row_dimensions[cell.row].height = 15 * lines + 2
+    _wrap_words(sheet)
+
+
+def _wrap_words(sheet: Worksheet) -> None:
+    """Words longer than their column wrap onto a taller row."""
+    for column in _WORDS:
+        width = sheet.column_dimensions[get_column_letter(column)].width
+        for (cell,) in sheet.iter_rows(min_row=_HEADER_ROW + 1, min_col=column, max_col=column):
+            size = len(str(cell.value or ""))
+            if size + 2 > width:
+                cell.alignment = Alignment(wrap_text=True, vertical="top")
+                lines = math.ceil((size + 2) / width)
+                height = sheet.row_dimensions[cell.row].height or 0
+                sheet.row_dimensions[cell.row].height = max(height, 15 * lines + 2)
 
 
 def _bound_format(limit: Limit, places: dict[tuple, int]) -> str:
@@ -150,3 +213,9 @@ def _intro(formula: Formula) -> str:
             whose += f", or the batch's cost ({total}) for a stock,"
     return (f"Shadow price: change in {whose} when the bound is raised by 1 unit; 0 where "
             "the bound does not bind. It holds for small changes only.")
+
+
+_STEP_INTRO = ("Binding limits first, the largest cost of a step first. A step is the Specs "
+               "sheet's Step, else a change that fits the unit. Raised / lowered: the cost "
+               "change when the bound moves one step up / down; they differ from each other "
+               "(and from the shadow price) at a degenerate optimum.")
