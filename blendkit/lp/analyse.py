@@ -33,7 +33,7 @@ from blendkit.lp.build import (
     LPRow,
     ingredient_limits,
 )
-from blendkit.lp.one_sided import column_rates, row_rates
+from blendkit.lp.one_sided import basic_at_bound, column_rates, row_rates
 from blendkit.lp.shared_prices import shared_prices
 from blendkit.lp.tolerances import AT_BOUND, ZERO_INCLUSION
 from blendkit.model.blend import AS_FED, DRY_MATTER, Blend
@@ -113,7 +113,8 @@ def _room(lp: BlendLP, result: LPResult, k: int, side, level, binding: bool, kno
 
     `k` indexes the engine's variables (columns, then the rows' activities). A binding
     bound may move as far as the engine's bound ranging allows; a bound that does not
-    bind keeps its zero shadow price until it reaches the level. A range reaching below 0
+    bind keeps its zero shadow price until it reaches the level, and so does one that
+    binds only because its row (or column) is basic at it. A range reaching below 0
     starts at 0 unless the limit's level can be `negative` (a nutrient with negative
     contents): an inclusion, a group, a stock or such a level never is.
     """
@@ -122,6 +123,8 @@ def _room(lp: BlendLP, result: LPResult, k: int, side, level, binding: bool, kno
     if not binding:
         return (None, float(level)) if side.side == "min" else (float(level), None)
     down, up = result.bound_ranges[k]
+    if basic_at_bound(result, k):  # degenerate: a min holds its price of 0 only below it
+        down, up = (np.inf, 0.0) if side.side == "min" else (0.0, np.inf)
     low, high = side.bound - down, side.bound + up
     if low < 0 <= side.bound and not negative:  # no level of this limit can be below 0
         low = 0.0

@@ -5,7 +5,8 @@ to change at once if it moved one way. The optimal cost is piecewise linear (and
 in each bound, so it can change at different rates up and down. With the optimal basis:
 
 - if the bound may move up with the same basis (its bound range reaches above it), the
-  rate up is that basis's shadow price, exactly;
+  rate up is that basis's shadow price, exactly; a variable basic at its bound (a
+  degenerate basis) cannot move a min up or a max down with it, whatever its range says;
 - otherwise the LP is solved again with the bound raised by a small step (warm-started
   from the optimal basis, so a few dual simplex iterations), and the rate up is the new
   basis's shadow price, which holds from the bound up to the next breakpoint;
@@ -55,7 +56,8 @@ def _rate(form, result, k, side, bound, direction, price, price_of) -> float | N
     its Max)."""
     if _crosses(form, k, side, direction):
         return None
-    if result.bound_ranges is not None:
+    tightens = (direction > 0) == (side == "min")
+    if result.bound_ranges is not None and not (tightens and basic_at_bound(result, k)):
         room = result.bound_ranges[k][0 if direction < 0 else 1]
         if room > AT_BOUND * (1 + abs(bound)):
             return price
@@ -64,6 +66,13 @@ def _rate(form, result, k, side, bound, direction, price, price_of) -> float | N
     if moved.status != "optimal":
         return None
     return float(price_of(moved))
+
+
+def basic_at_bound(result: LPResult, k: int) -> bool:
+    """True when variable k (columns, then rows) is basic although it sits at a bound: a
+    degenerate basis. Its bound range says (inf, inf), but moving that bound past it makes
+    the basis infeasible: the rate that way needs a re-solve."""
+    return result.basis is not None and bool(np.any(np.asarray(result.basis.head) == k))
 
 
 def _crosses(form: StandardForm, k: int, side: str, direction: int) -> bool:
