@@ -176,6 +176,14 @@ class SharedPrice:
     note: str = ""
 
 
+# The scope of a price range: the one price for the whole run, a product's own range when
+# its price moves there alone (a product linked to others by a stock), or a product that
+# is a formula of its own.
+EVERY_PRODUCT = "one price for every product"
+THIS_PRODUCT_ALONE = "this product alone"
+THIS_PRODUCT = "this product"
+
+
 @dataclass(frozen=True)
 class CrossCheck:
     """The run's LP re-solved by another solver (`blendkit.lp.cross_check`): its status
@@ -226,6 +234,16 @@ class Formula:
     # With several products: each ingredient's one price range for the whole run.
     shared_prices: tuple[SharedPrice, ...] = ()
     changes: Changes | None = None  # against an earlier result, when one was compared
+
+    def linked(self, name: str | None) -> bool:
+        """True when product `name` was solved jointly with other products (linked by a
+        stock): its own price ranges then hold only for a price change in it alone."""
+        if not self.several:
+            return False
+        if not self.parts:
+            return len(self.products) > 1
+        return any(len(part.blend.products) > 1 and any(p.name == name for p in part.blend.products)
+                   for part in self.parts)
 
     @property
     def several(self) -> bool:

@@ -22,6 +22,7 @@ from blendkit.model.formula import (
     NutrientLine,
     ProductFormula,
     SOFT_SPECS_NOT_MET,
+    THIS_PRODUCT_ALONE,
     WAY_OUT,
     basis_label,
 )
@@ -34,6 +35,7 @@ from blendkit.model.units import (
     shadow_price_unit,
     stock_unit,
 )
+from blendkit.write.price_words import shared_price_note
 from blendkit.write.numbers import (
     AMOUNT_DECIMALS,
     INCLUSION_DECIMALS,
@@ -118,8 +120,25 @@ def _formula_blocks(formula: Formula) -> list[list[str]]:
         blocks.append(_ingredients(blend, product.ingredients))
         blocks.append(_nutrients(blend, product.nutrients))
     blocks.append(_stocks(formula))
+    blocks.append(_shared_prices(formula))
     blocks.append(_binding_limits(formula))
     return blocks
+
+
+def _shared_prices(formula: Formula) -> list[str]:
+    """With products: one line per ingredient, its one price for the whole run and the
+    range over which the whole plan stays the cheapest (every product at once)."""
+    if not formula.shared_prices:
+        return []
+    rows = [
+        [line.name, f"{line.price:,.2f}", _fixed(line.more_below, 2), _fixed(line.less_above, 2),
+         shared_price_note(line)]
+        for line in formula.shared_prices
+    ]
+    headers = ["Ingredient", "Price", "Used more below", "Used less above", "Note"]
+    title = (f"One price per ingredient, every product at once ({cost_unit(formula.blend.settings)}); "
+             f"each product's own ranges hold for {THIS_PRODUCT_ALONE}:")
+    return [title, *_table(headers, rows, left=1, last_left=True)]
 def _changes(formula: Formula) -> list[str]:
     """One line per formula compared with the earlier result: cost before -> after, and
     the price effect and formula effect that make up the change."""

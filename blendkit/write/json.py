@@ -73,7 +73,15 @@ import math
 from typing import Any
 
 from blendkit.model.changes import FormulaChanges
-from blendkit.model.formula import ConflictLine, Formula, Limit, NutrientLine
+from blendkit.model.formula import (
+    EVERY_PRODUCT,
+    THIS_PRODUCT,
+    THIS_PRODUCT_ALONE,
+    ConflictLine,
+    Formula,
+    Limit,
+    NutrientLine,
+)
 from blendkit.model.blend import Blend
 from blendkit.model.record import nutrient_key
 from blendkit.model.steps import limit_step
@@ -97,7 +105,7 @@ def formula_to_dict(formula: Formula) -> dict[str, Any]:
             "total_cost": _number(formula.cost) if formula.solved else None,
             "prices": {
                 str(line.name): {"more_below": _number(line.more_below), "less_above": _number(line.less_above),
-                                 "note": line.note or None}
+                                 "note": line.note or None, "scope": EVERY_PRODUCT}
                 for line in formula.shared_prices
             },
             "products": _products(formula),
@@ -177,7 +185,7 @@ def _products(formula: Formula) -> dict[str, Any]:
             "message": str(product.message),
             "cost": _number(product.cost) if product.solved else None,
             "ingredients": {str(line.name): _number(line.inclusion) for line in product.ingredients},
-            "prices": _prices(product.ingredients),
+            "prices": _prices(product.ingredients, THIS_PRODUCT_ALONE if formula.linked(product.name) else THIS_PRODUCT),
             "nutrients": {_key(line): _number(line.level) for line in product.nutrients},
             "limits": [_limit(limit, formula.blend, product.limits) for limit in product.limits],
         }
@@ -207,13 +215,17 @@ def _relaxation(formula: Formula) -> dict[str, Any] | None:
     return {"changes": [_member(line) for line in relaxation.changes], "cost": _number(cost)}
 
 
-def _prices(lines) -> dict[str, dict[str, float | None]]:
-    """Per ingredient, the price range over which the formula stays the cheapest."""
-    return {
-        str(line.name): {"more_below": _number(line.more_below), "less_above": _number(line.less_above),
-                         "note": line.price_note or None}
-        for line in lines
-    }
+def _prices(lines, scope: str | None = None) -> dict[str, dict[str, float | None]]:
+    """Per ingredient, the price range over which the formula stays the cheapest; with
+    products, the `scope` of that range."""
+    prices = {}
+    for line in lines:
+        entry = {"more_below": _number(line.more_below), "less_above": _number(line.less_above),
+                 "note": line.price_note or None}
+        if scope is not None:
+            entry["scope"] = scope
+        prices[str(line.name)] = entry
+    return prices
 
 
 def _violations(formula: Formula) -> list[dict[str, Any]]:

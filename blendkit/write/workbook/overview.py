@@ -2,8 +2,11 @@
 
 One row per product: its status, cost, the cost at the previous run and the change (when
 the run was compared with an earlier output), how many of its limits bind, how many
-soft specs it misses, and a link to its block on the Result sheet. The caution heads
-the sheet, as on every sheet a reviewer opens first.
+soft specs it misses, and a link to its block on the Result sheet. Below, one row per
+ingredient: its one price for the whole run and the range over which the whole plan stays
+the cheapest with that price moving in every product at once (`Formula.shared_prices`),
+an end no price of 0 or more reaches said in words. The caution heads the sheet, as on
+every sheet a reviewer opens first.
 """
 
 from __future__ import annotations
@@ -16,10 +19,12 @@ from openpyxl.worksheet.worksheet import Worksheet
 from blendkit.model.formula import SOFT_SPECS_NOT_MET, Formula, ProductFormula, RunInfo
 from blendkit.model.units import cost_unit
 from blendkit.write.workbook import result
+from blendkit.write.price_words import shared_price_note
 from blendkit.write.workbook.cells import (
     BOLD,
     LINK,
     MONEY_FORMAT,
+    SECTION,
     STATUS_ALERT,
     TITLE_FONT,
     header,
@@ -56,8 +61,34 @@ def write(workbook: Workbook, formula: Formula, run: RunInfo, title: str) -> Non
     blocks = _result_blocks(workbook)
     for row, product in enumerate(formula.products, start=_HEADER_ROW + 1):
         _write_row(sheet, row, formula, product, blocks.get(product.name))
+    write_shared_prices(sheet, formula, _HEADER_ROW + len(formula.products) + 2)
     sheet.freeze_panes = sheet.cell(_HEADER_ROW + 1, 2)
     workbook.move_sheet(sheet, offset=-workbook.index(sheet))
+
+
+def write_shared_prices(sheet: Worksheet, formula: Formula, row: int) -> int:
+    """The one price per ingredient table from `row` (nothing without shared prices);
+    returns the first row after it."""
+    lines = formula.shared_prices
+    if not lines:
+        return row
+    unit = cost_unit(formula.blend.settings)
+    put(sheet, row, 1, "One price per ingredient, every product at once").font = SECTION
+    put(sheet, row + 1, 1, _SHARED_INTRO)
+    header(sheet, row + 2, ["Ingredient", f"Price ({unit})", "Used more if its price falls below",
+                            "Used less if its price rises above", "Note"])
+    for at, line in enumerate(lines, start=row + 3):
+        put(sheet, at, 1, line.name)
+        number(sheet.cell(at, 2), line.price, MONEY_FORMAT)
+        number(sheet.cell(at, 3), line.more_below, MONEY_FORMAT)
+        number(sheet.cell(at, 4), line.less_above, MONEY_FORMAT)
+        put(sheet, at, 5, shared_price_note(line) or None)
+    return row + 3 + len(lines)
+
+
+_SHARED_INTRO = ("The price range over which the whole run's plan stays the cheapest, the price "
+                 "moving in every product together, as a buyer pays it. The ranges on the "
+                 "Result sheet hold for a price change in that product alone.")
 
 
 def _write_row(sheet: Worksheet, row: int, formula: Formula, product: ProductFormula,

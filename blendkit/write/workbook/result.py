@@ -219,6 +219,7 @@ def _write_product(
         made=True,
         limits=product.limits,
         amount_cell=f"$B${row + 1}",
+        alone=formula.linked(product.name),
     )
     check = _write_cost(sheet, workbook, blend, block, row=row + 2, label="Cost",
                         cost=product.cost, unit=cost_unit(settings))

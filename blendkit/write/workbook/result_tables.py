@@ -18,7 +18,14 @@ from openpyxl.workbook.workbook import Workbook
 from openpyxl.worksheet.worksheet import Worksheet
 
 from blendkit.model.blend import MASS_UNITS_KG, Blend
-from blendkit.model.formula import Formula, IngredientLine, Limit, NutrientLine, basis_label
+from blendkit.model.formula import (
+    THIS_PRODUCT_ALONE,
+    Formula,
+    IngredientLine,
+    Limit,
+    NutrientLine,
+    basis_label,
+)
 from blendkit.model.units import cost_unit, food_unit, ingredient_word, stock_unit
 from blendkit.write.workbook.cells import (
     AMOUNT_FORMAT,
@@ -56,6 +63,7 @@ class Block:
     made: bool = False  # word the amount and cost columns for a product, not a batch
     limits: tuple[Limit, ...] = ()  # the blend's (product's) limits: which ingredients bind
     amount_cell: str = ""  # the cell holding `amount` ("$B$8"): live amounts multiply it
+    alone: bool = False  # a product linked to others: its price ranges are for its price alone
 
     @property
     def first_row(self) -> int:
@@ -127,6 +135,9 @@ def _ingredient_labels(blend: Blend, block: Block) -> list[str]:
             "Limit",
         ]
     unit_of_cost = cost_unit(settings)
+    # A linked product's ranges hold for a price change in it alone; the run's one price
+    # per ingredient is on the Overview sheet.
+    scope = f"{unit_of_cost}, {THIS_PRODUCT_ALONE}" if block.alone else unit_of_cost
     mass = settings.mass_unit
     if block.made:
         amount_label = f"Amount ({mass} in {plain(block.amount)} {mass} made)"
@@ -141,9 +152,9 @@ def _ingredient_labels(blend: Blend, block: Block) -> list[str]:
         cost_label,
         f"Price ({unit_of_cost})",
         f"Reduced cost ({unit_of_cost} per 1 % inclusion)",
-        f"Price at which it would come in ({unit_of_cost})",
-        f"Used more if its price falls below ({unit_of_cost})",
-        f"Used less if its price rises above ({unit_of_cost})",
+        f"Price at which it would come in ({scope})",
+        f"Used more if its price falls below ({scope})",
+        f"Used less if its price rises above ({scope})",
         "Limit",
     ]
 
