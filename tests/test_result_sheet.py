@@ -131,6 +131,11 @@ def test_ingredient_limits_that_bind_are_marked(outputs):
     assert sheet.cell(wheat, 10).value == "at max"
     maize = row_of(sheet, "Maize", below=header)
     assert sheet.cell(maize, 10).value is None
+    # The sample holds fish meal out (Use = no) and fixes the premix (Min = Max = 0.5 %).
+    fish = row_of(sheet, "Fish meal 65", below=header)
+    assert sheet.cell(fish, 10).value == "held at 0 (Use = no)"
+    premix = row_of(sheet, "Vitamin-mineral premix", below=header)
+    assert sheet.cell(premix, 10).value == "fixed (min = max)"
 
 
 # --- live checks, recalculated by LibreOffice --------------------------------------------

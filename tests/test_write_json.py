@@ -13,7 +13,8 @@ from tests import formulas
 
 KEYS = ["status", "message", "cost", "ingredients", "prices", "nutrients", "limits", "stocks", "violations", "notes", "cross_check"]
 LIMIT_KEYS = ["kind", "name", "product", "side", "bound", "level", "binding", "shadow_price", "shadow_price_up",
-              "shadow_price_down", "cell", "holds_from", "holds_to", "step", "per_step", "note"]
+              "shadow_price_down", "cell", "holds_from", "holds_to", "step", "per_step", "note",
+              "margin", "target"]
 
 
 def test_exact_shape_of_an_optimal_formula():
@@ -35,12 +36,14 @@ def test_exact_shape_of_an_optimal_formula():
         "holds_from": None, "holds_to": None, "shadow_price_up": None, "shadow_price_down": None,
         # The default step of a % content is 0.01 (blendkit.model.steps); 4.5 x 0.01.
         "step": 0.01, "per_step": pytest.approx(0.045), "note": None,
+        "margin": 0.0, "target": 17.12,  # no Margin: the formula is made to the bound itself
     }
     assert data["limits"][5] == {
         "kind": "ingredient", "name": "Rapeseed meal", "product": None, "side": "max", "bound": 18.0,
         "level": 18.0, "binding": True, "shadow_price": -1.25, "cell": "Ingredients!D4",
         "holds_from": None, "holds_to": None, "shadow_price_up": None, "shadow_price_down": None,
         "step": 0.1, "per_step": pytest.approx(-0.125), "note": None,  # an inclusion moves by 0.1 %
+        "margin": 0.0, "target": 18.0,
     }
     assert all(list(limit) == LIMIT_KEYS for limit in data["limits"])
     assert len(data["limits"]) == len(formula.limits)

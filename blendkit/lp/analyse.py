@@ -131,6 +131,15 @@ def _room(lp: BlendLP, result: LPResult, k: int, side, level, binding: bool, kno
     return (float(low) if np.isfinite(low) else None), (float(high) if np.isfinite(high) else None)
 
 
+def _written(value: float | None, shift: float, negative: bool) -> float | None:
+    """A target value as the spec value that gives it (the target less `shift`), never
+    below 0 for a level that cannot be negative."""
+    if value is None or not shift:
+        return value
+    written = value - shift
+    return written if negative or written >= 0 else 0.0
+
+
 def _price_range(lp: BlendLP, result: LPResult, p: int, j: int, scale: float) -> tuple[float | None, float | None]:
     """The price range of ingredient j in product p over which the formula holds, from
     the engine's cost ranging (None for an open end, or without ranging)."""
@@ -333,12 +342,14 @@ def _row_limits(solution: _Solution, p: int, levels: np.ndarray) -> list[Limit]:
             if binding and known:
                 up, down = row_rates(lp.form, result, i, side.side, side.bound, factor / solution.scale(p),
                                      price, len(row.sides) == 1)
+            shift = side.margin if side.side == "min" else -side.margin  # written = target - shift
             limits.append(Limit(
-                kind=row.kind, name=row.name, side=side.side, bound=side.bound,
+                kind=row.kind, name=row.name, side=side.side, bound=side.bound - shift,
                 level=float("nan") if level is None else float(level), binding=binding,
                 shadow_price=price, cell=side.cell, product=lp.products[p][0], basis=row.basis,
-                violation=violation, penalty=row.penalty, holds_from=holds_from, holds_to=holds_to,
-                shadow_price_up=up, shadow_price_down=down,
+                violation=violation, penalty=row.penalty, holds_from=_written(holds_from, shift, negative),
+                holds_to=_written(holds_to, shift, negative), shadow_price_up=up, shadow_price_down=down,
+                margin=side.margin,
             ))
     return limits
 
@@ -380,10 +391,7 @@ def _nutrient_lines(solution: _Solution, p: int, levels: np.ndarray) -> tuple[Nu
     for n, nutrient in enumerate(blend.nutrients):
         sides = [s for row in rows if row.kind == NUTRIENT and row.basis == AS_FED and row.nutrient == n
                  for s in row.sides]
-        low, high = _tightest(sides)
-        level = float(levels[n])
-        lines.append(NutrientLine(nutrient, blend.nutrient_units.get(nutrient, ""), low, high, level,
-                                  _position(level, low, high)))
+        lines.append(_line(nutrient, blend.nutrient_units.get(nutrient, ""), sides, float(levels[n])))
     special = [row for row in rows if row.kind == RATIO or (row.kind == NUTRIENT and row.basis != AS_FED)]
     seen = set()
     for row in special:
@@ -391,18 +399,32 @@ def _nutrient_lines(solution: _Solution, p: int, levels: np.ndarray) -> tuple[Nu
         if key in seen:
             continue
         seen.add(key)
-        low, high = _tightest([s for r in special if (r.kind, r.name, r.basis) == key for s in r.sides])
         level, _ = _row_level(lp, row, levels)
         unit = "" if row.kind == RATIO else blend.nutrient_units.get(row.name, "")
-        lines.append(NutrientLine(row.name, unit, low, high, None if level is None else float(level),
-                                  _position(level, low, high), row.kind, row.basis))
+        sides = [s for r in special if (r.kind, r.name, r.basis) == key for s in r.sides]
+        lines.append(_line(row.name, unit, sides, None if level is None else float(level), row.kind, row.basis))
     return tuple(lines)
 
 
-def _tightest(sides) -> tuple[float | None, float | None]:
-    """The highest min and the lowest max among bound sides (None where there is none)."""
-    low = max((s.bound for s in sides if s.side == "min"), default=None)
-    high = min((s.bound for s in sides if s.side == "max"), default=None)
+def _line(name: str, unit: str, sides, level: float | None, kind: str = NUTRIENT, basis: str = AS_FED) -> NutrientLine:
+    """One nutrient line: the tightest spec as written, the targets a margin makes (None
+    without one) and the level's position against what the formula is made to."""
+    low, high = _tightest(sides)
+    target_low = None if low is None else low.bound
+    target_high = None if high is None else high.bound
+    return NutrientLine(
+        name, unit, None if low is None else low.bound - low.margin, None if high is None else high.bound + high.margin,
+        level, _position(level, target_low, target_high), kind, basis,
+        target_minimum=target_low if low is not None and low.margin else None,
+        target_maximum=target_high if high is not None and high.margin else None,
+    )
+
+
+def _tightest(sides):
+    """The min side with the highest bound and the max side with the lowest (None where
+    there is none), bounds being what the formula is made to."""
+    low = max((s for s in sides if s.side == "min"), key=lambda s: s.bound, default=None)
+    high = min((s for s in sides if s.side == "max"), key=lambda s: s.bound, default=None)
     return low, high
 
 

@@ -6,7 +6,8 @@ product). With `per` = 1/100 in blend mode and 1 in diet mode, a nutrient's leve
 product p is level_n = per * sum_j x[p, j] * content[n, j], and the rows are:
 
     total      sum_j x[p, j] = 100                              (blend mode only)
-    nutrient   min <= level_n <= max                            (as fed)
+    nutrient   min <= level_n <= max                            (as fed; a spec's Margin
+               makes them min + margin and max - margin, here and below)
     dry matter per * sum_j x[p, j] * (content[n, j] - L * dm_j / 100) >= 0 (L = min)
                and <= 0 (L = max): level per unit of dry matter, made linear
     ratio      per * sum_j x[p, j] * (content[A, j] - r * content[B, j]) >= 0 (r = min)
@@ -45,11 +46,14 @@ STOCK = "stock"
 
 @dataclass(frozen=True)
 class Side:
-    """One bound the user wrote: "min" or "max", its value and the cell it came from."""
+    """One bound the user wrote: "min" or "max", the value the formula is made to and the
+    cell it came from; `margin` is how far inside the value as written that is (a spec's
+    Margin: the bound is min + margin, or max - margin)."""
 
     side: str
     bound: float
     cell: str
+    margin: float = 0.0
 
 
 @dataclass(frozen=True)
@@ -167,12 +171,14 @@ class _Rows:
     def add_spec(self, p: int, spec) -> None:
         """The rows of one spec in product p: as fed (one ranged row, maybe soft), or one
         linear row per side for a ratio or a dry-matter bound."""
-        sides = [Side(s, b, spec.cells.get(s)) for s, b in (("min", spec.minimum), ("max", spec.maximum)) if b is not None]
+        low, high = spec.target_minimum, spec.target_maximum
+        margin = spec.margin or 0.0
+        sides = [Side(s, b, spec.cells.get(s), margin) for s, b in (("min", low), ("max", high)) if b is not None]
         contents, per = self.contents, self.per
         if spec.ratio is None and spec.basis != DRY_MATTER:
             n = self.index[spec.nutrient]
-            low = -np.inf if spec.minimum is None else spec.minimum
-            high = np.inf if spec.maximum is None else spec.maximum
+            low = -np.inf if low is None else low
+            high = np.inf if high is None else high
             row = LPRow(NUTRIENT, spec.nutrient, p, tuple(sides), nutrient=n, penalty=spec.penalty)
             self.add_in_product(p, per * contents[n], low, high, row)
             return

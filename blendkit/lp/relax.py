@@ -233,7 +233,10 @@ def relaxed_blend(blend: Blend, changes: tuple[Change, ...]) -> Blend:
         if member.kind in (NUTRIENT, RATIO):
             for k, spec in enumerate(specs):
                 if spec.nutrient == member.name and spec.product == member.product and spec.cells.get(member.side) == member.cell:
-                    specs[k] = dataclasses.replace(spec, **{key: value})
+                    # `value` is the level the formula is made to: the spec is that less
+                    # its margin (a min) or plus it (a max).
+                    margin = (spec.margin or 0.0) * (1 if member.side == "min" else -1)
+                    specs[k] = dataclasses.replace(spec, **{key: value - margin})
         elif member.kind == GROUP:
             for k, group in enumerate(groups):
                 if group.name == member.name and group.cells.get(member.side) == member.cell:

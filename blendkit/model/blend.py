@@ -92,6 +92,17 @@ class Spec:
     penalty: float | None = None  # soft spec: cost per unit of violation (None = hard)
     priority: float | None = None  # which limits give way first when in conflict
     step: float | None = None  # the change of a bound the Result sheet prices (None = by unit)
+    margin: float | None = None  # the formula is made to min + margin and max - margin
+
+    @property
+    def target_minimum(self) -> float | None:
+        """The least level the formula is made to: the min plus the margin (if any)."""
+        return None if self.minimum is None else self.minimum + (self.margin or 0.0)
+
+    @property
+    def target_maximum(self) -> float | None:
+        """The most level the formula is made to: the max less the margin (if any)."""
+        return None if self.maximum is None else self.maximum - (self.margin or 0.0)
 
 
 @dataclass(frozen=True)

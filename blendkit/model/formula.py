@@ -67,7 +67,9 @@ class NutrientLine:
     "no spec" where the nutrient has no spec row. `kind` is "nutrient" or "ratio" (the
     level is then level(A) / level(B)); `basis` is "as fed" or "dry matter" (the level
     per unit of dry matter). Every nutrient column has an as-fed line; a dry-matter or
-    ratio spec adds a line of its own.
+    ratio spec adds a line of its own. `minimum` / `maximum` are the spec as written;
+    with a Margin the formula is made to `target_minimum` / `target_maximum` (min +
+    margin, max - margin; None: no margin on that side) and `position` is against them.
     """
 
     name: str
@@ -78,6 +80,13 @@ class NutrientLine:
     position: str
     kind: str = "nutrient"
     basis: str = "as fed"
+    target_minimum: float | None = None
+    target_maximum: float | None = None
+
+    @property
+    def has_margin(self) -> bool:
+        """True when a Margin moves either bound inward."""
+        return self.target_minimum is not None or self.target_maximum is not None
 
 
 @dataclass(frozen=True)
@@ -114,6 +123,14 @@ class Limit:
     # at a degenerate optimum (None: not known, as for ratio and dry-matter bounds).
     shadow_price_up: float | None = None
     shadow_price_down: float | None = None
+    # A spec's Margin: `bound` is the spec as written (as are `holds_from` / `holds_to`),
+    # and the formula is made to `target` (min + margin, max - margin).
+    margin: float = 0.0
+
+    @property
+    def target(self) -> float:
+        """The bound the formula is made to: the spec moved inward by its margin."""
+        return self.bound + self.margin if self.side == "min" else self.bound - self.margin
 
     @property
     def broken(self) -> bool:

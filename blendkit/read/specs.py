@@ -2,7 +2,7 @@
 a ratio of two nutrients.
 
 ``Nutrient``, ``Min``, ``Max`` are required columns; ``Basis``, ``Product``,
-``Penalty``, ``Priority`` and ``Step`` are optional; other columns are ignored (use them for
+``Penalty``, ``Priority``, ``Step`` and ``Margin`` are optional; other columns are ignored (use them for
 notes).
 ``Nutrient``    a nutrient column of Ingredients, compared like headers; a unit in
                 parentheses may be given and, if both it and the column have one,
@@ -32,6 +32,9 @@ notes).
 ``Step``        optional, above 0: the change of the bound the Result sheet prices
                 (shadow price x step); blank for the default by unit
                 (`blendkit.model.steps`).
+``Margin``      optional, 0 or more, in the spec's unit: a safety margin. The formula
+                is made to min + margin and max - margin (the target); min + margin
+                above max - margin is an error at the Margin cell.
 The same nutrient (or ratio) with the same basis and product at most once. A ratio whose
 divisor, or a dry-matter spec whose dry matter, is 0 in every ingredient that may be used is
 an error (see `blendkit.read.undefined_specs`).
@@ -65,6 +68,7 @@ _COLUMNS: Wanted = {
     "penalty": ("Penalty", "a soft spec's cost per unit of violation; blank for a hard spec", False),
     "priority": ("Priority", "which limits give way first when limits conflict", False),
     "step": ("Step", "the change of the bound the Result sheet prices; blank for the default", False),
+    "margin": ("Margin", "how far inside its min and max the formula is made to; blank for none", False),
 }
 
 # The Basis column's words, compared after _basis_key.
@@ -154,6 +158,7 @@ def _read_spec(
     penalty = read_number(row.get("penalty"), "penalty", problems)
     priority = read_priority(row.get("priority"), problems)
     step = _read_step(row, problems)
+    margin = _read_margin(row, minimum, maximum, problems)
     _check_penalty(row, penalty, target, basis, problems)
     if neither_bound(row) and text is not None:
         problems.append(Problem(name_cell.ref, (
@@ -181,13 +186,14 @@ def _read_spec(
         penalty=penalty,
         priority=priority,
         step=step,
+        margin=margin,
     )
 
 
 def _spec_cells(row: Row) -> dict[str, str]:
     """Where a spec was read: its Nutrient, Min and Max cells and those of its optional columns."""
     cells = {"nutrient": row["nutrient"].ref, "min": row["min"].ref, "max": row["max"].ref}
-    cells.update({key: row[key].ref for key in ("basis", "product", "penalty", "priority", "step")
+    cells.update({key: row[key].ref for key in ("basis", "product", "penalty", "priority", "step", "margin")
                   if key in row})
     return cells
 
@@ -238,6 +244,28 @@ def _read_step(row: Row, problems: list[Problem]) -> float | None:
         )))
         return None
     return step
+
+
+def _read_margin(row: Row, minimum: float | None, maximum: float | None, problems: list[Problem]) -> float | None:
+    """The Margin cell: blank, or a number of 0 or more that leaves min + margin at most
+    max - margin."""
+    margin = read_number(row.get("margin"), "margin", problems)
+    if margin is None:
+        return None
+    if margin < 0:
+        problems.append(Problem(row["margin"].ref, (
+            f"margin {margin:g} must be 0 or more: the formula is made to min + margin and "
+            "max - margin; type a margin of 0 or more, or leave it blank for none"
+        )))
+        return None
+    if minimum is not None and maximum is not None and minimum <= maximum and minimum + margin > maximum - margin:
+        problems.append(Problem(row["margin"].ref, (
+            f"margin {margin:g} crosses: min + margin is {minimum + margin:g}, above max - margin "
+            f"{maximum - margin:g}; make the margin at most {(maximum - minimum) / 2:g} "
+            "(half the gap between min and max), or widen the spec"
+        )))
+        return None
+    return margin
 
 
 def _check_penalty(

@@ -326,6 +326,11 @@ def _nutrients(blend: Blend, lines: tuple[NutrientLine, ...]) -> list[str]:
         )
     level = "Total" if blend.diet else "Level"
     headers = ["Nutrient", "Basis", "Unit", "Min", "Max", level, "Position"]
+    if any(line.has_margin for line in lines):  # a Margin: what the formula is made to
+        headers[5:5] = ["Target min", "Target max"]
+        for row, line in zip(rows, lines):
+            places = line_decimals(line)
+            row[5:5] = [_fixed(line.target_minimum, places), _fixed(line.target_maximum, places)]
     return _table(headers, rows, left=3, last_left=True)
 
 

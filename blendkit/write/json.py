@@ -289,6 +289,8 @@ def _limit(limit: Limit, blend: Blend, limits: tuple[Limit, ...]) -> dict[str, A
         "step": _number(step),
         "per_step": _number(limit.shadow_price * step),
         "note": limit_note(limit, limits) or None,
+        "margin": _number(limit.margin),
+        "target": _number(limit.target),
     }
 
 

@@ -81,11 +81,16 @@ class Block:
                  if limit.kind == "ingredient" and limit.name == name and limit.binding}
         return found.get("min"), found.get("max")
 
-    def limit_of(self, name: str) -> str:
-        """"at min" / "at max" where an inclusion limit of ingredient `name` binds, else ""."""
-        sides = [limit.side for limit in self.limits
-                 if limit.kind == "ingredient" and limit.name == name and limit.binding]
-        return " and ".join(f"at {side}" for side in sides)
+    def limit_of(self, line: IngredientLine) -> str:
+        """In words, the inclusion limit an ingredient sits at: "at min", "at max", "fixed
+        (min = max)", "held at 0 (Use = no)"; "" when none binds."""
+        if not line.used:
+            return "held at 0 (Use = no)"
+        sides = {limit.side for limit in self.limits
+                 if limit.kind == "ingredient" and limit.name == line.name and limit.binding}
+        if sides == {"min", "max"}:
+            return "fixed (min = max)"
+        return f"at {sides.pop()}" if sides else ""
 
     @property
     def inclusion_rows(self) -> dict[str, int]:
@@ -113,7 +118,7 @@ def _write_ingredients(sheet: Worksheet, blend: Blend, block: Block) -> None:
     for offset, line in enumerate(block.ingredients, start=1):
         row = block.header_row + offset
         _write_ingredient_row(sheet, row, blend, line, amount_format, block.bounds_of(line.name))
-        put(sheet, row, 10, block.limit_of(line.name) or None)
+        put(sheet, row, 10, block.limit_of(line) or None)
 
 
 def _ingredient_labels(blend: Blend, block: Block) -> list[str]:
@@ -278,11 +283,12 @@ def _write_nutrients(
     level from the input contents and the inclusions (amounts) on this sheet, and a check
     cell beside it; returns the check cells' range."""
     level = "Total" if blend.diet else "Level"
+    margins = any(line.has_margin for line in block.nutrients)
     header(
         sheet,
         header_row,
         ["Nutrient", "Basis", "Unit", "Min", "Max", level, "Position",
-         f"{level} from input contents", "Check"],
+         f"{level} from input contents", "Check", *(_TARGETS if margins else ())],
     )
     live_rows = write_level_checks(sheet, workbook, blend, block.ingredients, block.nutrients,
                                    header_row, block.inclusion_rows)
@@ -290,7 +296,14 @@ def _write_nutrients(
         row = header_row + offset
         _write_nutrient_row(sheet, row, line)
         write_derived_check(sheet, row, blend, line, live_rows)
+        if margins:  # what the formula is made to: min + margin, max - margin
+            number(sheet.cell(row, 10), line.target_minimum, nutrient_format(line))
+            number(sheet.cell(row, 11), line.target_maximum, nutrient_format(line))
     return write_spec_checks(sheet, header_row + 1, header_row + len(block.nutrients))
+
+
+# With a Margin on Specs: the bounds the formula is made to, beside the spec as written.
+_TARGETS = ("Target min (min + margin)", "Target max (max - margin)")
 
 
 def _write_nutrient_row(sheet: Worksheet, row: int, line: NutrientLine) -> None:

@@ -65,6 +65,8 @@ _UNIT_WIDTH = 60
 _TEXT_AFTER_NUMBERS = (8, 10, 11)
 # No column wider than this many characters, but the unit's.
 _WIDEST = 70
+# With a Margin on Specs: the margin and the target the formula is made to.
+_MARGIN_HEADERS = ("Margin", "Target (bound with margin)")
 # The header row; one row per limit follows.
 _HEADER_ROW = 3
 # The columns of words that wrap when longer than the widest column: per step, note.
@@ -76,12 +78,15 @@ def write(workbook: Workbook, formula: Formula, run: RunInfo, title: str) -> Non
     sheet = new_sheet(workbook, TITLE)
     put(sheet, 1, 1, _intro(formula))
     put(sheet, 2, 1, _STEP_INTRO)
-    header(sheet, _HEADER_ROW, _HEADERS)
+    margins = any(limit.margin for limit in formula.limits)
+    header(sheet, _HEADER_ROW, _HEADERS + (list(_MARGIN_HEADERS) if margins else []))
     places = nutrient_decimals(formula)
     for offset, limit in enumerate(ordered(formula.blend, formula.limits), start=1):
         row = _HEADER_ROW + offset
         _write_limit(sheet, row, limit, formula.blend, _bound_format(limit, places))
         _write_steps(sheet, row, limit, formula)
+        if margins:
+            _write_margin(sheet, row, limit, _bound_format(limit, places))
     if not formula.limits:
         if formula.solved:
             empty = "No limits to show: the workbook sets no specs or inclusion limits."
@@ -121,6 +126,14 @@ def _write_steps(sheet: Worksheet, row: int, limit: Limit, formula: Formula) -> 
         number(sheet.cell(row, 17), _no_negative_zero(lowered, 6), money)
     put(sheet, row, 18, per_step_text(blend, limit) or None)
     put(sheet, row, 19, limit_note(limit, formula.limits) or None)
+
+
+def _write_margin(sheet: Worksheet, row: int, limit: Limit, number_format: str) -> None:
+    """A spec's margin and the target the formula is made to (bound +/- margin)."""
+    if limit.kind not in ("nutrient", "ratio"):
+        return
+    number(sheet.cell(row, 20), limit.margin, number_format)
+    number(sheet.cell(row, 21), limit.target, number_format)
 
 
 def _size_columns(sheet: Worksheet) -> None:
