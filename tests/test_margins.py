@@ -130,3 +130,24 @@ def test_without_margins_the_solve_is_unchanged(tmp_path):
     assert all(limit["margin"] == 0 and limit["target"] == limit["bound"] for limit in none["limits"])
     sheet = load_workbook(tmp_path / "b.xlsx")["Shadow prices"]
     assert "Margin" not in [cell.value for cell in sheet[3]]
+
+
+def test_a_conflict_names_the_spec_as_written_and_the_value_to_write(tmp_path):
+    # An invented two-feed blend: no mix exceeds 20 % protein, so a min of 20 with a
+    # margin of 0.5 (target 20.5) cannot be met. The conflict line gives the Min cell's
+    # value (20) and what to write there (19.5: its target, 20, is what feed B alone
+    # reaches); HiGHS agrees that a target of 20 is feasible and one a little above is not.
+    from tests.workbooks import make_workbook
+
+    ingredients = [["Ingredient", "Cost (EUR/t)", "Crude protein (%)"], ["A", 100, 10], ["B", 300, 20]]
+    specs = [["Nutrient", "Min", "Max", "Margin"], ["Crude protein", 20, None, 0.5]]
+    source = make_workbook(tmp_path, ingredients, specs, name="short.xlsx")
+    doc = json.loads(_solve(source, "--json", "-o", str(tmp_path / "short.out.xlsx")).stdout)
+    assert doc["status"] == "infeasible"
+    protein = next(line for line in doc["conflicts"] if line["name"] == "Crude protein")
+    assert (protein["bound"], protein["cell"]) == (20, "Specs!B2")
+    assert protein["relax_to"] == pytest.approx(19.5)
+    for written, status in ((protein["relax_to"] + 0.5, 0), (protein["relax_to"] + 0.5 + 1e-6, 2)):
+        tight = make_workbook(tmp_path, ingredients, [["Nutrient", "Min", "Max"], ["Crude protein", written, None]],
+                              name=f"t{written}.xlsx")
+        assert formulate_with_highs(tight).result.status == status  # scipy: 0 optimal, 2 infeasible

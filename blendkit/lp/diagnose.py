@@ -230,7 +230,9 @@ def change_lines(diagnosis: Diagnosis) -> tuple[ConflictLine, ...]:
 
 
 def _line(number: int, member: Member, relax_to: float | None, fixes_alone: bool = False) -> ConflictLine:
-    """One report line for a member."""
+    """One report line for a member: its bound and the value it would have to move to as
+    written in its cell (a spec with a Margin: the target less or plus the margin)."""
     return ConflictLine(conflict=number, kind=member.kind, name=member.name, product=member.product,
-                        side=member.side, bound=member.bound, cell=member.cell, relax_to=relax_to,
+                        side=member.side, bound=member.written(member.bound), cell=member.cell,
+                        relax_to=member.written(relax_to),
                         text=member.describe(), fixes_alone=fixes_alone)

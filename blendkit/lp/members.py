@@ -46,6 +46,13 @@ class Member:
     index: int
     lp_side: str
     priority: float
+    margin: float = 0.0  # a spec's Margin: `bound` is the target, min + margin or max - margin
+
+    def written(self, value: float | None) -> float | None:
+        """A value of this member's bound (the target) as the spec value that gives it."""
+        if value is None or not self.margin:
+            return value
+        return value - self.margin if self.side == "min" else value + self.margin
 
     def describe(self) -> str:
         """The member in the workbook's words, e.g. "Specs!C5  Crude protein  min 24"."""
@@ -56,9 +63,11 @@ class Member:
         elif self.kind == "total":
             rule = "inclusions sum to 100 %"
         else:
-            rule = f"{self.side} {self.bound:g}"
+            rule = f"{self.side} {self.written(self.bound):g}"
             if self.basis == DRY_MATTER:
                 rule += " (dry matter)"
+            if self.margin:
+                rule += f" (margin {self.margin:g}: target {self.bound:g})"
         return f"{where}  {what}  {rule}".strip()
 
 
@@ -83,7 +92,7 @@ def members_of(blend: Blend, lp: BlendLP) -> list[Member]:
             lp_side = "lower" if side.side == "min" else "upper"
             priority = priorities.get((row.kind, row.name, product, side.cell), DEFAULT_PRIORITY[row.kind])
             members.append(Member(row.kind, row.name, product, side.side, side.bound, side.cell, row.basis,
-                                   "row", i, lp_side, priority))
+                                   "row", i, lp_side, priority, side.margin))
     J = lp.n_ingredients
     for p, (product, _) in enumerate(lp.products):
         for j, item in enumerate(blend.ingredients):
