@@ -7,7 +7,9 @@ The shape is fixed (keys in this order). One blend (or one diet)::
      "prices": {name: {"more_below": price | null, "less_above": price | null}},
      "nutrients": {name: level},
      "limits": [{"kind", "name", "product", "side", "bound", "level", "binding",
-                 "shadow_price", "cell", "holds_from", "holds_to"}],
+                 "shadow_price", "shadow_price_up", "shadow_price_down", "cell",
+                 "holds_from", "holds_to", "step", "per_step", "note", "margin",
+                 "target"}],
      "stocks": {ingredient: {"used", "available", "shadow_price"}},
      "violations": [{"kind", "name", "product", "side", "bound", "level", "cell",
                      "violation", "penalty"}],
@@ -15,6 +17,15 @@ The shape is fixed (keys in this order). One blend (or one diet)::
 
 A limit's `holds_from` / `holds_to` are the bound values between which its shadow price
 holds unchanged (null: no end, or not known, as for ratio and dry-matter bounds).
+`shadow_price` is d(cost)/d(bound); `shadow_price_up` / `shadow_price_down` are the rates
+just above and just below the bound (they differ at a degenerate optimum; null where not
+known). `step` is the change of the bound that fits its unit (the Specs sheet's Step, else
+`blendkit.model.steps`) and `per_step` the shadow price times it. `note` says what a buyer
+should know of a binding limit's price ("binding, no cost (degenerate)", rates that differ
+up and down), else null. `bound` is the spec as written; with a Margin on Specs the
+formula is made to `target` (bound + margin for a min, bound - margin for a max; `margin`
+is 0 and `target` the bound without one), and `holds_from` / `holds_to` are values of the
+bound as written.
 `prices` gives, per ingredient, the price range over which the formula stays the cheapest
 (cost ranging): below `more_below` it would be used more (or come in), above `less_above`
 it would be used less (or drop out); null where no price change that way alters it.
@@ -24,9 +35,16 @@ the shortfall or excess and the penalty per unit; it is empty when every limit i
 With a Products sheet::
 
     {"status": str, "message": str, "total_cost": float | null,
+     "prices": {name: {"more_below", "less_above", "note", "scope"}},
      "products": {name: {"cost", "ingredients", "prices", "nutrients", "limits"}},
      "stocks": {ingredient: {"used", "available", "shadow_price"}},
      "violations": [...], "notes": [str]}
+
+The top-level `prices` are the run's one price per ingredient: the range over which the
+whole plan stays the cheapest with the price moving in every product at once (`scope`
+"one price for every product"). A product's own `prices` carry `scope` "this product
+alone" when it is linked to other products by a stock (the range holds for a price change
+in it alone) and "this product" when it is a formula of its own.
 
 When the status is "infeasible" two more keys follow "notes"::
 
