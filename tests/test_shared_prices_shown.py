@@ -80,3 +80,33 @@ def test_linked_products_ranges_say_this_product_alone(plant):
     headers = [[cell.value for cell in row] for row in sheet.iter_rows() if row[0].value == "Ingredient" and row[1].value == "Inclusion (%)"]
     assert len(headers) == len(doc["products"])
     assert all(row[7] == "Used more if its price falls below (EUR per tonne, this product alone)" for row in headers)
+
+
+def test_products_no_stock_links_keep_their_own_ranges(tmp_path):
+    # Two invented products with no stock between them are separate LPs: each product's
+    # range is its own ("this product"), and the run's one price is the narrowest of the
+    # two (HiGHS re-solves of each product alone, with the one Cost cell moved, agree).
+    from tests.test_examples import formulate_with_highs
+    from tests.workbooks import INGREDIENTS, LIMITS, PRODUCTS, SPECS, make_workbook
+
+    # Layer mash may take at most 10 % wheat bran (a Limits row); the pullet grower is free.
+    sheets = {"Products": PRODUCTS, "Limits": [LIMITS[0], LIMITS[2]]}
+    source = make_workbook(tmp_path, INGREDIENTS, SPECS, sheets=sheets, name="two.xlsx")
+    run = CliRunner().invoke(app, ["solve", str(source), "--json", "--no-cross-check", "-o", str(tmp_path / "o.xlsx")])
+    doc = json.loads(run.stdout)
+    scopes = {entry["scope"] for product in doc["products"].values() for entry in product["prices"].values()}
+    assert scopes == {"this product"}
+    maize = [product["prices"]["Maize"] for product in doc["products"].values()]
+    assert maize[0] != maize[1]  # the two formulas differ
+    one = doc["prices"]["Maize"]
+    assert one["less_above"] == pytest.approx(min(entry["less_above"] for entry in maize))
+    assert one["more_below"] == pytest.approx(max(entry["more_below"] for entry in maize))
+    before = formulate_with_highs(source).result.x
+    for factor, changes in ((0.999, False), (1.001, True)):
+        book = openpyxl.load_workbook(source)
+        book["Ingredients"]["B2"] = one["less_above"] * factor  # Maize's Cost cell
+        moved = tmp_path / f"moved{factor}.xlsx"
+        book.save(moved)
+        after = formulate_with_highs(moved).result.x
+        # Just inside the one-price end no product changes; just outside, one does.
+        assert (abs(after - before).max() > 1e-6) == changes
