@@ -122,6 +122,30 @@ class Limit:
 
 
 @dataclass(frozen=True)
+class Practical:
+    """What the rules a mill can weigh (Min if used, Pack size, Scale step, Max
+    ingredients) cost in one product (`blendkit.lp.practical`).
+
+    `lp_cost` is the product's cost in the LP without those rules and `cost` its cost
+    under them (per `Cost per` unit; None when no formula meets them). `status` is the
+    search's: "optimal", "time_limit" (the best formula found within the time limit,
+    `gap` its proven relative gap to the cheapest possible), "infeasible" or another
+    engine status. `nodes` counts the search's nodes (one search for the products solved
+    together). `binding` says in words which rules bind; `blocking`, when the rules leave
+    no formula though the LP has one, names the rule families whose removal alone
+    restores one.
+    """
+
+    status: str
+    lp_cost: float | None
+    cost: float | None
+    gap: float | None
+    nodes: int
+    binding: tuple[str, ...] = ()
+    blocking: tuple[str, ...] = ()
+
+
+@dataclass(frozen=True)
 class ProductFormula:
     """One product's formula: its cost per `Cost per` unit, lines and limits.
 
@@ -139,6 +163,7 @@ class ProductFormula:
     limits: tuple[Limit, ...]
     status: str = OPTIMAL
     message: str = ""
+    practical: Practical | None = None  # under the rules a mill can weigh (None: no such rules)
 
     @property
     def solved(self) -> bool:
