@@ -144,6 +144,38 @@ class Practical:
     binding: tuple[str, ...] = ()
     blocking: tuple[str, ...] = ()
 
+    def lines(self, unit: str = "") -> tuple[str, ...]:
+        """The record in words, one line each, as the console and the Result sheet show it:
+        the costs with and without the rules, how the search ended, the rules that bind."""
+        unit = f" {unit}" if unit else ""
+        head = f"{WEIGHING_RULES}: LP cost {_money(self.lp_cost)}{unit}"
+        if self.cost is not None and self.lp_cost is not None:
+            rise = self.cost - self.lp_cost
+            share = f", {100 * rise / abs(self.lp_cost):+.2f} %" if self.lp_cost else ""
+            head += f", cost under the rules {_money(self.cost)}{unit} ({rise:+,.2f}{share})"
+        ends = {"optimal": f"proven cheapest ({self.nodes} nodes)",
+                "time_limit": f"best found within the time limit, proven gap {_percent(self.gap)} ({self.nodes} nodes)",
+                "infeasible": "no formula meets the rules"}
+        lines = [f"{head}; {ends.get(self.status, self.status)}"]
+        lines += [f"  {line}" for line in self.binding]
+        if self.blocking:
+            lines.append("  a formula exists without: " + ", ".join(self.blocking))
+        return tuple(lines)
+
+
+# The heading of the rules a mill can weigh, wherever they are shown.
+WEIGHING_RULES = "Weighing rules"
+
+
+def _money(value: float | None) -> str:
+    """A cost for the weighing lines ("-" for none)."""
+    return "-" if value is None else f"{value:,.2f}"
+
+
+def _percent(gap: float | None) -> str:
+    """A relative gap as a percentage ("-" for none)."""
+    return "-" if gap is None or gap != gap or gap == float("inf") else f"{100 * gap:.3g} %"
+
 
 @dataclass(frozen=True)
 class ProductFormula:
