@@ -74,3 +74,19 @@ def read_count(cell: Cell | None, what: str, problems: list[Problem]) -> int | N
         )))
         return None
     return int(value)
+
+
+def check_diet_maxima(reading) -> None:
+    """A diet under Max ingredients needs a Max on every food it may use: a food's Max is
+    the size its 0/1 choice switches on (`blendkit.lp.weigh`); a food without one is
+    reported on its Max cell (or its name when there is no Max column)."""
+    settings = reading.settings
+    if settings.mode != "diet" or settings.max_ingredients is None:
+        return
+    where = settings.cells.get("max ingredients", "Settings")
+    for item in reading.ingredients:
+        if item.use and item.maximum is None:
+            reading.problems["Ingredients"].append(Problem(item.cells.get("max", item.cells["name"]), (
+                f"{item.name} has no max, and the Max ingredients setting in {where} needs one for every food "
+                "a diet may use (the most of it that makes sense); give it a max, or set Use to no"
+            )))
