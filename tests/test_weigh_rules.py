@@ -361,3 +361,54 @@ def test_json_practical_keys(tmp_path):
     doc = formula_to_dict(formulate(read_workbook(path), check=False))
     assert list(doc["practical"]) == ["lp_cost", "cost", "gap", "nodes", "status", "binding", "blocking"]
     assert doc["practical"]["cost"] == doc["cost"] and doc["practical"]["lp_cost"] < doc["cost"]
+
+
+# --- The time limit ---------------------------------------------------------------------
+
+
+def test_stopped_search_keeps_the_best_formula_and_its_proven_gap(tmp_path, monkeypatch):
+    # A node limit stands in for the clock (no timed assertion): 100 nodes is past the
+    # first formula found on this problem and short of the proof (129 nodes).
+    import blendkit.lp.practical as practical
+
+    solve = practical.solve_mip_form
+    monkeypatch.setattr(practical, "solve_mip_form", lambda *a, **k: solve(*a, **{**k, "node_limit": 100}))
+    path = sample_with(tmp_path, "broiler_starter", settings={"Scale step": 0.5, "Max ingredients": 12})
+    formula = formulate(read_workbook(path), check=False)
+    record = formula.products[0].practical
+    assert record.status == "time_limit" and formula.cost is not None
+    assert "time limit" in formula.message and "proven gap" in formula.message
+    _, optimum = highs_optimum(path, step=0.5, most={0: 12})
+    # reference: scipy.optimize.milp; the proven gap bounds how far the formula is from it
+    assert record.cost >= optimum * (1 - MIP_RTOL)
+    assert (record.cost - optimum) / record.cost <= record.gap + MIP_RTOL
+
+
+def test_no_formula_before_the_time_limit_exits_as_an_engine_stop(tmp_path):
+    path = sample_with(tmp_path, "broiler_starter", settings={"Scale step": 0.5, "Time limit": 1e-9})
+    result = runner.invoke(app, ["solve", str(path), "-o", str(tmp_path / "out.xlsx"), "--json"])
+    assert result.exit_code == 4  # the engine stopped without an answer
+    doc = json.loads(result.stdout)
+    assert doc["status"] == "time_limit" and doc["practical"]["cost"] is None
+    assert "raise the Time limit setting" in doc["message"]
+
+
+def test_frames_read_the_rule_columns_and_settings():
+    import pandas as pd
+
+    from blendkit.model.blend import Blend
+    from blendkit.model.weighing import max_ingredients, weigh_rule
+
+    ingredients = pd.DataFrame({"Ingredient": ["Maize", "Soybean meal", "Premix"], "Cost": [200, 400, 2000],
+                                "Pack size": [None, None, 25], "Min if used": [None, 5, None],
+                                "Crude protein": [9, 45, 0]})
+    blend = Blend.from_frames(ingredients, pd.DataFrame({"Nutrient": ["Crude protein"], "Min": [18], "Max": [None]}),
+                              settings={"Max ingredients": 3, "Scale step": 0.5})
+    assert weigh_rule(blend, blend.ingredient("Premix")).pack_size == 25
+    assert weigh_rule(blend, blend.ingredient("Soybean meal")).min_if_used == 5
+    assert weigh_rule(blend, blend.ingredient("Maize")).scale_step == 0.5
+    assert max_ingredients(blend) == 3
+    above = r'ingredients\[row 1, column "Min if used"\]: min if used 5 is above max 4 in ingredients\[row 1, column "Max"\]'
+    with pytest.raises(WorkbookError, match=above):
+        Blend.from_frames(ingredients.assign(**{"Min if used": [None, 5, None], "Max": [None, 4, None]}),
+                          pd.DataFrame({"Nutrient": ["Crude protein"], "Min": [18], "Max": [None]}))

@@ -66,7 +66,8 @@ def _formula(blend: Blend, lp: BlendLP, lp_result: LPResult, mip: WeighMIP, resu
     notes = (*_status_notes(result), FIXED_NOTE, *formula.notes)
     message = formula.message
     if result.status == TIME_LIMIT:
-        message = f"{message} within the time limit of {time_limit(blend):g} s (proven gap {result.gap:.3g})"
+        message = (f"the time limit of {time_limit(blend):g} s ran out: the best formula found is shown, with a "
+                   f"proven gap of {result.gap:.3g} to the cheapest possible")
     return dataclasses.replace(formula, products=products, notes=notes, message=message)
 
 

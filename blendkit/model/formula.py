@@ -154,7 +154,8 @@ class Practical:
             share = f", {100 * rise / abs(self.lp_cost):+.2f} %" if self.lp_cost else ""
             head += f", cost under the rules {_money(self.cost)}{unit} ({rise:+,.2f}{share})"
         ends = {"optimal": f"proven cheapest ({self.nodes} nodes)",
-                "time_limit": f"best found within the time limit, proven gap {_percent(self.gap)} ({self.nodes} nodes)",
+                "time_limit": (f"best found within the time limit, proven gap {_percent(self.gap)} ({self.nodes} nodes)"
+                               if self.cost is not None else "the time limit ran out before any formula was found"),
                 "infeasible": "no formula meets the rules"}
         lines = [f"{head}; {ends.get(self.status, self.status)}"]
         lines += [f"  {line}" for line in self.binding]
