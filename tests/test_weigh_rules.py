@@ -412,3 +412,10 @@ def test_frames_read_the_rule_columns_and_settings():
     with pytest.raises(WorkbookError, match=above):
         Blend.from_frames(ingredients.assign(**{"Min if used": [None, 5, None], "Max": [None, 4, None]}),
                           pd.DataFrame({"Nutrient": ["Crude protein"], "Min": [18], "Max": [None]}))
+
+
+def test_sweep_refuses_a_workbook_with_rules_it_cannot_apply(tmp_path):
+    path = sample_with(tmp_path, "broiler_starter", settings={"Scale step": 0.5})
+    result = runner.invoke(app, ["sweep", str(path), "--ingredient", "Maize"])
+    assert result.exit_code == 2
+    assert "cannot apply the weighing rules" in result.output

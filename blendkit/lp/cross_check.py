@@ -96,11 +96,13 @@ def cross_check_mip(form: StandardForm, integrality: np.ndarray, semicontinuous:
     below our proven bound."""
     from scipy.optimize import Bounds, LinearConstraint, milp
 
-    semi = (semicontinuous > 0) & (form.col_lower <= 0)  # a column with a Min > 0 is always used
-    lower = np.where(semicontinuous > 0, np.maximum(form.col_lower, semicontinuous), form.col_lower)
+    never = (semicontinuous > 0) & (semicontinuous > form.col_upper)  # a threshold above the Max: only 0
+    semi = (semicontinuous > 0) & (form.col_lower <= 0) & ~never  # a column with a Min > 0 is always used
+    lower = np.where((semicontinuous > 0) & ~never, np.maximum(form.col_lower, semicontinuous), form.col_lower)
+    upper = np.where(never, 0.0, form.col_upper)
     try:
         theirs = milp(form.c, constraints=LinearConstraint(form.A, form.row_lower, form.row_upper),
-                      bounds=Bounds(lower, form.col_upper), integrality=np.where(semi, 2, integrality),
+                      bounds=Bounds(lower, upper), integrality=np.where(semi, 2, integrality),
                       options={"time_limit": time_limit})
     except ValueError as error:
         return CrossCheck(MIP_SOLVER, f"refused: {error}", None, None, agrees=False)
