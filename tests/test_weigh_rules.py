@@ -146,10 +146,12 @@ BROILER_THRESHOLDS = {"Wheat": 5, "Full-fat soybean, extruded": 3, "Sunflower me
 def test_min_if_used_matches_highs(tmp_path):
     path = sample_with(tmp_path, "broiler_starter", columns={"Min if used (%)": BROILER_THRESHOLDS})
     formula = assert_same_optimum(path, min_if_used={(0, k): v for k, v in BROILER_THRESHOLDS.items()})
+    practical = formula.products[0].practical
     for line in formula.ingredients:
         s = BROILER_THRESHOLDS.get(line.name)
         assert s is None or line.inclusion == 0 or line.inclusion >= s * (1 - 1e-9)
-    practical = formula.products[0].practical
+        at_threshold = s is not None and line.inclusion == pytest.approx(s, rel=1e-7)
+        assert at_threshold == any(b.startswith(f"{line.name} at its Min if used") for b in practical.binding)
     assert practical.cost >= practical.lp_cost - 1e-9  # a rule never makes a blend cheaper
 
 
@@ -240,6 +242,36 @@ def test_premix_in_whole_25_kg_bags_by_hand(tmp_path):
     practical = formula.products[0].practical
     assert practical.lp_cost == pytest.approx(261.10, rel=1e-9)  # by hand
     assert practical.status == "optimal" and practical.gap <= MIP_RTOL
+
+
+LYSINE_INGREDIENTS = [
+    ["Ingredient", "Cost", "Min if used", "Crude protein", "Lysine"],
+    ["Maize", 200, None, 9, 0.25],
+    ["Soybean meal", 400, None, 45, 2.8],
+    ["L-lysine HCl", 3000, 2, 95, 78],
+]
+LYSINE_SPECS = [["Nutrient", "Min", "Max"], ["Crude protein", 16, None], ["Lysine", 1.1, None]]
+
+
+def test_an_ingredient_held_out_by_its_min_if_used_by_hand(tmp_path):
+    # By hand (figures invented for the example). The LP: maize a, soybean meal b, lysine L
+    # with a + b + L = 100 and both specs at their minimum: 36 b + 86 L = 700 and
+    # 2.55 b + 77.75 L = 85, so L = (85 - 2.55 x 700 / 36) / (77.75 - 2.55 x 86 / 36).
+    lysine = (85 - 2.55 * 700 / 36) / (77.75 - 2.55 * 86 / 36)
+    soy = (700 - 86 * lysine) / 36
+    lp_cost = (200 * (100 - soy - lysine) + 400 * soy + 3000 * lysine) / 100
+    # Under "0 or at least 2 %": at 2 % lysine, protein needs b >= 14.67 and the cost is
+    # 225.33 + 3000 x 2 / 100 = 285.33; without it, lysine needs b = 100 / 3 (25 + 2.55 b =
+    # 110) and the cost is (200 x 200 / 3 + 400 x 100 / 3) / 100 = 800 / 3 = 266.67: held out.
+    path = make_workbook(tmp_path, LYSINE_INGREDIENTS, LYSINE_SPECS)
+    formula = formulate(read_workbook(path), check=False)
+    practical = formula.products[0].practical
+    assert practical.lp_cost == pytest.approx(lp_cost, rel=1e-9)  # by hand
+    assert formula.cost == pytest.approx(800 / 3, rel=1e-9)  # by hand
+    assert {line.name: line.inclusion for line in formula.ingredients}["L-lysine HCl"] == 0
+    assert practical.binding == (
+        f"L-lysine HCl held out by its Min if used 2 (Ingredients!C4); the LP used {lysine:.4g}",
+    )
 
 
 # --- When the rules leave no formula ----------------------------------------------------
