@@ -451,3 +451,16 @@ def test_sweep_refuses_a_workbook_with_rules_it_cannot_apply(tmp_path):
     result = runner.invoke(app, ["sweep", str(path), "--ingredient", "Maize"])
     assert result.exit_code == 2
     assert "cannot apply the weighing rules" in result.output
+
+
+def test_output_workbook_says_what_the_rules_cost_and_how_prices_hold(tmp_path):
+    path = sample_with(tmp_path, "broiler_starter", settings={"Scale step": 0.5})
+    out = tmp_path / "out.xlsx"
+    result = runner.invoke(app, ["solve", str(path), "-o", str(out), "--no-cross-check"])
+    assert result.exit_code == 0 and "Weighing rules: LP cost" in result.output
+    book = openpyxl.load_workbook(out)
+    text = [value for row in book["Result"].iter_rows(values_only=True) for value in row if isinstance(value, str)]
+    assert "Weighing rules" in text
+    assert any(value.startswith("Weighing rules: LP cost") and "proven cheapest" in value for value in text)
+    assert "with the whole-number choices fixed" in book["Shadow prices"]["A1"].value
+    assert any("formulations must be checked" in value.lower() for value in text)  # the caution stays
