@@ -464,3 +464,23 @@ def test_output_workbook_says_what_the_rules_cost_and_how_prices_hold(tmp_path):
     assert any(value.startswith("Weighing rules: LP cost") and "proven cheapest" in value for value in text)
     assert "with the whole-number choices fixed" in book["Shadow prices"]["A1"].value
     assert any("formulations must be checked" in value.lower() for value in text)  # the caution stays
+
+
+def test_export_mps_writes_the_integer_program_that_highs_solves_to_our_optimum(tmp_path):
+    from tests.mps_reference import _highs
+
+    packs = {"L-lysine HCl": 5, "DL-methionine": 5, "L-threonine": 2.5, "Monocalcium phosphate": 25}
+    path = sample_with(tmp_path, "broiler_starter", settings={"Max ingredients": 12},
+                       columns={"Min if used (%)": BROILER_THRESHOLDS, "Pack size (kg)": packs})
+    mps_file = tmp_path / "broiler.mps"
+    result = runner.invoke(app, ["solve", str(path), "-o", str(tmp_path / "out.xlsx"), "--json",
+                                 "--export-mps", str(mps_file), "--no-cross-check"])
+    assert result.exit_code == 0
+    doc = json.loads(result.stdout)
+    ours = doc["cost"]
+    assert ours > doc["practical"]["lp_cost"] * (1 + MIP_RTOL)  # the rules cost something: the file holds them
+    highs = _highs(mps_file)  # reference: HiGHS reading the MPS file (integer markers) and solving the MIP
+    highs.setOptionValue("mip_rel_gap", 1e-7)
+    highs.run()
+    assert highs.getInfo().objective_function_value == pytest.approx(ours, rel=MIP_RTOL)
+    assert int(np.sum(np.asarray(highs.getLp().integrality_) != 0)) > 0

@@ -201,3 +201,28 @@ def _assemble(lp: BlendLP, extra: _Extra, semi, wholes, indicators, limits, fami
         wholes=tuple(wholes), indicators=tuple(indicators), limits=tuple(limits), thresholds=semi,
         families=frozenset(families),
     )
+
+
+def with_binaries(mip: WeighMIP) -> tuple[StandardForm, np.ndarray, list[int]]:
+    """The MIP with each Min if used written as a 0/1 y: s y <= x_k <= M y (M the
+    column's finite upper bound), for files that know no semi-continuous columns (MPS).
+    Returns the form, its integrality and the LP column of each y added, in order."""
+    form = mip.form
+    m, n = form.A.shape
+    columns = [k for k in np.flatnonzero(mip.thresholds > 0)
+               if form.col_lower[k] <= 0 and np.isfinite(form.col_upper[k])]
+    size = len(columns)
+    A = np.zeros((m + 2 * size, n + size))
+    A[:m, :n] = form.A
+    for i, k in enumerate(columns):
+        A[m + 2 * i, [k, n + i]] = 1.0, -mip.thresholds[k]  # x - s y >= 0
+        A[m + 2 * i + 1, [k, n + i]] = 1.0, -form.col_upper[k]  # x - M y <= 0
+    widened = StandardForm(
+        c=np.concatenate([form.c, np.zeros(size)]),
+        A=A,
+        row_lower=np.concatenate([form.row_lower, np.tile([0.0, -np.inf], size)]),
+        row_upper=np.concatenate([form.row_upper, np.tile([np.inf, 0.0], size)]),
+        col_lower=np.concatenate([form.col_lower, np.zeros(size)]),
+        col_upper=np.concatenate([form.col_upper, np.ones(size)]),
+    )
+    return widened, np.concatenate([mip.integrality, np.ones(size)]), [int(k) for k in columns]
