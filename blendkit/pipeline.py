@@ -20,14 +20,16 @@ from blendkit.compare import compare_with_earlier
 from blendkit.lp.analyse import analyse
 from blendkit.lp.build import build_lp
 from blendkit.lp.combine import combine
-from blendkit.lp.cross_check import cross_check
+from blendkit.lp.cross_check import cross_check, cross_check_mip
 from blendkit.lp.cross_check import warning as cross_check_warning
+from blendkit.lp.practical import practical_formula, time_limit
 from blendkit.lp.diagnose import change_lines, conflict_lines, diagnose
 from blendkit.lp.split import part_blend, parts, unapplied_stocks
 from blendkit.engine import solve_form
 from blendkit.errors import OutputError
 from blendkit.model.formula import Formula, Relaxation, RunInfo
 from blendkit.model.blend import Blend
+from blendkit.model.weighing import has_weigh_rules
 from blendkit.model.prices import PriceList, apply_price_list
 from blendkit.read.package import ReadLimits
 from blendkit.read.values import name_key
@@ -90,6 +92,8 @@ def formulate_lp(blend: Blend, *, explain: bool = True, check: bool = True) -> F
     (with `check`) the same LP re-solved with HiGHS as a cross-check."""
     lp = build_lp(blend)
     result = solve_form(lp.form, ranging=True)
+    if has_weigh_rules(blend) and result.status == "optimal":
+        return formulate_weighed(blend, lp, result, check=check)
     formula = analyse(blend, lp, result)
     if check:
         formula = _with_cross_check(formula, cross_check(lp.form, result), result)
@@ -107,6 +111,17 @@ def formulate_lp(blend: Blend, *, explain: bool = True, check: bool = True) -> F
         conflicts_complete=diagnosis.complete,
         relaxation=Relaxation(change_lines(diagnosis), relaxed) if diagnosis.changes else None,
     )
+
+
+def formulate_weighed(blend: Blend, lp, lp_result, *, check: bool = True) -> Formula:
+    """The formula under the rules a mill can weigh (`blendkit.lp.practical`), for a blend
+    whose LP `lp` is solved optimally as `lp_result`; with `check`, the integer program
+    re-solved with HiGHS's MIP solver as a cross-check."""
+    formula, mip, result = practical_formula(blend, lp, lp_result)
+    if not check or mip is None:
+        return formula
+    return _with_cross_check(formula, cross_check_mip(mip.form, mip.integrality, mip.semicontinuous, result,
+                                                      time_limit(blend)), result)
 
 
 def _with_cross_check(formula: Formula, check, result) -> Formula:

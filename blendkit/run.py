@@ -75,6 +75,7 @@ def sweep_run(
     Returns the Sweep and the output path; raises WorkbookError, OutputError, or
     UsageError for a name the workbook lacks or a range that is not a range."""
     from blendkit.lp.sweep import sweep_bound, sweep_price
+    from blendkit.model.weighing import has_weigh_rules
     from blendkit.pipeline import check_outputs, read_workbook
     from blendkit.write.sweep_book import write_sweep_book
 
@@ -83,6 +84,10 @@ def sweep_run(
     blend = read_workbook(book, data=data)
     target = Path(output) if output is not None else book.with_name(f"{_stem(book)}.sweep.xlsx")
     check_outputs(book, target)
+    if has_weigh_rules(blend):
+        raise UsageError("a sweep follows the LP from breakpoint to breakpoint and cannot apply the weighing rules "
+                         "(Min if used, Pack size, Scale step, Max ingredients) this workbook has; solve it with "
+                         "different prices instead, or sweep a copy without those rules")
     if (ingredient is None) == (spec is None):
         raise UsageError("name one thing to sweep: --ingredient NAME or --spec \"NUTRIENT min|max\"")
     if product is not None and product not in [p.name for p in blend.products]:

@@ -663,3 +663,20 @@ def test_highs_solves_our_files_to_our_optimum(tmp_path, model):
     assert ours.status == status, ours.message
     if status == "optimal":
         assert model.objective(ours.x) == pytest.approx(objective, rel=1e-9, abs=1e-9)
+
+
+def test_export_mps_of_a_workbook_with_a_soft_spec(tmp_path):
+    # A soft spec adds an elastic column per side; the file names it and HiGHS, reading
+    # the file, finds our optimum, penalty included (reference: HiGHS via highspy).
+    from blendkit.lp.build import build_lp
+    from blendkit.read import read_workbook
+    from blendkit.write.mps import export_mps
+    from tests.workbooks import INGREDIENTS, make_workbook
+
+    path = make_workbook(tmp_path, INGREDIENTS, [["Nutrient", "Min", "Max", "Penalty"], ["Crude protein", 16.5, None, 5]])
+    blend = read_workbook(path)
+    export_mps(blend, tmp_path / "soft.mps")
+    status, optimum = highs_optimum(tmp_path / "soft.mps")
+    assert status == "optimal"
+    assert optimum == pytest.approx(solve_form(build_lp(blend).form).objective, rel=1e-9)  # cost + penalty
+    assert any(name.startswith("min_short") for name in highs_read(tmp_path / "soft.mps").column_names)

@@ -43,8 +43,10 @@ def test_sheets_headers_and_look(template: Path):
     assert headers["Ingredients"][:7] == ["Ingredient", "Cost (per t)", "Min (%)", "Max (%)", "Use", "Unit", "Stock (kg)"]
     assert headers["Specs"] == ["Nutrient", "Basis", "Min", "Max", "Product", "Penalty", "Priority"]
     assert headers["Groups"] == ["Group", "Ingredients", "Min (%)", "Max (%)", "Product", "Priority"]
-    assert headers["Products"] == ["Product", "Amount (kg)"]
-    assert headers["Limits"] == ["Product", "Ingredient", "Min (%)", "Max (%)", "Priority"]
+    assert headers["Ingredients"][7:10] == ["Min if used (%)", "Pack size (kg)", "Scale step (kg)"]
+    assert headers["Products"] == ["Product", "Amount (kg)", "Max ingredients"]
+    assert headers["Limits"] == ["Product", "Ingredient", "Min (%)", "Max (%)", "Priority", "Min if used (%)",
+                                 "Pack size (kg)"]
     assert headers["Settings"] == ["Setting", "Value"]
     for sheet in book:
         assert sheet.freeze_panes in ("A2", "B2"), sheet.title
@@ -81,7 +83,8 @@ def test_read_me_explains_every_sheet_and_column_and_the_caution(template: Path)
         assert f"{sheet} sheet" in text, sheet
     for word in ("Ingredient", "Cost", "Min", "Max", "Use", "Unit", "Stock", "Basis", "A / B",
                  "commas or semicolons", "Amount", "Mode", "Batch size", "Mass unit", "Cost per",
-                 "Currency", "Dry matter", "diet", "Penalty", "Priority"):  # fmt: skip
+                 "Currency", "Dry matter", "diet", "Penalty", "Priority", "Min if used", "Pack size",
+                 "Scale step", "Max ingredients", "Hand-add below", "Time limit"):  # fmt: skip
         assert word in text, word
     assert CAUTION in text
     notes = [row[0] for row in load_workbook(template)["Notes"].values]

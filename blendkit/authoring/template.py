@@ -51,12 +51,12 @@ EXAMPLE_ROW = "(example row)"
 # (not from any table; replace them with your own prices and analyses).
 INGREDIENT_HEADER = (
     "Ingredient", "Cost (per t)", "Min (%)", "Max (%)", "Use", "Unit", "Stock (kg)",
-    "Dry matter (%)", "Crude protein (%)", "Calcium (%)", "Phosphorus (%)",
+    "Min if used (%)", "Pack size (kg)", "Scale step (kg)", "Dry matter (%)", "Crude protein (%)", "Calcium (%)", "Phosphorus (%)",
 )  # fmt: skip
 INGREDIENT_ROWS = (
-    (f"Grain {EXAMPLE_ROW}", 200, None, None, "yes", None, None, 88, 9.0, 0.03, 0.28),
-    (f"Protein meal {EXAMPLE_ROW}", 420, None, 35, "yes", None, None, 89, 45.0, 0.30, 0.65),
-    (f"Limestone {EXAMPLE_ROW}", 50, None, None, "yes", None, None, 99, 0.0, 38.0, 0.0),
+    (f"Grain {EXAMPLE_ROW}", 200, None, None, "yes", None, None, None, None, None, 88, 9.0, 0.03, 0.28),
+    (f"Protein meal {EXAMPLE_ROW}", 420, None, 35, "yes", None, None, None, None, None, 89, 45.0, 0.30, 0.65),
+    (f"Limestone {EXAMPLE_ROW}", 50, None, None, "yes", None, None, None, None, None, 99, 0.0, 38.0, 0.0),
 )
 SPEC_HEADER = ("Nutrient", "Basis", "Min", "Max", "Product", "Penalty", "Priority")
 SPEC_ROWS = (
@@ -67,8 +67,8 @@ SPEC_ROWS = (
 GROUP_HEADER = ("Group", "Ingredients", "Min (%)", "Max (%)", "Product", "Priority")
 GROUP_ROWS = ((f"Grain and meal {EXAMPLE_ROW}", f"Grain {EXAMPLE_ROW}, Protein meal {EXAMPLE_ROW}", 90, None, None,
                None),)
-PRODUCT_HEADER = ("Product", "Amount (kg)")
-LIMIT_HEADER = ("Product", "Ingredient", "Min (%)", "Max (%)", "Priority")
+PRODUCT_HEADER = ("Product", "Amount (kg)", "Max ingredients")
+LIMIT_HEADER = ("Product", "Ingredient", "Min (%)", "Max (%)", "Priority", "Min if used (%)", "Pack size (kg)")
 SETTING_ROWS = (
     ("Name", "New blend"),
     ("Mode", "blend"),
@@ -77,6 +77,10 @@ SETTING_ROWS = (
     ("Cost per", "tonne"),
     ("Currency", None),
     ("Dry matter", "Dry matter"),
+    ("Max ingredients", None),
+    ("Scale step", None),
+    ("Hand-add below", None),
+    ("Time limit", None),
 )
 
 # The Read me sheet: (term, explanation) rows. A term ending in " sheet" (or with no
@@ -105,6 +109,12 @@ README = (
      "in blend mode."),
     ("Stock", "The quantity on hand, in the Mass unit (see Settings); blank = unlimited. With a "
      "Products sheet, the stock is shared by all products."),
+    ("Min if used", "Either leave the ingredient out or use at least this much, in % of the blend "
+     "(diet mode: an amount); blank = no such rule. Not above Max."),
+    ("Pack size", "The ingredient is bought in packs of this mass (Mass unit), e.g. 25 kg bags: its "
+     "weight per batch (Batch size) is a whole number of packs, 0 allowed. Blank = none."),
+    ("Scale step", "Its weight per batch is a whole multiple of this mass, e.g. 0.5 kg for a scale "
+     "that reads in half kilograms; overrides the Scale step setting. Blank = the setting."),
     ("Other columns", "One column per nutrient: the content of one unit of the ingredient, as "
      "fed, in the unit written in the header, e.g. Crude protein (%), Energy (MJ/kg), Iron (mg). "
      "A blank content counts as 0."),
@@ -135,11 +145,14 @@ README = (
     ("Amount", "How much of it to make, in the Mass unit. Each product is its own blend; Specs "
      "and Groups rows apply to the product named in their Product column, or to every product "
      "when it is blank."),
+    ("Max ingredients", "At most this many ingredients in this product (a whole number); blank = "
+     "the Max ingredients setting."),
     ("Limits sheet", "Optional: inclusion limits of one ingredient in one product."),
     ("Product, Ingredient", "A product from Products and an ingredient from Ingredients."),
     ("Min, Max", "Inclusion limits in % of that product. They replace the Ingredients sheet's "
-     "Min and Max for that ingredient in that product."),
+     "Min and Max for that ingredient in that product (both blank: the row keeps them)."),
     ("Priority", "As on Specs."),
+    ("Min if used, Pack size", "As on Ingredients, for that ingredient in that product."),
     ("Settings sheet", "Setting / Value rows; a blank value keeps the default."),
     ("Name", "A title for the blend."),
     ("Mode", "blend (default): the inclusions are in % and add up to 100. diet: the amount of "
@@ -151,6 +164,15 @@ README = (
     ("Cost per", "The mass unit that Cost is a price per (default tonne); same choices."),
     ("Currency", "A label for the reports, such as EUR."),
     ("Dry matter", "The nutrient column (in %) that dry-matter specs use; default Dry matter."),
+    ("Max ingredients", "At most this many ingredients in each formula (a whole number); blank = "
+     "no limit."),
+    ("Scale step", "Every weight per batch is a whole multiple of this mass (Mass unit), e.g. 0.5; "
+     "the formula is found on those weights, so every spec holds for what is weighed. Blank = none."),
+    ("Hand-add below", "Weights per batch below this mass are listed apart as hand additions on "
+     "the batch sheet. Blank = none."),
+    ("Time limit", "Seconds the search for a formula under Min if used, Pack size, Scale step and "
+     "Max ingredients may take (default 60); then the best formula found is shown with its "
+     "proven gap."),
     ("Caution", None),
     ("", CAUTION),
 )
@@ -226,7 +248,7 @@ def _write_ingredients(sheet: Worksheet) -> None:
     """The Ingredients sheet: example rows, number formats and the Use drop-down."""
     _table(sheet, INGREDIENT_HEADER, INGREDIENT_ROWS, freeze="B2")
     _number_format(sheet, "B", COST_FORMAT)
-    for column in ("C", "D", "G", "H", "I", "J", "K"):
+    for column in ("C", "D", "G", "H", "I", "J", "K", "L", "M", "N"):
         _number_format(sheet, column, AMOUNT_FORMAT)
     _choices(sheet, "E", USE_CHOICES, "Use", "yes: the ingredient may be used; no: keep it out.")
     for row in sheet.iter_rows(min_row=2, max_row=LAST_ROW, min_col=5, max_col=5):
@@ -253,7 +275,7 @@ def _write_products_and_limits(products: Worksheet, limits: Worksheet) -> None:
     _table(products, PRODUCT_HEADER, (), freeze="A2")
     _number_format(products, "B", AMOUNT_FORMAT)
     _table(limits, LIMIT_HEADER, (), freeze="A2")
-    for column in ("C", "D"):
+    for column in ("C", "D", "F", "G"):
         _number_format(limits, column, AMOUNT_FORMAT)
 
 

@@ -82,3 +82,37 @@ def combined(checks: list[CrossCheck | None]) -> CrossCheck | None:
     differences = [check.difference for check in checks]
     difference = None if any(d is None for d in differences) else float(sum(differences))
     return CrossCheck(SOLVER, "optimal", float(sum(check.cost for check in checks)), difference, agrees=agrees)
+
+
+MIP_SOLVER = "HiGHS MIP via scipy"
+_MIP_STATUS = {0: "optimal", 1: "time_limit", 2: "infeasible", 3: "unbounded"}
+
+
+def cross_check_mip(form: StandardForm, integrality: np.ndarray, semicontinuous: np.ndarray, ours,
+                    time_limit: float) -> CrossCheck:
+    """Re-solve a MIP (semi-continuous columns as HiGHS's kind 2) with `scipy.optimize.milp`
+    within `time_limit` seconds and compare with our MIPResult `ours`: the same status and
+    optimum within CROSS_CHECK_RTOL; after our time limit, HiGHS's optimum must not lie
+    below our proven bound."""
+    from scipy.optimize import Bounds, LinearConstraint, milp
+
+    never = (semicontinuous > 0) & (semicontinuous > form.col_upper)  # a threshold above the Max: only 0
+    semi = (semicontinuous > 0) & (form.col_lower <= 0) & ~never  # a column with a Min > 0 is always used
+    lower = np.where((semicontinuous > 0) & ~never, np.maximum(form.col_lower, semicontinuous), form.col_lower)
+    upper = np.where(never, 0.0, form.col_upper)
+    try:
+        theirs = milp(form.c, constraints=LinearConstraint(form.A, form.row_lower, form.row_upper),
+                      bounds=Bounds(lower, upper), integrality=np.where(semi, 2, integrality),
+                      options={"time_limit": time_limit})
+    except ValueError as error:
+        return CrossCheck(MIP_SOLVER, f"refused: {error}", None, None, agrees=False)
+    status = _MIP_STATUS.get(theirs.status, "numerical_trouble")
+    if status != "optimal" or ours.objective is None:
+        return CrossCheck(MIP_SOLVER, status, None, None, agrees=status == ours.status)
+    cost = float(theirs.fun)
+    difference = float(ours.objective) - cost
+    if ours.status == "time_limit":
+        agrees = cost >= ours.bound - CROSS_CHECK_RTOL * max(1.0, abs(cost))
+    else:
+        agrees = _close(difference, cost)
+    return CrossCheck(MIP_SOLVER, status, cost, difference, agrees=agrees)

@@ -42,3 +42,9 @@ DUAL_SIGN = 1e-12
 # A sweep steps this far past a breakpoint (relative to 1 + |value|) to find the next
 # piece's basis.
 SWEEP_NUDGE = 1e-9
+# Rules a mill can weigh (`blendkit.lp.weigh`): a bound within this many steps (or packs)
+# of a whole number of them is that whole number.
+WHOLE_STEPS = 1e-9
+# The seconds the search under those rules may take when Settings gives no Time limit;
+# then the best formula found is reported with its proven gap.
+WEIGH_TIME_LIMIT = 60.0

@@ -167,6 +167,7 @@ class Settings:
     max_ingredients: int | None = None  # at most this many ingredients above 0 per formula
     scale_step: float | None = None  # every batch weight a whole multiple of this (mass)
     hand_add_below: float | None = None  # Batch sheet: weights below this are hand-added
+    time_limit: float | None = None  # seconds for the search under these rules (None: the default)
     cells: dict[str, str] = field(default_factory=dict)  # setting key -> cell of its value
 
     @property

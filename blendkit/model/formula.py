@@ -139,6 +139,63 @@ class Limit:
 
 
 @dataclass(frozen=True)
+class Practical:
+    """What the rules a mill can weigh (Min if used, Pack size, Scale step, Max
+    ingredients) cost in one product (`blendkit.lp.practical`).
+
+    `lp_cost` is the product's cost in the LP without those rules and `cost` its cost
+    under them (per `Cost per` unit; None when no formula meets them). `status` is the
+    search's: "optimal", "time_limit" (the best formula found within the time limit,
+    `gap` its proven relative gap to the cheapest possible), "infeasible" or another
+    engine status. `nodes` counts the search's nodes (one search for the products solved
+    together). `binding` says in words which rules bind; `blocking`, when the rules leave
+    no formula though the LP has one, names the rule families whose removal alone
+    restores one.
+    """
+
+    status: str
+    lp_cost: float | None
+    cost: float | None
+    gap: float | None
+    nodes: int
+    binding: tuple[str, ...] = ()
+    blocking: tuple[str, ...] = ()
+
+    def lines(self, unit: str = "") -> tuple[str, ...]:
+        """The record in words, one line each, as the console and the Result sheet show it:
+        the costs with and without the rules, how the search ended, the rules that bind."""
+        unit = f" {unit}" if unit else ""
+        head = f"{WEIGHING_RULES}: LP cost {_money(self.lp_cost)}{unit}"
+        if self.cost is not None and self.lp_cost is not None:
+            rise = self.cost - self.lp_cost
+            share = f", {100 * rise / abs(self.lp_cost):+.2f} %" if self.lp_cost else ""
+            head += f", cost under the rules {_money(self.cost)}{unit} ({rise:+,.2f}{share})"
+        ends = {"optimal": f"proven cheapest ({self.nodes} nodes)",
+                "time_limit": (f"best found within the time limit, proven gap {_percent(self.gap)} ({self.nodes} nodes)"
+                               if self.cost is not None else "the time limit ran out before any formula was found"),
+                "infeasible": "no formula meets the rules"}
+        lines = [f"{head}; {ends.get(self.status, self.status)}"]
+        lines += [f"  {line}" for line in self.binding]
+        if self.blocking:
+            lines.append("  a formula exists without: " + ", ".join(self.blocking))
+        return tuple(lines)
+
+
+# The heading of the rules a mill can weigh, wherever they are shown.
+WEIGHING_RULES = "Weighing rules"
+
+
+def _money(value: float | None) -> str:
+    """A cost for the weighing lines ("-" for none)."""
+    return "-" if value is None else f"{value:,.2f}"
+
+
+def _percent(gap: float | None) -> str:
+    """A relative gap as a percentage ("-" for none)."""
+    return "-" if gap is None or gap != gap or gap == float("inf") else f"{100 * gap:.3g} %"
+
+
+@dataclass(frozen=True)
 class ProductFormula:
     """One product's formula: its cost per `Cost per` unit, lines and limits.
 
@@ -156,6 +213,7 @@ class ProductFormula:
     limits: tuple[Limit, ...]
     status: str = OPTIMAL
     message: str = ""
+    practical: Practical | None = None  # under the rules a mill can weigh (None: no such rules)
 
     @property
     def solved(self) -> bool:

@@ -16,6 +16,13 @@
                 mode. Blank means none.
 ``Stock``       optional column; the quantity on hand in the mass unit (see
                 Settings), 0 or more, shared by all products. Blank means no limit.
+``Min if used`` optional column; the ingredient is either left out or used at least
+                this much (% of the blend; diet: an amount), at most its Max.
+``Pack size``   optional column; the ingredient's weight per batch is a whole number of
+                packs of this mass (blend mode).
+``Scale step``  optional column; the ingredient's weight per batch is a whole multiple of
+                this mass (blend mode); overrides the Scale step setting. See
+                `blendkit.read.weigh_cells`.
 any other header is a nutrient column: the ingredient's content, as fed, in the unit
 given in the header. A blank content cell counts as 0 and is listed in
 `Ingredient.blanks`; negative contents are allowed. There may be no nutrient columns.
@@ -34,6 +41,7 @@ from blendkit.read.reading import Reading
 from blendkit.read.settings import DIET_MODE
 from blendkit.read.tables import Column, Row, Table, Wanted, check_columns, empty_sheet
 from blendkit.read.values import format_number, name_key, read_name, read_number, read_yes_no
+from blendkit.read.weigh_cells import read_mass, read_min_if_used
 
 INGREDIENTS = "Ingredients"
 
@@ -47,6 +55,9 @@ _COLUMNS: Wanted = {
     "use": ("Use", "yes or no, whether the ingredient may be used", False),
     "unit": ("Unit", "what one unit of the ingredient is, in diet mode", False),
     "stock": ("Stock", "the quantity on hand in the mass unit", False),
+    "min if used": ("Min if used", "0 or at least this inclusion", False),
+    "pack size": ("Pack size", "weights per batch in whole packs of this mass", False),
+    "scale step": ("Scale step", "weights per batch in whole multiples of this mass", False),
 }
 
 # The header a diet's food list may give its name column instead of "Ingredient".
@@ -55,7 +66,8 @@ _FOOD = "food"
 # Ingredient cell keys as stored in Ingredient.cells, by column key.
 _CELL_KEYS = {
     "ingredient": "name", "cost": "cost", "min": "min", "max": "max", "use": "use",
-    "unit": "unit", "stock": "stock",
+    "unit": "unit", "stock": "stock", "min if used": "min if used", "pack size": "pack size",
+    "scale step": "scale step",
 }
 
 
@@ -130,6 +142,9 @@ def _read_ingredient(
     check_min_max(row, minimum, maximum, problems)
     use = read_yes_no(row.get("use"), "use", problems)
     stock = _stock(row, settings, problems)
+    min_if_used = read_min_if_used(row, maximum, diet, problems)
+    pack = read_mass(row.get("pack size"), "pack size", settings.mass_unit, diet, problems)
+    step = read_mass(row.get("scale step"), "scale step", settings.mass_unit, diet, problems)
     contents, blanks = _contents(row, nutrients, problems)
     if len(problems) > problems_before or name is None or cost is None or use is None:
         return name, None
@@ -145,6 +160,9 @@ def _read_ingredient(
         content_cells={column.name: row[column.key].ref for column in nutrients},
         unit=unit,
         stock=stock,
+        min_if_used=min_if_used,
+        pack_size=pack,
+        scale_step=step,
     )
 
 

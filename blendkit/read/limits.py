@@ -3,21 +3,27 @@
 ``Product``, ``Ingredient``, ``Min``, ``Max`` required columns. The product must be
 listed in Products and the ingredient in Ingredients; each (product, ingredient) pair
 at most once. Min and Max follow the rules of Ingredients' Min and Max, and at least
-one is given. They replace the ingredient's own Min and Max in that product.
+one is given (or a Min if used or a Pack size). They replace the ingredient's own Min
+and Max in that product; a row with neither keeps the ingredient's own.
 ``Priority`` optional, as in Specs.
+``Min if used``, ``Pack size`` optional, as on Ingredients; they replace the
+ingredient's own in that product (see `blendkit.read.weigh_cells`).
 """
 
 from __future__ import annotations
 
+import dataclasses
+
 from blendkit.errors import Problem
-from blendkit.model.blend import ProductLimit, Settings
+from blendkit.model.blend import Ingredient, ProductLimit, Settings
 from blendkit.read.bounds import bounds_unread, check_min_max, neither_bound, read_inclusion, read_priority
 from blendkit.read.cells import Cell
 from blendkit.read.names import ADD_PRODUCTS, Names, refer
 from blendkit.read.reading import Reading
 from blendkit.read.settings import DIET_MODE
 from blendkit.read.tables import Row, Table, Wanted, check_columns
-from blendkit.read.values import name_key, read_name
+from blendkit.read.values import format_number, name_key, read_name
+from blendkit.read.weigh_cells import read_mass, read_min_if_used
 
 LIMITS = "Limits"
 
@@ -28,6 +34,8 @@ _COLUMNS: Wanted = {
     "min": ("Min", "the least inclusion of the ingredient in the product", True),
     "max": ("Max", "the most inclusion of the ingredient in the product", True),
     "priority": ("Priority", "which limits give way first when limits conflict", False),
+    "min if used": ("Min if used", "0 or at least this inclusion in the product", False),
+    "pack size": ("Pack size", "weights per batch in whole packs of this mass", False),
 }
 
 
@@ -35,9 +43,27 @@ def read_limits_sheet(reading: Reading) -> None:
     """Read the Limits sheet, if any, into the product-specific ingredient limits."""
     table = reading.table(LIMITS)
     if table is not None:
-        reading.limits = read_limits(
+        limits = read_limits(
             table, reading.ingredient_names, reading.product_names, reading.settings, reading.problems[LIMITS]
         )
+        own = {item.name: item for item in reading.ingredients}
+        reading.limits = [_own_bounds(limit, own.get(limit.ingredient), reading.problems[LIMITS])
+                          for limit in limits]
+
+
+def _own_bounds(limit: ProductLimit, item: Ingredient | None, problems: list[Problem]) -> ProductLimit:
+    """A row with only a Min if used or a Pack size keeps the ingredient's own Min and Max
+    (and their cells); its Min if used above that Max is reported."""
+    if limit.minimum is not None or limit.maximum is not None or item is None:
+        return limit
+    cells = {**limit.cells, "min": item.cells.get("min"), "max": item.cells.get("max")}
+    if limit.min_if_used is not None and item.maximum is not None and limit.min_if_used > item.maximum:
+        problems.append(Problem(limit.cells["min if used"], (
+            f"min if used {format_number(limit.min_if_used)} is above the max {format_number(item.maximum)} of "
+            f"{item.name} in {item.cells['max']}, so it could never be used in {limit.product}; lower min if "
+            "used, or give this row a Max"
+        )))
+    return dataclasses.replace(limit, minimum=item.minimum, maximum=item.maximum, cells=cells)
 
 
 def read_limits(
@@ -53,8 +79,28 @@ def read_limits(
     for row in table.rows:
         limit = _read_limit(row, ingredients, products, diet, seen, problems)
         if limit is not None:
+            limit = _weigh_rules(row, limit, settings, problems)
+        if limit is not None:
             limits.append(limit)
     return limits
+
+
+def _weigh_rules(row: Row, limit: ProductLimit, settings: Settings, problems: list[Problem]) -> ProductLimit | None:
+    """The limit with the row's Min if used and Pack size; None when either is wrong (reported)."""
+    problems_before = len(problems)
+    diet = settings.mode == DIET_MODE
+    min_if_used = read_min_if_used(row, limit.maximum, diet, problems)
+    pack = read_mass(row.get("pack size"), "pack size", settings.mass_unit, diet, problems)
+    if len(problems) > problems_before:
+        return None
+    cells = dict(limit.cells)
+    cells.update({key: row[key].ref for key in ("min if used", "pack size") if key in row})
+    return dataclasses.replace(limit, min_if_used=min_if_used, pack_size=pack, cells=cells)
+
+
+def _has_rule(row: Row) -> bool:
+    """True when the row gives a Min if used or a Pack size (so needs no Min or Max)."""
+    return any(key in row and row[key].kind != "blank" for key in ("min if used", "pack size"))
 
 
 def _read_limit(
@@ -66,7 +112,7 @@ def _read_limit(
     product, ingredient = _product_and_ingredient(row, ingredients, products, seen, problems)
     minimum = read_inclusion(row.get("min"), "min", diet, problems)
     maximum = read_inclusion(row.get("max"), "max", diet, problems)
-    if neither_bound(row) and product is not None and ingredient is not None:
+    if neither_bound(row) and not _has_rule(row) and product is not None and ingredient is not None:
         problems.append(Problem(row["ingredient"].ref, (
             f'the limit for "{ingredient}" in "{product}" has neither a min nor a max; give at '
             "least one, or delete the row"

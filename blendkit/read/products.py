@@ -4,6 +4,8 @@
 ``Amount``      optional; how much to make, in the mass unit, more than 0. A product
                 without an amount is a formula of its own, made per batch, and no
                 stock applies to it (see `blendkit.lp.split`).
+``Max ingredients`` optional; at most this many ingredients above 0 in this product's
+                formula, a whole number, 1 or more; overrides the Max ingredients setting.
 Without Products rows there is one blend of ``Batch size``. Not allowed in diet mode.
 """
 
@@ -16,6 +18,7 @@ from blendkit.read.reading import Reading
 from blendkit.read.settings import BLEND_MODE, DIET_MODE, SETTINGS
 from blendkit.read.tables import Row, Table, Wanted, check_columns
 from blendkit.read.values import format_number, name_key, read_number
+from blendkit.read.weigh_cells import read_count
 
 PRODUCTS = "Products"
 
@@ -23,6 +26,7 @@ PRODUCTS = "Products"
 _COLUMNS: Wanted = {
     "product": ("Product", "the name of each product", True),
     "amount": ("Amount", "how much of each product to make, in the mass unit", False),
+    "max ingredients": ("Max ingredients", "at most this many ingredients in the product", False),
 }
 
 
@@ -65,12 +69,14 @@ def _read_product(
     problems_before = len(problems)
     name = read_row_name(row["product"], "product", seen, problems)
     amount = _amount(row, settings, problems)
+    most = read_count(row.get("max ingredients"), "max ingredients", problems)
     if len(problems) > problems_before or name is None:
         return name, None
     cells = {"product": row["product"].ref}
-    if "amount" in row:
-        cells["amount"] = row["amount"].ref
-    return name, Product(name=name, amount=amount, cells=cells)
+    for key in ("amount", "max ingredients"):
+        if key in row:
+            cells[key] = row[key].ref
+    return name, Product(name=name, amount=amount, cells=cells, max_ingredients=most)
 
 
 def _amount(row: Row, settings: Settings, problems: list[Problem]) -> float | None:

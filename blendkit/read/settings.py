@@ -8,9 +8,20 @@
 ``Dry matter``  the nutrient column holding dry matter in % as fed, default "Dry
                 matter". When given it must name a nutrient column; it is stored as
                 the column's name in the Ingredients header.
+``Max ingredients``  at most this many ingredients above 0 in each formula: a whole
+                number, 1 or more (a Products row's Max ingredients overrides it).
+``Scale step``  every batch weight (per ``Batch size``) a whole multiple of this mass
+                in the mass unit, more than 0 (blend mode); an ingredient's own Scale
+                step overrides it. ``Hand-add below``  the Batch sheet lists weights
+                below this mass apart, as hand additions (more than 0; blend mode).
+                See `blendkit.read.weigh_cells` and `blendkit.model.weighing`.
+``Time limit``  seconds, more than 0, that the search for a formula under these rules
+                may take (default `blendkit.lp.tolerances.WEIGH_TIME_LIMIT`, 60); when
+                it runs out, the best formula found is reported with its proven gap.
 A blank value keeps the default. Unknown and repeated settings are errors.
 `Settings.cells` maps each setting read ("batch size", "mass unit", "cost per",
-"currency", "name", "mode", "dry matter") to the cell of its value.
+"currency", "name", "mode", "dry matter", "max ingredients", "scale step", "hand-add below")
+to the cell of its value.
 """
 
 from __future__ import annotations
@@ -23,6 +34,7 @@ from blendkit.read.cells import Cell
 from blendkit.read.reading import Reading
 from blendkit.read.tables import Table, Wanted, check_columns
 from blendkit.read.values import format_number, name_key, read_name, read_number, split_unit
+from blendkit.read.weigh_cells import read_count, read_mass
 
 SETTINGS = "Settings"
 
@@ -42,6 +54,10 @@ _KNOWN_SETTINGS = {
     "name": "Name",
     "mode": "Mode",
     "dry matter": "Dry matter",
+    "max ingredients": "Max ingredients",
+    "scale step": "Scale step",
+    "hand-add below": "Hand-add below",
+    "time limit": "Time limit",
 }
 
 
@@ -68,9 +84,27 @@ def read_settings(table: Table, problems: list[Problem]) -> Settings:
             continue  # blank keeps the default; unsaved is already reported
         value = _setting_value(key, value_cell, problems)
         if value is not None:
-            given[key.replace(" ", "_")] = value
+            given[key.replace(" ", "_").replace("-", "_")] = value
             cells[key] = value_cell.ref
+    _check_masses(given, cells, table, problems)
     return Settings(**given, cells=cells)
+
+
+def _check_masses(given: dict[str, object], cells: dict[str, str], table: Table, problems: list[Problem]) -> None:
+    """Scale step and Hand-add below are masses weighed per batch: read them once the mode
+    and the mass unit are known (reported in diet mode)."""
+    diet = given.get("mode") == DIET_MODE
+    unit = given.get("mass_unit", Settings().mass_unit)
+    by_ref = {row["value"].ref: row["value"] for row in table.rows}
+    for key in ("scale step", "hand-add below"):
+        field = key.replace(" ", "_").replace("-", "_")
+        if field not in given:
+            continue
+        value = read_mass(by_ref[cells[key]], key, unit, diet, problems)
+        if value is None:
+            del given[field], cells[key]
+        else:
+            given[field] = value
 
 
 def _setting_key(cell: Cell, seen: dict[str, str], problems: list[Problem]) -> str | None:
@@ -105,6 +139,12 @@ def _setting_value(key: str, cell: Cell, problems: list[Problem]) -> object | No
     """One setting's value, checked; None when wrong (reported)."""
     if key == "batch size":
         return _batch_size(cell, problems)
+    if key == "max ingredients":
+        return read_count(cell, "max ingredients", problems)
+    if key == "time limit":
+        return _time_limit(cell, problems)
+    if key in ("scale step", "hand-add below"):
+        return read_number(cell, key, problems)  # checked as a mass by _check_masses
     label = _KNOWN_SETTINGS[key].lower()
     text = read_name(cell, label, problems)
     if text is None:
@@ -126,6 +166,18 @@ def _batch_size(cell: Cell, problems: list[Problem]) -> float | None:
         )))
         return None
     return size
+
+
+def _time_limit(cell: Cell, problems: list[Problem]) -> float | None:
+    """The time limit in seconds, more than 0; None when wrong (reported)."""
+    seconds = read_number(cell, "time limit", problems)
+    if seconds is not None and seconds <= 0:
+        problems.append(Problem(cell.ref, (
+            f"time limit {format_number(seconds)} must be more than 0; it is how many seconds the search "
+            "for a formula under Min if used, Pack size, Scale step and Max ingredients may take"
+        )))
+        return None
+    return seconds
 
 
 def _mass_unit(cell: Cell, label: str, text: str, problems: list[Problem]) -> str | None:

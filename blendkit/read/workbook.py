@@ -42,6 +42,7 @@ from blendkit.read.specs import SPECS, read_specs_sheet
 from blendkit.read.tables import read_table
 from blendkit.read.undefined_specs import check_undefined_specs
 from blendkit.read.values import name_key
+from blendkit.read.weigh_cells import check_diet_maxima
 
 # Every sheet the reader knows, in the order its problems are listed.
 SHEETS = (INGREDIENTS, SPECS, GROUPS, PRODUCTS, LIMITS, SETTINGS)
@@ -57,6 +58,7 @@ READERS = (
     read_groups_sheet,  # refers to the ingredients and the products
     read_limits_sheet,  # refers to the ingredients and the products
     check_undefined_specs,  # needs the ingredients' contents and the specs
+    check_diet_maxima,  # Max ingredients in a diet: needs the settings and the ingredients
 )
 
 # The first bytes of an old binary Excel file, which is also how password-protected

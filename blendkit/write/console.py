@@ -78,6 +78,7 @@ def render_summary(formula: Formula) -> str:
             status.append(f"Batch: {settings.batch_size:g} {settings.mass_unit}")
     blocks.append(status)
     blocks.append(_changes(formula))
+    blocks.append(_weighing(formula))
     blocks.append(_soft_limits(formula))
     blocks.extend(_explanations(formula))
     if formula.solved or any(product.solved for product in formula.products):
@@ -139,6 +140,17 @@ def _shared_prices(formula: Formula) -> list[str]:
     title = (f"One price per ingredient, every product at once ({cost_unit(formula.blend.settings)}); "
              f"each product's own ranges hold for {THIS_PRODUCT_ALONE}:")
     return [title, *_table(headers, rows, left=1, last_left=True)]
+def _weighing(formula: Formula) -> list[str]:
+    """What the rules a mill can weigh cost, per product (empty without such rules)."""
+    unit = run_cost_unit(formula.blend) if formula.blend.diet else cost_unit(formula.blend.settings)
+    lines = []
+    for product in formula.products:
+        if product.practical is not None:
+            lines += [f"{product.name}: {line}" if formula.several and not line.startswith(" ") else line
+                      for line in product.practical.lines(unit)]
+    return lines
+
+
 def _changes(formula: Formula) -> list[str]:
     """One line per formula compared with the earlier result: cost before -> after, and
     the price effect and formula effect that make up the change."""

@@ -45,6 +45,19 @@ whole plan stays the cheapest with the price moving in every product at once (`s
 "one price for every product"). A product's own `prices` carry `scope` "this product
 alone" when it is linked to other products by a stock (the range holds for a price change
 in it alone) and "this product" when it is a formula of its own.
+Under the rules a mill can weigh (Min if used, Pack size, Scale step, Max ingredients;
+`blendkit.lp.practical`) one more key follows "cross_check" (and ends each product's
+entry)::
+
+    "practical": {"lp_cost": float | null, "cost": float | null, "gap": float | null,
+                  "nodes": int, "status": str, "binding": [str], "blocking": [str]}
+
+`lp_cost` is the cost without those rules, `cost` the cost under them, `gap` the
+search's proven relative gap (0 when proven cheapest), `nodes` its node count, `status`
+"optimal", "time_limit", "infeasible" or another engine status; `binding` says which
+rules bind, `blocking` (when the rules leave no formula) the rule families whose removal
+alone restores one; `cross_check` is then the integer program re-solved by HiGHS's MIP
+solver. A workbook without those rules has no such key.
 
 When the status is "infeasible" two more keys follow "notes"::
 
@@ -99,6 +112,7 @@ from blendkit.model.formula import (
     Formula,
     Limit,
     NutrientLine,
+    ProductFormula,
 )
 from blendkit.model.blend import Blend
 from blendkit.model.record import nutrient_key
@@ -144,7 +158,20 @@ def formula_to_dict(formula: Formula) -> dict[str, Any]:
         "violations": _violations(formula),
         "notes": [str(note) for note in formula.notes],
         "cross_check": _cross_check(formula),
+        **_practical(formula.products[0] if formula.products else None),
     }))
+
+
+def _practical(product: ProductFormula | None) -> dict[str, Any]:
+    """{"practical": ...} for a formula under the rules a mill can weigh; {} without them."""
+    record = None if product is None else product.practical
+    if record is None:
+        return {}
+    return {"practical": {
+        "lp_cost": _number(record.lp_cost), "cost": _number(record.cost), "gap": _number(record.gap),
+        "nodes": int(record.nodes), "status": str(record.status),
+        "binding": [str(line) for line in record.binding], "blocking": [str(name) for name in record.blocking],
+    }}
 
 
 def _cross_check(formula: Formula) -> dict[str, Any] | None:
@@ -206,6 +233,7 @@ def _products(formula: Formula) -> dict[str, Any]:
             "prices": _prices(product.ingredients, THIS_PRODUCT_ALONE if formula.linked(product.name) else THIS_PRODUCT),
             "nutrients": {_key(line): _number(line.level) for line in product.nutrients},
             "limits": [_limit(limit, formula.blend, product.limits) for limit in product.limits],
+            **_practical(product),
         }
         if product.name in relaxations:
             entry["relaxation"] = relaxations[product.name]

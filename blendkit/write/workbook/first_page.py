@@ -13,7 +13,7 @@ from openpyxl.styles import Alignment
 from openpyxl.worksheet.pagebreak import Break
 from openpyxl.worksheet.worksheet import Worksheet
 
-from blendkit.model.formula import Formula, Limit, basis_label
+from blendkit.model.formula import WEIGHING_RULES, Formula, Limit, basis_label
 from blendkit.model.steps import limit_unit, step_worth
 from blendkit.model.units import cost_unit, run_cost_unit
 from blendkit.write.workbook.cells import (
@@ -102,6 +102,25 @@ def write_notes(sheet: Worksheet, notes: tuple[str, ...], row: int) -> int:
         sheet.merge_cells(start_row=row + offset, start_column=1,
                           end_row=row + offset, end_column=RESULT_COLUMNS)
     return row + len(notes) + 2
+
+
+def write_weighing(sheet: Worksheet, formula: Formula, row: int) -> int:
+    """What the rules a mill can weigh cost (per product), under a bold heading; returns
+    the first row after them and a blank (nothing without such rules)."""
+    unit = run_cost_unit(formula.blend) if formula.blend.diet else cost_unit(formula.blend.settings)
+    lines = []
+    for product in formula.products:
+        if product.practical is not None:
+            name = f"{product.name}: " if formula.several else ""
+            lines += [f"{name}{line.strip()}" for line in product.practical.lines(unit)]
+    if not lines:
+        return row
+    put(sheet, row, 1, WEIGHING_RULES).font = BOLD
+    for offset, line in enumerate(lines, start=1):
+        cell = put(sheet, row + offset, 1, line)
+        cell.alignment = WRAP_TOP
+        sheet.merge_cells(start_row=row + offset, start_column=1, end_row=row + offset, end_column=RESULT_COLUMNS)
+    return row + len(lines) + 2
 
 
 def write_sign_off(sheet: Worksheet, row: int) -> int:

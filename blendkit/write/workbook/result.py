@@ -49,6 +49,7 @@ from blendkit.write.workbook.first_page import (
     BESIDE_NUMBER,
     write_binding_limits,
     write_notes,
+    write_weighing,
     write_sign_off,
 )
 from blendkit.write.workbook.layout import size_columns
@@ -103,7 +104,8 @@ def _write_unsolved(sheet: Worksheet, formula: Formula) -> None:
         "No blend was found, so this sheet shows no numbers. Read the message above "
         "and the notes below, correct the workbook and solve again."
     )
-    below = write_notes(sheet, formula.notes, row=9)
+    below = write_weighing(sheet, formula, row=9)
+    below = write_notes(sheet, formula.notes, row=below)
     write_sign_off(sheet, below)
 
 
@@ -144,6 +146,7 @@ def _write_page_one(sheet: Worksheet, formula: Formula, first: int) -> int:
     """Broken soft limits, binding limits, notes and sign-off from row `first`; returns
     the first row of page two."""
     row = _write_broken(sheet, formula, first)
+    row = write_weighing(sheet, formula, row)
     row = write_binding_limits(sheet, formula, row)
     row = write_notes(sheet, formula.notes_besides_broken_limits, row)
     return write_sign_off(sheet, row)

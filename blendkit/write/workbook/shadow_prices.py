@@ -224,8 +224,12 @@ def _intro(formula: Formula) -> str:
         whose = f"the blend cost ({cost_unit(settings)})"
         if formula.stocks:
             whose += f", or the batch's cost ({total}) for a stock,"
-    return (f"Shadow price: change in {whose} when the bound is raised by 1 unit; 0 where "
+    text = (f"Shadow price: change in {whose} when the bound is raised by 1 unit; 0 where "
             "the bound does not bind. It holds for small changes only.")
+    if any(product.practical is not None for product in formula.products):
+        text += (" Under the weighing rules it holds with the whole-number choices fixed (each ingredient in "
+                 "or out, each count of packs or scale steps as found).")
+    return text
 
 
 _STEP_INTRO = ("Binding limits first, the largest cost of a step first. A step is the Specs "
