@@ -15,6 +15,7 @@ from pathlib import Path
 from typing import TYPE_CHECKING
 
 if TYPE_CHECKING:
+    from blendkit.model.combined import Combined
     from blendkit.model.prices import Replacement
     from collections.abc import Mapping
 
@@ -169,7 +170,7 @@ class Blend:
     """A whole formulation problem: ingredients, nutrient columns, specs, settings."""
 
     ingredients: tuple[Ingredient, ...]
-    nutrients: tuple[str, ...]  # nutrient columns in workbook order
+    nutrients: tuple[str, ...]  # nutrient columns in workbook order, then combined nutrients
     specs: tuple[Spec, ...]
     settings: Settings = field(default_factory=Settings)
     source: Path | None = None
@@ -180,6 +181,9 @@ class Blend:
     # Values a price list replaced (`blendkit.model.prices`), for the output to mark.
     replaced: tuple[Replacement, ...] = ()
     notes: tuple[str, ...] = ()  # what the reader found worth saying (hidden rows, kept sheets)
+    # Combined nutrients (`blendkit.model.combined`), each after those it refers to; their
+    # contents are already in every ingredient's `contents`.
+    combined: tuple[Combined, ...] = ()
 
     @classmethod
     def from_frames(
