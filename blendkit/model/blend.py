@@ -194,19 +194,20 @@ class Blend:
         groups: pd.DataFrame | None = None,
         products: pd.DataFrame | None = None,
         limits: pd.DataFrame | None = None,
+        combined: pd.DataFrame | None = None,
     ) -> Blend:
         """A blend from pandas DataFrames with the workbook's column names, one per sheet.
 
         Each frame is checked exactly as its sheet would be; `settings` is a frame with
-        the columns Setting and Value or a mapping {setting: value}; None is an absent
-        sheet. Raises `WorkbookError` with every problem, each placed as
+        the columns Setting and Value or a mapping {setting: value}; `combined` has the
+        Combined sheet's columns (Nutrient, Sum, Unit); None is an absent sheet. Raises `WorkbookError` with every problem, each placed as
         ``ingredients[row "Maize", column "Cost"]`` (the row's index label and the column's
         name). See `blendkit.read.frames`.
         """
         from blendkit.read.frames import read_frames  # the reader and pandas only when used
 
         return read_frames(ingredients, specs, settings=settings, groups=groups,
-                           products=products, limits=limits)
+                           products=products, limits=limits, combined=combined)
 
     @property
     def diet(self) -> bool:
