@@ -244,6 +244,14 @@ def test_each_name_mistake_is_reported_on_its_cell(tmp_path, rows, where, words)
     assert words in problems[0][1], problems
 
 
+def test_a_sum_typed_as_a_formula_with_no_saved_value_is_reported_on_its_cell(tmp_path):
+    combined = [["Nutrient", "Sum"], ["Electrolyte balance", "=A1"]]
+    with pytest.raises(WorkbookError) as caught:
+        read_workbook(workbook(tmp_path, combined, specs(None)))
+    assert [problem.where for problem in caught.value.problems] == ["Combined!B2"]
+    assert "no saved value" in caught.value.problems[0].message
+
+
 def test_a_name_with_a_hyphen_is_one_name_when_it_exists(tmp_path):
     rows = [[*ingredients()[0], "Omega-3 (%)"]] + [[*row, 0.5] for row in ingredients()[1:]]
     combined = [["Nutrient", "Sum"], ["Omega plus sodium", "Omega-3 + 2*Sodium"]]

@@ -69,8 +69,8 @@ def read_combined_sheet(reading: Reading) -> None:
         row.terms = _terms(row, by_key, reading.titles[INGREDIENTS], problems)
     ordered = _ordered(rows, problems)
     reading.nutrients = [*reading.nutrients, *(row.column for row in ordered)]
-    if len(problems) > before:
-        return
+    if len(problems) > before or any(row.terms is None for row in ordered):
+        return  # reported (an unsaved formula in a Sum was reported with the table)
     combined = tuple(
         Combined(name=row.column.name, terms=tuple((number, part.name) for number, part in row.terms),
                  unit=row.column.unit, cells=row.cells, text=row.text)
