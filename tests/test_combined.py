@@ -15,12 +15,15 @@ from pathlib import Path
 import numpy as np
 import pandas as pd
 import pytest
+from hypothesis import given, settings
+from hypothesis import strategies as st
 from openpyxl import load_workbook
 from scipy.optimize import linprog
 
 from blendkit import Blend, WorkbookError
 from blendkit.model.prices import PriceEntry, PriceList, apply_price_list
 from blendkit.pipeline import formulate, solve_workbook
+from blendkit.read.sums import SumError, parse_sum
 from blendkit.read.values import name_key
 from blendkit.read.workbook import read_workbook
 from tests.test_result_sheet import LIVE, needs_libreoffice, recalculate, row_of
@@ -211,6 +214,7 @@ def test_the_live_formula_recomputes_the_level_in_libreoffice(tmp_path):
     ("434.8 * Sodium + - Potassium", 'two operators in a row ("+ -")'),
     ("434.8 * * Sodium", 'two operators in a row ("* *")'),
     ("434.8 * Sodium +", 'the Sum ends with "+"'),
+    ("−", 'the Sum is only "-"'),
     ("434.8 Sodium", 'no "*" between the number and the nutrient; write 434.8 * Sodium'),
     ("434,8 * Sodium", "write decimals with a point, as in 434.8"),
     ("Sodium * Potassium", "multiplies two nutrients"),
@@ -294,3 +298,19 @@ def test_a_price_list_content_change_moves_the_combined_content(tmp_path):
     # Hand calculation: 434.8 x 39.3 - 282.1 x 58.0 = 17087.64 - 16361.8 = 725.84 mEq/kg.
     assert changed.ingredient("Salt").contents["Electrolyte balance"] == pytest.approx(725.84, abs=1e-9)
     assert math.isclose(blend.ingredient("Salt").contents["Electrolyte balance"], 161.64, abs_tol=1e-9)
+
+
+# --- Any text: terms or a plain message, never a crash -------------------------------------
+
+
+@settings(max_examples=300, deadline=None)
+@given(st.text(alphabet="NaKCl 0123456789.,+-\u2212*\u00d7()", max_size=30))
+def test_any_sum_text_parses_or_gets_a_message(text):
+    known = {"na", "k", "cl", "na k"}
+    try:
+        terms = parse_sum(text, lambda name: name_key(name) in known)
+    except SumError as error:
+        assert str(error)
+        return
+    # What parses names something (a name between operators) and has a finite number.
+    assert terms and all(term.name.strip() and math.isfinite(term.number) for term in terms)

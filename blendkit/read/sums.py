@@ -66,6 +66,9 @@ def parse_sum(text: str, known: Callable[[str], bool]) -> list[Term]:
     sign, at = 1.0, 0
     if tokens[0].kind == SIGN:
         sign, at = (-1.0 if tokens[0].text == "-" else 1.0), 1
+        if len(tokens) == 1:
+            raise SumError(f'the Sum is only "{tokens[0].text}"; write the nutrients it adds, each times a '
+                           f"number, as in {EXAMPLE}")
     terms: list[Term] = []
     while True:
         term, at = _term(tokens, at, sign, known)
