@@ -31,11 +31,6 @@ class Combined:
     text: str = ""  # the Sum as written
 
 
-def combined_content(contents: Mapping[str, float], combined: Combined) -> float:
-    """The content of `combined` in an ingredient with these `contents` (its parts present)."""
-    return sum(number * contents[part] for number, part in combined.terms)
-
-
 def add_combined_contents(contents: Mapping[str, float], combined: Iterable[Combined]) -> dict[str, float]:
     """`contents` with each combined nutrient's content added, in the order given (a combined
     nutrient after those it refers to); a part missing from `contents` counts as 0."""
