@@ -292,7 +292,7 @@ def broiler(tmp_path: Path) -> Path:
 def test_every_example_has_its_sheets_in_order(example):
     name, path = example
     data = EXAMPLES[name]
-    expected = ["Ingredients", "Specs"]
+    expected = ["Ingredients", "Specs"] + ["Combined"] * bool(data.combined)
     expected += ["Groups"] * bool(data.groups) + ["Products"] * bool(data.products) + ["Limits"] * bool(data.limits)
     expected += ["Settings", "Notes"]
     workbook = load_workbook(path)
@@ -368,7 +368,7 @@ def test_every_example_solves_in_blendkit_to_the_highs_optimum(example):
 
 def test_broiler_sheets_and_columns(broiler: Path):
     workbook = load_workbook(broiler)
-    assert workbook.sheetnames == ["Ingredients", "Specs", "Settings", "Notes"]
+    assert workbook.sheetnames == ["Ingredients", "Specs", "Combined", "Settings", "Notes"]
     header = [cell.value for cell in workbook["Ingredients"][1]]
     assert header[:5] == ["Ingredient", "Cost (EUR/t)", "Min (%)", "Max (%)", "Use"]
     assert [c.value for c in workbook["Specs"][1]] == ["Nutrient", "Min", "Max"]

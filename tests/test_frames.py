@@ -57,6 +57,7 @@ def without_places(blend: Blend) -> Blend:
         groups=tuple(map(bare, blend.groups)),
         products=tuple(map(bare, blend.products)),
         limits=tuple(map(bare, blend.limits)),
+        combined=tuple(map(bare, blend.combined)),
         settings=bare(blend.settings),
         source=None,
     )

@@ -22,7 +22,7 @@ TEMPLATES = Path(__file__).resolve().parent.parent / "templates"
 # with the rows.
 TEMPLATE_COST = 240.303656
 
-SHEETS = ["Read me", "Ingredients", "Specs", "Groups", "Products", "Limits", "Settings", "Notes"]
+SHEETS = ["Read me", "Ingredients", "Specs", "Combined", "Groups", "Products", "Limits", "Settings", "Notes"]
 
 
 @pytest.fixture(scope="module")

@@ -1,10 +1,10 @@
 """Start a new workbook: a blank template in the format the reader expects, or a worked example.
 
 `write_template(path)` writes the template: a ``Read me`` sheet that explains every sheet
-and column, then ``Ingredients``, ``Specs``, ``Groups``, ``Products``, ``Limits``,
-``Settings`` and ``Notes`` with bold frozen headers, number formats, drop-down lists for
+and column, then ``Ingredients``, ``Specs``, ``Combined``, ``Groups``, ``Products``,
+``Limits``, ``Settings`` and ``Notes`` with bold frozen headers, number formats, drop-down lists for
 Use, Basis and Mode (and the mass units), and a few rows marked "(example row)" that show
-each construct (a ratio spec, a dry-matter spec, a group). Products and Limits have their
+each construct (a ratio spec, a dry-matter spec, a combined nutrient, a group). Products and Limits have their
 headers only (an empty sheet adds nothing: one blend). The template is valid as written:
 it solves as it stands, so a user can run it before replacing the example rows.
 
@@ -42,7 +42,7 @@ MODE_CHOICES = ("blend", "diet")
 
 # Column widths in characters, by header, for the data sheets; others get DEFAULT_WIDTH.
 DEFAULT_WIDTH = 16
-WIDTHS = {"Ingredient": 30, "Ingredients": 50, "Nutrient": 28, "Group": 30, "Product": 20, "Setting": 14, "Value": 24}
+WIDTHS = {"Ingredient": 30, "Ingredients": 50, "Nutrient": 28, "Sum": 50, "Group": 30, "Product": 20, "Setting": 14, "Value": 24}
 README_WIDTHS = (22, 100)
 
 EXAMPLE_ROW = "(example row)"
@@ -64,6 +64,9 @@ SPEC_ROWS = (
     ("Calcium", "as fed", 0.6, 1.0, None, None, None),
     ("Calcium / Phosphorus", "as fed", 1.5, 2.5, None, None, None),
 )
+# One combined nutrient, with no spec: it is shown in the results and changes nothing.
+COMBINED_HEADER = ("Nutrient", "Sum", "Unit")
+COMBINED_ROWS = (("Calcium plus phosphorus", "Calcium + Phosphorus", "%"),)
 GROUP_HEADER = ("Group", "Ingredients", "Min (%)", "Max (%)", "Product", "Priority")
 GROUP_ROWS = ((f"Grain and meal {EXAMPLE_ROW}", f"Grain {EXAMPLE_ROW}, Protein meal {EXAMPLE_ROW}", 90, None, None,
                None),)
@@ -134,6 +137,13 @@ README = (
     ("Priority", "1 to 9, blank for the default. When limits cannot all be met, those with a lower "
      "priority give way first in the least-cost way out. Defaults: ingredient limits 2, nutrient, "
      "ratio and group specs 3, Use = no 4, stocks 5."),
+    ("Combined sheet", "Optional: nutrients made by adding up others, such as an electrolyte "
+     "balance; a combined nutrient may then be used on Specs like any nutrient column."),
+    ("Nutrient", "A new name, not a nutrient column of Ingredients."),
+    ("Sum", "Numbers times nutrients joined by + and -, such as 434.8 * Sodium + 255.8 * "
+     "Potassium - 282.1 * Chloride. A nutrient is named as on Specs (without its unit); a name "
+     "alone counts once; it may be another combined nutrient. Decimals take a point."),
+    ("Unit", "The unit of the combined level, such as mEq/kg (a label for the reports)."),
     ("Groups sheet", "Optional: bounds on the total of several ingredients."),
     ("Group", "A name for the group."),
     ("Ingredients", "The ingredient names, separated by commas or semicolons."),
@@ -191,6 +201,7 @@ def template_workbook() -> Workbook:
     _write_readme(workbook.active)
     _write_ingredients(workbook.create_sheet("Ingredients"))
     _write_specs(workbook.create_sheet("Specs"))
+    _table(workbook.create_sheet("Combined"), COMBINED_HEADER, COMBINED_ROWS, freeze="A2")
     _write_groups(workbook.create_sheet("Groups"))
     _write_products_and_limits(workbook.create_sheet("Products"), workbook.create_sheet("Limits"))
     _write_settings(workbook.create_sheet("Settings"))

@@ -15,6 +15,7 @@ from pathlib import Path
 from typing import TYPE_CHECKING
 
 if TYPE_CHECKING:
+    from blendkit.model.combined import Combined
     from blendkit.model.prices import Replacement
     from collections.abc import Mapping
 
@@ -181,7 +182,7 @@ class Blend:
     """A whole formulation problem: ingredients, nutrient columns, specs, settings."""
 
     ingredients: tuple[Ingredient, ...]
-    nutrients: tuple[str, ...]  # nutrient columns in workbook order
+    nutrients: tuple[str, ...]  # nutrient columns in workbook order, then combined nutrients
     specs: tuple[Spec, ...]
     settings: Settings = field(default_factory=Settings)
     source: Path | None = None
@@ -192,6 +193,9 @@ class Blend:
     # Values a price list replaced (`blendkit.model.prices`), for the output to mark.
     replaced: tuple[Replacement, ...] = ()
     notes: tuple[str, ...] = ()  # what the reader found worth saying (hidden rows, kept sheets)
+    # Combined nutrients (`blendkit.model.combined`), each after those it refers to; their
+    # contents are already in every ingredient's `contents`.
+    combined: tuple[Combined, ...] = ()
 
     @classmethod
     def from_frames(
@@ -202,19 +206,20 @@ class Blend:
         groups: pd.DataFrame | None = None,
         products: pd.DataFrame | None = None,
         limits: pd.DataFrame | None = None,
+        combined: pd.DataFrame | None = None,
     ) -> Blend:
         """A blend from pandas DataFrames with the workbook's column names, one per sheet.
 
         Each frame is checked exactly as its sheet would be; `settings` is a frame with
-        the columns Setting and Value or a mapping {setting: value}; None is an absent
-        sheet. Raises `WorkbookError` with every problem, each placed as
+        the columns Setting and Value or a mapping {setting: value}; `combined` has the
+        Combined sheet's columns (Nutrient, Sum, Unit); None is an absent sheet. Raises `WorkbookError` with every problem, each placed as
         ``ingredients[row "Maize", column "Cost"]`` (the row's index label and the column's
         name). See `blendkit.read.frames`.
         """
         from blendkit.read.frames import read_frames  # the reader and pandas only when used
 
         return read_frames(ingredients, specs, settings=settings, groups=groups,
-                           products=products, limits=limits)
+                           products=products, limits=limits, combined=combined)
 
     @property
     def diet(self) -> bool:

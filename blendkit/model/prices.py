@@ -14,6 +14,7 @@ import dataclasses
 from dataclasses import dataclass
 
 from blendkit.model.blend import Blend, Ingredient
+from blendkit.model.combined import add_combined_contents
 
 
 @dataclass(frozen=True)
@@ -75,6 +76,8 @@ def apply_price_list(blend: Blend, prices: PriceList, key) -> tuple[Blend, tuple
             ingredients.append(item)
             continue
         item, changes = _replaced(item, entry, columns, prices.file_name)
+        if blend.combined:  # a combined nutrient's content follows the contents it adds
+            item = dataclasses.replace(item, contents=add_combined_contents(item.contents, blend.combined))
         ingredients.append(item)
         replaced.extend(changes)
     if any(entry.stock is not None for entry in prices.entries) and not any("stock" in item.cells for item in blend.ingredients):
@@ -88,7 +91,10 @@ def _matching_columns(blend: Blend, prices: PriceList, key) -> tuple[dict[str, s
     """The blend's nutrient columns the price list gives (nutrient -> price-list key), and a
     note for each one skipped because its unit differs."""
     columns, notes = {}, []
+    combined = {item.name for item in blend.combined}
     for nutrient in blend.nutrients:
+        if nutrient in combined:
+            continue  # a sum of other nutrients (recomputed after them), never a price-list column
         column = key(nutrient)
         if column not in prices.units:
             continue

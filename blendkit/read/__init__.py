@@ -2,8 +2,8 @@
 
 `read_workbook(path)` (in `blendkit.read.workbook`) returns a `Blend` or raises one
 `WorkbookError` listing every problem. One module reads each input sheet, and documents
-that sheet's columns: `ingredients`, `specs`, `groups`, `products`, `limits`, `settings`
-(and `dry_matter` for the dry-matter column that Settings, Ingredients and Specs share).
+that sheet's columns: `ingredients`, `combined`, `specs`, `groups`, `products`, `limits`,
+`settings` (and `dry_matter` for the dry-matter column that Settings, Ingredients and Specs share).
 The rules every sheet follows are these.
 
 The workbook format
@@ -18,8 +18,8 @@ Files
 
 Sheets
     Found by name, ignoring case and surrounding spaces: ``Ingredients`` (required),
-    ``Specs`` (required, may have no data rows), and the optional ``Groups``,
-    ``Products``, ``Limits`` and ``Settings``. Other sheets are ignored. Cell references
+    ``Specs`` (required, may have no data rows), and the optional ``Combined``,
+    ``Groups``, ``Products``, ``Limits`` and ``Settings``. Other sheets are ignored. Cell references
     in problems use the sheet title as written in the file. An optional sheet with nothing
     in it, or only its header row, adds nothing.
 

@@ -16,7 +16,8 @@ same way. So are the cells the `Blend` keeps for each bound (a formula's limits 
 and the blend has no `source`.
 
 An index named like the frame's naming column (``Ingredient``, ``Nutrient``, ``Group``,
-``Product``, ``Setting``; ``Product`` and ``Ingredient`` for limits) counts as that column,
+``Product``, ``Setting``; ``Product`` and ``Ingredient`` for limits; ``Nutrient`` for
+combined) counts as that column,
 so ``ingredients.set_index("Ingredient")`` works and its rows are labelled by name. Values
 are written as they are: NaN, None and other missing values are blank cells; text is
 always text (also when it starts with "="); a number that is not finite is written as text
@@ -55,6 +56,7 @@ _FRAMES = {
     "products": ("Products", ("product",)),
     "limits": ("Limits", ("product", "ingredient")),
     "settings": ("Settings", ("setting",)),
+    "combined": ("Combined", ("nutrient",)),
 }
 
 # The name the in-memory workbook is read under; problems with the file itself (none are
@@ -84,6 +86,7 @@ def read_frames(
     groups: pd.DataFrame | None = None,
     products: pd.DataFrame | None = None,
     limits: pd.DataFrame | None = None,
+    combined: pd.DataFrame | None = None,
 ) -> Blend:
     """A `Blend` from DataFrames with the workbook's column names, one per sheet.
 
@@ -94,7 +97,7 @@ def read_frames(
     are the reader's.
     """
     given = {"ingredients": ingredients, "specs": specs, "settings": _settings_frame(settings),
-             "groups": groups, "products": products, "limits": limits}
+             "groups": groups, "products": products, "limits": limits, "combined": combined}
     frames = {name: _frame(name, frame) for name, frame in given.items() if frame is not None}
     data, problems = _workbook_bytes(frames)
     places = _Places({_FRAMES[name][0]: frame for name, frame in frames.items()})
@@ -283,6 +286,7 @@ def _placed_blend(blend: Blend, places: _Places) -> Blend:
         groups=tuple(map(placed, blend.groups)),
         products=tuple(map(placed, blend.products)),
         limits=tuple(map(placed, blend.limits)),
+        combined=tuple(map(placed, blend.combined)),
         settings=placed(blend.settings),
         source=None,
     )

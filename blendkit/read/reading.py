@@ -11,6 +11,7 @@ from dataclasses import dataclass, field
 
 from blendkit.errors import Problem
 from blendkit.model.blend import Group, Ingredient, Product, ProductLimit, Settings, Spec
+from blendkit.model.combined import Combined
 from blendkit.read.names import Names
 from blendkit.read.tables import Column, Table
 
@@ -33,6 +34,7 @@ class Reading:
     nutrients: list[Column] | None = None  # None when the Ingredients header could not be read
     ingredient_names: Names | None = None  # set by the Ingredients reader
     dry_matter: Column | None = None  # the nutrient column the Dry matter setting names
+    combined: list[Combined] = field(default_factory=list)  # set by the Combined reader
     products: list[Product] = field(default_factory=list)
     product_names: Names | None = None  # set by the Products reader
     specs: list[Spec] = field(default_factory=list)

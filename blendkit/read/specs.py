@@ -4,7 +4,8 @@ a ratio of two nutrients.
 ``Nutrient``, ``Min``, ``Max`` are required columns; ``Basis``, ``Product``,
 ``Penalty``, ``Priority``, ``Step`` and ``Margin`` are optional; other columns are ignored (use them for
 notes).
-``Nutrient``    a nutrient column of Ingredients, compared like headers; a unit in
+``Nutrient``    a nutrient column of Ingredients (or a combined nutrient of the Combined
+                sheet, which counts as one), compared like headers; a unit in
                 parentheses may be given and, if both it and the column have one,
                 they must agree. `Spec.nutrient` is the name as written in the
                 Ingredients header. Or a ratio ``A / B``: two nutrient columns around

@@ -3,7 +3,7 @@
 `read_workbook(path)` returns a `Blend`, or raises one `WorkbookError` that lists every
 problem found in the whole workbook (all sheets, all cells), each with its cell, such as
 ``Ingredients!D7: cost "n/a" is not a number``. Problems with the file come first, then
-those of Ingredients, Specs, Groups, Products, Limits and Settings, each sheet's row by
+those of Ingredients, Combined, Specs, Groups, Products, Limits and Settings, each sheet's row by
 row. The file is read into memory once and never written to.
 
 The format is described in the `blendkit.read` package docstring, each sheet's columns in
@@ -29,6 +29,7 @@ from openpyxl.utils import column_index_from_string
 
 from blendkit.errors import Problem, WorkbookError
 from blendkit.model.blend import OUTPUT_SHEETS_PROPERTY, Blend, kept_sheet_titles, written_sheets
+from blendkit.read.combined import COMBINED, read_combined_sheet
 from blendkit.read.dry_matter import find_dry_matter_column
 from blendkit.read.groups import GROUPS, read_groups_sheet
 from blendkit.read.ingredients import INGREDIENTS, read_ingredients_sheet
@@ -45,7 +46,7 @@ from blendkit.read.values import name_key
 from blendkit.read.weigh_cells import check_diet_maxima
 
 # Every sheet the reader knows, in the order its problems are listed.
-SHEETS = (INGREDIENTS, SPECS, GROUPS, PRODUCTS, LIMITS, SETTINGS)
+SHEETS = (INGREDIENTS, COMBINED, SPECS, GROUPS, PRODUCTS, LIMITS, SETTINGS)
 
 # The readers, in the order they run: each after the sheets it refers to.
 READERS = (
@@ -53,6 +54,7 @@ READERS = (
     read_settings_sheet,  # first: the mode and the units say how the other sheets read
     read_ingredients_sheet,
     find_dry_matter_column,  # the Dry matter setting's column among the nutrient columns
+    read_combined_sheet,  # refers to the nutrient columns; adds nutrients for the Specs
     read_products_sheet,
     read_specs_sheet,  # refers to the nutrient columns, the dry-matter column and the products
     read_groups_sheet,  # refers to the ingredients and the products
@@ -118,6 +120,7 @@ def _blend(path: Path, reading: Reading) -> Blend:
         products=tuple(reading.products),
         limits=tuple(reading.limits),
         notes=tuple(reading.notes),
+        combined=tuple(reading.combined),
     )
 
 

@@ -10,7 +10,8 @@ from blendkit import CAUTION
 from blendkit.authoring.examples.broiler import BROILER_NUTRIENTS
 from blendkit.authoring.examples.record import Example
 
-_LAYER_NUTRIENTS = BROILER_NUTRIENTS
+# The broiler's columns less potassium, which only the broiler's electrolyte balance uses.
+_LAYER_NUTRIENTS = tuple(column for column in BROILER_NUTRIENTS if column[0] != "Potassium")
 
 # fmt: off
 _LAYER_INGREDIENTS = (

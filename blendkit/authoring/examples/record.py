@@ -21,7 +21,8 @@ class Example:
     `spec_columns` header. `groups` rows are (group, ingredients, min, max) with a fifth
     value, the product, when any row has one. `products` rows are (product, amount in
     the mass unit) and `limits` rows (product, ingredient, min %, max %); both sheets
-    are written only when they have rows. `settings` are the Settings sheet's rows in
+    are written only when they have rows, and so is the Combined sheet, from `combined`
+    rows (nutrient, sum, unit). `settings` are the Settings sheet's rows in
     order. `notes` are the Notes sheet's paragraphs: the scenario and where the numbers
     come from.
     """
@@ -37,6 +38,7 @@ class Example:
     groups: tuple[tuple, ...] = ()
     products: tuple[tuple[str, float], ...] = ()
     limits: tuple[tuple[str, str, float | None, float | None], ...] = ()
+    combined: tuple[tuple[str, str, str], ...] = ()  # (nutrient, sum, unit): the Combined sheet
 
     @property
     def diet(self) -> bool:

@@ -1,7 +1,7 @@
 """The shared writer: an `Example` as a workbook in the format the reader expects.
 
-One sheet per part of the example (Ingredients, Specs, then Groups, Products and Limits
-when it has rows for them, Settings and Notes), each with a bold frozen header, number
+One sheet per part of the example (Ingredients, Specs, then Combined, Groups, Products and
+Limits when it has rows for them, Settings and Notes), each with a bold frozen header, number
 formats and columns as wide as their contents.
 """
 
@@ -30,6 +30,8 @@ def workbook_of(example: Example) -> Workbook:
     workbook = Workbook()
     _write_ingredients(workbook.active, example)
     _write_specs(workbook.create_sheet("Specs"), example)
+    if example.combined:
+        _write_combined(workbook.create_sheet("Combined"), example)
     if example.groups:
         _write_groups(workbook.create_sheet("Groups"), example)
     if example.products:
@@ -72,6 +74,14 @@ def _write_specs(sheet: Worksheet, example: Example) -> None:
         sheet.append(list(row))
     formats = [AMOUNT_FORMAT if column in ("Min", "Max") else None for column in example.spec_columns]
     _finish(sheet, formats, freeze="A2")
+
+
+def _write_combined(sheet: Worksheet, example: Example) -> None:
+    """The Combined sheet: each combined nutrient, its Sum and its unit."""
+    sheet.append(["Nutrient", "Sum", "Unit"])
+    for row in example.combined:
+        sheet.append(list(row))
+    _finish(sheet, [None, None, None], freeze="A2")
 
 
 def _write_groups(sheet: Worksheet, example: Example) -> None:

@@ -4,7 +4,9 @@ the input sheets, so a reviewer can check the numbers in any spreadsheet program
 An as-fed level (or a cost) is the sum of (inclusion cell on Result x input cell) / 100,
 or in a diet the sum of (amount cell x input cell); a ratio divides the two recomputed
 levels it names, and a dry-matter level divides the recomputed level by the recomputed
-dry matter (in %).
+dry matter (in %). A combined nutrient's level is the same sum of numbers times the
+recomputed levels of its parts as its Sum on the Combined sheet:
+``=434.8*H30+255.8*H31-282.1*H32``.
 
 The Result sheet writes its ingredient table in the order the reader gives, which is the
 Ingredients sheet's row order. So when the input cells of a level are one unbroken column
@@ -27,6 +29,7 @@ from openpyxl.workbook.workbook import Workbook
 from openpyxl.worksheet.worksheet import Worksheet
 
 from blendkit.model.blend import AS_FED, DRY_MATTER, Blend, Ingredient
+from blendkit.model.combined import Combined
 from blendkit.model.formula import IngredientLine, NutrientLine
 from blendkit.write.workbook.cells import live, nutrient_format
 
@@ -97,16 +100,34 @@ def write_level_checks(
     """A live formula beside each as-fed nutrient line of the table under `header_row`,
     from the input contents; returns each nutrient's row of its first such formula."""
     live_rows: dict[str, int] = {}
+    combined = {item.name: item for item in blend.combined}
     for offset, line in enumerate(nutrients, start=1):
         if line.kind == "nutrient" and line.basis == AS_FED:
-            check = recompute_formula(
-                blend, lines, inclusion_rows, workbook,
-                lambda item, nutrient=line.name: item.content_cells.get(nutrient),
-            )
+            if line.name in combined:
+                check = _combined_formula(combined[line.name], live_rows)
+            else:
+                check = recompute_formula(
+                    blend, lines, inclusion_rows, workbook,
+                    lambda item, nutrient=line.name: item.content_cells.get(nutrient),
+                )
             if check is not None:
                 live(sheet.cell(header_row + offset, LIVE_COLUMN), check, nutrient_format(line))
                 live_rows.setdefault(line.name, header_row + offset)
     return live_rows
+
+
+def _combined_formula(combined: Combined, live_rows: dict[str, int]) -> str | None:
+    """A combined nutrient's live formula: its numbers times the live levels of its parts
+    (written above it, as the reader orders them); None when a part has none."""
+    if any(part not in live_rows for _number, part in combined.terms):
+        return None
+    column = get_column_letter(LIVE_COLUMN)
+    text = "="
+    for index, (number, part) in enumerate(combined.terms):
+        sign = "-" if number < 0 else ("+" if index else "")
+        shown = repr(abs(number)).removesuffix(".0")
+        text += f"{sign}{shown}*{column}{live_rows[part]}"
+    return text
 
 
 def write_derived_check(

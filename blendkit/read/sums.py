@@ -1,0 +1,188 @@
+"""The Sum of a Combined row: numbers times nutrient names joined by + and -.
+
+The syntax is our own and small; it is read by a tokenizer and a recursive descent
+parser, never evaluated as code::
+
+    sum   := [sign] term (sign term)*
+    term  := number "*" name | name "*" number | name
+    sign  := "+" | "-"            (the Unicode minus and the en dash are minus too)
+
+A number is written with a decimal point (``434.8``, ``.5``, ``2``); ``×`` is accepted
+for ``*``. A name is the text between operators, trimmed,
+and may hold spaces, digits and parentheses (``Lysine (digestible)``); it is compared like
+a Specs nutrient, so ``Sodium`` and ``Sodium (%)`` both name the column ``Sodium (%)``. A
+``+`` or ``-`` with no space on either side inside a name that exists
+(``Omega-3``) is part of the name. A bare name counts once; there is no constant term and
+no brackets. `parse_sum` returns the terms with the names as written (the caller checks
+that each names a nutrient) or raises `SumError` with a plain message.
+"""
+
+from __future__ import annotations
+
+import re
+from dataclasses import dataclass
+from typing import Callable
+
+# Operator characters and what they stand for.
+_OPERATORS = {"+": "+", "-": "-", "\u2212": "-", "\u2013": "-", "*": "*", "\u00d7": "*"}
+# A number as written in a Sum: digits with an optional decimal point.
+_NUMBER = re.compile(r"\d+(?:\.\d*)?|\.\d+")
+# A word that starts with a number and goes on (a missing "*", or a decimal comma).
+_LEADING_NUMBER = re.compile(r"(\d+(?:\.\d*)?|\.\d+)\s*(.*)", re.DOTALL)
+
+NUMBER, NAME, SIGN, TIMES = "number", "name", "sign", "times"
+
+EXAMPLE = "434.8 * Sodium + 255.8 * Potassium - 282.1 * Chloride"
+
+
+class SumError(ValueError):
+    """A Sum that does not follow the syntax; the message says what is wrong and how to write it."""
+
+
+@dataclass(frozen=True)
+class Token:
+    """One piece of a Sum: its kind, its text (an operator as it stands for) and where it is."""
+
+    kind: str
+    text: str
+    start: int
+    end: int
+
+
+@dataclass(frozen=True)
+class Term:
+    """One number times one nutrient, the name as written."""
+
+    number: float
+    name: str
+
+
+def parse_sum(text: str, known: Callable[[str], bool]) -> list[Term]:
+    """The terms of the Sum `text`; `known(name)` says whether a name is a nutrient (used to
+    keep "+" and "-" inside names such as "Omega-3"). Raises `SumError`."""
+    tokens = _joined(text, tokenize(text, known), known)
+    if not tokens:
+        raise SumError(f"the Sum is blank; write the nutrients it adds, each times a number, as in {EXAMPLE}")
+    sign, at = 1.0, 0
+    if tokens[0].kind == SIGN:
+        sign, at = (-1.0 if tokens[0].text == "-" else 1.0), 1
+        if len(tokens) == 1:
+            raise SumError(f'the Sum is only "{tokens[0].text}"; write the nutrients it adds, each times a '
+                           f"number, as in {EXAMPLE}")
+    terms: list[Term] = []
+    while True:
+        term, at = _term(tokens, at, sign, known)
+        terms.append(term)
+        if at == len(tokens):
+            return terms
+        token = tokens[at]
+        if token.kind != SIGN:
+            raise SumError(f'"{_shown(token)}" after "{_written(text, tokens, at)}" joins nothing: '
+                           f"a Sum is terms joined by + and -, each a number times a nutrient, as in {EXAMPLE}")
+        sign, at = (-1.0 if token.text == "-" else 1.0), at + 1
+        if at == len(tokens):
+            raise SumError(f'the Sum ends with "{_shown(token)}"; add a number times a nutrient after it, '
+                           "or delete it")
+
+
+def tokenize(text: str, known: Callable[[str], bool]) -> list[Token]:
+    """The Sum's tokens: operators, numbers and names (names as written, trimmed)."""
+    tokens: list[Token] = []
+    at = 0
+    while at < len(text):
+        character = text[at]
+        if character.isspace():
+            at += 1
+        elif character in _OPERATORS:
+            stands_for = _OPERATORS[character]
+            tokens.append(Token(TIMES if stands_for == "*" else SIGN, stands_for, at, at + 1))
+            at += 1
+        else:
+            end = at
+            while end < len(text) and text[end] not in _OPERATORS:
+                end += 1
+            word = text[at:end].rstrip()
+            tokens.append(_word(word, at, known))
+            at = end
+    return tokens
+
+
+def _word(word: str, start: int, known: Callable[[str], bool]) -> Token:
+    """The text between two operators: a number or a name (a name may start with a digit)."""
+    end = start + len(word)
+    if known(word) or not word[0].isdigit() and word[0] != ".":
+        return Token(NAME, word, start, end)
+    if _NUMBER.fullmatch(word):
+        return Token(NUMBER, word, start, end)
+    if re.fullmatch(r"\d+,\d+", word):
+        raise SumError(f'"{word}": write decimals with a point, as in {word.replace(",", ".")}')
+    match = _LEADING_NUMBER.fullmatch(word)
+    if match is None or not match[2]:
+        raise SumError(f'"{word}" is not a number; write numbers with digits and a decimal point, as in 434.8')
+    raise SumError(f'"{word}" has no "*" between the number and the nutrient; write {match[1]} * {match[2]}')
+
+
+def _joined(text: str, tokens: list[Token], known: Callable[[str], bool]) -> list[Token]:
+    """The tokens with "name-name" or "name+3" written without spaces made one name when that
+    name is known (and the first part alone is not)."""
+    result: list[Token] = []
+    at = 0
+    while at < len(tokens):
+        token = tokens[at]
+        while (token.kind == NAME and at + 2 < len(tokens) and tokens[at + 1].kind == SIGN
+               and tokens[at + 1].start == token.end and tokens[at + 2].start == tokens[at + 1].end
+               and tokens[at + 2].kind in (NAME, NUMBER) and not known(token.text)
+               and known(text[token.start:tokens[at + 2].end])):
+            token = Token(NAME, text[token.start:tokens[at + 2].end], token.start, tokens[at + 2].end)
+            at += 2
+        result.append(token)
+        at += 1
+    return result
+
+
+def _term(tokens: list[Token], at: int, sign: float, known: Callable[[str], bool]) -> tuple[Term, int]:
+    """The term starting at `at` and where the next token is."""
+    token = tokens[at]
+    after = tokens[at + 1] if at + 1 < len(tokens) else None
+    if token.kind in (SIGN, TIMES) and at > 0 and tokens[at - 1].kind == SIGN:
+        raise SumError(f'two operators in a row ("{tokens[at - 1].text} {_shown(token)}"); put a number times a '
+                       "nutrient between them, or delete one")
+    if token.kind == TIMES:
+        raise SumError(f'"{_shown(token)}" has no number before it; write a number times a nutrient, as in 434.8 * Sodium')
+    if after is None or after.kind != TIMES:
+        if token.kind == NUMBER:
+            raise SumError(f"the number {token.text} multiplies no nutrient; write {token.text} * a nutrient, "
+                           "or delete it (a Sum has no constant part)")
+        return Term(sign, _name(token, known)), at + 1
+    other = tokens[at + 2] if at + 2 < len(tokens) else None
+    if other is None:
+        raise SumError(f'"{_shown(after)}" after "{token.text}" has nothing after it; write '
+                       + ("a nutrient" if token.kind == NUMBER else "a number"))
+    if other.kind in (SIGN, TIMES):
+        raise SumError(f'two operators in a row ("{_shown(after)} {_shown(other)}"); put a number between them, '
+                       "or delete one")
+    if token.kind == other.kind == NUMBER:
+        raise SumError(f"{token.text} * {other.text} multiplies two numbers; write one number times a nutrient")
+    if token.kind == other.kind == NAME:
+        raise SumError(f'"{token.text} * {other.text}" multiplies two nutrients; a Sum adds nutrients, each '
+                       "times a number")
+    number, name = (token, other) if token.kind == NUMBER else (other, token)
+    return Term(sign * float(number.text), _name(name, known)), at + 3
+
+
+def _name(token: Token, known: Callable[[str], bool]) -> str:
+    """A name token's text; brackets used to group terms are refused."""
+    if not known(token.text) and token.text.count("(") != token.text.count(")"):
+        raise SumError("brackets cannot group terms in a Sum; multiply each nutrient by its number, "
+                       "as in 2 * Calcium + 2 * Phosphorus")
+    return token.text
+
+
+def _shown(token: Token) -> str:
+    """An operator as shown in a message."""
+    return "*" if token.kind == TIMES else token.text
+
+
+def _written(text: str, tokens: list[Token], at: int) -> str:
+    """The Sum's text up to the token at `at`, trimmed, for a message."""
+    return text[:tokens[at].start].strip()
