@@ -41,7 +41,7 @@ def test_sheets_headers_and_look(template: Path):
     assert book.sheetnames == SHEETS
     headers = {sheet.title: [c.value for c in sheet[1] if c.value is not None] for sheet in book}
     assert headers["Ingredients"][:7] == ["Ingredient", "Cost (per t)", "Min (%)", "Max (%)", "Use", "Unit", "Stock (kg)"]
-    assert headers["Specs"] == ["Nutrient", "Basis", "Min", "Max", "Product", "Penalty", "Priority"]
+    assert headers["Specs"] == ["Nutrient", "Basis", "Min", "Max", "Product", "Penalty", "Priority", "Step", "Margin"]
     assert headers["Groups"] == ["Group", "Ingredients", "Min (%)", "Max (%)", "Product", "Priority"]
     assert headers["Ingredients"][7:10] == ["Min if used (%)", "Pack size (kg)", "Scale step (kg)"]
     assert headers["Products"] == ["Product", "Amount (kg)", "Max ingredients"]

@@ -58,11 +58,11 @@ INGREDIENT_ROWS = (
     (f"Protein meal {EXAMPLE_ROW}", 420, None, 35, "yes", None, None, None, None, None, 89, 45.0, 0.30, 0.65),
     (f"Limestone {EXAMPLE_ROW}", 50, None, None, "yes", None, None, None, None, None, 99, 0.0, 38.0, 0.0),
 )
-SPEC_HEADER = ("Nutrient", "Basis", "Min", "Max", "Product", "Penalty", "Priority")
+SPEC_HEADER = ("Nutrient", "Basis", "Min", "Max", "Product", "Penalty", "Priority", "Step", "Margin")
 SPEC_ROWS = (
-    ("Crude protein", "dry matter", 18, None, None, None, None),
-    ("Calcium", "as fed", 0.6, 1.0, None, None, None),
-    ("Calcium / Phosphorus", "as fed", 1.5, 2.5, None, None, None),
+    ("Crude protein", "dry matter", 18, None, None, None, None, None, None),
+    ("Calcium", "as fed", 0.6, 1.0, None, None, None, None, None),
+    ("Calcium / Phosphorus", "as fed", 1.5, 2.5, None, None, None, None, None),
 )
 # One combined nutrient, with no spec: it is shown in the results and changes nothing.
 COMBINED_HEADER = ("Nutrient", "Sum", "Unit")
@@ -137,6 +137,10 @@ README = (
     ("Priority", "1 to 9, blank for the default. When limits cannot all be met, those with a lower "
      "priority give way first in the least-cost way out. Defaults: ingredient limits 2, nutrient, "
      "ratio and group specs 3, Use = no 4, stocks 5."),
+    ("Step", "Optional: the change of this bound whose cost the output shows (shadow price times "
+     "step); blank for the default by unit (0.01 for %, 0.1 for MJ/kg, 1 for mg/kg)."),
+    ("Margin", "Optional, 0 or more, in the spec's unit: a safety margin. The formula is made to "
+     "Min + Margin and Max - Margin; the results show the spec and this target."),
     ("Combined sheet", "Optional: nutrients made by adding up others, such as an electrolyte "
      "balance; a combined nutrient may then be used on Specs like any nutrient column."),
     ("Nutrient", "A new name, not a nutrient column of Ingredients."),
@@ -269,7 +273,7 @@ def _write_ingredients(sheet: Worksheet) -> None:
 def _write_specs(sheet: Worksheet) -> None:
     """The Specs sheet: example rows (a ratio, a dry-matter spec) and the Basis drop-down."""
     _table(sheet, SPEC_HEADER, SPEC_ROWS, freeze="A2")
-    for column in ("C", "D", "F"):
+    for column in ("C", "D", "F", "H", "I"):
         _number_format(sheet, column, AMOUNT_FORMAT)
     _choices(sheet, "B", BASIS_CHOICES, "Basis", "as fed, or dry matter (level per unit of dry matter).")
 
