@@ -8,9 +8,11 @@
 ``Dry matter``  the nutrient column holding dry matter in % as fed, default "Dry
                 matter". When given it must name a nutrient column; it is stored as
                 the column's name in the Ingredients header.
+``Hand-add below``  a mass in the mass unit, more than 0: on the Batch sheet, weights
+                below it are listed apart as hand additions. Default none (no such list).
 A blank value keeps the default. Unknown and repeated settings are errors.
 `Settings.cells` maps each setting read ("batch size", "mass unit", "cost per",
-"currency", "name", "mode", "dry matter") to the cell of its value.
+"currency", "name", "mode", "dry matter", "hand-add below") to the cell of its value.
 """
 
 from __future__ import annotations
@@ -42,6 +44,7 @@ _KNOWN_SETTINGS = {
     "name": "Name",
     "mode": "Mode",
     "dry matter": "Dry matter",
+    "hand-add below": "Hand-add below",
 }
 
 
@@ -68,7 +71,7 @@ def read_settings(table: Table, problems: list[Problem]) -> Settings:
             continue  # blank keeps the default; unsaved is already reported
         value = _setting_value(key, value_cell, problems)
         if value is not None:
-            given[key.replace(" ", "_")] = value
+            given[key.replace(" ", "_").replace("-", "_")] = value
             cells[key] = value_cell.ref
     return Settings(**given, cells=cells)
 
@@ -105,6 +108,8 @@ def _setting_value(key: str, cell: Cell, problems: list[Problem]) -> object | No
     """One setting's value, checked; None when wrong (reported)."""
     if key == "batch size":
         return _batch_size(cell, problems)
+    if key == "hand-add below":
+        return _hand_add_below(cell, problems)
     label = _KNOWN_SETTINGS[key].lower()
     text = read_name(cell, label, problems)
     if text is None:
@@ -126,6 +131,19 @@ def _batch_size(cell: Cell, problems: list[Problem]) -> float | None:
         )))
         return None
     return size
+
+
+def _hand_add_below(cell: Cell, problems: list[Problem]) -> float | None:
+    """The hand-add threshold, more than 0; None when wrong (reported)."""
+    below = read_number(cell, "hand-add below", problems)
+    if below is not None and below <= 0:
+        problems.append(Problem(cell.ref, (
+            f"hand-add below {format_number(below)} must be more than 0; it is the weight "
+            "(in the mass unit) under which the Batch sheet lists an ingredient as a hand "
+            "addition; clear it to list none apart"
+        )))
+        return None
+    return below
 
 
 def _mass_unit(cell: Cell, label: str, text: str, problems: list[Problem]) -> str | None:
