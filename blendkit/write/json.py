@@ -8,6 +8,8 @@ The shape is fixed (keys in this order). One blend (or one diet)::
      "nutrients": {name: level},
      "limits": [{"kind", "name", "product", "side", "bound", "level", "binding",
                  "shadow_price", "cell", "holds_from", "holds_to"}],
+     "batch": {"size", "unit", "weights": [{"ingredient", "weight", "packs"?, "step"?,
+               "hand_add", "note"?}]} | null,
      "stocks": {ingredient: {"used", "available", "shadow_price"}},
      "violations": [{"kind", "name", "product", "side", "bound", "level", "cell",
                      "violation", "penalty"}],
@@ -18,13 +20,19 @@ holds unchanged (null: no end, or not known, as for ratio and dry-matter bounds)
 `prices` gives, per ingredient, the price range over which the formula stays the cheapest
 (cost ranging): below `more_below` it would be used more (or come in), above `less_above`
 it would be used less (or drop out); null where no price change that way alters it.
+`batch` is what the Batch sheet weighs (`blendkit.model.batch`): the `Batch size` setting
+and mass unit, and one entry per used ingredient in formula order: its `weight` per batch
+(mass unit), how many `packs` when the weight is whole packs of the ingredient's pack size, the scale `step` it
+is a whole multiple of when it is on one, `hand_add` when it is below the `Hand-add
+below` setting, and a `note` when the ingredient has a pack size or a step the formula
+was not found on (its weight is then exact). It is null for a diet and without a formula.
 `violations` lists the soft limits (specs with a Penalty) that the formula breaks, with
 the shortfall or excess and the penalty per unit; it is empty when every limit is met.
 
 With a Products sheet::
 
     {"status": str, "message": str, "total_cost": float | null,
-     "products": {name: {"cost", "ingredients", "prices", "nutrients", "limits"}},
+     "products": {name: {"cost", "ingredients", "prices", "nutrients", "limits", "batch"}},
      "stocks": {ingredient: {"used", "available", "shadow_price"}},
      "violations": [...], "notes": [str]}
 
@@ -72,6 +80,7 @@ import json
 import math
 from typing import Any
 
+from blendkit.model.batch import NO_STEP, Batch, BatchLine, batches
 from blendkit.model.changes import FormulaChanges
 from blendkit.model.formula import ConflictLine, Formula, Limit, NutrientLine
 from blendkit.model.record import nutrient_key
@@ -103,6 +112,7 @@ def formula_to_dict(formula: Formula) -> dict[str, Any]:
             "notes": [str(note) for note in formula.notes],
             "cross_check": _cross_check(formula),
         }))
+    batch_by_product = {batch.product: batch for batch in batches(formula)}
     return _with_changes(formula, _conflicts(formula, {
         "status": str(formula.status),
         "message": str(formula.message),
@@ -111,6 +121,7 @@ def formula_to_dict(formula: Formula) -> dict[str, Any]:
         "prices": _prices(formula.ingredients),
         "nutrients": {_key(line): _number(line.level) for line in formula.nutrients},
         "limits": [_limit(limit) for limit in formula.limits],
+        "batch": _batch(batch_by_product.get(None)),
         "stocks": stocks,
         "violations": _violations(formula),
         "notes": [str(note) for note in formula.notes],
@@ -167,6 +178,7 @@ def _products(formula: Formula) -> dict[str, Any]:
         if part.status == "infeasible"
         for product in part.blend.products
     }
+    batch_by_product = {batch.product: batch for batch in batches(formula)}
     products = {}
     for product in formula.products:
         entry = {
@@ -177,11 +189,34 @@ def _products(formula: Formula) -> dict[str, Any]:
             "prices": _prices(product.ingredients),
             "nutrients": {_key(line): _number(line.level) for line in product.nutrients},
             "limits": [_limit(limit) for limit in product.limits],
+            "batch": _batch(batch_by_product.get(product.name)),
         }
         if product.name in relaxations:
             entry["relaxation"] = relaxations[product.name]
         products[str(product.name)] = entry
     return products
+
+
+def _batch(batch: Batch | None) -> dict[str, Any] | None:
+    """What to weigh for one batch (null without one: no formula, or a diet)."""
+    if batch is None:
+        return None
+    return {"size": _number(batch.size), "unit": str(batch.unit),
+            "weights": [_weight(line) for line in batch.lines]}
+
+
+def _weight(line: BatchLine) -> dict[str, Any]:
+    """One weight; "packs" and "step" only when the weight is on them, "note" only when
+    the ingredient has a pack size or a step the formula is not on."""
+    entry: dict[str, Any] = {"ingredient": str(line.ingredient), "weight": _number(line.weight)}
+    if line.packs is not None:
+        entry["packs"] = int(line.packs)
+    if line.step is not None:
+        entry["step"] = _number(line.step)
+    entry["hand_add"] = bool(line.hand_add)
+    if line.note and line.note != NO_STEP:
+        entry["note"] = str(line.note)
+    return entry
 
 
 def _conflicts(formula: Formula, data: dict[str, Any]) -> dict[str, Any]:
