@@ -189,6 +189,7 @@ def test_batch_sheets_print_on_one_portrait_page(solved):
         for sheet in batch_sheets(openpyxl.load_workbook(output)):
             assert sheet.page_setup.orientation == "portrait"
             assert sheet.page_setup.fitToHeight == 1 and sheet.page_setup.fitToWidth == 1
+            assert sheet.print_area.endswith(f"!$A$1:$G${sheet.max_row}")
             texts = [c.value for row in sheet.iter_rows() for c in row if isinstance(c.value, str)]
             assert any(t.startswith("Caution:") for t in texts)
             assert {"Mixed by", "Checked by", "Date"} <= set(texts)
@@ -361,3 +362,20 @@ def check_live_sheet(sheet, blend: Blend, product: str | None) -> None:
         assert close(sheet.cell(row, 4).value, value), (sheet.title, label)
         assert sheet.cell(row, 5).value == MET
     assert sheet.cell(found["overall_row"], 5).value == ALL_MET
+
+
+def test_a_users_own_batch_sheet_is_kept_under_a_new_title(tmp_path):
+    from blendkit.model.blend import is_output_title, kept_sheet_titles
+
+    assert is_output_title("Batch sheet") and is_output_title("batch SHEET 12")
+    assert not is_output_title("Batch sheet 0") and not is_output_title("Batch sheets")
+    assert kept_sheet_titles(["Batch sheet 2", "Batch sheet notes"], frozenset()) == {
+        "Batch sheet 2": "Batch sheet 2 (input)"}
+    path, _ = with_setting(tmp_path, "layer_feed", "Hand-add below", 1)
+    book = openpyxl.load_workbook(path)
+    book.create_sheet("Batch sheet").append(["my own weighing notes"])
+    book.save(path)
+    solve_workbook(path, tmp_path / "out.xlsx", check=False)
+    out = openpyxl.load_workbook(tmp_path / "out.xlsx")
+    assert out["Batch sheet (input)"]["A1"].value == "my own weighing notes"
+    assert out["Batch sheet"]["A1"].value.startswith("Batch sheet: ")

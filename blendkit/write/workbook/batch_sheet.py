@@ -67,6 +67,7 @@ EXACT_DECIMALS = 3
 _MOST_DECIMALS = 6
 # Rows of the top part: product, batch size; the tables start below.
 _PRODUCT_ROW, _SIZE_ROW, _FIRST_TABLE = 4, 5, 7
+CENTRE = Alignment(horizontal="center")
 _UNAVAILABLE = "not available: input cells unknown or formula too long"
 
 
@@ -110,6 +111,7 @@ def _write_batch(sheet: Worksheet, workbook: Workbook, formula: Formula, batch: 
         live(sheet.cell(at, 3), f"=B{at}/$B${total}*100", fixed_format(EXACT_DECIMALS))
     row = _write_spec_check(sheet, workbook, formula, batch, rows, total + 2)
     _write_sign_off(sheet, row + 1)
+    sheet.print_area = f"A1:{get_column_letter(len(WIDTHS))}{sheet.max_row}"
 
 
 def _write_lines(sheet: Worksheet, batch: Batch, lines: tuple[BatchLine, ...], row: int,
@@ -160,7 +162,7 @@ def _write_total(sheet: Worksheet, batch: Batch, row: int, ranges: list[str]) ->
     check = sheet.cell(row, 4)
     check.value = (f'=IF(ABS(B{row}-{size})<={ON_STEP!r}*{size},"equals the batch size",'
                    f'"differs from the batch size")')
-    check.alignment = Alignment(horizontal="left")
+    check.alignment = BESIDE_NUMBER
     sheet.conditional_formatting.add(check.coordinate, CellIsRule(
         operator="equal", formula=['"differs from the batch size"'], fill=ALERT_FILL, font=ALERT_TEXT))
     return row
@@ -171,8 +173,7 @@ def _write_spec_check(sheet: Worksheet, workbook: Workbook, formula: Formula, ba
     """Every spec line (a min or a max) with its level recomputed live from the weights;
     returns the first row after the block and a blank."""
     put(sheet, row, 1, "Spec check").font = SECTION
-    put(sheet, row, 2, "each level recomputed live from the weights above (% of batch) and "
-                       "the Ingredients sheet's contents")
+    put(sheet, row, 2, "each level recomputed live from these weights and the Ingredients sheet")
     header(sheet, row + 1, ["Spec", "Min", "Max", "Level", "Check", "Unit"])
     specs = [line for line in batch.nutrients if line.minimum is not None or line.maximum is not None]
     lines = tuple(line for line in _product_lines(formula, batch) if line.name in rows)
@@ -188,7 +189,7 @@ def _write_spec_check(sheet: Worksheet, workbook: Workbook, formula: Formula, ba
             put(sheet, at, 4, _UNAVAILABLE)
         else:
             live(sheet.cell(at, 4), text, nutrient_format(line))
-            sheet.cell(at, 5).value = _check_formula(at)
+            sheet.cell(at, 5, _check_formula(at)).alignment = CENTRE
         put(sheet, at, 6, line.unit or None).alignment = BESIDE_NUMBER
     last = row + len(specs) + 1
     if specs:
@@ -199,6 +200,7 @@ def _write_spec_check(sheet: Worksheet, workbook: Workbook, formula: Formula, ba
         count = f'COUNTIF({cells},"{NOT_MET}")'
         overall = sheet.cell(last + 1, 5, f'=IF({count}=0,"{ALL_MET}",{count}&" {NOT_MET}")')
         overall.font = BOLD
+        overall.alignment = CENTRE
     else:
         put(sheet, last + 1, 1, "This product has no spec with a min or a max.")
     return last + 3
