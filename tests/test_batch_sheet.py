@@ -382,3 +382,19 @@ def test_a_users_own_batch_sheet_is_kept_under_a_new_title(tmp_path):
     out = openpyxl.load_workbook(tmp_path / "out.xlsx")
     assert out["Batch sheet (input)"]["A1"].value == "my own weighing notes"
     assert out["Batch sheet"]["A1"].value.startswith("Batch sheet: ")
+
+
+def test_a_product_without_a_formula_has_no_batch_sheet(tmp_path):
+    from tests.workbooks import INGREDIENTS, PRODUCTS, SPECS
+
+    # Pullet grower held to at least 50 % limestone (37.5 % calcium) cannot keep calcium
+    # at most 4.1 %: no formula, so nothing to weigh; Layer mash still has its sheet.
+    limits = [["Product", "Ingredient", "Min", "Max"], ["Pullet grower", "Limestone", 50, None]]
+    path = make_workbook(tmp_path, INGREDIENTS, SPECS, sheets={"Products": PRODUCTS, "Limits": limits})
+    outcome = solve_workbook(path, tmp_path / "out.xlsx", check=False)
+    status = {p.name: p.status for p in outcome.formula.products}
+    assert status == {"Layer mash": "optimal", "Pullet grower": "infeasible"}
+    sheets = batch_sheets(openpyxl.load_workbook(tmp_path / "out.xlsx"))
+    assert [(s.title, s["B4"].value) for s in sheets] == [("Batch sheet", "Layer mash")]
+    products = formula_to_dict(outcome.formula)["products"]
+    assert products["Pullet grower"]["batch"] is None and products["Layer mash"]["batch"]["weights"]

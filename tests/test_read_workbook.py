@@ -499,9 +499,9 @@ def settings_problems(tmp_path: Path, *rows: list) -> list[str]:
 def test_unknown_setting(tmp_path):
     assert settings_problems(tmp_path, ["Batch", 500], ["Colour", "red"]) == [
         'Settings!A2: unknown setting "Batch"; the settings are: Batch size, Mass unit, Cost per, '
-        'Currency, Name, Mode, Dry matter; did you mean "Batch size"?',
+        'Currency, Name, Mode, Dry matter, Hand-add below; did you mean "Batch size"?',
         'Settings!A3: unknown setting "Colour"; the settings are: Batch size, Mass unit, Cost per, '
-        "Currency, Name, Mode, Dry matter",
+        "Currency, Name, Mode, Dry matter, Hand-add below",
     ]
 
 
@@ -534,7 +534,7 @@ def test_mass_units_must_be_known(tmp_path):
 def test_setting_value_without_a_name(tmp_path):
     assert settings_problems(tmp_path, [None, 5]) == [
         "Settings!A2: this row has a value but no setting name; type one of Batch size, Mass unit, "
-        "Cost per, Currency, Name, Mode, Dry matter, or clear the row"
+        "Cost per, Currency, Name, Mode, Dry matter, Hand-add below, or clear the row"
     ]
 
 

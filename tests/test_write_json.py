@@ -113,6 +113,7 @@ def test_not_optimal_has_null_cost_and_empty_tables():
         "prices": {},
         "nutrients": {},
         "limits": [],
+        "batch": None,
         "stocks": {},
         "violations": [],
         "notes": list(formula.notes),
