@@ -34,7 +34,6 @@ from blendkit.write.workbook.cells import (
     HEADER_BORDER,
     SECTION,
     TITLE_FONT,
-    WRAP_TOP,
     fixed_format,
     header,
     live,
@@ -68,6 +67,7 @@ _MOST_DECIMALS = 6
 # Rows of the top part: product, batch size; the tables start below.
 _PRODUCT_ROW, _SIZE_ROW, _FIRST_TABLE = 4, 5, 7
 CENTRE = Alignment(horizontal="center")
+NOTE = Alignment(wrap_text=True, vertical="top", indent=1)  # kept off the Weighed box
 _UNAVAILABLE = "not available: input cells unknown or formula too long"
 
 
@@ -133,8 +133,7 @@ def _write_lines(sheet: Worksheet, batch: Batch, lines: tuple[BatchLine, ...], r
             put(sheet, at, 4, f"{line.packs} x {plain(line.pack_size)} {batch.unit}")
         number(sheet.cell(at, 5), line.step, _weight_format(line))
         sheet.cell(at, 6).border = BOX
-        note = put(sheet, at, 7, line.note or None)
-        note.alignment = WRAP_TOP
+        put(sheet, at, 7, line.note or None).alignment = NOTE
     return row + len(lines) + 2
 
 
