@@ -11,7 +11,7 @@ import pytest
 from blendkit.write.json import formula_to_dict, formula_to_json
 from tests import formulas
 
-KEYS = ["status", "message", "cost", "ingredients", "prices", "nutrients", "limits", "stocks", "violations", "notes", "cross_check"]
+KEYS = ["status", "message", "cost", "ingredients", "prices", "nutrients", "limits", "batch", "stocks", "violations", "notes", "cross_check"]
 LIMIT_KEYS = ["kind", "name", "product", "side", "bound", "level", "binding", "shadow_price", "shadow_price_up",
               "shadow_price_down", "cell", "holds_from", "holds_to", "step", "per_step", "note",
               "margin", "target"]
@@ -119,6 +119,7 @@ def test_not_optimal_has_null_cost_and_empty_tables():
         "prices": {},
         "nutrients": {},
         "limits": [],
+        "batch": None,
         "stocks": {},
         "violations": [],
         "notes": list(formula.notes),

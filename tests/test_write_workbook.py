@@ -18,6 +18,8 @@ from openpyxl.workbook.workbook import Workbook
 
 import blendkit.write.workbook.save
 from blendkit import CAUTION
+from blendkit.model.batch import batches
+from blendkit.model.blend import batch_sheet_title
 from blendkit.read.workbook import read_workbook
 from blendkit.write.workbook.book import write_workbook
 from blendkit.write.workbook.shadow_prices import ordered
@@ -27,7 +29,7 @@ from tests.workbooks import store_saved_values
 INPUT_SHEETS = ["Ingredients", "Specs", "Settings"]
 # The output sheets of a solved run, and of an infeasible one (Conflicts after Result).
 # "Result data" is the hidden record of the run, which a later run compares with.
-SOLVED_SHEETS = ["Result", "Shadow prices", "Run info", "Result data"]
+SOLVED_SHEETS = ["Result", "Batch sheet", "Shadow prices", "Run info", "Result data"]
 INFEASIBLE_SHEETS = ["Result", "Conflicts", "Shadow prices", "Run info", "Result data"]
 LIVE = 8  # the nutrient table's column of live formulas (H)
 
@@ -608,6 +610,13 @@ SCENARIOS = {
 }
 
 
+def solved_sheets(formula) -> list[str]:
+    """The output sheets of a solved formula: one Batch sheet per product with a batch to
+    weigh (none for a diet), numbered from the second."""
+    count = len(batches(formula))
+    return ["Result", *(batch_sheet_title(k) for k in range(1, count + 1)), *SOLVED_SHEETS[2:]]
+
+
 def written(scenario: str, tmp_path: Path):
     """The scenario's formula and its output workbook, loaded with formulas."""
     write_source, make, _ = SCENARIOS[scenario]
@@ -631,12 +640,12 @@ def rows_of(sheet, label: str, column: int = 1) -> list[int]:
 def test_every_scenario_keeps_inputs_and_the_caution(scenario: str, tmp_path: Path):
     formula, workbook = written(scenario, tmp_path)
     overview = ["Overview"] if len(formula.products) > 1 else []  # first with several products
-    assert workbook.sheetnames == [*overview, *SCENARIOS[scenario][2], *SOLVED_SHEETS]
+    assert workbook.sheetnames == [*overview, *SCENARIOS[scenario][2], *solved_sheets(formula)]
     assert workbook["Result"]["A2"].value == CAUTION
     assert workbook["Result"]["B4"].value == "optimal"
     info = {row[0]: row[1] for row in workbook["Run info"].iter_rows(min_row=2, values_only=True)}
     assert info["Caution"] == CAUTION
-    for sheet in SOLVED_SHEETS:
+    for sheet in solved_sheets(formula):
         for row in workbook[sheet].iter_rows(values_only=True):
             assert not any(isinstance(v, float) and not math.isfinite(v) for v in row)
 
@@ -648,7 +657,7 @@ def test_every_scenario_is_replaced_when_solved_again(scenario: str, tmp_path: P
     first = write(make(), source, tmp_path / "first.xlsx")
     second = write(make(), first, tmp_path / "second.xlsx")
     overview = ["Overview"] if len(make().products) > 1 else []
-    assert load_workbook(second).sheetnames == [*overview, *inputs, *SOLVED_SHEETS]
+    assert load_workbook(second).sheetnames == [*overview, *inputs, *solved_sheets(make())]
     for name in [*inputs, "Result", "Shadow prices"]:
         assert cell_values(second, name) == cell_values(first, name), name
     # The output still reads as the same blend, Groups and Products sheets included.

@@ -8,6 +8,7 @@ Every bound keeps the cell it was read from, so reports can point back to it.
 from __future__ import annotations
 
 import json
+import re
 from collections.abc import Iterable
 from dataclasses import dataclass, field
 from functools import cached_property
@@ -242,11 +243,27 @@ class Blend:
 # workbook property (a custom document property) listing those a run wrote. A later run
 # replaces only the sheets that property lists, and keeps a user's own sheet of one of these
 # names under a new title. The reader notes the new title; the writer gives it.
-OUTPUT_SHEET_TITLES = ("Overview", "Result", "Conflicts", "Changes", "Shadow prices", "Run info", "Result data")
+OUTPUT_SHEET_TITLES = ("Overview", "Result", "Batch sheet", "Conflicts", "Changes", "Shadow prices", "Run info",
+                       "Result data")
+# A run of several products writes one Batch sheet each: "Batch sheet", "Batch sheet 2", ...
+BATCH_SHEET_TITLE = "Batch sheet"
+_NUMBERED_BATCH_SHEET = re.compile(r"batch sheet [1-9][0-9]*")
 OUTPUT_SHEETS_PROPERTY = "blendkit output sheets"
 
 # Excel's longest sheet title.
 _LONGEST_TITLE = 31
+
+
+def batch_sheet_title(number: int) -> str:
+    """The title of a run's `number`th Batch sheet (1: "Batch sheet", 2: "Batch sheet 2")."""
+    return BATCH_SHEET_TITLE if number == 1 else f"{BATCH_SHEET_TITLE} {number}"
+
+
+def is_output_title(title: str) -> bool:
+    """True when `title` (any case) names one of blendkit's output sheets."""
+    folded = title.casefold()
+    owned = {name.casefold() for name in OUTPUT_SHEET_TITLES}
+    return folded in owned or _NUMBERED_BATCH_SHEET.fullmatch(folded) is not None
 
 
 def output_sheets_value(titles: Iterable[str]) -> str:
@@ -275,7 +292,7 @@ def kept_sheet_titles(titles: list[str], written: frozenset[str]) -> dict[str, s
     taken = {title.casefold() for title in titles} | owned
     fate: dict[str, str | None] = {}
     for title in titles:
-        if title.casefold() not in owned:
+        if not is_output_title(title):
             continue
         if title.casefold() in written:
             fate[title] = None

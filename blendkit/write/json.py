@@ -10,6 +10,8 @@ The shape is fixed (keys in this order). One blend (or one diet)::
                  "shadow_price", "shadow_price_up", "shadow_price_down", "cell",
                  "holds_from", "holds_to", "step", "per_step", "note", "margin",
                  "target"}],
+     "batch": {"size", "unit", "weights": [{"ingredient", "weight", "packs"?, "step"?,
+               "hand_add", "note"?}]} | null,
      "stocks": {ingredient: {"used", "available", "shadow_price"}},
      "violations": [{"kind", "name", "product", "side", "bound", "level", "cell",
                      "violation", "penalty"}],
@@ -29,6 +31,12 @@ bound as written.
 `prices` gives, per ingredient, the price range over which the formula stays the cheapest
 (cost ranging): below `more_below` it would be used more (or come in), above `less_above`
 it would be used less (or drop out); null where no price change that way alters it.
+`batch` is what the Batch sheet weighs (`blendkit.model.batch`): the `Batch size` setting
+and mass unit, and one entry per used ingredient in formula order: its `weight` per batch
+(mass unit), how many `packs` when the weight is whole packs of the ingredient's pack size, the scale `step` it
+is a whole multiple of when it is on one, `hand_add` when it is below the `Hand-add
+below` setting, and a `note` when the ingredient has a pack size or a step the formula
+was not found on (its weight is then exact). It is null for a diet and without a formula.
 `violations` lists the soft limits (specs with a Penalty) that the formula breaks, with
 the shortfall or excess and the penalty per unit; it is empty when every limit is met.
 
@@ -36,7 +44,7 @@ With a Products sheet::
 
     {"status": str, "message": str, "total_cost": float | null,
      "prices": {name: {"more_below", "less_above", "note", "scope"}},
-     "products": {name: {"cost", "ingredients", "prices", "nutrients", "limits"}},
+     "products": {name: {"cost", "ingredients", "prices", "nutrients", "limits", "batch"}},
      "stocks": {ingredient: {"used", "available", "shadow_price"}},
      "violations": [...], "notes": [str]}
 
@@ -103,6 +111,7 @@ import json
 import math
 from typing import Any
 
+from blendkit.model.batch import NO_STEP, Batch, BatchLine, batches
 from blendkit.model.changes import FormulaChanges
 from blendkit.model.formula import (
     EVERY_PRODUCT,
@@ -146,6 +155,7 @@ def formula_to_dict(formula: Formula) -> dict[str, Any]:
             "notes": [str(note) for note in formula.notes],
             "cross_check": _cross_check(formula),
         }))
+    batch_by_product = {batch.product: batch for batch in batches(formula)}
     return _with_changes(formula, _conflicts(formula, {
         "status": str(formula.status),
         "message": str(formula.message),
@@ -154,6 +164,7 @@ def formula_to_dict(formula: Formula) -> dict[str, Any]:
         "prices": _prices(formula.ingredients),
         "nutrients": {_key(line): _number(line.level) for line in formula.nutrients},
         "limits": [_limit(limit, formula.blend, formula.limits) for limit in formula.limits],
+        "batch": _batch(batch_by_product.get(None)),
         "stocks": stocks,
         "violations": _violations(formula),
         "notes": [str(note) for note in formula.notes],
@@ -223,6 +234,7 @@ def _products(formula: Formula) -> dict[str, Any]:
         if part.status == "infeasible"
         for product in part.blend.products
     }
+    batch_by_product = {batch.product: batch for batch in batches(formula)}
     products = {}
     for product in formula.products:
         entry = {
@@ -233,12 +245,35 @@ def _products(formula: Formula) -> dict[str, Any]:
             "prices": _prices(product.ingredients, THIS_PRODUCT_ALONE if formula.linked(product.name) else THIS_PRODUCT),
             "nutrients": {_key(line): _number(line.level) for line in product.nutrients},
             "limits": [_limit(limit, formula.blend, product.limits) for limit in product.limits],
+            "batch": _batch(batch_by_product.get(product.name)),
             **_practical(product),
         }
         if product.name in relaxations:
             entry["relaxation"] = relaxations[product.name]
         products[str(product.name)] = entry
     return products
+
+
+def _batch(batch: Batch | None) -> dict[str, Any] | None:
+    """What to weigh for one batch (null without one: no formula, or a diet)."""
+    if batch is None:
+        return None
+    return {"size": _number(batch.size), "unit": str(batch.unit),
+            "weights": [_weight(line) for line in batch.lines]}
+
+
+def _weight(line: BatchLine) -> dict[str, Any]:
+    """One weight; "packs" and "step" only when the weight is on them, "note" only when
+    the ingredient has a pack size or a step the formula is not on."""
+    entry: dict[str, Any] = {"ingredient": str(line.ingredient), "weight": _number(line.weight)}
+    if line.packs is not None:
+        entry["packs"] = int(line.packs)
+    if line.step is not None:
+        entry["step"] = _number(line.step)
+    entry["hand_add"] = bool(line.hand_add)
+    if line.note and line.note != NO_STEP:
+        entry["note"] = str(line.note)
+    return entry
 
 
 def _conflicts(formula: Formula, data: dict[str, Any]) -> dict[str, Any]:

@@ -12,6 +12,9 @@ only those: a user's own sheet of one of these names is kept as "<name> (input)"
   `layout`, `charts`): page one to sign (status, cost, spec check, binding limits, notes),
   then the ingredient and nutrient tables with live checks, stocks and charts.
 * ``Overview`` (`overview`, several products only): one row per product, first.
+* ``Batch sheet`` (`batch_sheet`, one per product with a formula: ``Batch sheet 2``, ...):
+  what the mill weighs for one batch, its total, a live spec check and sign-off cells,
+  on one printed page.
 * ``Conflicts`` (`conflicts`, only when the run is infeasible): each conflicting set of
   limits and the least-cost way out. One left by an earlier run is removed when the
   workbook is now feasible.
@@ -42,9 +45,16 @@ from openpyxl.packaging.custom import StringProperty
 from openpyxl.workbook.workbook import Workbook
 from openpyxl.worksheet.worksheet import Worksheet
 
-from blendkit.model.blend import OUTPUT_SHEETS_PROPERTY, kept_sheet_titles, output_sheets_value, written_sheets
+from blendkit.model.blend import (
+    OUTPUT_SHEETS_PROPERTY,
+    is_output_title,
+    kept_sheet_titles,
+    output_sheets_value,
+    written_sheets,
+)
 from blendkit.model.formula import Formula, RunInfo
 from blendkit.write.workbook import (
+    batch_sheet,
     changes,
     conflicts,
     overview,
@@ -64,6 +74,7 @@ from blendkit.write.workbook.saved_results import saved_results, with_saved_resu
 SHEET_WRITERS = (
     result,
     overview,  # written after Result (it links to its blocks), then moved first
+    batch_sheet,  # one per product with a formula: "Batch sheet", "Batch sheet 2", ...
     conflicts,
     changes,
     shadow_prices,
@@ -105,7 +116,8 @@ def write_workbook(
     title = formula.blend.settings.name or source.stem
     for writer in SHEET_WRITERS:
         writer.write(workbook, formula, run, title)
-    printing.apply_to_workbook(workbook, title, run)  # input sheets too
+    # Input sheets too; each Batch sheet on one page.
+    printing.apply_to_workbook(workbook, title, run, one_page=batch_sheet.written_titles(workbook))
     _mark_output_sheets(workbook)
     first = overview.TITLE if overview.TITLE in workbook.sheetnames else result.TITLE
     _show_first(workbook, workbook[first])
@@ -157,8 +169,7 @@ def _rename(workbook: Workbook, kept: dict[str, str]) -> None:
 def _mark_output_sheets(workbook: Workbook) -> None:
     """Record in a workbook property which sheets this run wrote, so a later run removes
     these and no sheet of the user's."""
-    owned = {name.casefold() for name in OUTPUT_SHEETS}
-    written = [sheet.title for sheet in workbook._sheets if sheet.title.casefold() in owned]
+    written = [sheet.title for sheet in workbook._sheets if is_output_title(sheet.title)]
     properties = workbook.custom_doc_props
     if OUTPUT_SHEETS_PROPERTY in properties.names:
         del properties[OUTPUT_SHEETS_PROPERTY]

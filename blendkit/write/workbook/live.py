@@ -54,11 +54,13 @@ def recompute_formula(
     inclusion_rows: dict[str, int],
     workbook: Workbook,
     input_cell: Callable[[Ingredient], str | None],
+    column: str = "B",
 ) -> str | None:
     """A live formula: sum of (inclusion cell on Result x input cell) / 100; in diet mode
     the sum of (amount cell x input cell).
 
-    `input_cell(ingredient)` gives the reader's reference for the value to weigh. Every
+    `input_cell(ingredient)` gives the reader's reference for the value to weigh; the
+    inclusion cells are in `column` (B on Result) at `inclusion_rows`. Every
     ingredient is included, so editing any inclusion cell updates the result; if that
     would pass the spreadsheet formula length limit, only the ingredients in the blend
     are kept. Returns None when an input cell is unknown.
@@ -70,7 +72,7 @@ def recompute_formula(
         except KeyError:
             return None
     rows = [inclusion_rows[line.name] for line in lines]
-    aligned = _sumproduct(workbook, references, rows, percent=not blend.diet)
+    aligned = _sumproduct(workbook, references, rows, percent=not blend.diet, column=column)
     if aligned is not None:
         return aligned
     terms: list[tuple[float, str]] = []
@@ -78,7 +80,7 @@ def recompute_formula(
         operand = _input_operand(workbook, reference)
         if operand is None:
             return None
-        terms.append((line.inclusion, f"B{inclusion_rows[line.name]}*{operand}"))
+        terms.append((line.inclusion, f"{column}{inclusion_rows[line.name]}*{operand}"))
     if not terms:
         return None
     percent = not blend.diet
@@ -169,9 +171,9 @@ def _ratio_parts(blend: Blend, name: str) -> tuple[str, str] | None:
 
 
 def _sumproduct(
-    workbook: Workbook, references: list[str | None], rows: list[int], percent: bool
+    workbook: Workbook, references: list[str | None], rows: list[int], percent: bool, column: str = "B"
 ) -> str | None:
-    """One SUMPRODUCT of the inclusion cells (`rows` of column B) and the input cells
+    """One SUMPRODUCT of the inclusion cells (`rows` of `column`) and the input cells
     `references`, when both are unbroken ranges in the same order and the input cells
     share their percent format; None otherwise."""
     if not references or rows != list(range(rows[0], rows[0] + len(rows))):
@@ -188,9 +190,9 @@ def _sumproduct(
     scaled = {place[3] for place in places}
     if len(scaled) != 1:
         return None
-    sheet, _, column, _ = places[0]
-    letter = get_column_letter(column)
-    text = (f"=SUMPRODUCT(B{rows[0]}:B{rows[-1]},"
+    sheet, _, input_column, _ = places[0]
+    letter = get_column_letter(input_column)
+    text = (f"=SUMPRODUCT({column}{rows[0]}:{column}{rows[-1]},"
             f"{quote_sheet(sheet.title)}!{letter}{first}:{letter}{first + len(places) - 1})")
     factor = (100 if scaled.pop() else 1) / (100 if percent else 1)
     return text + {1: "", 100: "*100", 0.01: "/100"}[factor]

@@ -10,6 +10,8 @@ sheet (such as Shadow prices) whose text would otherwise run into the next cell.
 
 from __future__ import annotations
 
+from collections.abc import Collection
+
 from openpyxl.utils import get_column_letter
 from openpyxl.workbook.workbook import Workbook
 from openpyxl.worksheet.worksheet import Worksheet
@@ -29,18 +31,21 @@ TITLE_CHARACTERS = 100
 MOST_REPEATED_ROWS = 5
 
 
-def apply_to_workbook(workbook: Workbook, title: str, run: RunInfo) -> None:
-    """Give every worksheet of `workbook` the print layout of `set_print_layout`."""
+def apply_to_workbook(workbook: Workbook, title: str, run: RunInfo,
+                      one_page: Collection[str] = ()) -> None:
+    """Give every worksheet of `workbook` the print layout of `set_print_layout`; the
+    sheets titled in `one_page` print on one page."""
     for sheet in workbook.worksheets:
-        set_print_layout(sheet, title, run)
+        set_print_layout(sheet, title, run, one_page=sheet.title in one_page)
 
 
-def set_print_layout(sheet: Worksheet, title: str, run: RunInfo) -> None:
-    """Print `sheet` one page wide (as many pages down as it needs), portrait or landscape
-    by its width, its header rows repeated on every page, with a header and a footer."""
+def set_print_layout(sheet: Worksheet, title: str, run: RunInfo, one_page: bool = False) -> None:
+    """Print `sheet` one page wide (as many pages down as it needs, or one page in all with
+    `one_page`), portrait or landscape by its width, its header rows repeated on every
+    page, with a header and a footer."""
     sheet.sheet_properties.pageSetUpPr.fitToPage = True
     sheet.page_setup.fitToWidth = 1
-    sheet.page_setup.fitToHeight = 0
+    sheet.page_setup.fitToHeight = 1 if one_page else 0
     wide = used_width(sheet) > PORTRAIT_CHARACTERS
     sheet.page_setup.orientation = "landscape" if wide else "portrait"
     rows = _frozen_rows(sheet)
