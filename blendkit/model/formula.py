@@ -161,13 +161,20 @@ class Practical:
     binding: tuple[str, ...] = ()
     blocking: tuple[str, ...] = ()
 
+    @property
+    def rise(self) -> float | None:
+        """What the rules add to the cost: `cost` less `lp_cost` (None without both)."""
+        if self.cost is None or self.lp_cost is None:
+            return None
+        return self.cost - self.lp_cost
+
     def lines(self, unit: str = "") -> tuple[str, ...]:
         """The record in words, one line each, as the console and the Result sheet show it:
         the costs with and without the rules, how the search ended, the rules that bind."""
         unit = f" {unit}" if unit else ""
         head = f"{WEIGHING_RULES}: LP cost {_money(self.lp_cost)}{unit}"
-        if self.cost is not None and self.lp_cost is not None:
-            rise = self.cost - self.lp_cost
+        rise = self.rise
+        if rise is not None:
             share = f", {100 * rise / abs(self.lp_cost):+.2f} %" if self.lp_cost else ""
             head += f", cost under the rules {_money(self.cost)}{unit} ({rise:+,.2f}{share})"
         ends = {"optimal": f"proven cheapest ({self.nodes} nodes)",
@@ -309,6 +316,26 @@ class Formula:
     # With several products: each ingredient's one price range for the whole run.
     shared_prices: tuple[SharedPrice, ...] = ()
     changes: Changes | None = None  # against an earlier result, when one was compared
+
+    @property
+    def practical_totals(self) -> tuple[float, float | None] | None:
+        """With products, some under the rules a mill can weigh: the run's total cost
+        without those rules and under them (currency; each product's cost per `Cost per`
+        unit times its amount, as `cost`). A product without rules counts its own cost in
+        both; the cost under the rules is None unless every product has a formula. None
+        for one blend (its `practical` says it all) and without such rules."""
+        if not self.several or all(product.practical is None for product in self.products):
+            return None
+        per = self.blend.settings.cost_unit_in_mass_units
+        before, after = 0.0, 0.0
+        for product in self.products:
+            record = product.practical
+            lp_cost = product.cost if record is None else record.lp_cost
+            if lp_cost is None:
+                return None
+            before += lp_cost * product.amount / per
+            after = None if after is None or product.cost is None else after + product.cost * product.amount / per
+        return before, after
 
     def linked(self, name: str | None) -> bool:
         """True when product `name` was solved jointly with other products (linked by a

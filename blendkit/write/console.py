@@ -24,6 +24,7 @@ from blendkit.model.formula import (
     SOFT_SPECS_NOT_MET,
     THIS_PRODUCT_ALONE,
     WAY_OUT,
+    WEIGHING_RULES,
     basis_label,
 )
 from blendkit.model.units import (
@@ -143,12 +144,26 @@ def _shared_prices(formula: Formula) -> list[str]:
 def _weighing(formula: Formula) -> list[str]:
     """What the rules a mill can weigh cost, per product (empty without such rules)."""
     unit = run_cost_unit(formula.blend) if formula.blend.diet else cost_unit(formula.blend.settings)
-    lines = []
+    lines = _weighing_totals(formula)
     for product in formula.products:
         if product.practical is not None:
             lines += [f"{product.name}: {line}" if formula.several and not line.startswith(" ") else line
                       for line in product.practical.lines(unit)]
     return lines
+
+
+def _weighing_totals(formula: Formula) -> list[str]:
+    """A plant's run under the rules a mill can weigh: its total cost without and with them."""
+    totals = formula.practical_totals
+    if totals is None:
+        return []
+    before, after = totals
+    unit = f" {run_cost_unit(formula.blend)}".rstrip()
+    line = f"{WEIGHING_RULES}, whole run: total cost without them {before:,.2f}{unit}"
+    if after is not None:
+        share = f", {100 * (after - before) / abs(before):+.2f} %" if before else ""
+        line += f", with them {after:,.2f}{unit} ({after - before:+,.2f}{share})"
+    return [line]
 
 
 def _changes(formula: Formula) -> list[str]:

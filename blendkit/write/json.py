@@ -65,7 +65,10 @@ search's proven relative gap (0 when proven cheapest), `nodes` its node count, `
 "optimal", "time_limit", "infeasible" or another engine status; `binding` says which
 rules bind, `blocking` (when the rules leave no formula) the rule families whose removal
 alone restores one; `cross_check` is then the integer program re-solved by HiGHS's MIP
-solver. A workbook without those rules has no such key.
+solver. With products, the run also has a top-level `"practical": {"lp_cost", "cost"}`
+after "cross_check": the run's total cost without the rules and under them (currency; a
+product without rules counts its own cost in both; `cost` null unless every product has
+a formula). A workbook without those rules has no such key.
 
 When the status is "infeasible" two more keys follow "notes"::
 
@@ -154,6 +157,7 @@ def formula_to_dict(formula: Formula) -> dict[str, Any]:
             "violations": _violations(formula),
             "notes": [str(note) for note in formula.notes],
             "cross_check": _cross_check(formula),
+            **_run_practical(formula),
         }))
     batch_by_product = {batch.product: batch for batch in batches(formula)}
     return _with_changes(formula, _conflicts(formula, {
@@ -183,6 +187,15 @@ def _practical(product: ProductFormula | None) -> dict[str, Any]:
         "nodes": int(record.nodes), "status": str(record.status),
         "binding": [str(line) for line in record.binding], "blocking": [str(name) for name in record.blocking],
     }}
+
+
+def _run_practical(formula: Formula) -> dict[str, Any]:
+    """{"practical": {"lp_cost", "cost"}}: a plant's total cost without and under the rules
+    a mill can weigh; {} without them."""
+    totals = formula.practical_totals
+    if totals is None:
+        return {}
+    return {"practical": {"lp_cost": _number(totals[0]), "cost": _number(totals[1])}}
 
 
 def _cross_check(formula: Formula) -> dict[str, Any] | None:

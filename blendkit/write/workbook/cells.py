@@ -21,6 +21,7 @@ from blendkit.write.numbers import decimals, line_decimals, whole_decimals
 INCLUSION_FORMAT = "0.000"  # inclusions in %, and diet amounts
 MONEY_FORMAT = "#,##0.00"
 AMOUNT_FORMAT = "#,##0.00"
+PERCENT_FORMAT = "0.00%"  # a fraction shown as a percentage (a search's relative gap)
 REDUCED_COST_FORMAT = "#,##0.00##"  # two decimals, up to four where the value has them
 
 BOLD = Font(bold=True)

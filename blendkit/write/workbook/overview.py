@@ -2,7 +2,9 @@
 
 One row per product: its status, cost, the cost at the previous run and the change (when
 the run was compared with an earlier output), how many of its limits bind, how many
-soft specs it misses, and a link to its block on the Result sheet. Below, one row per
+soft specs it misses, and a link to its block on the Result sheet; when some product is
+under the rules a mill can weigh, three more columns (`PRACTICAL_LABELS`): its LP cost
+without those rules, what the rules add, and the search's proven gap. Below, one row per
 ingredient: its one price for the whole run and the range over which the whole plan stays
 the cheapest with that price moving in every product at once (`Formula.shared_prices`),
 an end no price of 0 or more reaches said in words. The caution heads the sheet, as on
@@ -16,7 +18,7 @@ from openpyxl.workbook.workbook import Workbook
 from openpyxl.worksheet.hyperlink import Hyperlink
 from openpyxl.worksheet.worksheet import Worksheet
 
-from blendkit.model.formula import SOFT_SPECS_NOT_MET, Formula, ProductFormula, RunInfo
+from blendkit.model.formula import SOFT_SPECS_NOT_MET, Formula, Practical, ProductFormula, RunInfo
 from blendkit.model.units import cost_unit
 from blendkit.write.workbook import result
 from blendkit.write.price_words import shared_price_note
@@ -24,6 +26,7 @@ from blendkit.write.workbook.cells import (
     BOLD,
     LINK,
     MONEY_FORMAT,
+    PERCENT_FORMAT,
     SECTION,
     STATUS_ALERT,
     TITLE_FONT,
@@ -42,6 +45,9 @@ _LABELS = ("Product", "Status", "Cost", "Unit", "Previous cost", "Change", "Bind
 _WIDTHS = (28, 12, 12, 14, 14, 12, 10, 10, 24)
 # The table's header row (rows above: title, caution, run summary).
 _HEADER_ROW = 7
+# What the rules a mill can weigh cost a formula (here and in the --overview workbook).
+PRACTICAL_LABELS = ("LP cost (no weighing rules)", "Weighing rules add", "Proven gap")
+PRACTICAL_WIDTHS = (14, 12, 10)
 
 
 def write(workbook: Workbook, formula: Formula, run: RunInfo, title: str) -> None:
@@ -49,7 +55,7 @@ def write(workbook: Workbook, formula: Formula, run: RunInfo, title: str) -> Non
     if len(formula.products) < 2:
         return
     sheet = new_sheet(workbook, TITLE)
-    for column, width in enumerate(_WIDTHS, start=1):
+    for column, width in enumerate((*_WIDTHS, *PRACTICAL_WIDTHS), start=1):
         sheet.column_dimensions[get_column_letter(column)].width = width
     put(sheet, 1, 1, f"{title}: {len(formula.products)} products").font = TITLE_FONT
     write_caution(sheet, 2, len(_WIDTHS), sum(_WIDTHS))
@@ -57,13 +63,26 @@ def write(workbook: Workbook, formula: Formula, run: RunInfo, title: str) -> Non
     put(sheet, 4, 2, formula.status)
     put(sheet, 5, 1, "Message").font = BOLD
     put(sheet, 5, 2, formula.message)
-    header(sheet, _HEADER_ROW, list(_LABELS))
+    weighed = any(product.practical is not None for product in formula.products)
+    header(sheet, _HEADER_ROW, [*_LABELS, *(PRACTICAL_LABELS if weighed else ())])
     blocks = _result_blocks(workbook)
     for row, product in enumerate(formula.products, start=_HEADER_ROW + 1):
         _write_row(sheet, row, formula, product, blocks.get(product.name))
+        if weighed:
+            write_practical(sheet, row, len(_LABELS) + 1, product.practical)
     write_shared_prices(sheet, formula, _HEADER_ROW + len(formula.products) + 2)
     sheet.freeze_panes = sheet.cell(_HEADER_ROW + 1, 2)
     workbook.move_sheet(sheet, offset=-workbook.index(sheet))
+
+
+def write_practical(sheet: Worksheet, row: int, column: int, practical: Practical | None) -> None:
+    """A formula's LP cost without the weighing rules, what the rules add and the proven
+    gap, from `column` (blank without rules, and where a figure is missing)."""
+    if practical is None:
+        return
+    number(sheet.cell(row, column), practical.lp_cost, MONEY_FORMAT)
+    number(sheet.cell(row, column + 1), practical.rise, MONEY_FORMAT)
+    number(sheet.cell(row, column + 2), practical.gap, PERCENT_FORMAT)
 
 
 def write_shared_prices(sheet: Worksheet, formula: Formula, row: int) -> int:
