@@ -60,15 +60,17 @@ def test_fixed_width_columns_line_up():
         assert line[level_end] != " " and line[level_end + 1] == " "
 
 
-def test_binding_limits_with_shadow_prices():
+def test_binding_limits_per_step():
+    # A step fits the bound's unit (blendkit.model.steps: 0.01 % for a % content, 0.1 % for
+    # an inclusion, common practice); its cost is the fixture's shadow price times it.
     text = render_summary(formulas.optimal_formula())
-    assert "Shadow price: change in cost when the bound is raised by 1 unit." in text
+    assert "Cost of a step: change in cost when the bound is raised by one step, largest first." in text
     limits = block(text, "Binding limit")
+    assert limits[0].split() == ["Binding", "limit", "Bound", "Step", "Cost", "of", "a", "step", "Cost", "unit"]
     assert len(limits) == 2 + 2  # header, rule, two binding limits
-    assert limits[2].split()[:5] == ["Crude", "protein", "min", "17.12", "+4.500"]
-    assert limits[2].endswith("EUR/tonne per 1 unit of Crude protein (%)")
-    assert limits[3].split()[:5] == ["Rapeseed", "meal", "max", "18.000", "-1.250"]
-    assert limits[3].endswith("EUR/tonne per 1 % inclusion")
+    # -1.25 x 0.1 = -0.125 per 0.1 % of rapeseed meal; +4.5 x 0.01 = +0.045 per 0.01 % protein
+    assert limits[2].split() == ["Rapeseed", "meal", "max", "18.000", "0.1", "%", "-0.1250", "EUR/tonne"]
+    assert limits[3].split() == ["Crude", "protein", "min", "17.12", "0.01", "%", "+0.04500", "EUR/tonne"]
 
 
 def test_notes_are_listed():
@@ -120,19 +122,17 @@ def test_ratio_and_dry_matter_lines_show_their_basis():
 
 def test_binding_ratio_group_and_stock_limits():
     limits = block(render_summary(formulas.ration_formula()), "Binding limit")
-    assert limits[0].split() == ["Binding", "limit", "Bound", "Shadow", "price", "Unit"]
-    rows = limits[2:]
-    assert [row[:34].rstrip() for row in rows] == [
-        "Crude protein (dry matter) min",
-        "Calcium / Available phosphorus max",
-        "Cereals (group) max",
-        "Wet brewers' grains max",
-        "Soybean meal (stock) max",
-    ]
-    assert rows[0].endswith("+3.850  EUR/tonne per 1 unit of Crude protein (%) in dry matter")
-    assert rows[1].endswith("-6.200  EUR/tonne per 1 unit of the ratio Calcium / Available phosphorus")
-    assert rows[2].split()[3:] == ["70.000", "-0.5500", "EUR/tonne", "per", "1", "%", "inclusion"]
-    assert rows[4].endswith("440.00      -0.03750  EUR per 1 kg of stock")
+    assert limits[0].split() == ["Binding", "limit", "Bound", "Step", "Cost", "of", "a", "step", "Cost", "unit"]
+    rows = {row[:34].rstrip(): row[34:].split() for row in limits[2:]}
+    assert set(rows) == {"Crude protein (dry matter) min", "Calcium / Available phosphorus max",
+                         "Cereals (group) max", "Wet brewers' grains max", "Soybean meal (stock) max"}
+    # The fixture's shadow prices times each step: 0.01 % (content), 0.01 (ratio), 0.1 %
+    # (inclusion, group), 1 % of a stock of 440 kg (common practice, blendkit.model.steps).
+    assert rows["Crude protein (dry matter) min"] == ["21.74", "0.01", "%", "+0.03850", "EUR/tonne"]
+    assert rows["Calcium / Available phosphorus max"] == ["2.547", "0.01", "-0.06200", "EUR/tonne"]
+    assert rows["Cereals (group) max"] == ["70.000", "0.1", "%", "-0.05500", "EUR/tonne"]
+    assert rows["Wet brewers' grains max"] == ["5.000", "0.1", "%", "-0.1400", "EUR/tonne"]
+    assert rows["Soybean meal (stock) max"] == ["440.00", "4.4", "kg", "-0.1650", "EUR"]
 
 
 def test_stocks_of_one_blend():
@@ -165,8 +165,10 @@ def test_diet_summary():
     assert nutrients[2].split() == ["Energy", "as", "fed", "kcal", "1,900.0", "2,400.0", "1,995.0",
                                     "within"]
     limits = block(text, "Binding limit")
-    assert limits[-2].split()[:4] == ["Porridge", "oats", "max", "2.000"]
-    assert limits[-1].endswith("-0.01200  EUR per unit (slice)")
+    rows = {line[:19].rstrip(): line[19:].split() for line in limits[2:]}
+    # -0.035 and -0.012 per unit, times a step of 0.1 unit of each food
+    assert rows["Porridge oats max"] == ["2.000", "0.1", "of", "40", "g", "portion", "-0.003500", "EUR"]
+    assert rows["Wholemeal bread max"] == ["6.000", "0.1", "of", "slice", "-0.001200", "EUR"]
     assert lines[-1] == CAUTION
 
 
@@ -206,12 +208,15 @@ def test_several_products_stocks_and_binding_limits():
     limits = block(text, "Binding limit")
     assert limits[0].split()[:3] == ["Binding", "limit", "Product"]
     product_column = limits[0].index("Product")
-    products = [line[product_column:product_column + 15].strip() for line in limits[2:]]
-    assert products == ["Starter crumb", "Starter crumb", "Grower pellet", "Finisher pellet",
-                        "Finisher pellet", ""]  # a stock belongs to no one product
-    assert limits[-1].startswith("Soybean meal (stock) max")
-    assert limits[-1].endswith("7,000.00      -0.09500  EUR per 1 kg of stock")
-    assert limits[6].split()[:6] == ["Vegetable", "oil", "max", "Finisher", "pellet", "6.000"]
+    rows = [(line[:product_column].rstrip(), line[product_column:product_column + 15].strip(),
+             line[product_column + 15:].split()) for line in limits[2:]]
+    assert sorted(name for name, product, _ in rows if not product) == ["Soybean meal (stock) max"]
+    assert len(rows) == 6  # a stock belongs to no one product
+    by_key = {(name, product): rest for name, product, rest in rows}
+    # -0.095 per kg of stock times 1 % of 7,000 kg; +21.5 per MJ/kg times 0.1 MJ/kg
+    assert by_key[("Soybean meal (stock) max", "")] == ["7,000.00", "70", "kg", "-6.650", "EUR"]
+    assert by_key[("Energy min", "Starter crumb")] == ["12.60", "0.1", "MJ/kg", "+2.150", "EUR/tonne"]
+    assert by_key[("Vegetable oil max", "Finisher pellet")] == ["6.000", "0.1", "%", "-0.2400", "EUR/tonne"]
 
 
 # --- conflicts of an infeasible blend, and broken soft limits ---------------------------------

@@ -7,7 +7,7 @@ One table, by unit; anything else moves by 1 % of the bound (or by 1 when the bo
 from __future__ import annotations
 
 from blendkit.model.blend import Blend
-from blendkit.model.formula import Limit
+from blendkit.model.formula import Formula, Limit
 
 # A step by unit, keys lower-case with spaces removed. Energy in MJ/kg moves by 0.1, in
 # kcal/kg by 10; trace contents (mg/kg, ppm, g/kg) by 1; a % content by 0.01.
@@ -82,3 +82,11 @@ def step_worth(blend: Blend, limit: Limit) -> tuple[float, float]:
     """A limit's step and |shadow price x step|, what one step of it moves the cost by."""
     step = limit_step(blend, limit)
     return step, abs(limit.shadow_price * step)
+
+
+def binding_by_step_worth(formula: Formula) -> list[Limit]:
+    """Every binding limit of the run, each once, the largest step worth first (the Result
+    sheet's first page and the console)."""
+    every = [*formula.limits, *(limit for product in formula.products for limit in product.limits)]
+    binding = [limit for limit in dict.fromkeys(every) if limit.binding]
+    return sorted(binding, key=lambda limit: -step_worth(formula.blend, limit)[1])

@@ -36,7 +36,9 @@ from blendkit.model.units import (
     shadow_price_unit,
     stock_unit,
 )
+from blendkit.model.steps import binding_by_step_worth, limit_step, limit_unit
 from blendkit.write.price_words import shared_price_note
+from blendkit.write.step_words import NO_COST, cost_part, signed
 from blendkit.write.numbers import (
     AMOUNT_DECIMALS,
     INCLUSION_DECIMALS,
@@ -383,13 +385,15 @@ def _stocks(formula: Formula) -> list[str]:
 
 
 def _binding_limits(formula: Formula) -> list[str]:
-    """Binding limits and what one more unit of each bound would change in cost; with
-    several products, the product each belongs to (blank for stocks)."""
-    binding = [limit for limit in formula.limits if limit.binding]
+    """Binding limits and what one step of each bound changes the cost by (the step as on
+    the Result sheet's first page), the largest first; with several products, the product
+    each belongs to (blank for stocks)."""
+    binding = binding_by_step_worth(formula)
     if not binding:
         return ["No limit is binding."]
     # Bounds as in the tables above: a nutrient's own decimals, inclusions to 0.001 %.
     places = nutrient_decimals(formula)
+    blend = formula.blend
     rows = []
     for limit in binding:
         if limit.kind in ("ingredient", "group"):
@@ -398,20 +402,27 @@ def _binding_limits(formula: Formula) -> list[str]:
             bound_places = AMOUNT_DECIMALS
         else:
             bound_places = places.get(limit_key(limit), decimals([limit.bound]))
-        row = [
-            _limit_label(limit),
-            _fixed(limit.bound, bound_places),
-            _signed(limit.shadow_price, decimals([limit.shadow_price], least=2)),
-            shadow_price_unit(limit, formula.blend),
-        ]
+        step = limit_step(blend, limit)
+        worth = 0.0 if abs(limit.shadow_price) <= NO_COST else limit.shadow_price * step
+        row = [_limit_label(limit), _fixed(limit.bound, bound_places), _step_text(blend, limit, step),
+               signed(worth), cost_part(blend, limit)]
         if formula.several:
             row.insert(1, limit.product or "")
         rows.append(row)
-    headers = ["Binding limit", "Bound", "Shadow price", "Unit"]
+    headers = ["Binding limit", "Bound", "Step", "Cost of a step", "Cost unit"]
     if formula.several:
         headers.insert(1, "Product")
     lines = _table(headers, rows, left=2 if formula.several else 1, last_left=True)
-    return ["Shadow price: change in cost when the bound is raised by 1 unit.", *lines]
+    return ["Cost of a step: change in cost when the bound is raised by one step, largest first.", *lines]
+
+
+def _step_text(blend: Blend, limit: Limit, step: float) -> str:
+    """A limit's step with its unit: "0.01 %", "0.1 MJ/kg", "70 kg"; a diet food's "0.1 of
+    slice"."""
+    unit = limit_unit(blend, limit)
+    if blend.diet and limit.kind in ("ingredient", "stock") and unit:
+        return f"{step:g} of {unit}"
+    return f"{step:g} {unit}".rstrip()
 
 
 def _limit_label(limit: Limit) -> str:

@@ -14,7 +14,7 @@ from openpyxl.worksheet.pagebreak import Break
 from openpyxl.worksheet.worksheet import Worksheet
 
 from blendkit.model.formula import WEIGHING_RULES, Formula, Limit, basis_label
-from blendkit.model.steps import limit_unit, step_worth
+from blendkit.model.steps import binding_by_step_worth, limit_unit, step_worth
 from blendkit.model.units import cost_unit, run_cost_unit
 from blendkit.write.workbook.cells import (
     BOLD,
@@ -37,16 +37,9 @@ MOST_LISTED = 20
 BESIDE_NUMBER = Alignment(indent=1)
 
 
-def binding_limits(formula: Formula) -> list[Limit]:
-    """Every binding limit of the run, each once, the largest step worth first."""
-    every = [*formula.limits, *(limit for product in formula.products for limit in product.limits)]
-    binding = [limit for limit in dict.fromkeys(every) if limit.binding]
-    return sorted(binding, key=lambda limit: -step_worth(formula.blend, limit)[1])
-
-
 def write_binding_limits(sheet: Worksheet, formula: Formula, row: int) -> int:
     """The binding limits table from `row`; returns the first row after it and a blank."""
-    limits = binding_limits(formula)
+    limits = binding_by_step_worth(formula)
     put(sheet, row, 1, "Binding limits").font = SECTION
     if not limits:
         put(sheet, row + 1, 1, "No limit binds.")
