@@ -731,7 +731,7 @@ def test_shadow_prices_of_ratio_group_and_stock_limits(tmp_path: Path):
     rows = table(sheet, 3, len(formula.limits), columns=11)
     assert sheet.cell(4 + len(formula.limits), 1).value is None
     by_kind = {}
-    row_of_limit = {id(limit): row for row, limit in zip(rows, ordered(formula.blend, formula.limits))}
+    row_of_limit = {id(limit): row for row, limit in zip(rows, ordered(formula, formula.limits))}
     for limit in formula.limits:  # in the workbook's order, whatever the sheet's
         row = row_of_limit[id(limit)]
         assert (row[0], row[2], row[4], row[10]) == (limit.kind, limit.name, limit.side, limit.cell)
@@ -818,7 +818,7 @@ def test_shadow_price_never_shows_negative_zero(source: Path, tmp_path: Path):
     first = dataclasses.replace(formula.limits[0], shadow_price=-1e-12)
     formula = dataclasses.replace(formula, limits=(first, *formula.limits[1:]))
     sheet = load_workbook(write(formula, source, tmp_path / "out.xlsx"))["Shadow prices"]
-    at = 4 + ordered(formula.blend, formula.limits).index(first)
+    at = 4 + ordered(formula, formula.limits).index(first)
     assert sheet.cell(at, 9).value == 0
     assert math.copysign(1.0, sheet.cell(at, 9).value) == 1.0  # not -0.0
 
@@ -895,7 +895,7 @@ def test_products_shadow_prices_name_the_product(tmp_path: Path):
     assert "a product's cost (EUR per tonne)" in sheet["A1"].value
     assert "the run's total cost (EUR) for a stock" in sheet["A1"].value
     rows = table(sheet, 3, len(formula.limits), columns=11)
-    assert [row[1] for row in rows] == [limit.product for limit in ordered(formula.blend, formula.limits)]
+    assert [row[1] for row in rows] == [limit.product for limit in ordered(formula, formula.limits)]
     assert {row[1] for row in rows if row[0] != "stock"} == {name for name, _ in formulas.PRODUCTS}
     stock = next(row for row in rows if row[0] == "stock" and row[7] == "yes")
     assert stock[1:10] == [None, "Soybean meal", None, "max", 7000, 7000, "yes", -0.095,

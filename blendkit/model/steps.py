@@ -84,9 +84,41 @@ def step_worth(blend: Blend, limit: Limit) -> tuple[float, float]:
     return step, abs(limit.shadow_price * step)
 
 
-def binding_by_step_worth(formula: Formula) -> list[Limit]:
-    """Every binding limit of the run, each once, the largest step worth first (the Result
-    sheet's first page and the console)."""
-    every = [*formula.limits, *(limit for product in formula.products for limit in product.limits)]
-    binding = [limit for limit in dict.fromkeys(every) if limit.binding]
-    return sorted(binding, key=lambda limit: -step_worth(formula.blend, limit)[1])
+def in_run_currency(formula: Formula, limit: Limit) -> float:
+    """What one unit of `limit`'s shadow price is in the run's currency, so that limits of
+    different products and stocks compare: a product's own limit (one blend's too) is
+    priced per `Cost per` unit of that product, so its amount in `Cost per` units (a batch
+    of 2,000 kg priced per tonne: 2); a stock is priced in the run's total already, and a
+    diet's cost is its total: 1."""
+    if limit.kind == "stock" or formula.blend.diet:
+        return 1.0
+    product = next((item for item in formula.products if item.name == limit.product), None)
+    if product is None:
+        return 1.0
+    return product.amount / formula.blend.settings.cost_unit_in_mass_units
+
+
+def largest_step_cost(blend: Blend, limit: Limit) -> float:
+    """The largest cost change of one step of a limit: |shadow price|, or either one-sided
+    rate where known, times its step (in the limit's own cost unit)."""
+    step = limit_step(blend, limit)
+    rates = [limit.shadow_price, limit.shadow_price_up or 0.0, limit.shadow_price_down or 0.0]
+    return max(abs(rate * step) for rate in rates)
+
+
+def binding_in_order(formula: Formula, limits=None, *, either_way: bool = False) -> list[Limit]:
+    """The binding limits of `limits` (default: every limit of the run, each once), the
+    largest cost of one step first, compared in the run's currency: a product's own
+    limit's cost of a step times `in_run_currency`, a stock's as it is. The cost of a step
+    is `step_worth` (the Result sheet's first page, the console), or with `either_way`
+    `largest_step_cost` (the Shadow prices sheet, which shows both one-sided values)."""
+    if limits is None:
+        limits = [*formula.limits, *(limit for product in formula.products for limit in product.limits)]
+    binding = [limit for limit in dict.fromkeys(limits) if limit.binding]
+    blend = formula.blend
+
+    def worth(limit: Limit) -> float:
+        step_cost = largest_step_cost(blend, limit) if either_way else step_worth(blend, limit)[1]
+        return step_cost * in_run_currency(formula, limit)
+
+    return sorted(binding, key=lambda limit: -worth(limit))

@@ -36,7 +36,7 @@ from blendkit.model.units import (
     shadow_price_unit,
     stock_unit,
 )
-from blendkit.model.steps import binding_by_step_worth, limit_step, limit_unit
+from blendkit.model.steps import binding_in_order, limit_step, limit_unit
 from blendkit.write.price_words import shared_price_note
 from blendkit.write.step_words import NO_COST, cost_part, signed
 from blendkit.write.numbers import (
@@ -388,7 +388,7 @@ def _binding_limits(formula: Formula) -> list[str]:
     """Binding limits and what one step of each bound changes the cost by (the step as on
     the Result sheet's first page), the largest first; with several products, the product
     each belongs to (blank for stocks)."""
-    binding = binding_by_step_worth(formula)
+    binding = binding_in_order(formula)
     if not binding:
         return ["No limit is binding."]
     # Bounds as in the tables above: a nutrient's own decimals, inclusions to 0.001 %.

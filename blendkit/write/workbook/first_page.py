@@ -4,7 +4,8 @@ and date. The title, caution, status, cost and overall spec check above them are
 `result`'s; a page break follows, so the tables start on page two.
 
 A step of a bound is `blendkit.model.steps.step_for` (a change that fits its unit); its
-worth is |shadow price x step|, and the limits are listed by that worth, largest first.
+worth is |shadow price x step|, and the limits are listed by that worth in the run's money,
+largest first (`blendkit.model.steps.binding_in_order`).
 """
 
 from __future__ import annotations
@@ -14,7 +15,7 @@ from openpyxl.worksheet.pagebreak import Break
 from openpyxl.worksheet.worksheet import Worksheet
 
 from blendkit.model.formula import WEIGHING_RULES, Formula, Limit, basis_label
-from blendkit.model.steps import binding_by_step_worth, limit_unit, step_worth
+from blendkit.model.steps import binding_in_order, limit_unit, step_worth
 from blendkit.model.units import cost_unit, run_cost_unit
 from blendkit.write.workbook.cells import (
     BOLD,
@@ -39,7 +40,7 @@ BESIDE_NUMBER = Alignment(indent=1)
 
 def write_binding_limits(sheet: Worksheet, formula: Formula, row: int) -> int:
     """The binding limits table from `row`; returns the first row after it and a blank."""
-    limits = binding_by_step_worth(formula)
+    limits = binding_in_order(formula)
     put(sheet, row, 1, "Binding limits").font = SECTION
     if not limits:
         put(sheet, row + 1, 1, "No limit binds.")

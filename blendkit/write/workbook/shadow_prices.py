@@ -4,8 +4,10 @@ over which that price holds, and the same per step of the bound: the step, what 
 costs, the cost change when the bound is raised a step and when it is lowered a step (they
 differ at a degenerate optimum), the price per step in words, and a note.
 
-Binding limits come first, the largest cost of a step (either way) first; the limits that
-do not bind follow in the order of the workbook.
+Binding limits come first, the largest cost of a step (either way) first, compared in the
+run's currency (a product's own limit's cost of a step times its amount in `Cost per`
+units, a stock's as it is); the limits that do not bind follow in the order of the
+workbook.
 """
 
 from __future__ import annotations
@@ -19,6 +21,7 @@ from openpyxl.worksheet.worksheet import Worksheet
 
 from blendkit.model.blend import Blend
 from blendkit.model.formula import Formula, Limit, RunInfo, basis_label
+from blendkit.model.steps import binding_in_order
 from blendkit.model.units import cost_unit, kind_word, run_cost_unit, shadow_price_unit
 from blendkit.write.numbers import decimals, limit_key, nutrient_decimals
 from blendkit.write.step_words import limit_note, per_step_text, step_changes
@@ -81,7 +84,7 @@ def write(workbook: Workbook, formula: Formula, run: RunInfo, title: str) -> Non
     margins = any(limit.margin for limit in formula.limits)
     header(sheet, _HEADER_ROW, _HEADERS + (list(_MARGIN_HEADERS) if margins else []))
     places = nutrient_decimals(formula)
-    for offset, limit in enumerate(ordered(formula.blend, formula.limits), start=1):
+    for offset, limit in enumerate(ordered(formula, formula.limits), start=1):
         row = _HEADER_ROW + offset
         _write_limit(sheet, row, limit, formula.blend, _bound_format(limit, places))
         _write_steps(sheet, row, limit, formula)
@@ -97,18 +100,12 @@ def write(workbook: Workbook, formula: Formula, run: RunInfo, title: str) -> Non
     sheet.freeze_panes = "A4"  # the header row also repeats on every printed page
 
 
-def ordered(blend: Blend, limits: tuple[Limit, ...]) -> list[Limit]:
+def ordered(formula: Formula, limits: tuple[Limit, ...]) -> list[Limit]:
     """Binding limits first, the largest cost of a step (the shadow price or either
-    one-sided value, times the step) first; then the others in their own order."""
-    binding = [limit for limit in limits if limit.binding]
-    binding.sort(key=lambda limit: -_largest_step_cost(blend, limit))
+    one-sided value, times the step) first, compared in the run's currency
+    (`blendkit.model.steps.binding_in_order`); then the others in their own order."""
+    binding = binding_in_order(formula, limits, either_way=True)
     return [*binding, *(limit for limit in limits if not limit.binding)]
-
-
-def _largest_step_cost(blend: Blend, limit: Limit) -> float:
-    """The largest cost change of one step of a limit, up or down."""
-    step, raised, lowered = step_changes(blend, limit)
-    return max(abs(limit.shadow_price * step), abs(raised or 0.0), abs(lowered or 0.0))
 
 
 def _write_steps(sheet: Worksheet, row: int, limit: Limit, formula: Formula) -> None:
@@ -232,7 +229,9 @@ def _intro(formula: Formula) -> str:
     return text
 
 
-_STEP_INTRO = ("Binding limits first, the largest cost of a step first. A step is the Specs "
-               "sheet's Step, else a change that fits the unit. Raised / lowered: the cost "
+_STEP_INTRO = ("Binding limits first, the largest cost of a step first, compared in the run's "
+               "money: a product's own limit's cost of a step times its amount in Cost per units "
+               "(the cost of that step for the whole amount), a stock's as it is. A step is the "
+               "Specs sheet's Step, else a change that fits the unit. Raised / lowered: the cost "
                "change when the bound moves one step up / down; they differ from each other "
                "(and from the shadow price) at a degenerate optimum.")
