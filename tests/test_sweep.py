@@ -86,3 +86,50 @@ def test_sweep_mistakes_exit_2_with_a_message(broiler):
     assert run("sweep", broiler, "--spec", "Crude protein", "--from", 1, "--to", 2).exit_code == 2
     assert run("sweep", broiler, "--spec", "Crude protein min").exit_code == 2  # no range
     assert run("sweep", broiler, "--ingredient", "Maize", "--from", 5, "--to", 1).exit_code == 2
+
+
+def test_a_spec_with_a_margin_is_swept_by_its_bound_as_written(tmp_path, broiler):
+    # Crude protein min with a Margin of 0.4: at a written bound v the formula is made to
+    # v + 0.4, so the sweep's cost at v is HiGHS's with the Min cell set to v + 0.4 (the
+    # Max of 24 becomes 23.6 with the same margin: the sweep stops below it).
+    margin = 0.4
+    book = openpyxl.load_workbook(broiler)
+    specs = book["Specs"]
+    column = specs.max_column + 1
+    specs.cell(1, column, "Margin")
+    specs.cell(3, column, margin)  # row 3: Crude protein (its Min is B3)
+    assert specs["A3"].value == "Crude protein"
+    with_margin = tmp_path / "margin.xlsx"
+    book.save(with_margin)
+    result = run("sweep", with_margin, "--spec", "Crude protein min", "--from", 19, "--to", 23, "--json")
+    assert result.exit_code == 0, result.output
+    doc = json.loads(result.stdout)
+    assert (doc["from"], doc["to"], doc["margin"]) == (19, 23, margin)
+    assert doc["segments"][0]["from"] == 19 and doc["segments"][-1]["to"] == 23
+    protein_min = "B3"
+    for piece in doc["segments"]:
+        mid = (piece["from"] + piece["to"]) / 2
+        cost = _highs_with(tmp_path, broiler, "Specs", protein_min, mid + margin)[0]
+        share = (mid - piece["from"]) / (piece["to"] - piece["from"])
+        # reference: scipy.optimize.linprog (HiGHS) with the bound + margin written in
+        assert cost == pytest.approx(piece["cost_at_from"] + share * (piece["cost_at_to"] - piece["cost_at_from"]), rel=1e-7)
+    for k, point in enumerate(doc["breakpoints"]):
+        h = 1e-4
+        rates = []
+        for at in (point - h, point + h):
+            low = _highs_with(tmp_path, broiler, "Specs", protein_min, at + margin - h / 10)[0]
+            high = _highs_with(tmp_path, broiler, "Specs", protein_min, at + margin + h / 10)[0]
+            rates.append((high - low) / (h / 5))
+        # reference: HiGHS slopes on both sides of each breakpoint, at the bound + margin
+        assert rates[0] == pytest.approx(doc["segments"][k]["shadow_price"], rel=1e-5)
+        assert rates[1] == pytest.approx(doc["segments"][k + 1]["shadow_price"], rel=1e-5)
+    sheet = openpyxl.load_workbook(tmp_path / "margin.sweep.xlsx")["Sweep"]
+    assert sheet["A7"].value == "Margin" and "bound + its Margin of 0.4" in sheet["B7"].value
+    text = run("sweep", with_margin, "--spec", "Crude protein min", "--from", 19, "--to", 23)
+    assert "the formula is made to the bound + its Margin of 0.4" in text.output
+
+
+def test_a_spec_sweep_without_a_margin_says_margin_0(tmp_path, broiler):
+    result = run("sweep", broiler, "--spec", "Crude protein min", "--from", 19, "--to", 23, "--json")
+    assert json.loads(result.stdout)["margin"] == 0
+    assert "Margin" not in run("sweep", broiler, "--spec", "Crude protein min", "--from", 19, "--to", 23).output

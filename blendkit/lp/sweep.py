@@ -11,7 +11,10 @@ and the next piece begins — until the high end.
   with `product`); on each piece the formula is fixed, so the ingredient's inclusion
   (its demand) is constant and the cost changes linearly.
 - A spec sweep moves one bound of one spec; on each piece the shadow price is constant
-  and the cost changes linearly with it.
+  and the cost changes linearly with it. With a Margin on that spec the values swept are
+  the bound as written (as on the Specs sheet), and at each the formula is made to the
+  bound + margin (a min) or bound - margin (a max), as a solve with that bound would be:
+  the breakpoints are where the formula changes as the written bound moves.
 """
 
 from __future__ import annotations
@@ -59,6 +62,9 @@ class Sweep:
     breakpoints: tuple[float, ...]
     segments: tuple[Segment, ...]
     complete: bool = True  # False when MOST_SEGMENTS stopped it
+    # A spec sweep's Margin: the swept values are the bound as written, the formula is
+    # made to the bound + margin (min) or - margin (max). 0 for a price, or no margin.
+    margin: float = 0.0
 
 
 def sweep_price(blend: Blend, ingredient: str, start: float, end: float, product: str | None = None) -> Sweep:
@@ -92,10 +98,12 @@ def sweep_bound(blend: Blend, nutrient: str, side: str, start: float, end: float
     lp = build_lp(blend)
     i = _spec_row(lp, nutrient, side, product)
     key = "row_lower" if side == "min" else "row_upper"
+    margin = next(s.margin for s in lp.rows[i].sides if s.side == side)
+    inward = margin if side == "min" else -margin  # the row holds the target, not the bound
     segments, value, basis = [], start, None
     while len(segments) < MOST_SEGMENTS:
         bounds = np.array(getattr(lp.form, key), dtype=float, copy=True)
-        bounds[i] = value
+        bounds[i] = value + inward
         result = solve_form(dataclasses.replace(lp.form, **{key: bounds}), basis=basis, ranging=True)
         if result.status != "optimal":
             segments.append(Segment(value, end, None, None, status=result.status))
@@ -108,16 +116,16 @@ def sweep_bound(blend: Blend, nutrient: str, side: str, start: float, end: float
         if stop >= end:
             break
         value, basis = stop + SWEEP_NUDGE * (1 + abs(stop)), result.basis
-    return _sweep("spec", f"{nutrient} {side}", product, start, end, segments)
+    return _sweep("spec", f"{nutrient} {side}", product, start, end, segments, margin)
 
 
-def _sweep(kind, name, product, start, end, segments) -> Sweep:
+def _sweep(kind, name, product, start, end, segments, margin: float = 0.0) -> Sweep:
     """The Sweep record: pieces joined end to end, breakpoints between them."""
     joined = [dataclasses.replace(s, end=segments[k + 1].start) if k + 1 < len(segments) else s
               for k, s in enumerate(segments)]
     return Sweep(kind=kind, name=name, product=product, start=start, end=end,
                  breakpoints=tuple(s.end for s in joined[:-1]), segments=tuple(joined),
-                 complete=len(segments) < MOST_SEGMENTS)
+                 complete=len(segments) < MOST_SEGMENTS, margin=margin)
 
 
 def _price_direction(lp: BlendLP, j: int, product: str | None) -> np.ndarray:

@@ -2,7 +2,9 @@
 
 The Sweep sheet: the caution, what moved and over which range, the breakpoints, one row
 per piece (from, to, the ingredient's inclusion or the spec's shadow price, the cost at
-both ends) and a step chart of that value against the swept value.
+both ends) and a step chart of that value against the swept value. A spec with a Margin
+is swept by its bound as written (a "margin" key in JSON and a line on the sheet and in
+the text say that the formula is made to the bound plus or minus the margin).
 """
 
 from __future__ import annotations
@@ -27,12 +29,14 @@ _HEADER_ROW = 8
 def sweep_to_dict(sweep: Sweep) -> dict[str, Any]:
     """The sweep as JSON: what moved, the breakpoints and the pieces."""
     value = "inclusion" if sweep.kind == "ingredient" else "shadow_price"
+    margin = {"margin": float(sweep.margin)} if sweep.kind == "spec" else {}
     return {
         "sweep": sweep.kind,
         "name": sweep.name,
         "product": sweep.product,
         "from": sweep.start,
         "to": sweep.end,
+        **margin,
         "complete": sweep.complete,
         "breakpoints": [float(point) for point in sweep.breakpoints],
         "segments": [
@@ -48,6 +52,7 @@ def sweep_text(sweep: Sweep) -> str:
     value = "inclusion %" if sweep.kind == "ingredient" else "shadow price"
     lines = [f"Sweep of {sweep.name}" + (f" in {sweep.product}" if sweep.product else "") +
              f" from {sweep.start:g} to {sweep.end:g}: {len(sweep.breakpoints)} breakpoints",
+             *([margin_words(sweep)] if sweep.margin else []),
              f"{'from':>12} {'to':>12} {value:>14} {'cost at from':>14} {'cost at to':>14}"]
     for s in sweep.segments:
         shown = _value(sweep, s)
@@ -96,6 +101,17 @@ def _write_top(sheet, sweep: Sweep, title: str) -> None:
     put(sheet, 5, 2, ", ".join(f"{point:.6g}" for point in sweep.breakpoints) or "none: one formula over the range")
     if not sweep.complete:
         put(sheet, 6, 2, "the sweep stopped at its limit of pieces; narrow the range")
+    if sweep.margin:
+        put(sheet, 7, 1, "Margin").font = BOLD
+        put(sheet, 7, 2, margin_words(sweep))
+
+
+def margin_words(sweep: Sweep) -> str:
+    """What a spec's Margin does to a sweep of its bound, in words."""
+    side = sweep.name.rsplit(" ", 1)[-1]
+    sign = "+" if side == "min" else "-"
+    return (f"From and To are the bound as written on Specs; at each, the formula is made to the bound "
+            f"{sign} its Margin of {sweep.margin:g}, as a solve with that bound would be")
 
 
 def _write_pieces(sheet, sweep: Sweep) -> int:
