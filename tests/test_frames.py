@@ -14,6 +14,7 @@ import subprocess
 import sys
 from pathlib import Path
 
+import openpyxl
 import pandas as pd
 import pytest
 
@@ -21,6 +22,7 @@ import blendkit
 from blendkit import Blend, WorkbookError, formulate_many
 from blendkit.pipeline import formulate
 from blendkit.read import read_workbook
+from blendkit.write.json import formula_to_dict
 from tests.formulas import infeasible_formula
 from tests.test_examples import OPTIMUM, SAMPLE_WORKBOOKS, formulate_with_highs
 from tests.workbooks import INGREDIENTS, LIMITS, PRODUCTS, SPECS, make_workbook
@@ -355,3 +357,41 @@ def test_the_command_line_does_not_import_pandas():
     )
     result = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True, check=True)
     assert result.stdout.splitlines()[-1] == "False"
+
+
+def test_to_frames_limits_carry_margin_and_target_as_the_json_does(tmp_path):
+    # Margins on the broiler sample's Specs (invented, in each spec's unit): the formula
+    # is made to min + margin and max - margin.
+    frames = sample_frames(SAMPLE_WORKBOOKS / "broiler_starter.xlsx")
+    specs = frames["specs"].copy()
+    margins = {"Crude protein": 0.3, "Sodium": 0.005}
+    specs["Margin"] = [margins.get(name) for name in specs["Nutrient"]]
+    frames["specs"] = specs
+    formula = formulate(Blend.from_frames(**frames))
+    limits = formula.to_frames()["limits"]
+    document = formula_to_dict(formula)["limits"]
+    assert len(document) == len(limits)
+    for (_, row), entry in zip(limits.iterrows(), document):
+        assert (row["name"], row["side"]) == (entry["name"], entry["side"])
+        assert row["margin"] == entry["margin"] and row["target"] == entry["target"]
+    protein = limits[(limits["name"] == "Crude protein") & (limits["basis"] == "as fed")].set_index("side")
+    written = specs.set_index("Nutrient").loc["Crude protein"]
+    assert protein.loc["min", "bound"] == written["Min"] and protein.loc["min", "margin"] == 0.3
+    assert protein.loc["min", "target"] == pytest.approx(written["Min"] + 0.3, abs=1e-12)
+    assert protein.loc["max", "target"] == pytest.approx(written["Max"] - 0.3, abs=1e-12)
+    others = limits[~limits["name"].isin(list(margins))]
+    assert (others["margin"] == 0).all() and (others["target"] == others["bound"]).all()
+    # The cost against HiGHS (scipy.optimize.linprog through tests/test_examples.py) with
+    # the targets written into Min and Max instead of the margins.
+    book = openpyxl.load_workbook(SAMPLE_WORKBOOKS / "broiler_starter.xlsx")
+    sheet = book["Specs"]
+    header = [cell.value for cell in sheet[1]]
+    for row in range(2, sheet.max_row + 1):
+        margin = margins.get(sheet.cell(row, 1).value)
+        for label, sign in (("Min", 1), ("Max", -1)):
+            cell = sheet.cell(row, header.index(label) + 1)
+            if margin is not None and cell.value is not None:
+                cell.value += sign * margin
+    tight = tmp_path / "tight.xlsx"
+    book.save(tight)
+    assert formula.cost == pytest.approx(formulate_with_highs(tight).result.fun, rel=1e-7)

@@ -13,7 +13,10 @@ row index and one row per line of the formula (no rows unless the status is "opt
                 ratio), ``level``, ``min``, ``max``, ``position`` ("at min", "at max",
                 "within", "below min", "above max", "no spec")
 ``limits``      one row per bound the user wrote: ``product``, ``kind``, ``name``, ``basis``
-                (a nutrient limit's; None for other kinds), ``side``, ``bound``, ``level``,
+                (a nutrient limit's; None for other kinds), ``side``, ``bound`` (as
+                written), ``margin`` (a spec's Margin, 0 without one) and ``target`` (the
+                bound the formula is made to: bound + margin for a min, bound - margin for
+                a max; the bound without a margin), as in the JSON, ``level``,
                 ``binding``, ``shadow_price`` (d cost / d bound), ``holds_from`` /
                 ``holds_to`` (the bound values between which that shadow price holds),
                 ``violation`` and ``penalty`` (soft specs), ``cell`` (where the bound was
@@ -50,7 +53,7 @@ _COLUMNS: dict[str, dict[str, str | None]] = {
     },
     "limits": {
         "product": None, "kind": None, "name": None, "basis": None, "side": None,
-        "bound": _FLOAT, "level": _FLOAT, "binding": _BOOL, "shadow_price": _FLOAT,
+        "bound": _FLOAT, "margin": _FLOAT, "target": _FLOAT, "level": _FLOAT, "binding": _BOOL, "shadow_price": _FLOAT,
         "holds_from": _FLOAT, "holds_to": _FLOAT, "violation": _FLOAT, "penalty": _FLOAT,
         "cell": None,
     },
@@ -112,7 +115,7 @@ def _limit_rows(formula: Formula) -> list[tuple]:
     """A row per limit of the run (every product's and the stocks), in column order."""
     return [
         (limit.product, limit.kind, limit.name, _basis(limit.kind, limit.basis), limit.side, limit.bound,
-         limit.level, limit.binding, limit.shadow_price, limit.holds_from, limit.holds_to,
+         limit.margin, limit.target, limit.level, limit.binding, limit.shadow_price, limit.holds_from, limit.holds_to,
          limit.violation, limit.penalty, limit.cell)
         for limit in formula.limits
     ]
