@@ -26,6 +26,7 @@ from blendkit.pipeline import formulate, solve_workbook
 from blendkit.read.sums import SumError, parse_sum
 from blendkit.read.values import name_key
 from blendkit.read.workbook import read_workbook
+from blendkit.write.json import formula_to_dict
 from tests.test_result_sheet import LIVE, needs_libreoffice, recalculate, row_of
 from tests.workbooks import INGREDIENTS, SPECS, make_workbook
 
@@ -314,3 +315,32 @@ def test_any_sum_text_parses_or_gets_a_message(text):
         return
     # What parses names something (a name between operators) and has a finite number.
     assert terms and all(term.name.strip() and math.isfinite(term.number) for term in terms)
+
+
+# --- The definitions in the JSON -------------------------------------------------------------
+
+
+def test_json_lists_each_combined_nutrients_definition(tmp_path):
+    combined = [["Nutrient", "Sum", "Unit"],
+                ["Twice the balance less sodium", "2 * Electrolyte balance - Sodium + 0.5 * Sodium", None],
+                ["Electrolyte balance", BALANCE, "mEq/kg"]]
+    formula = formulate(read_workbook(workbook(tmp_path, combined)))
+    document = formula_to_dict(formula)
+    assert list(document).index("combined") == list(document).index("cross_check") + 1
+    assert document["combined"] == [
+        # the electrolyte-balance coefficients of common practice (above), as written
+        {"name": "Electrolyte balance", "unit": "mEq/kg", "terms": {"Sodium": NA, "Potassium": K, "Chloride": -CL}},
+        # by hand: sodium named twice, -1 + 0.5 = -0.5
+        {"name": "Twice the balance less sodium", "unit": None,
+         "terms": {"Electrolyte balance": 2.0, "Sodium": -0.5}},
+    ]
+    # The terms recompute each level: by hand from the levels in the same document.
+    levels = document["nutrients"]
+    for entry in document["combined"]:
+        assert levels[entry["name"]] == pytest.approx(
+            sum(number * levels[part] for part, number in entry["terms"].items()), rel=1e-9)
+
+
+def test_json_has_no_combined_key_without_a_combined_sheet(tmp_path):
+    formula = formulate(read_workbook(workbook(tmp_path, None, specs(None))))
+    assert "combined" not in formula_to_dict(formula)

@@ -70,6 +70,15 @@ after "cross_check": the run's total cost without the rules and under them (curr
 product without rules counts its own cost in both; `cost` null unless every product has
 a formula). A workbook without those rules has no such key.
 
+With a Combined sheet, one more key follows those (after "practical" when there is one)::
+
+    "combined": [{"name": str, "unit": str | null, "terms": {nutrient: coefficient}}]
+
+one entry per combined nutrient, each after those it refers to: its name, its unit (null
+when blank) and its Sum as coefficients by nutrient (a nutrient named twice has its
+numbers added; a part may be another combined nutrient, not expanded). Its level is in
+`nutrients` like any other.
+
 When the status is "infeasible" two more keys follow "notes"::
 
     "conflicts": [{"kind", "name", "product", "side", "bound", "cell", "relax_to",
@@ -158,6 +167,7 @@ def formula_to_dict(formula: Formula) -> dict[str, Any]:
             "notes": [str(note) for note in formula.notes],
             "cross_check": _cross_check(formula),
             **_run_practical(formula),
+            **_combined(formula.blend),
         }))
     batch_by_product = {batch.product: batch for batch in batches(formula)}
     return _with_changes(formula, _conflicts(formula, {
@@ -174,6 +184,7 @@ def formula_to_dict(formula: Formula) -> dict[str, Any]:
         "notes": [str(note) for note in formula.notes],
         "cross_check": _cross_check(formula),
         **_practical(formula.products[0] if formula.products else None),
+        **_combined(formula.blend),
     }))
 
 
@@ -196,6 +207,20 @@ def _run_practical(formula: Formula) -> dict[str, Any]:
     if totals is None:
         return {}
     return {"practical": {"lp_cost": _number(totals[0]), "cost": _number(totals[1])}}
+
+
+def _combined(blend: Blend) -> dict[str, Any]:
+    """{"combined": [...]}: each combined nutrient's definition; {} without a Combined sheet."""
+    if not blend.combined:
+        return {}
+    entries = []
+    for item in blend.combined:
+        terms: dict[str, float] = {}
+        for number, part in item.terms:  # a nutrient named twice counts once, its numbers added
+            terms[str(part)] = terms.get(str(part), 0.0) + float(number)
+        entries.append({"name": str(item.name), "unit": str(item.unit) if item.unit else None,
+                        "terms": {part: _number(number) for part, number in terms.items()}})
+    return {"combined": entries}
 
 
 def _cross_check(formula: Formula) -> dict[str, Any] | None:
