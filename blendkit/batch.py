@@ -65,7 +65,7 @@ def solve_books(
     for book in books:
         try:
             prepared.append(prepare(book, output, mps_file=mps_file, in_place=in_place, price_list=price_list,
-                                    limits=limits))
+                                    limits=limits, keep_loaded=len(books) == 1))
         except WorkbookError as error:
             prepared.append(error)
     ready = [item for item in prepared if isinstance(item, Prepared)]

@@ -79,6 +79,15 @@ def read_workbook(path: str | Path, *, data: bytes | None = None, limits: ReadLi
     before anything is parsed) or breaks any rule of the format described in the
     `blendkit.read` package docstring. The file is never modified.
     """
+    return read_with_workbook(path, data=data, limits=limits)[0]
+
+
+def read_with_workbook(
+    path: str | Path, *, data: bytes | None = None, limits: ReadLimits = ReadLimits()
+) -> tuple[Blend, openpyxl.Workbook]:
+    """`read_workbook`, and the workbook as it was loaded (with its formulas), which the
+    reader never changes: the writer copies it into the output without loading the file
+    a second time."""
     path = Path(path)
     book, saved = _load(path, data, limits)
     sheets, file_problems = _find_sheets(path, book, saved)
@@ -91,7 +100,7 @@ def read_workbook(path: str | Path, *, data: bytes | None = None, limits: ReadLi
     ]
     if found:
         raise WorkbookError(found)
-    return _blend(path, reading)
+    return _blend(path, reading), book
 
 
 def _start_reading(sheets: dict[str, tuple]) -> Reading:

@@ -17,6 +17,7 @@ to the plain sum of products, each operand scaled on its own.
 
 from __future__ import annotations
 
+import functools
 import re
 import weakref
 from typing import Callable
@@ -155,24 +156,26 @@ def _sumproduct(
     share their percent format; None otherwise."""
     if not references or rows != list(range(rows[0], rows[0] + len(rows))):
         return None
-    places = [_place(workbook, reference) for reference in references]
-    if any(place is None for place in places):
-        return None
-    sheets = {place[0].title for place in places}
-    columns = {place[2] for place in places}
-    first = places[0][1]
-    if len(sheets) != 1 or len(columns) != 1 or [place[1] for place in places] != list(
-            range(first, first + len(places))):
-        return None
+    places = []
+    for reference in references:  # one pass, stopping at the first that does not line up
+        place = _place(workbook, reference)
+        if place is None or (places and not _follows(places[-1], place)):
+            return None
+        places.append(place)
     scaled = {place[3] for place in places}
     if len(scaled) != 1:
         return None
-    sheet, _, column, _ = places[0]
+    sheet, first, column, _ = places[0]
     letter = get_column_letter(column)
     text = (f"=SUMPRODUCT(B{rows[0]}:B{rows[-1]},"
             f"{quote_sheet(sheet.title)}!{letter}{first}:{letter}{first + len(places) - 1})")
     factor = (100 if scaled.pop() else 1) / (100 if percent else 1)
     return text + {1: "", 100: "*100", 0.01: "/100"}[factor]
+
+
+def _follows(previous: tuple[Worksheet, int, int, bool], place: tuple[Worksheet, int, int, bool]) -> bool:
+    """True when `place` is the cell below `previous`, on the same sheet."""
+    return place[0] is previous[0] and place[2] == previous[2] and place[1] == previous[1] + 1
 
 
 def _place(workbook: Workbook, reference: str | None) -> tuple[Worksheet, int, int, bool] | None:
@@ -187,13 +190,22 @@ def _place(workbook: Workbook, reference: str | None) -> tuple[Worksheet, int, i
     sheet = _sheet_named(workbook, sheet_name)
     if sheet is None:
         return None
+    position = _position(coordinate)
+    if position is None:
+        return None
+    cell = sheet._cells.get(position)  # never sheet[...]: that would add a cell
+    scaled = cell is not None and _scaled_as_percent(cell.value, cell.number_format)
+    return sheet, position[0], position[1], scaled
+
+
+@functools.lru_cache(maxsize=65536)
+def _position(coordinate: str) -> tuple[int, int] | None:
+    """A cell reference ("F12", "$F$12") as (row, column); None when it is not one.
+    Remembered: a Result sheet asks for each input cell once per nutrient and product."""
     try:
-        row, column = coordinate_to_tuple(coordinate.replace("$", ""))
+        return coordinate_to_tuple(coordinate.replace("$", ""))
     except (ValueError, TypeError):
         return None
-    cell = sheet._cells.get((row, column))  # never sheet[...]: that would add a cell
-    scaled = cell is not None and _scaled_as_percent(cell.value, cell.number_format)
-    return sheet, row, column, scaled
 
 
 def _sum_formula(terms: list[str], percent: bool = True) -> str:
@@ -234,8 +246,9 @@ def _find_operand(workbook: Workbook, reference: str | None) -> str | None:
 
 def _sheet_named(workbook: Workbook, name: str) -> Worksheet | None:
     """The worksheet called `name`, ignoring case as spreadsheet programs do."""
-    for sheet in workbook.worksheets:
-        if sheet.title.casefold() == name.casefold():
+    wanted = name.casefold()
+    for sheet in workbook._sheets:
+        if sheet.title.casefold() == wanted and isinstance(sheet, Worksheet):
             return sheet
     return None
 
@@ -246,4 +259,10 @@ def _scaled_as_percent(value: object, number_format: str) -> bool:
     `blendkit.read.values.is_percent_format` (a test checks)."""
     if isinstance(value, str) and not value.startswith("="):
         return False  # text that looks like a number is read as written
-    return "%" in _LITERAL_FORMAT_PARTS.sub("", number_format or "")
+    return _percent_format(number_format or "")
+
+
+@functools.lru_cache(maxsize=1024)
+def _percent_format(number_format: str) -> bool:
+    """True when the format shows a % outside quotes, escapes and [brackets]."""
+    return "%" in _LITERAL_FORMAT_PARTS.sub("", number_format)
