@@ -10,7 +10,7 @@ from dataclasses import dataclass
 
 from openpyxl.worksheet.formula import ArrayFormula
 
-@dataclass(frozen=True)
+@dataclass(frozen=True, slots=True)  # slots: a big sheet is read into hundreds of thousands
 class Cell:
     """One cell as a spreadsheet program would show it, with where it is.
 
