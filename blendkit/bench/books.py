@@ -58,7 +58,7 @@ print(json.dumps({{"import": imported - started, "load": loaded - imported, "sav
 """,
     "check": """
 import json, time
-from blendkit.read import read_workbook
+from blendkit.read.workbook import read_workbook
 started = time.perf_counter()
 read_workbook({path!r})
 print(json.dumps({{"read": time.perf_counter() - started}}))
