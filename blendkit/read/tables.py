@@ -160,12 +160,16 @@ def stored_cells(sheet, saved: SheetValues) -> dict[int, dict[int, Cell]]:
     """
     title = sheet.title
     epoch = sheet.parent.epoch
+    formats: dict[int, str] = {}  # by format id: openpyxl's number_format property is slow
     grid: dict[int, dict[int, Cell]] = {}
     for (row, column), cell in sheet._cells.items():
+        key = cell._style.numFmtId if cell._style is not None else 0
+        if key not in formats:
+            formats[key] = cell.number_format
         value_cell = cell
         if cell.data_type == "f":
-            value_cell = shown_value(saved.get((row, column)), cell.number_format, cell.coordinate, epoch)
-        grid.setdefault(row, {})[column] = read_cell(title, value_cell, cell)
+            value_cell = shown_value(saved.get((row, column)), formats[key], cell.coordinate, epoch)
+        grid.setdefault(row, {})[column] = read_cell(title, value_cell, cell, formats[key])
     return grid
 
 
