@@ -32,7 +32,6 @@ from blendkit.model.prices import PriceList, apply_price_list
 from blendkit.read.package import ReadLimits
 from blendkit.read.values import name_key
 from blendkit.read.workbook import read_with_workbook, read_workbook
-from blendkit.write.mps import export_mps
 from blendkit.write.workbook import write_workbook
 from blendkit.write.workbook.save import same_file, save_atomically
 
@@ -251,6 +250,8 @@ def finish(prepared: Prepared, formula: Formula, *, compare: str | Path | None =
     except OSError as error:
         raise OutputError(f"{target}: could not write the output workbook ({error.strerror or error})") from None
     if prepared.mps_file is not None:
+        from blendkit.write.mps import export_mps  # only when asked: the MPS modules cost a start-up
+
         export_mps(prepared.blend, prepared.mps_file)
     return Outcome(formula=formula, run=prepared.run, output=Path(written))
 
