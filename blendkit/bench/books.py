@@ -45,6 +45,29 @@ SEED = 20240611
 # its timings as JSON. Each is a script of its own, importing only what the step needs:
 # openpyxl's load and save, blendkit's check (the reader) and blendkit's solve (read, LP,
 # analysis and cross-check, write; the same calls as `blendkit solve`).
+# `blendkit` as its console script runs it, with the arguments {argv}.
+_CLI = """
+import sys
+sys.argv = {argv!r}
+from blendkit.start import main
+main()
+"""
+
+# Put before every child's script: at exit the child writes its own peak resident memory
+# (VmHWM, Linux) to stderr. The kernel's rusage of a child also counts the memory of the
+# parent it was started from, so it would show the benchmark's own size, not the child's.
+PEAK_PREAMBLE = """
+import atexit as _atexit, sys as _sys
+def _peak():
+    try:
+        with open("/proc/self/status") as status:
+            line = next(line for line in status if line.startswith("VmHWM:"))
+        _sys.stderr.write("\\npeak-kb " + line.split()[1] + "\\n")
+    except (OSError, StopIteration):
+        pass
+_atexit.register(_peak)
+"""
+
 CHILDREN = {
     "openpyxl": """
 import json, time
@@ -123,12 +146,13 @@ class Run:
 def measured(kind: str, path: Path, out: Path) -> Run:
     """One step in a fresh child process (see `CHILDREN`), with the child's peak memory."""
     code = CHILDREN[kind].format(path=str(path), out=str(out))
-    return _run_with_peak([sys.executable, "-c", code])
+    return _run_with_peak([sys.executable, "-c", PEAK_PREAMBLE + code])
 
 
 def _run_with_peak(command: Sequence[str]) -> Run:
-    """`command` as a child process, waited for with os.wait4 so that its own peak
-    resident memory is known; its wall time and the JSON timings it printed last."""
+    """`command` as a child process: its wall time, its peak resident memory (as it wrote
+    it, see `PEAK_PREAMBLE`; else the kernel's figure from os.wait4, which may include
+    this process's) and the JSON timings it printed last."""
     started = time.perf_counter()
     with tempfile.TemporaryFile("w+") as stdout, tempfile.TemporaryFile("w+") as stderr:
         process = subprocess.Popen(command, stdout=stdout, stderr=stderr, text=True)
@@ -142,7 +166,9 @@ def _run_with_peak(command: Sequence[str]) -> Run:
         raise RuntimeError(f"{command[0]} {command[1]} failed ({process.returncode}): {errors.strip()[-400:]}")
     lines = output.strip().splitlines()
     times = json.loads(lines[-1]) if lines and lines[-1].startswith("{") else {}
-    return Run(seconds=seconds, peak_mb=usage.ru_maxrss / 1024, times=times)
+    reported = [line.split()[1] for line in errors.splitlines() if line.startswith("peak-kb ")]
+    peak_kb = float(reported[-1]) if reported else usage.ru_maxrss
+    return Run(seconds=seconds, peak_mb=peak_kb / 1024, times=times)
 
 
 def _book_lines(folder: Path, ingredients: int, nutrients: int) -> Iterator[str]:
@@ -165,17 +191,24 @@ BOOK_HEAD = (f"{'size':<14}{'MB':>7}{'o.load':>8}{'o.save':>8}{'o.both':>8}{'che
 
 
 def _sample_lines(folder: Path) -> Iterator[str]:
-    """Each sample: `blendkit solve` end to end beside openpyxl's load and save, each a
-    whole child process (start, imports, work)."""
-    head = f"{'sample':<24}{'openpyxl s':>11}{'solve s':>9}{'ratio':>8}{'o.peak':>8}{'s.peak':>8}"
+    """Each sample: `blendkit solve` end to end (with the default HiGHS cross-check, and
+    with --no-cross-check) beside openpyxl's load and save, each a whole child process
+    (start, imports, work)."""
+    head = (f"{'sample':<20}{'openpyxl s':>11}{'solve s':>9}{'ratio':>8}{'no-check s':>12}{'ratio':>8}"
+            f"{'o.peak':>8}{'s.peak':>8}")
     yield head
     yield "-" * len(head)
     for sample in sorted(SAMPLES.glob("*.xlsx")):
         yardstick = measured("openpyxl", sample, folder / "copy.xlsx")
-        output = folder / f"{sample.stem}.result.xlsx"  # new: no earlier result to compare with
-        solve = _run_with_peak([sys.executable, "-m", "blendkit", "solve", str(sample), "-o", str(output)])
-        yield (f"{sample.stem:<24}{yardstick.seconds:>11.2f}{solve.seconds:>9.2f}"
-               f"{solve.seconds / yardstick.seconds:>7.2f}x{yardstick.peak_mb:>8.0f}{solve.peak_mb:>8.0f}")
+        runs = []
+        for extra in ([], ["--no-cross-check"]):
+            output = folder / f"{sample.stem}{len(extra)}.result.xlsx"  # new: nothing to compare with
+            argv = ["blendkit", "solve", str(sample), "-o", str(output), *extra]
+            runs.append(_run_with_peak([sys.executable, "-c", PEAK_PREAMBLE + _CLI.format(argv=argv)]))
+        solve, unchecked = runs
+        yield (f"{sample.stem:<20}{yardstick.seconds:>11.2f}{solve.seconds:>9.2f}"
+               f"{solve.seconds / yardstick.seconds:>7.2f}x{unchecked.seconds:>12.2f}"
+               f"{unchecked.seconds / yardstick.seconds:>7.2f}x{yardstick.peak_mb:>8.0f}{solve.peak_mb:>8.0f}")
 
 
 def section(options: Options, sizes: Sequence[tuple[int, int]] | None = None) -> Iterator[str]:
