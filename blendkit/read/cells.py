@@ -25,15 +25,17 @@ class Cell:
     formula: str | None = None
 
 
-def read_cell(title: str, value_cell, formula_cell, number_format: str | None = None) -> Cell:
+def read_cell(title: str, value_cell, formula_cell, number_format: str | None = None,
+              coordinate: str | None = None) -> Cell:
     """Combine a cell's saved value and its formula (if any) into one `Cell`; its number
-    format is `number_format` when the caller knows it (else the value cell's)."""
+    format and coordinate are `number_format` and `coordinate` when the caller knows
+    them (else the value cell's)."""
     formula = _formula_text(formula_cell)
     kind, value = _shown(value_cell, formula)
     if number_format is None:
         number_format = getattr(value_cell, "number_format", None)
     return Cell(
-        ref=f"{title}!{value_cell.coordinate}",
+        ref=f"{title}!{coordinate or value_cell.coordinate}",
         kind=kind,
         value=value,
         number_format=number_format or "General",

@@ -160,16 +160,22 @@ def stored_cells(sheet, saved: SheetValues) -> dict[int, dict[int, Cell]]:
     """
     title = sheet.title
     epoch = sheet.parent.epoch
-    formats: dict[int, str] = {}  # by format id: openpyxl's number_format property is slow
+    # Number formats by their id and column letters by number, each found once: openpyxl
+    # works both out afresh for every cell, and a big sheet has 400,000 of them.
+    formats: dict[int, str] = {}
+    letters: dict[int, str] = {}
     grid: dict[int, dict[int, Cell]] = {}
     for (row, column), cell in sheet._cells.items():
         key = cell._style.numFmtId if cell._style is not None else 0
         if key not in formats:
             formats[key] = cell.number_format
+        if column not in letters:
+            letters[column] = get_column_letter(column)
+        coordinate = f"{letters[column]}{row}"
         value_cell = cell
         if cell.data_type == "f":
-            value_cell = shown_value(saved.get((row, column)), formats[key], cell.coordinate, epoch)
-        grid.setdefault(row, {})[column] = read_cell(title, value_cell, cell, formats[key])
+            value_cell = shown_value(saved.get((row, column)), formats[key], coordinate, epoch)
+        grid.setdefault(row, {})[column] = read_cell(title, value_cell, cell, formats[key], coordinate)
     return grid
 
 
