@@ -24,6 +24,7 @@ from __future__ import annotations
 import argparse
 import json
 import os
+import statistics
 import subprocess
 import sys
 import tempfile
@@ -171,12 +172,21 @@ def _run_with_peak(command: Sequence[str]) -> Run:
     return Run(seconds=seconds, peak_mb=peak_kb / 1024, times=times)
 
 
-def _book_lines(folder: Path, ingredients: int, nutrients: int) -> Iterator[str]:
-    """One size: the workbook made, then openpyxl, check and solve in child processes."""
+def _median_run(runs: list[Run]) -> Run:
+    """Each figure of several runs of one step: its median."""
+    return Run(seconds=statistics.median(run.seconds for run in runs),
+               peak_mb=statistics.median(run.peak_mb for run in runs),
+               times={key: statistics.median(run.times[key] for run in runs) for key in runs[0].times})
+
+
+def _book_lines(folder: Path, ingredients: int, nutrients: int, repeat: int) -> Iterator[str]:
+    """One size: the workbook made, then openpyxl, check and solve in child processes,
+    `repeat` rounds of the three in turn (so that a change of the machine's load falls on
+    all three alike), each figure the median of its rounds."""
     book = books_workbook(folder / f"book_{ingredients}x{nutrients}.xlsx", ingredients, nutrients)
-    yardstick = measured("openpyxl", book, folder / "openpyxl_copy.xlsx")
-    check = measured("check", book, folder / "unused.xlsx")
-    solve = measured("solve", book, folder / "result.xlsx")
+    rounds = [[measured(kind, book, folder / f"{kind}.xlsx") for kind in ("openpyxl", "check", "solve")]
+              for _ in range(repeat)]
+    yardstick, check, solve = (_median_run(list(runs)) for runs in zip(*rounds))
     base = yardstick.times["load"] + yardstick.times["save"]
     lp = solve.times
     total = lp["read"] + lp["lp"] + lp["write"]
@@ -212,16 +222,19 @@ def _sample_lines(folder: Path) -> Iterator[str]:
 
 
 def section(options: Options, sizes: Sequence[tuple[int, int]] | None = None) -> Iterator[str]:
-    """The workbook family's part of the report."""
+    """The workbook family's part of the report (`options.repeat` rounds per size, default
+    one; medians)."""
+    repeat = options.repeat or 1
     sizes = sizes or (QUICK_BOOK_SIZES if options.quick else BOOK_SIZES)
     yield "Workbooks: openpyxl load+save (o.) beside blendkit check and solve (read, LP, write), seconds;"
-    yield "each step in a fresh child process; peak resident memory in MB; ratio = solve / o.both"
+    yield (f"each step in a fresh child process, medians of {repeat} round(s); peak resident memory in MB; "
+           "ratio = solve / o.both")
     yield BOOK_HEAD
     yield "-" * len(BOOK_HEAD)
     with tempfile.TemporaryDirectory() as name:
         folder = Path(name)
         for ingredients, nutrients in sizes:
-            yield from _book_lines(folder, ingredients, nutrients)
+            yield from _book_lines(folder, ingredients, nutrients, repeat)
         yield ""
         yield "Samples: `blendkit solve` end to end beside a process that imports openpyxl, loads and saves"
         yield from _sample_lines(folder)
@@ -235,10 +248,13 @@ def main(argv: list[str] | None = None) -> None:
                                      description="Time blendkit's check and solve of big workbooks beside openpyxl.")
     parser.add_argument("--sizes", type=parse_sizes, default=list(BOOK_SIZES),
                         help="comma-separated INGREDIENTSxNUTRIENTS (default 500x60,2000x200)")
+    parser.add_argument("--repeat", type=int, default=1, help="rounds per size, figures their medians (default 1)")
     args = parser.parse_args(argv)
+    if args.repeat < 1:
+        parser.error("--repeat must be at least 1")
     for line in machine_lines():
         print(line)
-    options = Options(sizes=tuple(args.sizes), seed=SEED, repeat=None, quick=False, netlib=None)
+    options = Options(sizes=tuple(args.sizes), seed=SEED, repeat=args.repeat, quick=False, netlib=None)
     for line in section(options, args.sizes):
         print(line, flush=True)
     print(f"load average at end {load_average()}")

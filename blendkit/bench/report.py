@@ -25,10 +25,13 @@ DEFAULT_SEED = 20240611
 
 def _books_section(options: Options) -> Iterator[str]:
     """The workbook family (`blendkit.bench.books`), imported when it runs, so that
-    ``python -m blendkit.bench.books`` can run it alone."""
+    ``python -m blendkit.bench.books`` can run it alone; one round per size here (its own
+    command takes --repeat), since a round of the largest workbook takes about a minute."""
+    from dataclasses import replace
+
     from blendkit.bench import books
 
-    yield from books.section(options)
+    yield from books.section(replace(options, repeat=None))
 
 
 # The families, in the order the report shows them.
