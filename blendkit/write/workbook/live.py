@@ -160,23 +160,23 @@ def _sumproduct(
     share their percent format; None otherwise."""
     if not references or rows != list(range(rows[0], rows[0] + len(rows))):
         return None
-    places = _column_run(workbook, references)
-    if places is None:
+    run = _column_run(workbook, references)
+    if run is None:
         return None
-    scaled = {place[3] for place in places}
+    sheet, first, column, scaled = run
     if len(scaled) != 1:
         return None
-    sheet, first, column, _ = places[0]
     letter = get_column_letter(column)
     text = (f"=SUMPRODUCT(B{rows[0]}:B{rows[-1]},"
-            f"{quote_sheet(sheet.title)}!{letter}{first}:{letter}{first + len(places) - 1})")
+            f"{quote_sheet(sheet.title)}!{letter}{first}:{letter}{first + len(references) - 1})")
     factor = (100 if scaled.pop() else 1) / (100 if percent else 1)
     return text + {1: "", 100: "*100", 0.01: "/100"}[factor]
 
 
-def _column_run(workbook: Workbook, references: list[str | None]) -> list[tuple[Worksheet, int, int, bool]] | None:
-    """The places of `references` (see `_place`) when they are one unbroken run down one
-    column of one sheet, in order; None otherwise.
+def _column_run(workbook: Workbook, references: list[str | None]) -> tuple[Worksheet, int, int, set[bool]] | None:
+    """When `references` are one unbroken run down one column of one sheet, in order: the
+    sheet, the first row, the column, and whether the cells are shown as percentages (the
+    set of the answers, one per cell; see `_place`); None otherwise.
 
     A Result sheet of 2,000 ingredients and 200 nutrients asks this for 400,000 cells, so
     the references are split by one regular expression over them all, and a cell is
@@ -198,8 +198,24 @@ def _column_run(workbook: Workbook, references: list[str | None]) -> list[tuple[
         return None
     sheet, _, column, _ = first
     cells = sheet._cells  # never sheet[...]: that would add a cell
-    return [(sheet, row, column, cell is not None and known.scaled(cell))
-            for row, cell in ((row, cells.get((row, column))) for row in rows)]
+    # Cells of one style share one style record (blendkit.read.workbook._share_styles), so
+    # a handful of records answer for the whole column; a cell's text is checked first.
+    by_style: dict[int, bool] = {}
+    scaled: set[bool] = set()
+    for row in rows:
+        cell = cells.get((row, column))
+        if cell is None:
+            scaled.add(False)
+            continue
+        value = cell._value
+        if isinstance(value, str) and not value.startswith("="):
+            scaled.add(False)  # text that looks like a number is read as written
+            continue
+        style = id(cell._style)
+        if style not in by_style:
+            by_style[style] = known.scaled(cell)
+        scaled.add(by_style[style])
+    return sheet, rows[0], column, scaled
 
 
 class _Known:
