@@ -65,9 +65,10 @@ def solve_books(
     for book in books:
         try:
             prepared.append(prepare(book, output, mps_file=mps_file, in_place=in_place, price_list=price_list,
-                                    limits=limits))
+                                    limits=limits, keep_loaded=len(books) == 1))
         except WorkbookError as error:
             prepared.append(error)
+    prepared = [_without_loaded(item, jobs) for item in prepared]
     ready = [item for item in prepared if isinstance(item, Prepared)]
     formulas = iter(_formulate_all([item.blend for item in ready], jobs, progress, check))
     results = []
@@ -80,6 +81,17 @@ def solve_books(
         except OutputError as error:
             results.append(BookResult(Path(book), error=error))
     return results
+
+
+def _without_loaded(item: Prepared | WorkbookError, jobs: int | None) -> Prepared | WorkbookError:
+    """`item` without its loaded workbook when its LPs go to worker processes: a forked
+    worker would otherwise come to hold a copy of it (its collector touches every object),
+    and the writer can load the file again at the cost of one load."""
+    if not isinstance(item, Prepared) or item.loaded is None:
+        return item
+    parts = len(lp_blends(item.blend))
+    pooled = parts > 1 and min(jobs or os.cpu_count() or 1, parts) > 1
+    return dataclasses.replace(item, loaded=None) if pooled else item
 
 
 def _formulate_all(blends: list[Blend], jobs: int | None, progress: Progress | None,

@@ -11,7 +11,7 @@ import hashlib
 import os
 from collections.abc import Iterable
 from concurrent.futures import ProcessPoolExecutor
-from dataclasses import dataclass
+from dataclasses import dataclass, field
 from datetime import UTC, datetime
 from pathlib import Path
 
@@ -33,8 +33,7 @@ from blendkit.model.weighing import has_weigh_rules
 from blendkit.model.prices import PriceList, apply_price_list
 from blendkit.read.package import ReadLimits
 from blendkit.read.values import name_key
-from blendkit.read.workbook import read_workbook
-from blendkit.write.mps import export_mps
+from blendkit.read.workbook import read_with_workbook, read_workbook
 from blendkit.write.workbook import write_workbook
 from blendkit.write.workbook.save import same_file, save_atomically
 
@@ -203,7 +202,9 @@ def _input_bytes(book: Path) -> bytes | None:
 @dataclass(frozen=True)
 class Prepared:
     """A workbook read and checked, ready to formulate: its bytes (read once), its blend
-    (with any price list applied), where its outputs go and the run's facts."""
+    (with any price list applied), where its outputs go and the run's facts. `loaded` is
+    the workbook as the reader loaded it, for the writer to copy (so the file is parsed
+    once); None when it was not kept, and the writer loads the bytes again."""
 
     book: Path
     data: bytes
@@ -212,6 +213,7 @@ class Prepared:
     run: RunInfo
     mps_file: Path | None = None
     in_place: bool = False
+    loaded: object = field(default=None, repr=False, compare=False)
 
 
 def prepare(
@@ -222,13 +224,16 @@ def prepare(
     in_place: bool = False,
     price_list: PriceList | None = None,
     limits: ReadLimits = ReadLimits(),
+    keep_loaded: bool = True,
 ) -> Prepared:
     """Read `book` once (within `limits`), apply `price_list`, and check every output path
-    before anything is solved; raises WorkbookError or OutputError."""
+    before anything is solved; raises WorkbookError or OutputError. With `keep_loaded`,
+    the loaded workbook is kept for the writer (`Prepared.loaded`); a batch of many
+    workbooks turns it off, so that it does not hold them all in memory at once."""
     book = Path(book)
     started = datetime.now(UTC).strftime("%Y-%m-%dT%H:%M:%SZ")
     data = _input_bytes(book)
-    blend = read_workbook(book, data=data, limits=limits)
+    blend, loaded = read_with_workbook(book, data=data, limits=limits)
     target = _target(book, output, in_place)
     mps_path = None if mps_file is None else Path(mps_file)
     check_outputs(book, target if not in_place else backup_path(book), mps_path)
@@ -244,7 +249,7 @@ def prepare(
         price_list_sha256=price_list.sha256 if price_list else "",
     )
     return Prepared(book=book, data=data, blend=blend, target=target, run=run, mps_file=mps_path,
-                    in_place=in_place)
+                    in_place=in_place, loaded=loaded if keep_loaded else None)
 
 
 def finish(prepared: Prepared, formula: Formula, *, compare: str | Path | None = None) -> Outcome:
@@ -255,10 +260,13 @@ def finish(prepared: Prepared, formula: Formula, *, compare: str | Path | None =
     try:
         if prepared.in_place:
             save_atomically(data, backup_path(prepared.book))
-        written = write_workbook(formula, prepared.run, prepared.book, target, data=data)
+        written = write_workbook(formula, prepared.run, prepared.book, target, data=data,
+                                 loaded=prepared.loaded)
     except OSError as error:
         raise OutputError(f"{target}: could not write the output workbook ({error.strerror or error})") from None
     if prepared.mps_file is not None:
+        from blendkit.write.mps import export_mps  # only when asked: the MPS modules cost a start-up
+
         export_mps(prepared.blend, prepared.mps_file)
     return Outcome(formula=formula, run=prepared.run, output=Path(written))
 

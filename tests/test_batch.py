@@ -187,6 +187,24 @@ def test_replaced_cells_are_marked_and_recorded(tmp_path):
     assert info["Price list"] == "prices.xlsx"
 
 
+def test_only_the_replaced_cells_change_their_look(tmp_path):
+    # The reader lets cells of one style share a style record; marking a replaced cell
+    # must not repaint the others. Checked against openpyxl's own load of the input.
+    book = tmp_path / "layer_feed.xlsx"
+    shutil.copyfile(SAMPLES / "layer_feed.xlsx", book)
+    assert run("solve", book, "--prices", _price_list(tmp_path), "--json").exit_code == 0
+    before = openpyxl.load_workbook(book)["Ingredients"]
+    after = openpyxl.load_workbook(tmp_path / "layer_feed.result.xlsx")["Ingredients"]
+
+    def look(cell):  # styles of two workbooks compare by what they print
+        return repr(cell.fill), repr(cell.font), repr(cell.border), cell.number_format
+
+    changed = {cell.coordinate for row in after.iter_rows() for cell in row
+               if look(cell) != look(before[cell.coordinate])}
+    assert changed == {f"B{row}" for row in range(2, before.max_row + 1)
+                       if str(before[f"A{row}"].value).lower() in ("maize", "soybean meal", "limestone")}
+
+
 def test_a_bad_book_does_not_stop_the_others(tmp_path):
     good = formulas_book(tmp_path)
     bad = make_workbook(tmp_path, [["Ingredient", "Cost"], ["Maize", "n/a"]], [["Nutrient", "Min"]], name="bad.xlsx")

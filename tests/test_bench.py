@@ -219,3 +219,18 @@ def test_netlib_row_from_a_stand_in_reader(tmp_path):
     assert row.agrees == ""
     lines = bench.netlib_lines([row])
     assert lines[2].startswith("TINY") and re.search(r"\d+\.\d\dx", lines[2]) and lines[2].endswith("yes")
+
+
+def test_the_generated_workbook_is_feasible_and_solves_to_the_highs_optimum(tmp_path):
+    # Outside reference: HiGHS on the LP written from the workbook's cells alone
+    # (tests.test_examples.formulate_with_highs).
+    from blendkit.bench.books import books_workbook
+    from blendkit.pipeline import solve_workbook
+    from tests.test_examples import formulate_with_highs
+
+    path = books_workbook(tmp_path / "book.xlsx", 80, 24)
+    reference = formulate_with_highs(path)
+    assert reference.result.status == 0, reference.result.message
+    formula = solve_workbook(path, tmp_path / "out.xlsx", check=False).formula
+    assert formula.status == "optimal"
+    assert formula.cost == pytest.approx(reference.result.fun, rel=1e-7)

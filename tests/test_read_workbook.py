@@ -1482,3 +1482,79 @@ def test_a_misspelt_nutrient_with_parentheses_gets_the_column_as_written(tmp_pat
         'Specs!A2: no nutrient column "Crude protien (N x 6.25)" in Ingredients; a spec must name one of its '
         'nutrient columns; did you mean "Crude protein (N x 6.25)"?'
     )
+
+
+# --- saved formula results read from the package ----------------------------------------
+
+
+def _formula_book(path: Path) -> Path:
+    """A workbook whose formula cells carry saved results of every kind a spreadsheet
+    program stores: number, text (inline and shared), empty text, true/false, error, a
+    date shown as a date, and one formula with no saved result."""
+    import datetime
+
+    import openpyxl
+
+    book = openpyxl.Workbook()
+    sheet = book.active
+    sheet.title = "Data"
+    for row, formula in enumerate(["=1+1", '="a"&"b"', '=""', "=TRUE()", "=1/0", "=DATE(2024,3,1)", "=2*2",
+                                   "=0.5"], start=1):
+        sheet.cell(row, 1).value = formula
+    sheet["A6"].number_format = "yyyy-mm-dd"
+    sheet["A8"].number_format = "0%"
+    book.save(path)
+    serial = (datetime.date(2024, 3, 1) - datetime.date(1899, 12, 30)).days
+    store_saved_values(path, "Data", {"A1": 2, "A2": "ab", "A3": "", "A4": True, "A5": "#DIV/0!",
+                                      "A6": serial, "A8": 0.5})
+    # One result as a shared string, as some programs store it.
+    with zipfile.ZipFile(path) as archive:
+        members = {info.filename: archive.read(info) for info in archive.infolist()}
+    part = "xl/worksheets/sheet1.xml"
+    members[part] = members[part].replace(b't="str"><f>"a"&amp;"b"</f><v>ab</v>',
+                                          b't="s"><f>"a"&amp;"b"</f><v>0</v>')
+    members["xl/sharedStrings.xml"] = (
+        b'<?xml version="1.0" encoding="UTF-8"?><sst xmlns="http://schemas.openxmlformats.org/'
+        b'spreadsheetml/2006/main" count="1" uniqueCount="1"><si><t>ab</t></si></sst>')
+    types = members["[Content_Types].xml"]
+    if b"sharedStrings" not in types:
+        members["[Content_Types].xml"] = types.replace(b"</Types>", (
+            b'<Override PartName="/xl/sharedStrings.xml" ContentType="application/vnd.openxmlformats-'
+            b'officedocument.spreadsheetml.sharedStrings+xml"/></Types>'))
+    rels = members["xl/_rels/workbook.xml.rels"]
+    if b"sharedStrings" not in rels:
+        members["xl/_rels/workbook.xml.rels"] = rels.replace(b"</Relationships>", (
+            b'<Relationship Id="rIdSS" Type="http://schemas.openxmlformats.org/officeDocument/2006/'
+            b'relationships/sharedStrings" Target="sharedStrings.xml"/></Relationships>'))
+    with zipfile.ZipFile(path, "w") as archive:
+        for name, data in members.items():
+            archive.writestr(name, data)
+    return path
+
+
+def test_saved_results_read_from_the_package_match_a_results_load(tmp_path):
+    # Outside reference: openpyxl's own load of the saved results (data_only=True), the
+    # second load the reader no longer makes.
+    import openpyxl
+
+    from blendkit.read.saved_values import saved_values, shown_value
+
+    path = _formula_book(tmp_path / "formulas.xlsx")
+    data = path.read_bytes()
+    formulas = openpyxl.load_workbook(path)["Data"]
+    results = openpyxl.load_workbook(path, data_only=True)
+    found = saved_values(data)["Data"]
+    assert set(found) == {(row, 1) for row in range(1, 9)}  # every formula cell, no other
+    for (row, column), stored in found.items():
+        cell = formulas.cell(row, column)
+        shown = shown_value(stored, cell.number_format, cell.coordinate, results.epoch)
+        expected = results["Data"].cell(row, column)
+        assert (shown.value, shown.data_type) == (expected.value, expected.data_type), cell.coordinate
+    assert found[(2, 1)] == ("s", "ab")  # the shared string looked up
+
+
+def test_a_workbook_without_formulas_has_no_saved_results(tmp_path):
+    from blendkit.read.saved_values import saved_values
+
+    path = make_workbook(tmp_path, INGREDIENTS, SPECS)
+    assert saved_values(path.read_bytes()) == {}

@@ -1139,3 +1139,54 @@ def test_cli_writes_the_conflicts_sheet_of_an_infeasible_workbook(tmp_path: Path
     protein = [row for row in sheet.iter_rows(values_only=True) if "Specs!B2" in row]
     assert protein and protein[0][:5] == ("nutrient", "Crude protein", None, "min", 40)
     assert workbook["Result"]["B6"].value.startswith("See the Conflicts sheet")
+
+
+# --- a solve copies the workbook the reader loaded ------------------------------------------
+
+
+def _stored(path: Path, data_only: bool) -> dict[str, dict[tuple[int, int], object]]:
+    """Every stored cell of every sheet, as openpyxl loads it (formulas, or saved results)."""
+    workbook = load_workbook(path, data_only=data_only)
+    return {sheet.title: {key: cell.value for key, cell in sheet._cells.items() if cell.value is not None}
+            for sheet in workbook.worksheets}
+
+
+def _assert_inputs_kept(source: Path, output: Path) -> None:
+    """Every input sheet is in the output with every cell as openpyxl reads it in the
+    input: formulas as written, and the saved results of the formula cells."""
+    for data_only in (False, True):
+        before, after = _stored(source, data_only), _stored(output, data_only)
+        for title, cells in before.items():
+            assert after[title] == cells, (title, data_only)
+
+
+SAMPLE_BOOKS = sorted((Path(__file__).resolve().parents[1] / "sample_workbooks").glob("*.xlsx"))
+
+
+@pytest.mark.parametrize("sample", SAMPLE_BOOKS, ids=lambda path: path.stem)
+def test_a_solved_sample_keeps_every_input_cell(sample: Path, tmp_path: Path):
+    # Outside reference: openpyxl's own load of the input file.
+    from blendkit.pipeline import solve_workbook
+
+    source = tmp_path / sample.name
+    shutil.copyfile(sample, source)
+    outcome = solve_workbook(source, tmp_path / "out.xlsx", check=False)
+    _assert_inputs_kept(source, outcome.output)
+
+
+def test_a_generated_big_book_keeps_every_input_cell(tmp_path: Path):
+    # The benchmark's workbook at a test's size, with a formula cell and its saved result
+    # added, solved the way `blendkit solve` does (the reader's load copied, not reloaded).
+    from blendkit.bench.books import books_workbook
+    from blendkit.pipeline import solve_workbook
+
+    source = books_workbook(tmp_path / "book.xlsx", 120, 30)
+    workbook = load_workbook(source)
+    cost = workbook["Ingredients"]["B3"].value
+    workbook["Ingredients"]["B3"] = f"={cost}*1"
+    workbook.save(source)
+    store_saved_values(source, "Ingredients", {"B3": cost})
+    outcome = solve_workbook(source, tmp_path / "out.xlsx", check=False)
+    assert outcome.formula.status == "optimal"
+    _assert_inputs_kept(source, outcome.output)
+    assert load_workbook(outcome.output, data_only=True)["Ingredients"]["B3"].value == cost

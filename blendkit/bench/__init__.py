@@ -14,6 +14,10 @@ One module per concern:
     netlib.py     the NETLIB family: MPS files read and solved by both solvers
     mip.py        the MIP family: blends with a minimum if used and at most 10 ingredients, and
                   the broiler starter on a 0.5 kg scale step, beside scipy.optimize.milp
+    books.py      the workbook family: big generated workbooks checked and solved beside
+                  openpyxl's load and save of the same file, and the samples end to end, each
+                  step in a child process (peak memory from os.wait4); alone with
+                  python -m blendkit.bench.books
     timing.py     shared by the families: timed, agreement, measure and its table
     highs.py      highspy, imported only when needed, with the missing-extra message
     machine.py    the machine lines: processor, cores, versions, load average

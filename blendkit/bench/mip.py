@@ -19,7 +19,6 @@ the answers agree (status, and optimum within MIP_OBJECTIVE_RTOL):
 
 from __future__ import annotations
 
-import statistics
 from collections.abc import Iterator
 from dataclasses import dataclass
 from pathlib import Path

@@ -22,9 +22,22 @@ from blendkit.bench.timing import OBJECTIVE_RTOL
 DEFAULT_SIZES = ((20, 10), (60, 30), (150, 60), (300, 120))
 DEFAULT_SEED = 20240611
 
+
+def _books_section(options: Options) -> Iterator[str]:
+    """The workbook family (`blendkit.bench.books`), imported when it runs, so that
+    ``python -m blendkit.bench.books`` can run it alone; one round per size here (its own
+    command takes --repeat), since a round of the largest workbook takes about a minute."""
+    from dataclasses import replace
+
+    from blendkit.bench import books
+
+    yield from books.section(replace(options, repeat=None))
+
+
 # The families, in the order the report shows them.
 FAMILIES: tuple[Callable[[Options], Iterator[str]], ...] = (
     blends.section, diagnosis.section, formula_set.section, netlib_problems.section, mip.section,
+    _books_section,
 )
 
 

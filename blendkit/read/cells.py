@@ -10,7 +10,7 @@ from dataclasses import dataclass
 
 from openpyxl.worksheet.formula import ArrayFormula
 
-@dataclass(frozen=True)
+@dataclass(frozen=True, slots=True)  # slots: a big sheet is read into hundreds of thousands
 class Cell:
     """One cell as a spreadsheet program would show it, with where it is.
 
@@ -25,15 +25,20 @@ class Cell:
     formula: str | None = None
 
 
-def read_cell(title: str, value_cell, formula_cell) -> Cell:
-    """Combine a cell's saved value and its formula (if any) into one `Cell`."""
+def read_cell(title: str, value_cell, formula_cell, number_format: str | None = None,
+              coordinate: str | None = None) -> Cell:
+    """Combine a cell's saved value and its formula (if any) into one `Cell`; its number
+    format and coordinate are `number_format` and `coordinate` when the caller knows
+    them (else the value cell's)."""
     formula = _formula_text(formula_cell)
     kind, value = _shown(value_cell, formula)
+    if number_format is None:
+        number_format = getattr(value_cell, "number_format", None)
     return Cell(
-        ref=f"{title}!{value_cell.coordinate}",
+        ref=f"{title}!{coordinate or value_cell.coordinate}",
         kind=kind,
         value=value,
-        number_format=getattr(value_cell, "number_format", None) or "General",
+        number_format=number_format or "General",
         formula=formula,
     )
 

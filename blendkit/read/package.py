@@ -70,7 +70,7 @@ def check_package(archive: zipfile.ZipFile, limits: ReadLimits, file_name: str) 
     raise any error of `zipfile` or zlib for a damaged archive; the caller turns it into a
     problem with the file.
     """
-    sheets = _worksheet_parts(archive)
+    sheets = worksheet_parts(archive)
     too_big = _check_unpacked_size(archive, limits, sheets, file_name)
     if too_big:
         return [too_big]
@@ -149,7 +149,7 @@ def _column_number(letters: bytes) -> int:
     return number
 
 
-def _worksheet_parts(archive: zipfile.ZipFile) -> dict[str, str]:
+def worksheet_parts(archive: zipfile.ZipFile) -> dict[str, str]:
     """The worksheet parts of the package, each with its sheet's title.
 
     Found as a spreadsheet program finds them: the package's relationships name the

@@ -19,6 +19,7 @@ from blendkit.errors import Problem, WorkbookError
 from blendkit.model.prices import PriceEntry, PriceList
 from blendkit.read.names import read_row_name
 from blendkit.read.package import ReadLimits, check_package, open_archive
+from blendkit.read.saved_values import saved_values
 from blendkit.read.tables import Row, Table, Wanted, check_columns, empty_sheet, read_table
 from blendkit.read.values import format_number, name_key, read_number
 
@@ -66,18 +67,18 @@ def _ingredients_table(data: bytes, limits: ReadLimits, problems: list[Problem])
         if too_large:
             problems.extend(too_large)
             return None
-        values = openpyxl.load_workbook(io.BytesIO(data), data_only=True)
         formulas = openpyxl.load_workbook(io.BytesIO(data), data_only=False)
+        saved = saved_values(data)
     except Exception as error:  # any file openpyxl cannot open: say so, never a traceback
         problems.append(Problem("file", f"cannot open it as an .xlsx workbook ({type(error).__name__})"))
         return None
-    titles = {name_key(title): title for title in values.sheetnames}
+    titles = {name_key(title): title for title in formulas.sheetnames}
     title = titles.get(name_key(INGREDIENTS))
     if title is None:
         problems.append(Problem("file", 'no sheet named "Ingredients"; a price list is an Ingredients sheet '
                                         "with our headers (Ingredient, Cost, nutrients, Stock)"))
         return None
-    table = read_table(values[title], formulas[title], problems)
+    table = read_table(formulas[title], saved.get(title, {}), problems)
     if table is None:
         problems.append(empty_sheet(title, _COLUMNS))
     return table

@@ -13,6 +13,7 @@ from openpyxl.utils import column_index_from_string, get_column_letter
 
 from blendkit.errors import Problem
 from blendkit.read.cells import Cell, read_cell, unsaved_message
+from blendkit.read.saved_values import SheetValues, shown_value
 from blendkit.read.values import as_text, is_number_cell, name_key, split_unit
 
 # What a sheet's reader wants of its columns: column key (normalised header) ->
@@ -81,14 +82,16 @@ class Table:
         return f"{self.title}!{self.header_row}:{self.header_row}"
 
 
-def read_table(values_sheet, formulas_sheet, problems: list[Problem]) -> Table | None:
+def read_table(sheet, saved: SheetValues, problems: list[Problem]) -> Table | None:
     """The sheet's table (None if the sheet is empty); header problems go to `problems`.
 
-    Only the cells the sheet stores are read, so a cell formatted far below the table
-    costs nothing: the reader never walks the empty grid up to the last used row.
+    `sheet` is the sheet as loaded with its formulas, `saved` the results saved with its
+    formula cells (`blendkit.read.saved_values`). Only the cells the sheet stores are
+    read, so a cell formatted far below the table costs nothing: the reader never walks
+    the empty grid up to the last used row.
     """
-    title = values_sheet.title
-    grid = stored_cells(values_sheet, formulas_sheet)
+    title = sheet.title
+    grid = stored_cells(sheet, saved)
     table: Table | None = None
     labelled: set[int] = set()  # columns whose header cell is not blank
     for row_number in sorted(grid):
@@ -96,7 +99,7 @@ def read_table(values_sheet, formulas_sheet, problems: list[Problem]) -> Table |
         if table is None:
             if all(cell.kind == "blank" for cell in cells.values()):
                 continue
-            table = Table(title, row_number, _read_header(cells, problems), layout=sheet_layout(values_sheet))
+            table = Table(title, row_number, _read_header(cells, problems), layout=sheet_layout(sheet))
             labelled = {index for index, cell in cells.items() if cell.kind != "blank"}
             continue
         _note_unheaded(table, cells, labelled)
@@ -147,23 +150,32 @@ def sheet_layout(sheet) -> Layout:
     )
 
 
-def stored_cells(values_sheet, formulas_sheet) -> dict[int, dict[int, Cell]]:
-    """Every cell either load of the sheet stores, by row and column number.
+def stored_cells(sheet, saved: SheetValues) -> dict[int, dict[int, Cell]]:
+    """Every cell the sheet stores, by row and column number, each formula cell with its
+    saved result from `saved`.
 
     openpyxl keeps a sheet's stored cells in `_cells`, keyed (row, column); reading that
     map rather than `iter_rows` avoids making a cell object for every empty position of
-    the used range. A position stored in one load only is read as empty in the other.
+    the used range.
     """
-    title = values_sheet.title
+    title = sheet.title
+    epoch = sheet.parent.epoch
+    # Number formats by their id and column letters by number, each found once: openpyxl
+    # works both out afresh for every cell, and a big sheet has 400,000 of them.
+    formats: dict[int, str] = {}
+    letters: dict[int, str] = {}
     grid: dict[int, dict[int, Cell]] = {}
-    for position in values_sheet._cells.keys() | formulas_sheet._cells.keys():
-        row, column = position
-        value_cell = values_sheet._cells.get(position)
-        formula_cell = formulas_sheet._cells.get(position)
-        if value_cell is None or formula_cell is None:
-            value_cell = value_cell or values_sheet.cell(row=row, column=column)
-            formula_cell = formula_cell or formulas_sheet.cell(row=row, column=column)
-        grid.setdefault(row, {})[column] = read_cell(title, value_cell, formula_cell)
+    for (row, column), cell in sheet._cells.items():
+        key = cell._style.numFmtId if cell._style is not None else 0
+        if key not in formats:
+            formats[key] = cell.number_format
+        if column not in letters:
+            letters[column] = get_column_letter(column)
+        coordinate = f"{letters[column]}{row}"
+        value_cell = cell
+        if cell.data_type == "f":
+            value_cell = shown_value(saved.get((row, column)), formats[key], coordinate, epoch)
+        grid.setdefault(row, {})[column] = read_cell(title, value_cell, cell, formats[key], coordinate)
     return grid
 
 

@@ -4,7 +4,9 @@
 problem found in the whole workbook (all sheets, all cells), each with its cell, such as
 ``Ingredients!D7: cost "n/a" is not a number``. Problems with the file come first, then
 those of Ingredients, Combined, Specs, Groups, Products, Limits and Settings, each sheet's row by
-row. The file is read into memory once and never written to.
+row. The file is read into memory once and never written to; it is loaded once, with its
+formulas, and the results saved with the formula cells are read from the package
+(`blendkit.read.saved_values`).
 
 The format is described in the `blendkit.read` package docstring, each sheet's columns in
 the docstring of that sheet's module.
@@ -38,6 +40,7 @@ from blendkit.read.limits import LIMITS, read_limits_sheet
 from blendkit.read.package import ReadLimits, check_package, open_archive
 from blendkit.read.products import PRODUCTS, read_products_sheet
 from blendkit.read.reading import Reading
+from blendkit.read.saved_values import SheetValues, saved_values
 from blendkit.read.settings import SETTINGS, read_settings_sheet
 from blendkit.read.specs import SPECS, read_specs_sheet
 from blendkit.read.tables import read_table
@@ -80,11 +83,20 @@ def read_workbook(path: str | Path, *, data: bytes | None = None, limits: ReadLi
     before anything is parsed) or breaks any rule of the format described in the
     `blendkit.read` package docstring. The file is never modified.
     """
+    return read_with_workbook(path, data=data, limits=limits)[0]
+
+
+def read_with_workbook(
+    path: str | Path, *, data: bytes | None = None, limits: ReadLimits = ReadLimits()
+) -> tuple[Blend, openpyxl.Workbook]:
+    """`read_workbook`, and the workbook as it was loaded (with its formulas), which the
+    reader never changes: the writer copies it into the output without loading the file
+    a second time."""
     path = Path(path)
-    values_book, formulas_book = _load(path, data, limits)
-    sheets, file_problems = _find_sheets(path, values_book, formulas_book)
+    book, saved = _load(path, data, limits)
+    sheets, file_problems = _find_sheets(path, book, saved)
     reading = _start_reading(sheets)
-    reading.notes.extend(_kept_sheet_notes(values_book))
+    reading.notes.extend(_kept_sheet_notes(book))
     for read_sheet in READERS:
         read_sheet(reading)
     found = file_problems + [
@@ -92,7 +104,7 @@ def read_workbook(path: str | Path, *, data: bytes | None = None, limits: ReadLi
     ]
     if found:
         raise WorkbookError(found)
-    return _blend(path, reading)
+    return _blend(path, reading), book
 
 
 def _start_reading(sheets: dict[str, tuple]) -> Reading:
@@ -124,14 +136,14 @@ def _blend(path: Path, reading: Reading) -> Blend:
     )
 
 
-def _kept_sheet_notes(values_book: openpyxl.Workbook) -> list[str]:
+def _kept_sheet_notes(book: openpyxl.Workbook) -> list[str]:
     """A note for each sheet of the user's that bears an output sheet's name: the output
     keeps it under a new title (see `blendkit.model.blend.kept_sheet_titles`)."""
-    written = written_sheets(_custom_property(values_book, OUTPUT_SHEETS_PROPERTY))
+    written = written_sheets(_custom_property(book, OUTPUT_SHEETS_PROPERTY))
     return [
         f'the sheet "{title}" was not written by blendkit, whose output has a sheet of that name: '
         f'the output workbook keeps it as "{kept}"'
-        for title, kept in kept_sheet_titles(values_book.sheetnames, written).items()
+        for title, kept in kept_sheet_titles(book.sheetnames, written).items()
         if kept is not None
     ]
 
@@ -158,14 +170,19 @@ def _reading_order(problem: Problem) -> tuple[int, int]:
 # --- The file -------------------------------------------------------------------------
 
 
-def _load(path: Path, data: bytes | None, limits: ReadLimits) -> tuple[openpyxl.Workbook, openpyxl.Workbook]:
-    """Load the workbook twice, saved results and formulas, or say why the file is unreadable
-    or too large to load."""
+def _load(path: Path, data: bytes | None, limits: ReadLimits) -> tuple[openpyxl.Workbook, dict[str, SheetValues]]:
+    """Load the workbook with its formulas, and the results saved with its formula cells
+    (by sheet title), or say why the file is unreadable or too large to load."""
     if data is None:
         data = _read_bytes(path)
     _check_is_xlsx(path, data)
     _check_size(path, data, limits)
-    return _open(path, data, data_only=True), _open(path, data, data_only=False)
+    book = _open(path, data)
+    try:
+        saved = saved_values(data)
+    except Exception as error:  # a part openpyxl skipped but that will not parse
+        raise _unreadable(path, error) from None
+    return book, saved
 
 
 def _file_error(path: Path, message: str) -> WorkbookError:
@@ -225,14 +242,34 @@ def _unreadable(path: Path, error: Exception) -> WorkbookError:
     ))
 
 
-def _open(path: Path, data: bytes, *, data_only: bool) -> openpyxl.Workbook:
-    """One load of the workbook: saved results (`data_only`) or formulas."""
+def _open(path: Path, data: bytes) -> openpyxl.Workbook:
+    """The one load of the workbook, with its formulas (their saved results are read
+    from the package by `saved_values`)."""
     try:
         with warnings.catch_warnings():
             warnings.simplefilter("ignore")  # openpyxl warns about features it skips
-            return openpyxl.load_workbook(io.BytesIO(data), data_only=data_only)
+            book = openpyxl.load_workbook(io.BytesIO(data), data_only=False)
     except Exception as error:  # any failure inside openpyxl means the file is unusable
         raise _unreadable(path, error) from None
+    _share_styles(book)
+    return book
+
+
+def _share_styles(book: openpyxl.Workbook) -> None:
+    """Let the cells of one style share one style record.
+
+    openpyxl gives every loaded cell its own copy (about 110 bytes; 45 MB for a sheet of
+    400,000 cells). openpyxl's style properties (fill, font, number_format...) change a
+    cell's record in place, so a writer that styles an input cell gives it its own copy
+    first, as `blendkit.write.workbook.replaced` does (the only one that does); the reader
+    only reads styles.
+    """
+    shared: dict = {}
+    for sheet in book.worksheets:
+        for cell in sheet._cells.values():
+            style = cell._style
+            if style is not None:
+                cell._style = shared.setdefault(style, style)
 
 
 def _looks_like_text(data: bytes) -> bool:
@@ -246,30 +283,30 @@ def _looks_like_text(data: bytes) -> bool:
 
 
 def _find_sheets(
-    path: Path, values_book: openpyxl.Workbook, formulas_book: openpyxl.Workbook
+    path: Path, book: openpyxl.Workbook, saved: dict[str, SheetValues]
 ) -> tuple[dict[str, tuple], list[Problem]]:
-    """Pair up the known sheets of both loads, by name ignoring case and spaces."""
+    """The known sheets, by name ignoring case and spaces, each with its saved results."""
     problems: list[Problem] = []
     wanted = {name_key(name): name for name in SHEETS}
     found: dict[str, tuple] = {}
-    for values_sheet, formulas_sheet in zip(values_book.worksheets, formulas_book.worksheets):
-        name = wanted.get(name_key(values_sheet.title))
+    for sheet in book.worksheets:
+        name = wanted.get(name_key(sheet.title))
         if name is None:
             continue
         if name in found:
             problems.append(Problem(path.name, (
-                f'two sheets are named "{name}": "{found[name][0].title}" and "{values_sheet.title}" '
+                f'two sheets are named "{name}": "{found[name][0].title}" and "{sheet.title}" '
                 "(sheet names are compared ignoring case and spaces); rename or delete one"
             )))
             continue
-        found[name] = (values_sheet, formulas_sheet)
-    problems.extend(_missing_sheets(path, values_book, found))
+        found[name] = (sheet, saved.get(sheet.title, {}))
+    problems.extend(_missing_sheets(path, book, found))
     return found, problems
 
 
-def _missing_sheets(path: Path, values_book: openpyxl.Workbook, found: dict[str, tuple]) -> list[Problem]:
+def _missing_sheets(path: Path, book: openpyxl.Workbook, found: dict[str, tuple]) -> list[Problem]:
     """A problem for each required sheet the workbook lacks, with the columns it needs."""
-    present = ", ".join(f'"{title}"' for title in values_book.sheetnames) or "none"
+    present = ", ".join(f'"{title}"' for title in book.sheetnames) or "none"
     needs = {
         INGREDIENTS: "with the columns Ingredient and Cost (Min, Max, Use, Unit and Stock are optional) "
         "and one column per nutrient",

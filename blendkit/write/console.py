@@ -33,7 +33,6 @@ from blendkit.model.units import (
     ingredient_word,
     penalty_unit,
     run_cost_unit,
-    shadow_price_unit,
     stock_unit,
 )
 from blendkit.model.steps import binding_in_order, limit_step, limit_unit

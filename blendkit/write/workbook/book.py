@@ -90,7 +90,8 @@ OUTPUT_SHEETS = tuple(writer.TITLE for writer in SHEET_WRITERS)
 
 
 def write_workbook(
-    formula: Formula, run: RunInfo, source: Path, output: Path, *, data: bytes | None = None
+    formula: Formula, run: RunInfo, source: Path, output: Path, *, data: bytes | None = None,
+    loaded: Workbook | None = None,
 ) -> Path:
     """Write `formula` into a copy of the `source` workbook at `output`; return `output`.
 
@@ -101,13 +102,15 @@ def write_workbook(
     of such a name is kept under a new title. Without `data`, raises
     ValueError if `output` is the source file itself, or if the source no longer matches
     the SHA-256 recorded in `run`. The write is atomic: on any failure no output file is
-    left behind and an existing output is untouched.
+    left behind and an existing output is untouched. `loaded` is the workbook of `data`
+    as the reader loaded it (with its formulas, unchanged); the writer then uses it, and
+    changes it, instead of loading `data` again.
     """
     source = Path(source)
     output = Path(output)
     if data is None:
         data = _read_source(source, output, run)
-    workbook = load_workbook(io.BytesIO(data), data_only=False)
+    workbook = loaded if loaded is not None and data is not None else load_workbook(io.BytesIO(data), data_only=False)
     kept = _make_room(workbook)
     mark_replaced(workbook, formula.blend.replaced)
     saved = saved_results(data, workbook)  # by the titles the input gives its sheets

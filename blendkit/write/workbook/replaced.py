@@ -8,6 +8,8 @@ collected, so a formula the price list replaced is not restored.
 
 from __future__ import annotations
 
+from copy import copy
+
 from openpyxl.comments import Comment
 from openpyxl.workbook.workbook import Workbook
 
@@ -22,6 +24,9 @@ def mark_replaced(workbook: Workbook, replaced: tuple[Replacement, ...]) -> None
         if title not in workbook.sheetnames or not coordinate:
             continue
         cell = workbook[title][coordinate]
+        # The reader lets cells of one style share a style record (see
+        # blendkit.read.workbook._share_styles); the fill below must change this cell only.
+        cell._style = copy(cell._style)
         cell.value = change.after
         cell.fill = REPLACED_FILL
         before = "blank" if change.before is None else f"{change.before:g}"

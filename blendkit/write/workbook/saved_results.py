@@ -2,24 +2,23 @@
 
 openpyxl keeps a formula or its saved result, never both. Without the results, solving
 the output workbook again would fail (the reader needs them) until it is opened and
-saved in a spreadsheet program. So the results are read before the workbook is loaded
-for writing (`saved_results`) and put back into the saved package
-(`with_saved_results`), each worksheet part patched as text so that everything else in
+saved in a spreadsheet program. So the results are read from the input package (`saved_results`) and
+put back into the saved package (`with_saved_results`), each worksheet part patched as text so that everything else in
 it stays exactly as openpyxl wrote it.
 """
 
 from __future__ import annotations
 
-import datetime
 import io
 import re
 import zipfile
 from xml.etree import ElementTree
 from xml.sax.saxutils import escape as xml_escape
 
-from openpyxl import load_workbook
-from openpyxl.utils.datetime import to_excel
+from openpyxl.utils.datetime import from_ISO8601, to_excel
 from openpyxl.workbook.workbook import Workbook
+
+from blendkit.read.saved_values import saved_values
 
 # The saved results of one workbook: per sheet title, per cell ("B2"), the value.
 SavedResults = dict[str, dict[str, object]]
@@ -38,33 +37,27 @@ _ERROR_VALUES = {"#NULL!", "#DIV/0!", "#VALUE!", "#REF!", "#NAME?", "#NUM!", "#N
 
 def saved_results(data: bytes, workbook: Workbook) -> SavedResults:
     """The results saved with the formula cells of `workbook` (loaded from `data`), per
-    sheet title and cell. Dates come back as serial numbers, as the file stores them."""
-    results = load_workbook(io.BytesIO(data), data_only=True)
+    sheet title and cell, as the file stores them (dates as serial numbers), read from
+    the package (`blendkit.read.saved_values`) rather than by a second load."""
+    stored = saved_values(data)
     saved: SavedResults = {}
     for sheet in workbook.worksheets:
+        values = stored.get(sheet.title, {})
         cells: dict[str, object] = {}
         # The stored cells only (openpyxl keeps them in `_cells`): iter_rows would make a
         # cell for every empty position up to the last used row, which for one formatted
         # cell in row 1,048,576 takes minutes and gigabytes.
-        for cell in list(sheet._cells.values()):
+        for (row, column), cell in sheet._cells.items():
             if cell.data_type != "f":
                 continue
-            stored = results[sheet.title]._cells.get((cell.row, cell.column))
-            value = _stored_value(stored.value if stored is not None else None, results.epoch)
+            kind, value = values.get((row, column), ("n", None))
+            if kind == "d" and value is not None:  # an ISO date: stored back as a serial number
+                value = to_excel(from_ISO8601(value), workbook.epoch)
             if value is not None:
                 cells[cell.coordinate] = value
         if cells:
             saved[sheet.title] = cells
     return saved
-
-
-def _stored_value(value: object, epoch: datetime.datetime) -> object:
-    """A result as the file stores it: dates and times as serial numbers (days)."""
-    if isinstance(value, (datetime.datetime, datetime.date, datetime.time)):
-        return to_excel(value, epoch)
-    if isinstance(value, datetime.timedelta):
-        return value.total_seconds() / 86400
-    return value
 
 
 def with_saved_results(content: bytes, saved: SavedResults) -> bytes:

@@ -144,10 +144,11 @@ def _size_columns(sheet: Worksheet) -> None:
     unit = sheet.column_dimensions[get_column_letter(_UNIT_COLUMN)]
     unit.width = min(unit.width + 1, _UNIT_WIDTH)
     # Text after a column of numbers starts one space in, clear of the number before it.
+    aligned = {long: Alignment(horizontal="left", indent=1, wrap_text=long) for long in (False, True)}
     for column in _TEXT_AFTER_NUMBERS:
         for (cell,) in sheet.iter_rows(min_row=_HEADER_ROW + 1, min_col=column, max_col=column):
             long = column == _UNIT_COLUMN and len(str(cell.value or "")) + 3 > unit.width
-            cell.alignment = Alignment(horizontal="left", indent=1, wrap_text=long)
+            cell.alignment = aligned[long]  # two shared styles, not one per cell
             if long:
                 lines = math.ceil((len(str(cell.value)) + 3) / unit.width)
                 sheet.row_dimensions[cell.row].height = 15 * lines + 2
