@@ -41,6 +41,7 @@ import numpy as np
 
 from blendkit.engine.basis_factor import SingularBasis
 from blendkit.engine.dual import run_dual, start_dual
+from blendkit.engine.perturbation import perturbed_costs
 from blendkit.engine.pricing import prices_out
 from blendkit.engine.primal import run_primal
 from blendkit.engine.ranging import bound_ranges, cost_ranges
@@ -119,10 +120,12 @@ def _try_dual(state: SimplexState, basis, ranging: bool) -> SimplexOutcome | Non
     if not start_dual(state, basis):
         return None
     cost = np.concatenate([state.c_struct, np.zeros(state.m)])
-    status = run_dual(state, cost)
+    status = run_dual(state, perturbed_costs(state, cost))
+    if status == "optimal":
+        state.d = state.fresh_duals(cost)  # the true costs back (see `perturbation`)
     if status == "optimal" and not _dual_feasible(state):
         # A primal pass from this primal feasible basis removes the dual
-        # infeasibility left by rounding.
+        # infeasibility left by the perturbation and by rounding.
         status = run_primal(state, cost)
     if status == "unbounded":
         return _unbounded(state, phase_one=0)

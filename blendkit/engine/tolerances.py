@@ -68,6 +68,10 @@ PROGRESS = 1e-12
 # it waits for a long stall: on the NETLIB set a limit of 30 cost four times the iterations
 # of a limit of 200. (The simplex reads it at the start of each run, so a test may lower it.)
 STALL_LIMIT = 250
+# The dual simplex perturbs nonbasic costs by about this, relative to 1 + |cost| (random in
+# 1-2 times it; see `perturbation`), from this seed, so that degenerate ties are rare.
+PERTURBATION_BASE = 5e-7
+PERTURBATION_SEED = 20240611
 # Under Bland's rule, ratios within this of the smallest (relative, then absolute) tie,
 # and the tie goes to the smallest variable index.
 BLAND_TIE_RELATIVE = 1e-12
