@@ -200,7 +200,7 @@ class _DualRun:
         self.rise[flipped], self.fall[flipped] = self.fall[flipped], self.rise[flipped]
         self.way[flipped] = -self.way[flipped]
         self.back[flipped] = -self.back[flipped]
-        self.xb -= state.factor.ftran(state.M[:, flipped] @ change)
+        self.xb -= state.factor.ftran(state.times_columns(flipped, change))
 
     def pivot(self, r: int, q: int, rises: bool, target: float, alpha: np.ndarray, row: np.ndarray) -> float:
         """Bring q into basis position r and move the leaving variable p = head[r] to

@@ -212,6 +212,8 @@ def _drive_out_artificials(state: SimplexState) -> None:
         state.basic[q] = True
         state.head[r] = q
         state.factor.update(r, alpha)
+        if state.factor.due:
+            state.refactor()
     state.refactor()
 
 
