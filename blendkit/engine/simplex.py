@@ -22,8 +22,10 @@ matrix is M = [A, -I, artificial columns]; z is the vector of all variables.
     theta    the step length
 
 When the basis of logicals (or a given basis) is dual feasible, the dual simplex solves
-from it; if it finds the problem infeasible, stalls or runs into trouble, the two-phase
-primal method starts over. Phase one minimises the sum of the artificial variables from
+from it, on costs perturbed against degenerate stalls (`perturbation`; the true costs are
+put back at the end and a primal pass removes any dual infeasibility that leaves); if it
+finds the problem infeasible, stalls or runs into trouble, the two-phase primal method
+starts over. Phase one minimises the sum of the artificial variables from
 a basis of logicals and artificials; if that minimum stays positive the problem is
 infeasible, and the phase-one duals are returned as a certificate. Phase two starts from
 the phase-one basis, with the artificials fixed at zero, and minimises c·x. Nonbasic

@@ -5,6 +5,14 @@ the LU factors of the basis (`basis_factor`), the starting bases of the primal m
 and the steps both iteration loops share: the pivot row, the pivot agreement check and the
 refactorisation that refreshes the values and the duals. The notation is the one of
 `blendkit.engine.simplex`.
+
+A problem of at least SPARSE_ROWS rows and at most SPARSE_DENSITY full (a plant of many
+products, whose blocks only the stock rows link) is held sparse: M by columns (CSC) and
+by rows (CSR and M^T), its basis factorised by SuperLU. Then no step does dense m x n
+work: a pivot row B^-T e_r with few non-zeros is multiplied into M through the rows it
+picks (`gather`), a fuller one through M^T; the bound flips of the dual ratio test move
+the basic values through the flipped columns alone. Smaller or denser problems (blends,
+the NETLIB set) are held as dense arrays and factorised by LAPACK.
 """
 
 from __future__ import annotations
