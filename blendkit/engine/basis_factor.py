@@ -17,7 +17,8 @@ alpha_l[r_i] - [r_l = r_i] below the diagonal, alpha_i[r_i] on it), so that
     btran:  T^T u = c[r] - H^T c,  w = c + sum_i u_i e_(r_i),  y = B0^-T w
 
 which costs two matrix-vector products and one k x k triangular solve instead of k
-passes over the vector from Python.
+passes over the vector from Python. Up to ETA_LOOP_MAX etas are still applied one by one,
+which on small bases (the NETLIB set) costs less than setting up T.
 """
 
 from __future__ import annotations
@@ -27,7 +28,7 @@ import scipy.sparse as sp
 from scipy.linalg import lapack
 from scipy.sparse.linalg import splu
 
-from blendkit.engine.tolerances import SINGULAR_PIVOT
+from blendkit.engine.tolerances import ETA_LOOP_MAX, SINGULAR_PIVOT
 
 
 class SingularBasis(Exception):
@@ -45,7 +46,7 @@ class BasisFactor:
         self._k = 0  # updates since the last factorisation
         self._rows = np.zeros(refactor_every, dtype=np.intp)  # r_i
         self._etas = np.zeros((0, refactor_every), order="F")  # H, m x refactor_every
-        self._tri = np.zeros((refactor_every, refactor_every), order="F")  # T
+        self._tri, self._tri_k, self._tri_repeats = np.zeros((0, 0)), 0, False  # T, for _tri_k etas
 
     @property
     def updates(self) -> int:
@@ -61,6 +62,7 @@ class BasisFactor:
         """Start a factorisation of B: empty the update file; False when B has no rows."""
         self._m = B.shape[0]
         self._k = 0
+        self._tri_k = 0
         if self._etas.shape[0] != self._m:
             self._etas = np.zeros((self._m, self.refactor_every), order="F")
         return self._m > 0
@@ -92,12 +94,19 @@ class BasisFactor:
         if self._m == 0:
             return np.zeros(0)
         z = self._solve(a, False)
-        k = self._k
-        if k:
-            rows = self._rows[:k]
-            t, _ = lapack.dtrtrs(self._tri[:k, :k], z[rows], lower=1)
-            z -= self._etas[:, :k] @ t
-            np.add.at(z, rows, t)
+        k, rows, etas = self._k, self._rows, self._etas
+        if k <= ETA_LOOP_MAX:  # few etas: one by one costs less than setting up T
+            for i in range(k):
+                r = rows[i]
+                alpha = etas[:, i]
+                zr = z[r] / alpha[r]
+                z -= zr * alpha
+                z[r] = zr
+        elif k:
+            tri, repeats = self._triangle()
+            t, _ = lapack.dtrtrs(tri, z[rows[:k]], lower=1)
+            z -= etas[:, :k] @ t
+            _scatter_add(z, rows[:k], t, repeats)
         return z
 
     def btran(self, c: np.ndarray) -> np.ndarray:
@@ -105,12 +114,31 @@ class BasisFactor:
         if self._m == 0:
             return np.zeros(0)
         w = np.array(c, dtype=float, copy=True)
-        k = self._k
-        if k:
-            rows = self._rows[:k]
-            u, _ = lapack.dtrtrs(self._tri[:k, :k], w[rows] - w @ self._etas[:, :k], lower=1, trans=1)
-            np.add.at(w, rows, u)
+        k, rows, etas = self._k, self._rows, self._etas
+        if k <= ETA_LOOP_MAX:
+            for i in range(k - 1, -1, -1):
+                r = rows[i]
+                alpha = etas[:, i]
+                # E^T w_new = w: only entry r changes.
+                w[r] = (w[r] - (alpha @ w - alpha[r] * w[r])) / alpha[r]
+        elif k:
+            tri, repeats = self._triangle()
+            u, _ = lapack.dtrtrs(tri, w[rows[:k]] - w @ etas[:, :k], lower=1, trans=1)
+            _scatter_add(w, rows[:k], u, repeats)
         return self._solve(w, True)
+
+    def _triangle(self) -> tuple[np.ndarray, bool]:
+        """T of the module docstring for the etas on file, and whether a basis position
+        was replaced more than once; built once per update file length."""
+        k = self._k
+        if self._tri_k != k:
+            rows = self._rows[:k]
+            gathered = self._etas[rows, :k]
+            same = rows[:, None] == rows[None, :]
+            self._tri = np.asfortranarray(np.tril(gathered - same, -1) + np.diag(np.diag(gathered)))
+            self._tri_repeats = int(same.sum()) > k
+            self._tri_k = k
+        return self._tri, self._tri_repeats
 
     def update(self, r: int, alpha: np.ndarray) -> None:
         """Record that column r of the basis was replaced; alpha = B_old^{-1} a_new."""
@@ -118,10 +146,16 @@ class BasisFactor:
         if k == self.refactor_every:
             raise RuntimeError("the update file is full: refactorise first")
         self._etas[:, k] = alpha
-        self._tri[k, :k] = self._etas[r, :k] - (self._rows[:k] == r)
-        self._tri[k, k] = alpha[r]
         self._rows[k] = r
         self._k = k + 1
+
+
+def _scatter_add(v: np.ndarray, rows: np.ndarray, values: np.ndarray, repeats: bool) -> None:
+    """v[rows] += values, each repeated row counted (np.add.at, slower, only then)."""
+    if repeats:
+        np.add.at(v, rows, values)
+    else:
+        v[rows] += values
 
 
 class SparseBasisFactor(BasisFactor):

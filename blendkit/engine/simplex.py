@@ -22,8 +22,9 @@ matrix is M = [A, -I, artificial columns]; z is the vector of all variables.
     theta    the step length
 
 When the basis of logicals (or a given basis) is dual feasible, the dual simplex solves
-from it, on costs perturbed against degenerate stalls (`perturbation`; the true costs are
-put back at the end and a primal pass removes any dual infeasibility that leaves); if it
+from it, going on with costs perturbed against a degenerate stall once one begins
+(`perturbation`; the true costs are put back at the end and a primal pass removes any
+dual infeasibility that leaves); if it
 finds the problem infeasible, stalls or runs into trouble, the two-phase primal method
 starts over. Phase one minimises the sum of the artificial variables from
 a basis of logicals and artificials; if that minimum stays positive the problem is
@@ -43,7 +44,6 @@ import numpy as np
 
 from blendkit.engine.basis_factor import SingularBasis
 from blendkit.engine.dual import run_dual, start_dual
-from blendkit.engine.perturbation import perturbed_costs
 from blendkit.engine.pricing import prices_out
 from blendkit.engine.primal import run_primal
 from blendkit.engine.ranging import bound_ranges, cost_ranges
@@ -122,9 +122,9 @@ def _try_dual(state: SimplexState, basis, ranging: bool) -> SimplexOutcome | Non
     if not start_dual(state, basis):
         return None
     cost = np.concatenate([state.c_struct, np.zeros(state.m)])
-    status = run_dual(state, perturbed_costs(state, cost))
+    status = run_dual(state, cost, perturb=True)
     if status == "optimal":
-        state.d = state.fresh_duals(cost)  # the true costs back (see `perturbation`)
+        state.d = state.fresh_duals(cost)  # the true costs back, if perturbed (see `perturbation`)
     if status == "optimal" and not _dual_feasible(state):
         # A primal pass from this primal feasible basis removes the dual
         # infeasibility left by the perturbation and by rounding.
