@@ -234,3 +234,39 @@ def test_the_generated_workbook_is_feasible_and_solves_to_the_highs_optimum(tmp_
     formula = solve_workbook(path, tmp_path / "out.xlsx", check=False).formula
     assert formula.status == "optimal"
     assert formula.cost == pytest.approx(reference.result.fun, rel=1e-7)
+
+
+def test_plant_lp_has_the_plant_shape_and_agrees_with_highs_three_ways():
+    # Outside references: scipy's linprog with HiGHS and highspy called directly (the
+    # benchmark's own HighsLp), on a small plant of the family; ours must match both.
+    from blendkit.bench.highs import highs_answer, highs_lp, run_highs
+    from blendkit.bench.plant import make_plant
+
+    products, n_ing, n_nut = 4, 15, 8
+    plant = make_plant(products, n_ing, n_nut, SEED)
+    assert plant.c.shape == (products * n_ing,)
+    assert plant.A_ub.shape == (products * 2 * n_nut + n_ing, products * n_ing)
+    assert plant.A_eq.shape == (products, products * n_ing)
+    ref = linprog(*_args(plant), method="highs")
+    assert ref.status == 0  # feasible by construction, per HiGHS
+    status, objective = highs_answer(run_highs(highs_lp(*_args(plant))))
+    assert status == "optimal" and objective == pytest.approx(ref.fun, rel=1e-9)
+    ours = solve(*_args(plant))
+    assert ours.status == "optimal"
+    assert ours.objective == pytest.approx(ref.fun, rel=bench.OBJECTIVE_RTOL)
+    # Some stock binds: the stock rows (the last n_ing) carry a non-zero HiGHS marginal.
+    assert np.any(np.abs(ref.ineqlin.marginals[-n_ing:]) > 1e-9)
+
+
+def test_warm_highspy_timing_resolves_the_sweep_to_linprogs_optima():
+    # Outside reference: linprog with HiGHS, cold, on each step of a price sweep that the
+    # benchmark's warm highspy re-solves from the previous basis.
+    from blendkit.bench.timing import _WarmHighs
+
+    lp = bench.make_blend(*SMALLEST, SEED)
+    sweep = bench.price_sweep(lp, 3, SEED)
+    warm = _WarmHighs(lp)
+    for step in sweep:
+        warm.time(step.c, repeat=2)
+        ref = linprog(*_args(step), method="highs")
+        assert warm.h.getInfo().objective_function_value == pytest.approx(ref.fun, rel=1e-9), step.name

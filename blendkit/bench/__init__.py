@@ -10,6 +10,8 @@ One module per concern:
 
     blends.py     the blend family: the random blend LP generator (make_blend,
                   price_sweep, infeasible_blend) and its table (cold solves, price sweeps)
+    plant.py      the plant family: one joint LP of several products sharing ingredient
+                  stocks (make_plant), 5 to 60 products, beside linprog and highspy
     diagnosis.py  the diagnosis family: conflict diagnosis of infeasible blends
     netlib.py     the NETLIB family: MPS files read and solved by both solvers
     mip.py        the MIP family: blends with a minimum if used and at most 10 ingredients, and
@@ -19,7 +21,8 @@ One module per concern:
                   step in a child process (peak memory from os.wait4); alone with
                   python -m blendkit.bench.books
     timing.py     shared by the families: timed, agreement, measure and its table
-    highs.py      highspy, imported only when needed, with the missing-extra message
+    highs.py      highspy, imported only when needed, with the missing-extra message, and
+                  linprog's arguments as a HighsLp for timing highspy directly
     machine.py    the machine lines: processor, cores, versions, load average
     options.py    Options, the settings of one run
     report.py     run (the machine, then the families in order) and main (the command line)

@@ -6,7 +6,8 @@ specs as level rows, contents on mixed scales (%, MJ/kg, mg/kg, ppm) with many z
 specs set around the levels of a known feasible mixture, some of them tight, so that the
 LPs are feasible by construction and many limits bind at the optimum. A price sweep (the
 same LP with prices nudged step by step) is measured twice: every step solved cold, and
-every step started from the previous step's basis (a warm start; HiGHS stays cold).
+every step started from the previous step's basis (a warm start; linprog stays cold, highspy
+re-solves warm from its own previous basis).
 `infeasible_blend` turns a generated blend into a domain-model blend whose specs conflict,
 for the diagnosis family.
 """
@@ -361,9 +362,10 @@ def _size_lines(n_ingredients: int, n_nutrients: int, options: Options) -> Itera
 
 def section(options: Options) -> Iterator[str]:
     """The blend family's part of the report, a line at a time as each row is measured."""
-    yield "Blend LPs (ingredients x nutrients): ours = blendkit.engine.solve, HiGHS = linprog(method='highs')"
+    yield ("Blend LPs (ingredients x nutrients): ours = blendkit.engine.solve, linprog = linprog(method='highs'), "
+           "highspy = highspy.Highs passModel + run")
     yield from measurement_lines([])
     for n_ingredients, n_nutrients in options.sizes:
         yield from _size_lines(n_ingredients, n_nutrients, options)
     yield "(sweep: the first LP of the size after each of a series of price changes; cold solves"
-    yield " each from scratch, warm starts each from the previous solve's basis; HiGHS is cold)"
+    yield " each from scratch, warm starts each from the previous solve's basis; linprog is cold, highspy warm too)"

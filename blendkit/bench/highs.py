@@ -63,3 +63,45 @@ def silent_highs():
     h.setOptionValue("output_flag", False)
     return h
 
+
+
+def highs_lp(c, A_ub, b_ub, A_eq, b_eq, bounds):
+    """linprog's arguments as a highspy.HighsLp (rows: A_ub's, then A_eq's; columns by
+    `bounds`, None read as no bound), built once so that timing leaves it out."""
+    import numpy as np
+    import scipy.sparse as sp
+
+    highspy = highspy_module()
+    n = len(c)
+    parts = [sp.csr_matrix(a) for a in (A_ub, A_eq) if a is not None]
+    A = sp.vstack(parts, format="csc") if parts else sp.csc_matrix((0, n))
+    b_ub = np.zeros(0) if b_ub is None else np.asarray(b_ub, dtype=float)
+    b_eq = np.zeros(0) if b_eq is None else np.asarray(b_eq, dtype=float)
+    pairs = np.array([(-np.inf if lo is None else lo, np.inf if hi is None else hi) for lo, hi in bounds], dtype=float)
+    lp = highspy.HighsLp()
+    lp.num_col_, lp.num_row_ = n, A.shape[0]
+    lp.col_cost_ = np.asarray(c, dtype=float)
+    lp.col_lower_, lp.col_upper_ = pairs[:, 0], pairs[:, 1]
+    lp.row_lower_ = np.concatenate([np.full(b_ub.size, -np.inf), b_eq])
+    lp.row_upper_ = np.concatenate([b_ub, b_eq])
+    lp.a_matrix_.format_ = highspy.MatrixFormat.kColwise
+    lp.a_matrix_.start_ = A.indptr
+    lp.a_matrix_.index_ = A.indices
+    lp.a_matrix_.value_ = A.data
+    return lp
+
+
+def run_highs(lp):
+    """A fresh silent Highs with `lp` passed in and run (presolve on, its default)."""
+    highspy = highspy_module()
+    h = highspy.Highs()
+    h.setOptionValue("output_flag", False)
+    h.passModel(lp)
+    h.run()
+    return h
+
+
+def highs_answer(h) -> tuple[str, float | None]:
+    """(status, objective) of a run Highs, in the engine's vocabulary."""
+    status = model_status(h)
+    return status, h.getInfo().objective_function_value if status == "optimal" else None

@@ -12,7 +12,7 @@ import sys
 import time
 from collections.abc import Callable, Iterator, Sequence
 
-from blendkit.bench import blends, diagnosis, formula_set, mip
+from blendkit.bench import blends, diagnosis, formula_set, mip, plant
 from blendkit.bench import netlib as netlib_problems
 from blendkit.bench.highs import MissingTestExtra, highspy_module
 from blendkit.bench.machine import load_average, machine_lines
@@ -36,8 +36,8 @@ def _books_section(options: Options) -> Iterator[str]:
 
 # The families, in the order the report shows them.
 FAMILIES: tuple[Callable[[Options], Iterator[str]], ...] = (
-    blends.section, diagnosis.section, formula_set.section, netlib_problems.section, mip.section,
-    _books_section,
+    blends.section, plant.section, diagnosis.section, formula_set.section, netlib_problems.section,
+    mip.section, _books_section,
 )
 
 

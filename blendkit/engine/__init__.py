@@ -3,8 +3,10 @@
 Stages, one module each: `standard_form` (check and convert the arguments), `scaling`,
 `simplex` (the algorithm: phases, and the dual simplex first when it can), `verify`
 (residuals in the original problem), `solve` (the public entry point). The simplex's
-parts: `simplex_state` (matrix, values, basis), `primal` and `dual` (the iterations),
-`pricing`, `ratio_test`, `basis_factor` (LU factors of the basis), `ranging`, and
+parts: `simplex_state` (matrix, values, basis; a dense or a sparse matrix by size and
+fill), `primal` and `dual` (the iterations), `perturbation` (the dual simplex's cost
+perturbation), `pricing`, `ratio_test`, `basis_factor` (LU factors of the basis, dense
+or sparse, with product-form updates applied at once), `ranging`, and
 `certificate` (why a problem is infeasible). `tolerances` names every tolerance and
 threshold; `mps` reads and writes MPS files.
 

@@ -2,9 +2,23 @@
 
 The simplex method needs to solve B z = a (forward, "ftran") and B^T y = c
 (backward, "btran") for a basis B that changes by one column per iteration. We never
-form an inverse: B0 = P L U is factorised with LAPACK, and each column replacement adds
-one eta vector (product-form update). After `refactor_every` updates the caller
-refactorises from scratch, which also bounds the growth of rounding error.
+form an inverse: B0 = P L U is factorised (LAPACK for a dense basis, SuperLU for a
+sparse one), and each column replacement adds one eta vector: B_k = B0 E_1 ... E_k,
+where E_i is the identity with column r_i replaced by alpha_i = B_(i-1)^-1 a_entering
+(the product form). After `refactor_every` updates the caller refactorises from
+scratch, which also bounds the growth of rounding error.
+
+The etas are applied all at once, not one by one: they are kept as the columns of one
+matrix H = [alpha_1 ... alpha_k], and the k scalars the one-by-one application would
+compute are the solution of a small triangular system T t = z0[r] (T[i, l] =
+alpha_l[r_i] - [r_l = r_i] below the diagonal, alpha_i[r_i] on it), so that
+
+    ftran:  z0 = B0^-1 a,  T t = z0[r],  z = z0 - H t + sum_i t_i e_(r_i)
+    btran:  T^T u = c[r] - H^T c,  w = c + sum_i u_i e_(r_i),  y = B0^-T w
+
+which costs two matrix-vector products and one k x k triangular solve instead of k
+passes over the vector from Python. Up to ETA_LOOP_MAX etas are still applied one by one,
+which on small bases (the NETLIB set) costs less than setting up T.
 """
 
 from __future__ import annotations
@@ -14,7 +28,7 @@ import scipy.sparse as sp
 from scipy.linalg import lapack
 from scipy.sparse.linalg import splu
 
-from blendkit.engine.tolerances import SINGULAR_PIVOT
+from blendkit.engine.tolerances import ETA_LOOP_MAX, SINGULAR_PIVOT
 
 
 class SingularBasis(Exception):
@@ -29,25 +43,28 @@ class BasisFactor:
         self._lu = None
         self._piv = None
         self._m = 0
-        # Each update: position r and the eta column alpha = B_old^{-1} a_entering.
-        self._eta_rows: list[int] = []
-        self._eta_cols: list[np.ndarray] = []
+        self._k = 0  # updates since the last factorisation
+        self._rows = np.zeros(refactor_every, dtype=np.intp)  # r_i
+        self._etas = np.zeros((0, refactor_every), order="F")  # H, m x refactor_every
+        self._tri, self._tri_k, self._tri_repeats = np.zeros((0, 0)), 0, False  # T, for _tri_k etas
 
     @property
     def updates(self) -> int:
         """How many column replacements since the last factorisation."""
-        return len(self._eta_rows)
+        return self._k
 
     @property
     def due(self) -> bool:
         """True when the update file is long enough that refactorising pays."""
-        return len(self._eta_rows) >= self.refactor_every
+        return self._k >= self.refactor_every
 
     def _clear(self, B) -> bool:
         """Start a factorisation of B: empty the update file; False when B has no rows."""
         self._m = B.shape[0]
-        self._eta_rows.clear()
-        self._eta_cols.clear()
+        self._k = 0
+        self._tri_k = 0
+        if self._etas.shape[0] != self._m:
+            self._etas = np.zeros((self._m, self.refactor_every), order="F")
         return self._m > 0
 
     @staticmethod
@@ -77,10 +94,19 @@ class BasisFactor:
         if self._m == 0:
             return np.zeros(0)
         z = self._solve(a, False)
-        for r, alpha in zip(self._eta_rows, self._eta_cols):
-            zr = z[r] / alpha[r]
-            z -= zr * alpha
-            z[r] = zr
+        k, rows, etas = self._k, self._rows, self._etas
+        if k <= ETA_LOOP_MAX:  # few etas: one by one costs less than setting up T
+            for i in range(k):
+                r = rows[i]
+                alpha = etas[:, i]
+                zr = z[r] / alpha[r]
+                z -= zr * alpha
+                z[r] = zr
+        elif k:
+            tri, repeats = self._triangle()
+            t, _ = lapack.dtrtrs(tri, z[rows[:k]], lower=1)
+            z -= etas[:, :k] @ t
+            _scatter_add(z, rows[:k], t, repeats)
         return z
 
     def btran(self, c: np.ndarray) -> np.ndarray:
@@ -88,23 +114,57 @@ class BasisFactor:
         if self._m == 0:
             return np.zeros(0)
         w = np.array(c, dtype=float, copy=True)
-        for r, alpha in zip(reversed(self._eta_rows), reversed(self._eta_cols)):
-            # E^T w_new = w: only entry r changes.
-            w[r] = (w[r] - (alpha @ w - alpha[r] * w[r])) / alpha[r]
+        k, rows, etas = self._k, self._rows, self._etas
+        if k <= ETA_LOOP_MAX:
+            for i in range(k - 1, -1, -1):
+                r = rows[i]
+                alpha = etas[:, i]
+                # E^T w_new = w: only entry r changes.
+                w[r] = (w[r] - (alpha @ w - alpha[r] * w[r])) / alpha[r]
+        elif k:
+            tri, repeats = self._triangle()
+            u, _ = lapack.dtrtrs(tri, w[rows[:k]] - w @ etas[:, :k], lower=1, trans=1)
+            _scatter_add(w, rows[:k], u, repeats)
         return self._solve(w, True)
 
-    def update(self, r: int, alpha: np.ndarray) -> None:
-        """Record that column r of the basis was replaced; alpha = B_old^{-1} a_new.
+    def _triangle(self) -> tuple[np.ndarray, bool]:
+        """T of the module docstring for the etas on file, and whether a basis position
+        was replaced more than once; built once per update file length."""
+        k = self._k
+        if self._tri_k != k:
+            rows = self._rows[:k]
+            gathered = self._etas[rows, :k]
+            same = rows[:, None] == rows[None, :]
+            self._tri = np.asfortranarray(np.tril(gathered - same, -1) + np.diag(np.diag(gathered)))
+            self._tri_repeats = int(same.sum()) > k
+            self._tri_k = k
+        return self._tri, self._tri_repeats
 
-        `alpha` is kept as it is, not copied: the caller must not change it afterwards
-        (the simplex code only reads the columns that ftran hands it).
-        """
-        self._eta_rows.append(r)
-        self._eta_cols.append(alpha)
+    def update(self, r: int, alpha: np.ndarray) -> None:
+        """Record that column r of the basis was replaced; alpha = B_old^{-1} a_new."""
+        k = self._k
+        if k == self.refactor_every:
+            raise RuntimeError("the update file is full: refactorise first")
+        self._etas[:, k] = alpha
+        self._rows[k] = r
+        self._k = k + 1
+
+
+def _scatter_add(v: np.ndarray, rows: np.ndarray, values: np.ndarray, repeats: bool) -> None:
+    """v[rows] += values, each repeated row counted (np.add.at, slower, only then)."""
+    if repeats:
+        np.add.at(v, rows, values)
+    else:
+        v[rows] += values
 
 
 class SparseBasisFactor(BasisFactor):
-    """The same interface over a sparse LU (SuperLU via scipy.sparse), for large bases."""
+    """The same interface over a sparse LU (SuperLU via scipy.sparse), for large bases.
+
+    (Setting the basis's column singletons aside and factorising only the kernel left was
+    tried on the plant LPs: the kernel's LU was two thirds of the whole one's and SuperLU
+    solved with it no faster, so the whole basis is factorised.)
+    """
 
     def factor(self, B) -> None:
         """Factorise the sparse basis B afresh and clear the update file."""

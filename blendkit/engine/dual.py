@@ -13,9 +13,11 @@ from __future__ import annotations
 import numpy as np
 
 from blendkit.engine.basis_factor import SingularBasis
+from blendkit.engine.perturbation import perturbed_costs
 from blendkit.engine.pricing import StallWatch, leaving_position, update_dual_weights
 from blendkit.engine.ratio_test import dual_ratio_test
 from blendkit.engine.simplex_state import SimplexState, pivots_disagree
+from blendkit.engine.tolerances import PERTURB_AFTER
 
 
 def start_dual(state: SimplexState, basis=None) -> bool:
@@ -55,14 +57,17 @@ def start_dual(state: SimplexState, basis=None) -> bool:
     return True
 
 
-def run_dual(state: SimplexState, cost: np.ndarray) -> str:
+def run_dual(state: SimplexState, cost: np.ndarray, perturb: bool = False) -> str:
     """Dual simplex iterations until primal feasible ("optimal"), or a reason to stop.
 
     Returns "optimal", "infeasible" (no entering variable: the dual is unbounded),
-    "stalled" or "iteration_limit".
+    "stalled" or "iteration_limit". With `perturb`, a run that takes PERTURB_AFTER
+    degenerate iterations in a row goes on with perturbed costs (`perturbation`): `state.d`
+    and `state.y` are then those of the perturbed costs, and the caller puts the true
+    costs back.
     """
     with np.errstate(divide="ignore", invalid="ignore", over="ignore"):  # infinite bounds
-        return _DualRun(state, cost).run()
+        return _DualRun(state, cost, perturb).run()
 
 
 class _DualRun:
@@ -74,12 +79,13 @@ class _DualRun:
     """
 
     __slots__ = ("state", "cost", "d", "rise", "fall", "way", "back", "two_way", "span", "weights",
-                 "primal_tol", "dual_tol", "pivot_tol", "stall", "xb", "lb", "ub", "slack")
+                 "primal_tol", "dual_tol", "pivot_tol", "stall", "xb", "lb", "ub", "slack", "perturb")
 
-    def __init__(self, state: SimplexState, cost: np.ndarray):
+    def __init__(self, state: SimplexState, cost: np.ndarray, perturb: bool = False):
         tol = state.tol
         self.state = state
         self.cost = cost
+        self.perturb = perturb  # still allowed to perturb the costs (once)
         self.d = state.fresh_duals(cost)
         rise_f, fall_f = state.mobility()
         self.rise, self.fall = rise_f > 0, fall_f > 0
@@ -133,6 +139,8 @@ class _DualRun:
             if stalled(progress):
                 self.store_positions()
                 return "stalled"
+            if self.perturb and self.stall.count >= PERTURB_AFTER:
+                self.perturb_costs()
 
     # ----- the position arrays and the refactorisation ------------------------------
 
@@ -153,6 +161,14 @@ class _DualRun:
         self.store_positions()
         self.d = self.state.refresh(self.cost)
         self.load_positions()
+
+    def perturb_costs(self) -> None:
+        """Go on with perturbed costs (once): the reduced costs move away from zero, in
+        the direction that keeps each one's sign, so the degenerate run ends."""
+        self.perturb = False
+        self.cost = perturbed_costs(self.state, self.cost)
+        self.d = self.state.fresh_duals(self.cost)
+        self.stall.count = 0
 
     def confirm_feasible(self) -> bool:
         """True when every basic value is within its bounds on a fresh factorisation
@@ -200,7 +216,7 @@ class _DualRun:
         self.rise[flipped], self.fall[flipped] = self.fall[flipped], self.rise[flipped]
         self.way[flipped] = -self.way[flipped]
         self.back[flipped] = -self.back[flipped]
-        self.xb -= state.factor.ftran(state.M[:, flipped] @ change)
+        self.xb -= state.factor.ftran(state.times_columns(flipped, change))
 
     def pivot(self, r: int, q: int, rises: bool, target: float, alpha: np.ndarray, row: np.ndarray) -> float:
         """Bring q into basis position r and move the leaving variable p = head[r] to

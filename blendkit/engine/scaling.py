@@ -53,24 +53,28 @@ def _middle(index: np.ndarray, logs: np.ndarray, size: int) -> np.ndarray:
 
 
 def _dense_scaling(A: np.ndarray) -> Scaling:
-    """`find_scaling` for a dense matrix: the same passes as whole-array operations."""
+    """`find_scaling` for a dense matrix: the same passes as whole-array operations.
+
+    The log magnitudes are held twice, with -inf (for maxima) and +inf (for minima) at the
+    zeros, so that each pass is sums and reductions only.
+    """
     m, n = A.shape
     nonzero = A != 0
     logs = np.log2(np.abs(np.where(nonzero, A, 1.0)))
+    highs, lows = np.where(nonzero, logs, -np.inf), np.where(nonzero, logs, np.inf)
     log_r, log_c = np.zeros(m), np.zeros(n)
-    high_fill, low_fill = -np.inf, np.inf
     for _ in range(GEOMETRIC_PASSES):
-        scaled = logs + log_c
-        high = np.where(nonzero, scaled, high_fill).max(axis=1, initial=-np.inf)
-        low = np.where(nonzero, scaled, low_fill).min(axis=1, initial=np.inf)
-        log_r = -np.where(np.isfinite(high), (high + np.where(np.isfinite(low), low, 0)) / 2, 0.0)
-        scaled = logs + log_r[:, None]
-        high = np.where(nonzero, scaled, high_fill).max(axis=0, initial=-np.inf)
-        low = np.where(nonzero, scaled, low_fill).min(axis=0, initial=np.inf)
-        log_c = -np.where(np.isfinite(high), (high + np.where(np.isfinite(low), low, 0)) / 2, 0.0)
-    high = np.where(nonzero, logs + log_r[:, None] + log_c, -np.inf).max(axis=0, initial=-np.inf)
+        log_r = -_midpoints((highs + log_c).max(axis=1, initial=-np.inf), (lows + log_c).min(axis=1, initial=np.inf))
+        log_c = -_midpoints((highs + log_r[:, None]).max(axis=0, initial=-np.inf),
+                            (lows + log_r[:, None]).min(axis=0, initial=np.inf))
+    high = (highs + log_r[:, None] + log_c).max(axis=0, initial=-np.inf)
     log_c = log_c - np.where(np.isfinite(high), high, 0.0)
     return Scaling(rows=np.exp2(np.round(log_r)), cols=np.exp2(np.round(log_c)))
+
+
+def _midpoints(high: np.ndarray, low: np.ndarray) -> np.ndarray:
+    """(high + low) / 2 per line, 0 for a line without non-zeros (high = -inf)."""
+    return np.where(np.isfinite(high), (high + np.where(np.isfinite(low), low, 0)) / 2, 0.0)
 
 
 def find_scaling(A) -> Scaling:

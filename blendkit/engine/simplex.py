@@ -22,8 +22,11 @@ matrix is M = [A, -I, artificial columns]; z is the vector of all variables.
     theta    the step length
 
 When the basis of logicals (or a given basis) is dual feasible, the dual simplex solves
-from it; if it finds the problem infeasible, stalls or runs into trouble, the two-phase
-primal method starts over. Phase one minimises the sum of the artificial variables from
+from it, going on with costs perturbed against a degenerate stall once one begins
+(`perturbation`; the true costs are put back at the end and a primal pass removes any
+dual infeasibility that leaves); if it
+finds the problem infeasible, stalls or runs into trouble, the two-phase primal method
+starts over. Phase one minimises the sum of the artificial variables from
 a basis of logicals and artificials; if that minimum stays positive the problem is
 infeasible, and the phase-one duals are returned as a certificate. Phase two starts from
 the phase-one basis, with the artificials fixed at zero, and minimises c·x. Nonbasic
@@ -119,10 +122,12 @@ def _try_dual(state: SimplexState, basis, ranging: bool) -> SimplexOutcome | Non
     if not start_dual(state, basis):
         return None
     cost = np.concatenate([state.c_struct, np.zeros(state.m)])
-    status = run_dual(state, cost)
+    status = run_dual(state, cost, perturb=True)
+    if status == "optimal":
+        state.d = state.fresh_duals(cost)  # the true costs back, if perturbed (see `perturbation`)
     if status == "optimal" and not _dual_feasible(state):
         # A primal pass from this primal feasible basis removes the dual
-        # infeasibility left by rounding.
+        # infeasibility left by the perturbation and by rounding.
         status = run_primal(state, cost)
     if status == "unbounded":
         return _unbounded(state, phase_one=0)
@@ -209,6 +214,8 @@ def _drive_out_artificials(state: SimplexState) -> None:
         state.basic[q] = True
         state.head[r] = q
         state.factor.update(r, alpha)
+        if state.factor.due:
+            state.refactor()
     state.refactor()
 
 
