@@ -218,15 +218,18 @@ def random_lps(draw):
 
 
 def _nondegenerate(lp, x, tol=1e-9):
-    """True when exactly n constraints are active at x (so the duals are unique)."""
-    active = 0
+    """True when exactly n constraints are active at x and they are linearly independent
+    (so the duals are unique: two copies of one equality row share any split of its dual)."""
+    n = len(x)
+    rows = []
     if lp["A_ub"] is not None:
-        active += int(np.sum(np.abs(lp["A_ub"] @ x - lp["b_ub"]) <= tol))
+        rows += list(lp["A_ub"][np.abs(lp["A_ub"] @ x - lp["b_ub"]) <= tol])
     if lp["A_eq"] is not None:
-        active += lp["A_eq"].shape[0]
-    for xj, (lo, hi) in zip(x, lp["bounds"]):
-        active += int(lo is not None and abs(xj - lo) <= tol) + int(hi is not None and abs(xj - hi) <= tol)
-    return active == len(x)
+        rows += list(lp["A_eq"])
+    for j, (xj, (lo, hi)) in enumerate(zip(x, lp["bounds"])):
+        hits = int(lo is not None and abs(xj - lo) <= tol) + int(hi is not None and abs(xj - hi) <= tol)
+        rows += [np.eye(n)[j]] * hits
+    return len(rows) == n and np.linalg.matrix_rank(np.array(rows)) == n
 
 
 def assert_certificate_or_crossed_bounds(lp, result):
