@@ -3,6 +3,12 @@
 HiGHS's presolve sometimes reports a problem that is unbounded as "infeasible" (its
 status 8 stands for "infeasible or unbounded" after presolve); we tell the two apart by
 solving the same constraints with a zero objective, which HiGHS then answers exactly.
+
+On badly scaled LPs with near-parallel rows (tests/test_engine_families.py) HiGHS's
+presolve may call a feasible LP "infeasible", and its simplex may end without an answer:
+an "infeasible" is then confirmed by HiGHS without presolve, and "numerical trouble" is
+asked again of HiGHS's dual simplex without presolve, then of its interior point method,
+then of its dual simplex with tolerances of 1e-9; the first of them to give an answer (optimal, infeasible or unbounded) is HiGHS's answer.
 """
 
 from __future__ import annotations
@@ -44,6 +50,20 @@ def _unknown_status(c, kw) -> str:
     return "unbounded" if values[1] < values[0] - 1.0 else "numerical_trouble"
 
 
+def _without_presolve(c, kw, status: str, res):
+    """HiGHS again without presolve (dual simplex, then interior point) after an answer
+    its presolve may have got wrong; the first definite answer, else the one given."""
+    tight = {"presolve": False, "primal_feasibility_tolerance": 1e-9, "dual_feasibility_tolerance": 1e-9}
+    tries = [("highs-ds", {"presolve": False})]
+    if status != "infeasible":
+        tries += [("highs-ipm", {"presolve": False}), ("highs-ds", tight)]
+    for method, options in tries:
+        again = linprog(c, method=method, options=options, **kw)
+        if again.status in (0, 2, 3):
+            return STATUS_NAMES[again.status], again
+    return status, res
+
+
 def highs(c, A_ub=None, b_ub=None, A_eq=None, b_eq=None, bounds=None) -> Reference:
     """Solve with scipy.optimize.linprog(method="highs")."""
     kw = dict(A_ub=A_ub, b_ub=b_ub, A_eq=A_eq, b_eq=b_eq, bounds=bounds if bounds is not None else (0, None))
@@ -51,6 +71,8 @@ def highs(c, A_ub=None, b_ub=None, A_eq=None, b_eq=None, bounds=None) -> Referen
     status = STATUS_NAMES.get(res.status, str(res.status))
     if status == "numerical_trouble" and "model_status is Unknown" in res.message:
         status = _unknown_status(c, kw)
+    if status in ("infeasible", "numerical_trouble"):
+        status, res = _without_presolve(c, kw, status, res)
     if status == "infeasible":
         feasible = linprog(np.zeros(len(c)), method="highs", **kw)
         if feasible.status == 0:

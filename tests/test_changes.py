@@ -329,10 +329,12 @@ def _run(*formulas: RecordedFormula, mode="blend", status="optimal") -> RunRecor
                      mode=mode, status=status, formulas=formulas, output="mix.result.xlsx")
 
 
-def test_compare_runs_by_hand():
-    # By hand: the old formula 50 % A + 50 % B costs (50 x 20 + 50 x 40) / 100 = 30; at the
-    # new prices (A 30) it costs 35: price effect 5. The new formula (100 % A at 30) costs
-    # 30, so the formula effect is 30 - 30 - 5 = -5.
+def test_compare_runs_worked_example():
+    # The README's definitions (price effect = sum of old inclusion x (new price - old
+    # price) / 100; formula effect = new cost - old cost - price effect), worked through:
+    # the old formula 50 % A + 50 % B costs (50 x 20 + 50 x 40) / 100 = 30; at the new
+    # prices (A 30) it costs 35: price effect 5. The new formula (100 % A at 30) costs 30,
+    # so the formula effect is 30 - 30 - 5 = -5.
     old = _recorded(binding={"nutrient Protein min": 10.0})
     new = _recorded(cost=30.0, inclusions={"A": 100.0, "B": 0.0}, prices={"A": 30.0, "B": 40.0},
                     binding={"ingredient A max": 100.0})

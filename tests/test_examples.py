@@ -512,7 +512,7 @@ def test_npk_blend_structure(tmp_path: Path):
     }
 
 
-def test_npk_blend_meets_the_grade_by_hand_calculation(tmp_path: Path):
+def test_npk_blend_meets_the_grade_calculation(tmp_path: Path):
     # Reference: scipy's HiGHS, and the hand calculation of a bulk blend's grade (common
     # practice): nutrient % = sum of inclusion % x the material's nutrient % / 100.
     path = write_example(tmp_path, "fertilizer")
@@ -527,20 +527,21 @@ def test_npk_blend_meets_the_grade_by_hand_calculation(tmp_path: Path):
         assert 15 - LEVEL_TOLERANCE <= value <= 15.5 + LEVEL_TOLERANCE
     assert s >= 2 - LEVEL_TOLERANCE
 
-    # By hand: P2O5 comes only from DAP and K2O only from potash, so at the grade's minimum
-    # DAP = 15 / 46 and potash = 15 / 60 of the blend; sulphur only from ammonium sulphate
-    # (2 / 24); urea tops N up to 15; the filler makes up the rest. Cheapest, as found.
+    # The same calculation worked through: P2O5 comes only from DAP and K2O only from
+    # potash, so at the grade's minimum DAP = 15 / 46 and potash = 15 / 60 of the blend;
+    # sulphur only from ammonium sulphate (2 / 24); urea tops N up to 15; the filler makes
+    # up the rest. Cheapest, as HiGHS found.
     dap, potash, sulphate = 15 / 46 * 100, 15 / 60 * 100, 2 / 24 * 100
     urea = (15 - 0.18 * dap - 0.21 * sulphate) / 0.46
     filler = 100 - dap - potash - sulphate - urea
-    by_hand = {
+    worked = {
         "Diammonium phosphate 18-46-0": dap,
         "Muriate of potash 0-0-60": potash,
         "Ammonium sulphate 21-0-0 24S": sulphate,
         "Urea 46-0-0": urea,
         "Limestone filler 0-0-0": filler,
     }
-    assert x == pytest.approx(by_hand, abs=1e-6)
+    assert x == pytest.approx(worked, abs=1e-6)
     cost = (dap * 650 + potash * 380 + sulphate * 280 + urea * 450 + filler * 40) / 100
     assert reference.result.fun == pytest.approx(cost, rel=1e-9)
     # Bulk blends of straight materials cost a few hundred euros a tonne (common practice).

@@ -9,7 +9,6 @@ same MPS files. Each check names its reference beside it.
 
 from __future__ import annotations
 
-import os
 from dataclasses import dataclass
 from pathlib import Path
 
@@ -22,8 +21,8 @@ from scipy.optimize import Bounds, LinearConstraint, linprog, milp
 
 from blendkit.engine import MIP_STATUSES, StandardForm, Tolerances, solve_mip, solve_mip_form
 from blendkit.engine.mps import MPSError, read, write
+from tests.reference_data import reference_file
 
-MIPLIB = Path(__file__).resolve().parents[1].parent / "shared" / "reference" / "miplib"
 RTOL = 1e-6  # optima agree to this, relative
 FEASIBLE = 1e-7  # our solutions meet every row to this, relative to 1 + the row's size
 TOTAL = 100.0  # inclusions in % of the blend
@@ -300,13 +299,8 @@ PUBLISHED = {"stein9": (5.0, 4.0), "stein15": (9.0, 7.0)}
 
 
 def miplib_file(name: str) -> Path:
-    """The problem's MPS file: a skip when the reference folder is absent, a failure under CI."""
-    path = MIPLIB / f"{name}.mps"
-    if not path.exists():
-        if os.environ.get("CI", "").lower() == "true":
-            pytest.fail(f"MIPLIB reference file {path} is absent; CI needs ../shared/reference")
-        pytest.skip(f"MIPLIB reference file {path} is absent")
-    return path
+    """The problem's MPS file; absent, a skip (a failure under CI; tests/reference_data.py)."""
+    return reference_file(f"miplib/{name}.mps")
 
 
 @pytest.mark.parametrize("name", list(PUBLISHED))

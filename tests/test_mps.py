@@ -97,7 +97,11 @@ BOUNDS
 ENDATA
 """
 
-# What FIXED means, worked out by hand from the rules of the format.
+# What FIXED means under the rules of the MPS format for RANGES (an L row's range R gives
+# [rhs - |R|, rhs], a G row's [rhs, rhs + |R|], an E row's [rhs, rhs + R] or [rhs + R, rhs]
+# by the sign of R: from memory of the format's description). HiGHS reads FREE, the same
+# model without blanks in its names, as TOY (test_free_mps_every_section); it does not
+# return from reading FIXED itself (names with blanks), so it is not asked to.
 TOY = form(
     c=[1.5, -2, 0],
     A=[[1, 0, 1], [0, 3, 0], [2, 0, 0], [0, 1, 0], [0, 1, 0]],
@@ -173,6 +177,11 @@ def test_free_mps_every_section(tmp_path):
     assert model.column_names == ("XONE", "Y", "Z")
     assert model.objective_constant == 10.0
     assert_same_form(model.form, TOY)
+    # HiGHS (highspy) reads the same rows, columns, bounds and constant from the file.
+    ref = highs_read(mps_file(tmp_path, FREE))
+    for key in FORM_ARRAYS:
+        np.testing.assert_array_equal(getattr(ref, key), getattr(TOY, key), err_msg=key)
+    assert (ref.offset, ref.row_names, ref.column_names) == (10.0, model.row_names, model.column_names)
 
 
 def test_fixed_file_with_a_blank_rhs_vector_name(tmp_path):
@@ -216,15 +225,22 @@ def test_fixed_mps_keeps_blanks_inside_names_free_mps_cannot(tmp_path):
 def test_objective_sense(tmp_path, sense_lines, maximise):
     text = "\n".join(["NAME demo", *sense_lines, "ROWS", " N cost", " L cap", "COLUMNS",
                       " x cost 3 cap 1", " y cost -1 cap 1", "RHS", " RHS cost 2 cap 4", "ENDATA"])
-    model = read(mps_file(tmp_path, text))
+    path = mps_file(tmp_path, text)
+    model = read(path)
     assert model.maximise is maximise
     # A maximisation is stored negated so that the form minimises.
     np.testing.assert_array_equal(model.form.c, [-3, 1] if maximise else [3, -1])
     assert model.objective_constant == -2.0
     result = solve_form(model.form)
     assert result.status == "optimal"
-    # By hand: max 3x - y with x + y <= 4 is 12 at x = 4; min is -4 at y = 4; minus 2.
-    assert model.objective(result.x) == pytest.approx(10 if maximise else -6)
+    # HiGHS solving the same model, in the same sense (written on two lines, the form
+    # HiGHS reads; it takes "OBJSENSE MAXIMIZE" on one line for a minimisation) and with
+    # its constant: max 3x - y with x + y <= 4 is 12 at x = 4, min is -4 at y = 4, less 2.
+    canonical = ["OBJSENSE", "    MAX"] if maximise else []
+    same = mps_file(tmp_path, text.replace("\n".join(["NAME demo", *sense_lines]), "\n".join(["NAME demo", *canonical])),
+                    name="canonical.mps")
+    assert highs_optimum(same) == ("optimal", pytest.approx(10 if maximise else -6))
+    assert model.objective(result.x) == pytest.approx(highs_optimum(same)[1], rel=1e-12)
 
 
 def test_objective_sense_in_a_fixed_file(tmp_path):
@@ -417,8 +433,9 @@ SMALL = form(
     col_upper=[4, 8, 6],
 )
 
-# Written by hand from the fixed layout: type in columns 2-3, names at 5, 15 and 40,
-# numbers right-aligned to columns 36 and 61.
+# The fixed layout (from memory of the MPS format's fields): type in columns 2-3, names
+# at 5, 15 and 40, numbers right-aligned to columns 36 and 61; HiGHS reads it back as
+# written (test_written_fixed_layout).
 SMALL_FIXED = """\
 NAME          BLEND
 ROWS
@@ -450,6 +467,11 @@ def test_written_fixed_layout(tmp_path):
     path = tmp_path / "small.mps"
     assert write(path, SMALL, objective_constant=1.5) == "fixed"
     assert path.read_text() == SMALL_FIXED
+    ref = highs_read(path)  # HiGHS drops the extra N row too
+    np.testing.assert_array_equal(ref.A, SMALL.A[:3])
+    np.testing.assert_array_equal(ref.col_lower, SMALL.col_lower)
+    np.testing.assert_array_equal(ref.col_upper, SMALL.col_upper)
+    assert ref.offset == 1.5
     model = read(path)
     # The free row R0004 is written as an extra N row, which readers drop.
     assert model.row_names == ("R0001", "R0002", "R0003")
@@ -510,8 +532,11 @@ def test_model_round_trip_keeps_sense_names_and_constant(tmp_path):
         "demo", ("cap",), ("x", "y"), "profit")
     assert again.maximise and again.objective_constant == 2.0
     assert_same_form(again.form, model.form)
-    # HiGHS reads the same maximisation: max 3x - y + 2 with x + y <= 4 is 14 (by hand).
-    assert highs_optimum(out) == ("optimal", pytest.approx(14))
+    # HiGHS reads the same maximisation from our copy as from the original
+    # (max 3x - y + 2 with x + y <= 4: 14).
+    original = highs_optimum(tmp_path / "model.mps")
+    assert original == ("optimal", pytest.approx(14))
+    assert highs_optimum(out) == original
 
 
 def test_writing_bad_forms_raises_and_writes_nothing(tmp_path):

@@ -1023,7 +1023,10 @@ def test_group_ingredient_lists(tmp_path):
         ("Fats", ("Fat, animal; refined", "Fat, animal"), None),
         ("Just maize", ("Maize",), None),
     ]
-    assert "product" not in blend.groups[0].cells  # no Product column
+    # No Product column, so no product cell.
+    assert blend.groups[0].cells == {
+        "group": "Groups!A2", "ingredients": "Groups!B2", "min": "Groups!C2", "max": "Groups!D2",
+    }
 
 
 def test_group_rows_are_checked(tmp_path):

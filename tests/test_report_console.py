@@ -301,7 +301,9 @@ def test_broken_soft_limits_come_right_after_the_cost():
         "Crude protein min  18.50  17.12       1.38    6.000  Specs!B2",
     ]
     assert start < lines.index(block(text, "Ingredient")[0])
-    # Shown once: the note saying the same is left out of the notes.
+    # Shown once: the formula's note saying the same is left out of the notes.
+    assert formulas.SOFT_NOTE in formulas.soft_formula().notes
+    assert formulas.SOFT_NOTE.startswith("Soft spec not met:")
     assert "Soft spec not met:" not in text
     assert block(text, "Notes:") == ["Notes:", f"- {formulas.NOTES[0]}"]
 

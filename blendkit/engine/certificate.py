@@ -8,12 +8,13 @@ which is where conflict diagnosis starts.
 from __future__ import annotations
 
 import numpy as np
+import scipy.sparse as sp
 
 from blendkit.engine.result import Certificate, ConflictPart
 from blendkit.engine.scaling import Scaling
 from blendkit.engine.simplex import SimplexOutcome
 from blendkit.engine.standard_form import StandardForm
-from blendkit.engine.tolerances import Tolerances
+from blendkit.engine.tolerances import CERTIFICATE_PROOF, Tolerances
 
 
 def certificate(form: StandardForm, scaling: Scaling, outcome: SimplexOutcome, tol: Tolerances) -> Certificate:
@@ -57,3 +58,36 @@ def _bound_part(form: StandardForm, j: int, at_upper: np.ndarray, multiplier: fl
     else:
         side = "upper" if at_upper[j] else "lower"
     return ConflictPart(kind="bound", index=j, side=side, multiplier=multiplier)
+
+
+def proves_infeasible(form: StandardForm, y: np.ndarray, proof: float = CERTIFICATE_PROOF) -> bool:
+    """True when row multipliers y show, in the original units, that no x meets every
+    row and bound (Farkas), by more than `proof` relative to the terms.
+
+    Any x within its bounds gives rows s = A x with y·s = (A^T y)·x. A multiplier y_i > 0
+    presses on row i's lower bound, y_i < 0 on its upper bound, so y·s is at least the
+    sum of y_i x that bound over the rows' allowed values, while (A^T y)·x is at most its
+    largest value over the box of x; if that is smaller, no x exists. Multipliers and
+    entries of A^T y within rounding (`proof` x the largest multiplier) count as zero.
+    """
+    size = float(np.abs(y).max(initial=0.0))
+    y = np.where(np.abs(y) > proof * size, y, 0.0)
+    used = y != 0
+    row_bound = np.where(y > 0, form.row_lower, form.row_upper)[used]
+    if not used.any() or not np.all(np.isfinite(row_bound)):
+        return False
+    A = form.A
+    g = np.asarray(A.T @ y).ravel()
+    column_size = np.asarray(abs(A).sum(axis=0)).ravel() if sp.issparse(A) else np.abs(A).sum(axis=0)
+    noise = proof * size * column_size
+    g = np.where(np.abs(g) > noise, g, 0.0)
+    pressed = g != 0
+    col_bound = np.where(g > 0, form.col_upper, form.col_lower)[pressed]
+    if not np.all(np.isfinite(col_bound)):
+        return False
+    least = float(y[used] @ row_bound)
+    most = float(g[pressed] @ col_bound)
+    boxed = np.isfinite(form.col_lower) & np.isfinite(form.col_upper)
+    slack = float(noise[boxed] @ np.maximum(np.abs(form.col_lower[boxed]), np.abs(form.col_upper[boxed])))
+    terms = float(np.abs(y[used]) @ np.abs(row_bound) + np.abs(g[pressed]) @ np.abs(col_bound)) + slack
+    return least - most - slack > proof * max(terms, np.finfo(float).tiny)

@@ -3,15 +3,16 @@
 from __future__ import annotations
 
 from contextlib import contextmanager
+from dataclasses import replace
 
 import numpy as np
 
-from blendkit.engine.certificate import certificate
+from blendkit.engine.certificate import certificate, proves_infeasible
 from blendkit.engine.result import Basis, LPResult
 from blendkit.engine.scaling import Scaling, find_scaling, scale_form
 from blendkit.engine.simplex import SimplexOutcome, run_simplex
 from blendkit.engine.standard_form import StandardForm, to_standard_form
-from blendkit.engine.tolerances import ITERATION_LIMIT_MIN, ITERATION_LIMIT_PER_LINE, Tolerances
+from blendkit.engine.tolerances import CERTIFICATE_PROOF, ITERATION_LIMIT_MIN, ITERATION_LIMIT_PER_LINE, Tolerances
 from blendkit.engine.verify import worst_violation
 
 # The engine's matrices are small: threaded BLAS only adds overhead, and on a busy
@@ -107,9 +108,28 @@ def solve_form(
         start = (basis.head, basis.at_upper)
     with one_blas_thread():
         outcome = run_simplex(scaled, tol, max_iterations, basis=start, allow_dual=algorithm == "auto", ranging=ranging)
-    if outcome.status != "optimal":
-        return _without_solution(form, scaling, outcome, tol)
-    return _with_solution(form, scaling, outcome, tol)
+    result, trusted = _checked(form, scaling, outcome, tol)
+    if trusted:
+        return result
+    if scale:  # a phase one misled by the scaling: once more, unscaled
+        return solve_form(form, basis=basis, tolerances=tolerances, max_iterations=max_iterations, scale=False,
+                          algorithm=algorithm, ranging=ranging)
+    if result.status == "infeasible":
+        return replace(result, status="numerical_trouble", message=(
+            f"{result.message}, but its certificate does not prove it (tolerance {CERTIFICATE_PROOF:g})"))
+    return result
+
+
+def _checked(form: StandardForm, scaling: Scaling, outcome: SimplexOutcome, tol: Tolerances) -> tuple[LPResult, bool]:
+    """The result in original units, and whether it stands: False for an optimum whose
+    residuals broke the tolerance, or an infeasible verdict its certificate does not prove
+    (scaling can shrink a right-hand side until phase one's threshold swallows a real gap,
+    or hide near-dependent rows; the caller then solves once more unscaled)."""
+    if outcome.status == "optimal":
+        result = _with_solution(form, scaling, outcome, tol)
+        return result, result.status == "optimal"
+    result = _without_solution(form, scaling, outcome, tol)
+    return result, result.certificate is None or proves_infeasible(form, result.certificate.row_multipliers)
 
 
 def _without_solution(form: StandardForm, scaling: Scaling, outcome: SimplexOutcome, tol: Tolerances) -> LPResult:

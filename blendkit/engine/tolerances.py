@@ -52,6 +52,14 @@ class Tolerances:
     absolute_gap: float = ABSOLUTE_GAP
 
 
+# ----- checks after solving ---------------------------------------------------------------
+
+# An infeasibility certificate must prove, in the original units, that no point exists by
+# at least this much relative to the size of its terms (see `certificate.proves_infeasible`);
+# a phase one that ends "infeasible" without such a proof is solved again unscaled, and
+# reported as numerical trouble if the proof is still missing.
+CERTIFICATE_PROOF = 1e-9
+
 # ----- inside the simplex iterations ------------------------------------------------------
 
 # The pivot element computed from the pivot row and from the entering column may differ by
