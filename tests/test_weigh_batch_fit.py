@@ -130,3 +130,21 @@ def test_limits_pack_larger_than_the_batch_and_min_if_used_above_a_products_max(
         "in a batch and Maize could never be used in Grower; check the pack size and the Batch size setting, "
         "or give this row a Max of 0",
     ]
+
+
+def test_a_min_if_used_of_an_ingredient_already_out_is_kept_for_later(tmp_path):
+    # Use = no, or a Max of 0, keeps the ingredient out by the user's own choice: a Min if
+    # used above its Max is then no mistake (the message would say "set Use to no").
+    rows = [row[:5] + [row[-1]] for row in INGREDIENTS]
+    rows[0][4] = "Min if used"
+    rows[0].insert(4, "Use")
+    for row in rows[1:]:
+        row.insert(4, "yes")
+    rows[2][3:6] = [5, "no", 20]  # Soybean meal: max 5, not used, min if used 20
+    rows[3][3:6] = [0, "yes", 0.3]  # Premix: max 0, min if used 0.3
+    sheets = {"Products": [["Product", "Amount"], ["Starter", 100]],
+              "Limits": [["Product", "Ingredient", "Min", "Max"], ["Starter", "Soybean meal", None, 0]]}
+    specs = [["Nutrient", "Min", "Max"], ["Crude protein", 8, None]]
+    formula = formulate(read_workbook(make_workbook(tmp_path, rows, specs, sheets=sheets)), check=False)
+    assert formula.status == "optimal"
+    assert {line.name: line.inclusion for line in formula.products[0].ingredients}["Soybean meal"] == 0

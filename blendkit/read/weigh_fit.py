@@ -77,7 +77,7 @@ def _below_min_if_used(limit, item) -> list[Problem]:
     giving none of its own)."""
     cell = limit.cells.get("max")
     if (limit.min_if_used is not None or item.min_if_used is None or limit.maximum is None
-            or cell is None or cell == item.cells.get("max") or item.min_if_used <= limit.maximum):
+            or cell is None or cell == item.cells.get("max") or not 0 < limit.maximum < item.min_if_used):
         return []
     return [Problem(cell, (
         f"max {format_number(limit.maximum)} is below the min if used {format_number(item.min_if_used)} of "
