@@ -376,3 +376,19 @@ def test_a_combined_name_that_reads_as_a_ratio_of_two_nutrients_is_refused(tmp_p
         read_workbook(workbook(tmp_path, combined, specs(None)))
     (problem,) = caught.value.problems
     assert problem.where == "Combined!A2" and "ratio" in problem.message, problem
+
+
+@pytest.mark.parametrize("header, sum_text", [
+    ("25-OH-D3 (IU/kg)", "0.5 * 25-OH-D3 + Sodium"),  # a name that starts with digits, two hyphens
+    ("Omega-3-6 (%)", "Omega-3-6 - 2 * Sodium"),
+    ("C18:2 n-6 (%)", "2 * C18:2 n-6"),
+])
+def test_a_name_with_digits_and_several_signs_is_one_name_when_it_exists(tmp_path, header, sum_text):
+    rows = [[*ingredients()[0], header]] + [[*row, 4.0] for row in ingredients()[1:]]
+    combined = [["Nutrient", "Sum"], ["Mixed", sum_text]]
+    blend = read_workbook(make_workbook(tmp_path, rows, specs(None), sheets={"Combined": combined}))
+    terms = blend.combined[0].terms
+    # Hand calculation from the terms as written: each number times 4 (or sodium's content).
+    expected = sum(number * (4.0 if name != "Sodium" else MINERALS["Salt"][0]) for number, name in terms)
+    assert blend.ingredient("Salt").contents["Mixed"] == pytest.approx(expected)
+    assert header.split(" (")[0] in [name for _, name in terms]
