@@ -148,3 +148,22 @@ def test_a_min_if_used_of_an_ingredient_already_out_is_kept_for_later(tmp_path):
     formula = formulate(read_workbook(make_workbook(tmp_path, rows, specs, sheets=sheets)), check=False)
     assert formula.status == "optimal"
     assert {line.name: line.inclusion for line in formula.products[0].ingredients}["Soybean meal"] == 0
+
+
+@pytest.mark.parametrize("where, setting, column", [("Settings!B2", True, None), ("Ingredients!F3", False, "F3"),
+                                                     ("Ingredients!E3", False, "E3")])
+def test_a_step_or_pack_too_fine_for_the_search_is_reported_at_its_cell(tmp_path, where, setting, column):
+    # 0.1 g in a 1000 kg batch is 1e7 steps... 0.00005 kg is 2e7: beyond the exact count.
+    # (The run said "the specs and limits cannot all be met" for such a step.)
+    settings = [["Setting", "Value"], ["Scale step", 0.00005]] if setting else None
+    rows = ingredients(**{column: 0.00005}) if column else INGREDIENTS
+    found = problems(make_workbook(tmp_path, rows, SPECS, settings))
+    assert len(found) == 1 and found[0].startswith(f"{where}: "), found
+    assert "too fine" in found[0] and "give at least 0.0001 kg" in found[0], found
+
+
+def test_the_finest_step_allowed_solves(tmp_path):
+    # 1e7 steps of 0.0001 kg make the 1000 kg batch: allowed, and solved on the step.
+    path = make_workbook(tmp_path, INGREDIENTS, SPECS, [["Setting", "Value"], ["Scale step", 0.0001]])
+    formula = formulate(read_workbook(path), check=False)
+    assert formula.status == "optimal"

@@ -15,6 +15,7 @@ from __future__ import annotations
 from blendkit.errors import Problem
 from blendkit.model.batch import ON_STEP
 from blendkit.model.blend import Settings
+from blendkit.model.weighing import MOST_UNITS_PER_BATCH
 from blendkit.read.values import format_number
 
 
@@ -57,6 +58,8 @@ def _fit(settings: Settings, what: str, mass: float | None, cell: str | None, ma
         return None
     unit, size = settings.mass_unit, settings.batch_size
     head = f"{what} {format_number(mass)} {unit}"
+    if size / mass > MOST_UNITS_PER_BATCH * (1 + ON_STEP):
+        return _too_fine(settings, what, mass, cell)
     fits = f"so not one {'pack' if what == 'pack size' else 'step'} fits in a batch and {never}"
     if mass > size * (1 + ON_STEP):
         fix = "give this row a Max of 0" if cell.startswith("Limits") else "set Use to no"
@@ -97,6 +100,8 @@ def _setting_step(settings: Settings, own_units: bool) -> list[Problem]:
         return [Problem(cell, f"{head} is more than {_batch(settings)}, so no weight could be weighed on it; "
                               "check the scale step and the Batch size setting")]
     steps = settings.batch_size / step
+    if steps > MOST_UNITS_PER_BATCH * (1 + ON_STEP):
+        return [_too_fine(settings, "scale step", step, cell)]
     if own_units or abs(round(steps) * step - settings.batch_size) <= ON_STEP * settings.batch_size:
         return []
     return [Problem(cell, (
@@ -104,3 +109,13 @@ def _setting_step(settings: Settings, own_units: bool) -> list[Problem]:
         "add up to the batch; choose a step that divides it, or give some ingredients their own Scale step or "
         "Pack size"
     ))]
+
+
+def _too_fine(settings: Settings, what: str, mass: float, cell: str) -> Problem:
+    """A pack or step so small that a batch holds more than MOST_UNITS_PER_BATCH of them."""
+    unit, size = settings.mass_unit, settings.batch_size
+    return Problem(cell, (
+        f"{what} {format_number(mass)} {unit} is too fine: {_batch(settings)} holds {format_number(size / mass)} "
+        f"of them, more than the {MOST_UNITS_PER_BATCH:g} the exact search can count; give at least "
+        f"{format_number(size / MOST_UNITS_PER_BATCH)} {unit}, or leave the cell blank to weigh freely"
+    ))
