@@ -167,3 +167,13 @@ def test_the_finest_step_allowed_solves(tmp_path):
     path = make_workbook(tmp_path, INGREDIENTS, SPECS, [["Setting", "Value"], ["Scale step", 0.0001]])
     formula = formulate(read_workbook(path), check=False)
     assert formula.status == "optimal"
+
+
+def test_a_pack_above_the_ingredients_max_share_is_fine_where_a_product_allows_more(tmp_path):
+    # Premix at most 0.5 % (5 kg of a 1000 kg batch) on Ingredients, but 2.5 % in Starter on
+    # Limits: one 25 kg bag fits in Starter, so the pack size is no mistake.
+    sheets = {"Products": [["Product", "Amount"], ["Starter", 100], ["Grower", 100]],
+              "Limits": [["Product", "Ingredient", "Min", "Max"], ["Starter", "Premix", None, 2.5]]}
+    path = make_workbook(tmp_path, ingredients(E4=25), SPECS, sheets=sheets)
+    formula = formulate(read_workbook(path), check=False)
+    assert formula.status == "optimal"

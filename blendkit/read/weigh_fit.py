@@ -26,9 +26,13 @@ def check_weigh_fit(reading) -> None:
     if settings.mode == "diet":
         return
     used = [item for item in reading.ingredients if item.use]
+    limited = {limit.ingredient for limit in reading.limits}
     for item in used:
+        # A product's Limits row may allow more than the ingredient's own Max: then only the
+        # batch size bounds its pack or step here.
+        maximum = None if item.name in limited else item.maximum
         for what, mass in (("pack size", item.pack_size), ("scale step", item.scale_step)):
-            problem = _fit(settings, what, mass, item.cells.get(what), item.maximum, item.cells.get("max"),
+            problem = _fit(settings, what, mass, item.cells.get(what), maximum, item.cells.get("max"),
                            f"{item.name} could never be used")
             if problem is not None:
                 reading.problems["Ingredients"].append(problem)
