@@ -398,3 +398,25 @@ def test_a_product_without_a_formula_has_no_batch_sheet(tmp_path):
     assert [(s.title, s["B4"].value) for s in sheets] == [("Batch sheet", "Layer mash")]
     products = formula_to_dict(outcome.formula)["products"]
     assert products["Pullet grower"]["batch"] is None and products["Layer mash"]["batch"]["weights"]
+
+
+@needs_libreoffice
+def test_a_spec_on_a_combined_nutrient_is_checked_live_from_the_weights(tmp_path):
+    # The broiler's electrolyte balance (Na + K - Cl, mEq/kg) held to 200-300 and a ratio
+    # on it: both are recomputed from the weights like any nutrient (common practice:
+    # a level is linear in the contents, so the Sum of the parts' levels).
+    path = tmp_path / "broiler.xlsx"
+    shutil.copy(SAMPLES / "broiler_starter.xlsx", path)
+    book = openpyxl.load_workbook(path)
+    specs = book["Specs"]
+    specs.append(["Electrolyte balance", 200, 300])
+    specs.append(["Electrolyte balance / Sodium", None, 2000])
+    book.save(path)
+    outcome = solve_workbook(path, tmp_path / "out.xlsx", check=False)
+    assert outcome.formula.status == "optimal"
+    converted = recalculate([outcome.output], tmp_path)
+    sheet, = batch_sheets(openpyxl.load_workbook(converted / outcome.output.name, data_only=True))
+    found = read_batch_sheet(sheet)
+    for label in ("Electrolyte balance", "Electrolyte balance / Sodium"):
+        assert isinstance(sheet.cell(found["specs"][label], 4).value, (int, float)), label
+    check_live_sheet(sheet, outcome.formula.blend, None)

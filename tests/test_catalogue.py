@@ -618,6 +618,57 @@ def test_hidden_rows_columns_and_sheets_are_read_and_noted(tmp_path):
 
 SAMPLES = sorted((ROOT / "sample_workbooks").glob("*.xlsx"))
 
+
+def _rules_book() -> bytes:
+    """The broiler sample with every cell of today's features filled: Min if used, Pack size
+    and Scale step on Ingredients, Margin and Step on Specs, Max ingredients, Hand-add below
+    and Time limit on Settings, Products with Max ingredients, Limits with Min if used and
+    Pack size (its Combined sheet is the sample's). It solves; corrupted, it must not crash."""
+    import io
+
+    import openpyxl
+
+    book = openpyxl.load_workbook(ROOT / "sample_workbooks" / "broiler_starter.xlsx")
+    sheet = book["Ingredients"]
+    base = sheet.max_column
+    for offset, header in enumerate(("Min if used", "Pack size (kg)", "Scale step (kg)"), start=1):
+        sheet.cell(1, base + offset, header)
+    rules = {"Wheat": (5, None, None), "Soybean oil": (1, 25, None), "Salt": (None, None, 0.5),
+             "Vitamin-mineral premix": (None, None, 0.1)}
+    for row in range(2, sheet.max_row + 1):
+        for offset, value in enumerate(rules.get(sheet.cell(row, 1).value, (None,) * 3), start=1):
+            sheet.cell(row, base + offset).value = value
+    specs = book["Specs"]
+    for header, row, value in (("Margin", 2, 0.05), ("Step", 3, 0.5)):
+        column = specs.max_column + 1
+        specs.cell(1, column, header)
+        specs.cell(row, column, value)
+    for name, value in (("Max ingredients", 16), ("Hand-add below", 20), ("Time limit", 5)):
+        book["Settings"].append([name, value])
+    for title, rows in (("Products", [["Product", "Max ingredients"], ["Starter", 15], ["Pre-starter", None]]),
+                        ("Limits", [["Product", "Ingredient", "Min", "Max", "Min if used", "Pack size"],
+                                    ["Starter", "Wheat middlings", None, 5, 2, None],
+                                    ["Pre-starter", "Soybean oil", None, None, None, 20]])):
+        added = book.create_sheet(title)
+        for row in rows:
+            added.append(row)
+    out = io.BytesIO()
+    book.save(out)
+    return out.getvalue()
+
+
+# What the corruption tests start from: every sample, and the sample with today's features.
+SOURCES = [path.read_bytes() for path in SAMPLES] + [_rules_book()]
+
+
+def test_the_rules_book_solves_before_it_is_corrupted(tmp_path):
+    path = tmp_path / "rules.xlsx"
+    path.write_bytes(SOURCES[-1])
+    solved = run("solve", path, "--json")
+    doc = json.loads(solved.stdout)
+    assert solved.exit_code == 0 and set(doc["products"]) == {"Starter", "Pre-starter"}
+    assert all(product["practical"]["status"] == "optimal" for product in doc["products"].values())
+
 # Junk to put in place of a part of the package: not XML, broken XML, XML of the wrong kind,
 # an entity bomb (refused by defusedxml), a cell far away, an empty part.
 _JUNK_PARTS = [
@@ -676,7 +727,7 @@ def _corrupt_bytes(data: bytes, draw) -> bytes:
 @st.composite
 def corrupted_workbooks(draw):
     """A sample workbook's bytes, corrupted as a whole file or in one zip member."""
-    data = draw(st.sampled_from(SAMPLES)).read_bytes()
+    data = draw(st.sampled_from(SOURCES))
     if draw(st.booleans()):
         return _corrupt_member(data, draw)
     return _corrupt_bytes(data, draw)

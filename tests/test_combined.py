@@ -344,3 +344,51 @@ def test_json_lists_each_combined_nutrients_definition(tmp_path):
 def test_json_has_no_combined_key_without_a_combined_sheet(tmp_path):
     formula = formulate(read_workbook(workbook(tmp_path, None, specs(None))))
     assert "combined" not in formula_to_dict(formula)
+
+
+def test_a_name_with_a_spaced_plus_is_one_name_when_it_exists(tmp_path):
+    # "Methionine + cystine" is how the trade heads that column (common practice), beside a
+    # "Methionine" column of its own: cystine alone is then M+C less methionine.
+    rows = [[*ingredients()[0], "Methionine (%)", "Methionine + cystine (%)"]]
+    rows += [[*row, 0.2, 0.5] for row in ingredients()[1:]]
+    combined = [["Nutrient", "Sum"], ["Cys", "Methionine + cystine - Methionine"],
+                ["Twice M+C", "2 * Methionine + cystine"]]
+    blend = read_workbook(make_workbook(tmp_path, rows, specs(None), sheets={"Combined": combined}))
+    # Hand calculation: 0.5 - 0.2 and 2 x 0.5.
+    assert blend.ingredient("Maize").contents["Cys"] == pytest.approx(0.3)
+    assert blend.ingredient("Maize").contents["Twice M+C"] == pytest.approx(1.0)
+
+
+@pytest.mark.parametrize("text", ["1e3 * Sodium", "1e-3 * Sodium", "2.5E+2 * Sodium"])
+def test_a_number_with_an_exponent_is_named_as_such(tmp_path, text):
+    combined = [["Nutrient", "Sum"], ["Electrolyte balance", text]]
+    with pytest.raises(WorkbookError) as caught:
+        read_workbook(workbook(tmp_path, combined, specs(None)))
+    (problem,) = caught.value.problems
+    assert problem.where == "Combined!B2"
+    assert "exponent" in problem.message and "write 1 * e" not in problem.message, problem.message
+
+
+def test_a_combined_name_that_reads_as_a_ratio_of_two_nutrients_is_refused(tmp_path):
+    # Specs would read "Sodium / Chloride" as this combined nutrient, never as the ratio.
+    combined = [["Nutrient", "Sum"], ["Sodium / Chloride", "Sodium - Chloride"]]
+    with pytest.raises(WorkbookError) as caught:
+        read_workbook(workbook(tmp_path, combined, specs(None)))
+    (problem,) = caught.value.problems
+    assert problem.where == "Combined!A2" and "ratio" in problem.message, problem
+
+
+@pytest.mark.parametrize("header, sum_text", [
+    ("25-OH-D3 (IU/kg)", "0.5 * 25-OH-D3 + Sodium"),  # a name that starts with digits, two hyphens
+    ("Omega-3-6 (%)", "Omega-3-6 - 2 * Sodium"),
+    ("C18:2 n-6 (%)", "2 * C18:2 n-6"),
+])
+def test_a_name_with_digits_and_several_signs_is_one_name_when_it_exists(tmp_path, header, sum_text):
+    rows = [[*ingredients()[0], header]] + [[*row, 4.0] for row in ingredients()[1:]]
+    combined = [["Nutrient", "Sum"], ["Mixed", sum_text]]
+    blend = read_workbook(make_workbook(tmp_path, rows, specs(None), sheets={"Combined": combined}))
+    terms = blend.combined[0].terms
+    # Hand calculation from the terms as written: each number times 4 (or sodium's content).
+    expected = sum(number * (4.0 if name != "Sodium" else MINERALS["Salt"][0]) for number, name in terms)
+    assert blend.ingredient("Salt").contents["Mixed"] == pytest.approx(expected)
+    assert header.split(" (")[0] in [name for _, name in terms]

@@ -23,6 +23,11 @@ runner = CliRunner()
 
 NUTRIENTS = ["Protein (%)", "Energy (MJ/kg)", "Calcium (%)", "Dry matter (%)"]
 JUNK = ["", "n/a", "yes", "12,5", " 7 ", "#DIV/0!", "=1+1", -3]
+# Values for the cells of the rules a mill can weigh, Margin and Step: good, odd and wrong.
+RULE_VALUES = [None, None, None, 0.5, 2, 25, 1e-300, 0, -1, 2.5, "ten", 1e11]
+# Sums for a Combined row: good ones and the usual slips.
+SUMS = ["2 * Protein + Calcium", "Protein \u2212 0.5 * Energy", "Protein + Protein / Energy", "1e3 * Calcium",
+        "Combo", "3", "Calcium +", "Protein * Energy"]
 number = st.floats(min_value=0, max_value=60, allow_nan=False).map(lambda v: round(v, 2))
 
 
@@ -41,7 +46,10 @@ def workbooks(draw):
 
     n = draw(st.integers(1, 5))
     names = [f"Feed {k}" for k in range(n)]
-    ingredients = [["Ingredient", "Cost", "Min", "Max", "Use", "Stock", *NUTRIENTS]]
+    rules = draw(st.booleans())  # today's columns, settings and sheets, with odd values too
+    rule = st.sampled_from(RULE_VALUES)
+    ingredients = [["Ingredient", "Cost", "Min", "Max", "Use", "Stock", *NUTRIENTS]
+                   + (["Min if used", "Pack size", "Scale step"] if rules else [])]
     for name in names:
         low = draw(st.one_of(st.none(), st.floats(0, 30).map(lambda v: round(v, 1))))
         high = draw(st.one_of(st.none(), st.floats(30, 100).map(lambda v: round(v, 1))))
@@ -50,8 +58,9 @@ def workbooks(draw):
             value(st.sampled_from([None, None, "yes", "no"])),
             value(st.sampled_from([None, None, None, 50, 5000])),
             *[value(number) for _ in NUTRIENTS],
+            *([draw(rule) for _ in range(3)] if rules else []),
         ])
-    specs = [["Nutrient", "Min", "Max", "Basis", "Penalty", "Priority"]]
+    specs = [["Nutrient", "Min", "Max", "Basis", "Penalty", "Priority"] + (["Margin", "Step"] if rules else [])]
     chosen = draw(st.lists(st.sampled_from(["Protein", "Energy", "Calcium", "Protein / Energy"]), max_size=3, unique=True))
     for nutrient in chosen:
         low = draw(st.one_of(st.none(), number))
@@ -60,20 +69,31 @@ def workbooks(draw):
             high = draw(number)
         basis = draw(st.sampled_from([None, "as fed", "dry matter"])) if "/" not in nutrient else None
         penalty = draw(st.sampled_from([None, None, 5.0])) if basis != "dry matter" and "/" not in nutrient else None
-        specs.append([value(st.just(nutrient)), low, high, basis, penalty, value(st.sampled_from([None, 2, 7]))])
+        specs.append([value(st.just(nutrient)), low, high, basis, penalty, value(st.sampled_from([None, 2, 7])),
+                      *([draw(rule), draw(rule)] if rules else [])])
     settings_rows = [["Setting", "Value"]]
     for setting in draw(st.lists(st.sampled_from(["Batch size", "Currency", "Mode", "Mass unit"]), max_size=2, unique=True)):
         good = {"Batch size": 500, "Currency": "EUR", "Mode": "diet", "Mass unit": "lb"}[setting]
         settings_rows.append([setting, value(st.just(good))])
+    if rules:  # a short Time limit keeps a hard search short: it then ends as documented (exit 4)
+        settings_rows.append(["Time limit", draw(st.sampled_from([0.5, 0.001, "soon"]))])
+        for setting in draw(st.lists(st.sampled_from(["Max ingredients", "Scale step", "Hand-add below"]),
+                                     max_size=2, unique=True)):
+            settings_rows.append([setting, draw(st.sampled_from([1, 3, 5, 0.5, 2.5, 0, "ten", 1e-300]))])
     sheets = {}
+    if rules and draw(st.booleans()):
+        sheets["Combined"] = [["Nutrient", "Sum"], ["Combo", draw(st.sampled_from(SUMS))]]
     if draw(st.booleans()):
         members = ", ".join(names[: draw(st.integers(1, n))])
         sheets["Groups"] = [["Group", "Ingredients", "Min", "Max"], ["G", members, None, value(st.just(60.0))]]
     diet = any(row[0] == "Mode" for row in settings_rows[1:])
     if not diet and draw(st.booleans()):
-        sheets["Products"] = [["Product", "Amount"], ["P1", value(st.just(2000))], ["P2", 1000]]
+        sheets["Products"] = [["Product", "Amount", "Max ingredients"], ["P1", value(st.just(2000)), None],
+                              ["P2", 1000, draw(st.sampled_from([None, 2, 0, 2.5, "ten"])) if rules else None]]
         if draw(st.booleans()):
-            sheets["Limits"] = [["Product", "Ingredient", "Min", "Max"], ["P1", names[0], None, value(st.just(40.0))]]
+            sheets["Limits"] = [["Product", "Ingredient", "Min", "Max", "Min if used", "Pack size"],
+                                ["P1", names[0], None, value(st.just(40.0)), *([draw(rule), draw(rule)] if rules
+                                                                              else [None, None])]]
     return ingredients, specs, settings_rows, sheets
 
 
@@ -95,4 +115,7 @@ def test_every_workbook_gets_an_exit_code_and_no_traceback(tmp_path_factory, boo
     expected = {"optimal": 0, "workbook_error": 1, "infeasible": 3, "unbounded": 3}
     assert result.exit_code == expected.get(doc["status"], 4)
     if doc["status"] == "infeasible":
-        assert doc["conflicts"], "an infeasible workbook is always explained"
+        # Explained: by its conflicts, or (the LP feasible) by what the weighing rules cost.
+        explained = doc.get("conflicts") or any(
+            "practical" in entry for entry in [doc, *(doc.get("products") or {}).values()])
+        assert explained, "an infeasible workbook is always explained"

@@ -398,7 +398,8 @@ def test_without_rules_the_integer_program_is_never_entered(tmp_path, sample, mo
 def test_json_practical_keys(tmp_path):
     path = sample_with(tmp_path, "broiler_starter", settings={"Scale step": 0.5})
     doc = formula_to_dict(formulate(read_workbook(path), check=False))
-    assert list(doc["practical"]) == ["lp_cost", "cost", "gap", "nodes", "status", "binding", "blocking"]
+    assert list(doc["practical"]) == ["lp_cost", "cost", "gap", "nodes", "status", "binding", "blocking",
+                                      "lp_penalty", "penalty"]
     assert doc["practical"]["cost"] == doc["cost"] and doc["practical"]["lp_cost"] < doc["cost"]
 
 

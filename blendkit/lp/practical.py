@@ -103,12 +103,23 @@ def _lp_costs(lp: BlendLP, lp_result: LPResult) -> np.ndarray:
     return x @ lp.costs * lp.per
 
 
+def penalties(lp: BlendLP, x: np.ndarray) -> np.ndarray:
+    """Each product's penalties of broken soft specs per `Cost per` unit, at the point `x`
+    (its first columns the LP's): penalty x violation summed over the elastic columns."""
+    found = np.zeros(len(lp.products))
+    for row, _side, column in lp.elastic:
+        meaning = lp.rows[row]
+        found[meaning.product] += meaning.penalty * max(float(x[column]), 0.0)
+    return found
+
+
 def _practical(blend: Blend, lp: BlendLP, lp_result: LPResult, mip: WeighMIP, result: MIPResult, p: int,
                product: ProductFormula) -> Practical:
     """Product p's Practical record."""
     return Practical(
         status=result.status, lp_cost=float(_lp_costs(lp, lp_result)[p]), cost=product.cost,
         gap=float(result.gap), nodes=result.nodes, binding=binding_rules(blend, lp, lp_result, mip, result, p),
+        lp_penalty=float(penalties(lp, lp_result.x)[p]), penalty=float(penalties(lp, result.x)[p]),
     )
 
 
@@ -166,7 +177,8 @@ def _without_formula(blend: Blend, lp: BlendLP, lp_result: LPResult, result: MIP
         ProductFormula(name=name, amount=amount, cost=None, ingredients=(), nutrients=(), limits=(),
                        status=result.status, message=message,
                        practical=Practical(status=result.status, lp_cost=float(costs[p]), cost=None, gap=None,
-                                           nodes=result.nodes, blocking=blocking))
+                                           nodes=result.nodes, blocking=blocking,
+                                           lp_penalty=float(penalties(lp, lp_result.x)[p])))
         for p, (name, amount) in enumerate(lp.products)
     )
     return Formula(blend=blend, status=result.status, message=message, cost=None, ingredients=(), nutrients=(),

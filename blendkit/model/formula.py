@@ -144,7 +144,9 @@ class Practical:
     ingredients) cost in one product (`blendkit.lp.practical`).
 
     `lp_cost` is the product's cost in the LP without those rules and `cost` its cost
-    under them (per `Cost per` unit; None when no formula meets them). `status` is the
+    under them (per `Cost per` unit; None when no formula meets them). `lp_penalty` and
+    `penalty` are the penalties of the soft specs each breaks (per `Cost per` unit; 0
+    without soft specs): both searches minimise cost plus penalties, so `rise` counts them. `status` is the
     search's: "optimal", "time_limit" (the best formula found within the time limit,
     `gap` its proven relative gap to the cheapest possible), "infeasible" or another
     engine status. `nodes` counts the search's nodes (one search for the products solved
@@ -160,13 +162,16 @@ class Practical:
     nodes: int
     binding: tuple[str, ...] = ()
     blocking: tuple[str, ...] = ()
+    lp_penalty: float = 0.0
+    penalty: float = 0.0
 
     @property
     def rise(self) -> float | None:
-        """What the rules add to the cost: `cost` less `lp_cost` (None without both)."""
+        """What the rules add to the cost plus the penalties of broken soft specs: `cost`
+        + `penalty` less `lp_cost` + `lp_penalty` (None without both costs)."""
         if self.cost is None or self.lp_cost is None:
             return None
-        return self.cost - self.lp_cost
+        return (self.cost + self.penalty) - (self.lp_cost + self.lp_penalty)
 
     def lines(self, unit: str = "") -> tuple[str, ...]:
         """The record in words, one line each, as the console and the Result sheet show it:
@@ -182,6 +187,10 @@ class Practical:
                                if self.cost is not None else "the time limit ran out before any formula was found"),
                 "infeasible": "no formula meets the rules"}
         lines = [f"{head}; {ends.get(self.status, self.status)}"]
+        if self.lp_penalty or self.penalty:
+            lines.append(f"  with the penalties of soft specs not met: {_money(self.lp_penalty)}{unit} in the LP, "
+                         f"{_money(self.penalty if self.cost is not None else None)}{unit} under the rules "
+                         "(counted in the change)")
         lines += [f"  {line}" for line in self.binding]
         if self.blocking:
             lines.append("  a formula exists without: " + ", ".join(self.blocking))
@@ -321,9 +330,11 @@ class Formula:
     def practical_totals(self) -> tuple[float, float | None] | None:
         """With products, some under the rules a mill can weigh: the run's total cost
         without those rules and under them (currency; each product's cost per `Cost per`
-        unit times its amount, as `cost`). A product without rules counts its own cost in
-        both; the cost under the rules is None unless every product has a formula. None
-        for one blend (its `practical` says it all) and without such rules."""
+        unit times its amount, as `cost`; a product under the rules adds the penalties of
+        the soft specs it breaks, `lp_penalty` and `penalty`, as its `rise` does). A product
+        without rules counts its own cost in both; the cost under the rules is None unless
+        every product has a formula. None for one blend (its `practical` says it all) and
+        without such rules."""
         if not self.several or all(product.practical is None for product in self.products):
             return None
         per = self.blend.settings.cost_unit_in_mass_units
@@ -333,8 +344,10 @@ class Formula:
             lp_cost = product.cost if record is None else record.lp_cost
             if lp_cost is None:
                 return None
-            before += lp_cost * product.amount / per
-            after = None if after is None or product.cost is None else after + product.cost * product.amount / per
+            lp_penalty, penalty = (0.0, 0.0) if record is None else (record.lp_penalty, record.penalty)
+            before += (lp_cost + lp_penalty) * product.amount / per
+            after = (None if after is None or product.cost is None
+                     else after + (product.cost + penalty) * product.amount / per)
         return before, after
 
     def linked(self, name: str | None) -> bool:

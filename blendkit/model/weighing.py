@@ -12,6 +12,12 @@ from dataclasses import dataclass
 
 from blendkit.model.blend import Blend, Ingredient
 
+# Most packs or scale steps one batch may hold: the integer program counts them, and a
+# count above this (a 0.1 g step in a 2 t batch is 2e7) is beyond what the search can hold
+# exactly within its integrality tolerance; the reader refuses finer steps and packs at
+# their cells. A 1 g step in a 10 t batch is 1e7, still allowed.
+MOST_UNITS_PER_BATCH = 1e7
+
 
 @dataclass(frozen=True)
 class WeighRule:

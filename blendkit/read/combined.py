@@ -102,9 +102,26 @@ def _rows(table: Table, nutrients: list[Column], ingredients_title: str, problem
                 "give the combined nutrient a name of its own"
             )))
             continue
+        ratio = _ratio_of(name, columns)
+        if ratio is not None:
+            problems.append(Problem(name_cell.ref, (
+                f'"{name}" reads as the ratio of {ratio[0]} to {ratio[1]}, which Specs could then never bound '
+                f'(a spec naming it would mean this combined nutrient); give it another name, such as '
+                f'"{ratio[0]} and {ratio[1]}"'
+            )))
+            continue
         column = Column(key=name_key(name), name=name, unit=unit, index=0, ref=name_cell.ref)
         rows.append(_Row(column=column, sum_cell=row["sum"], cells=_cells(row)))
     return rows
+
+
+def _ratio_of(name: str, columns: dict[str, Column]) -> tuple[str, str] | None:
+    """The two nutrient columns a name "A / B" would be a ratio of on Specs, or None."""
+    parts = name.split("/")
+    if len(parts) != 2:
+        return None
+    found = [columns.get(name_key(split_unit(part)[0])) for part in parts]
+    return None if None in found else (found[0].name, found[1].name)
 
 
 def _cells(row: Row) -> dict[str, str]:

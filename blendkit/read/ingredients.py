@@ -142,7 +142,7 @@ def _read_ingredient(
     check_min_max(row, minimum, maximum, problems)
     use = read_yes_no(row.get("use"), "use", problems)
     stock = _stock(row, settings, problems)
-    min_if_used = read_min_if_used(row, maximum, diet, problems)
+    min_if_used = read_min_if_used(row, maximum, diet, problems, used=use is not False)
     pack = read_mass(row.get("pack size"), "pack size", settings.mass_unit, diet, problems)
     step = read_mass(row.get("scale step"), "scale step", settings.mass_unit, diet, problems)
     contents, blanks = _contents(row, nutrients, problems)

@@ -57,7 +57,7 @@ def _own_bounds(limit: ProductLimit, item: Ingredient | None, problems: list[Pro
     if limit.minimum is not None or limit.maximum is not None or item is None:
         return limit
     cells = {**limit.cells, "min": item.cells.get("min"), "max": item.cells.get("max")}
-    if limit.min_if_used is not None and item.maximum is not None and limit.min_if_used > item.maximum:
+    if limit.min_if_used is not None and item.maximum is not None and 0 < item.maximum < limit.min_if_used:
         problems.append(Problem(limit.cells["min if used"], (
             f"min if used {format_number(limit.min_if_used)} is above the max {format_number(item.maximum)} of "
             f"{item.name} in {item.cells['max']}, so it could never be used in {limit.product}; lower min if "

@@ -1,7 +1,8 @@
 """A price list (`solve --prices PRICES.xlsx`): its Ingredients sheet, read into a PriceList.
 
 The sheet has our Ingredients headers: ``Ingredient`` (required), ``Cost``, ``Stock`` and
-any nutrient columns; Min, Max, Use and Unit columns are allowed and ignored. Every
+any nutrient columns; Min, Max, Use and Unit columns, and the weighing rules' Min if
+used, Pack size and Scale step, are allowed and ignored (they are the workbook's own). Every
 value is optional: a blank cell leaves the workbook's own value. Values are read with
 the reader's rules for numbers; a cost may be any number, a stock 0 or more. Problems
 name the price list's file, sheet and cell.
@@ -31,7 +32,7 @@ _COLUMNS: Wanted = {
     "stock": ("Stock", "the quantity on hand in the mass unit", False),
 }
 # Columns of our Ingredients sheet that a price list may carry but does not apply.
-_IGNORED = {"min", "max", "use", "unit"}
+_IGNORED = {"min", "max", "use", "unit", "min if used", "pack size", "scale step"}
 
 
 def read_price_list(path: str | Path, *, limits: ReadLimits = ReadLimits()) -> PriceList:

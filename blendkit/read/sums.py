@@ -12,7 +12,10 @@ for ``*``. A name is the text between operators, trimmed,
 and may hold spaces, digits and parentheses (``Lysine (digestible)``); it is compared like
 a Specs nutrient, so ``Sodium`` and ``Sodium (%)`` both name the column ``Sodium (%)``. A
 ``+`` or ``-`` with no space on either side inside a name that exists
-(``Omega-3``) is part of the name. A bare name counts once; there is no constant term and
+(``Omega-3``, ``25-OH-D3``) is part of the name, and so is one with spaces around it when
+the whole text is a name and the part after the sign is not (``Methionine + cystine``, the
+trade's heading, beside a ``Methionine`` column); the longest known name wins. A number with an exponent (``1e3``) is refused
+with its own message. A bare name counts once; there is no constant term and
 no brackets. `parse_sum` returns the terms with the names as written (the caller checks
 that each names a nutrient) or raises `SumError` with a plain message.
 """
@@ -27,10 +30,16 @@ from typing import Callable
 _OPERATORS = {"+": "+", "-": "-", "\u2212": "-", "\u2013": "-", "*": "*", "\u00d7": "*"}
 # A number as written in a Sum: digits with an optional decimal point.
 _NUMBER = re.compile(r"\d+(?:\.\d*)?|\.\d+")
+# A number with an exponent, up to the sign the tokenizer splits at ("1e3", "1e" of "1e-3").
+_EXPONENT = re.compile(r"(?:\d+(?:\.\d*)?|\.\d+)[eE]\d*")
 # A word that starts with a number and goes on (a missing "*", or a decimal comma).
 _LEADING_NUMBER = re.compile(r"(\d+(?:\.\d*)?|\.\d+)\s*(.*)", re.DOTALL)
 
 NUMBER, NAME, SIGN, TIMES = "number", "name", "sign", "times"
+
+# Most parts a name joined across signs may have ("25-OH-D3" has three): bounds the search
+# for the longest known name, so a Sum of a thousand terms is read in linear time.
+MOST_NAME_PARTS = 6
 
 EXAMPLE = "434.8 * Sodium + 255.8 * Potassium - 282.1 * Chloride"
 
@@ -114,6 +123,9 @@ def _word(word: str, start: int, known: Callable[[str], bool]) -> Token:
         return Token(NAME, word, start, end)
     if _NUMBER.fullmatch(word):
         return Token(NUMBER, word, start, end)
+    if _EXPONENT.fullmatch(word):
+        raise SumError(f'"{word}" is a number with an exponent; write it in plain decimals, as in 1000 or '
+                       "0.001 (a Sum takes digits and a decimal point)")
     if re.fullmatch(r"\d+,\d+", word):
         raise SumError(f'"{word}": write decimals with a point, as in {word.replace(",", ".")}')
     match = _LEADING_NUMBER.fullmatch(word)
@@ -123,21 +135,32 @@ def _word(word: str, start: int, known: Callable[[str], bool]) -> Token:
 
 
 def _joined(text: str, tokens: list[Token], known: Callable[[str], bool]) -> list[Token]:
-    """The tokens with "name-name" or "name+3" written without spaces made one name when that
-    name is known (and the first part alone is not)."""
+    """The tokens with "part sign part ..." made one name when that text is a known name
+    (the longest such run wins): written without spaces ("Omega-3", "25-OH-D3") when the
+    first part alone is not known, and also with spaces ("Methionine + cystine") when the
+    part after the first sign is not a known name."""
     result: list[Token] = []
     at = 0
     while at < len(tokens):
-        token = tokens[at]
-        while (token.kind == NAME and at + 2 < len(tokens) and tokens[at + 1].kind == SIGN
-               and tokens[at + 1].start == token.end and tokens[at + 2].start == tokens[at + 1].end
-               and tokens[at + 2].kind in (NAME, NUMBER) and not known(token.text)
-               and known(text[token.start:tokens[at + 2].end])):
-            token = Token(NAME, text[token.start:tokens[at + 2].end], token.start, tokens[at + 2].end)
-            at += 2
-        result.append(token)
-        at += 1
+        last = min(len(tokens) - 1, at + 2 * (MOST_NAME_PARTS - 1))
+        end = next((end for end in range(last, at + 1, -2) if _joins(text, tokens[at:end + 1], known)), at)
+        result.append(tokens[at] if end == at else Token(NAME, text[tokens[at].start:tokens[end].end],
+                                                          tokens[at].start, tokens[end].end))
+        at = end + 1
     return result
+
+
+def _joins(text: str, run: list[Token], known: Callable[[str], bool]) -> bool:
+    """Whether the tokens `run` (parts and signs in turn) are one known name (see `_joined`)."""
+    parts, signs = run[0::2], run[1::2]
+    if len(run) % 2 == 0 or any(t.kind not in (NAME, NUMBER) for t in parts) or any(t.kind != SIGN for t in signs):
+        return False
+    if not known(text[run[0].start:run[-1].end]):
+        return False
+    tight = all(left.end == right.start for left, right in zip(run, run[1:]))
+    if tight:
+        return run[0].kind == NUMBER or not known(run[0].text)
+    return run[0].kind == NAME and run[2].kind == NAME and not known(run[2].text)
 
 
 def _term(tokens: list[Token], at: int, sign: float, known: Callable[[str], bool]) -> tuple[Term, int]:

@@ -17,8 +17,11 @@ from blendkit.read.tables import Row
 from blendkit.read.values import format_number, read_number
 
 
-def read_min_if_used(row: Row, maximum: float | None, diet: bool, problems: list[Problem]) -> float | None:
-    """The row's Min if used (None when blank or absent); wrong values are reported."""
+def read_min_if_used(row: Row, maximum: float | None, diet: bool, problems: list[Problem],
+                     used: bool = True) -> float | None:
+    """The row's Min if used (None when blank or absent); wrong values are reported. Above
+    the row's Max it is wrong only while the row may be used: with Use = no (`used`
+    False) or a Max of 0 the ingredient is already out, and the rule is kept for later."""
     cell = row.get("min if used")
     value = read_number(cell, "min if used", problems)
     if value is None:
@@ -31,7 +34,7 @@ def read_min_if_used(row: Row, maximum: float | None, diet: bool, problems: list
             "left out or used at least this much; leave it blank for no such rule"
         )))
         return None
-    if maximum is not None and value > maximum:
+    if used and maximum is not None and 0 < maximum < value:
         problems.append(Problem(cell.ref, (
             f"min if used {format_number(value)} is above max {format_number(maximum)} in {row['max'].ref}, "
             "so the ingredient could never be used; lower min if used, raise max, or set Use to no"

@@ -47,6 +47,7 @@ from blendkit.read.tables import read_table
 from blendkit.read.undefined_specs import check_undefined_specs
 from blendkit.read.values import name_key
 from blendkit.read.weigh_cells import check_diet_maxima
+from blendkit.read.weigh_fit import check_weigh_fit
 
 # Every sheet the reader knows, in the order its problems are listed.
 SHEETS = (INGREDIENTS, COMBINED, SPECS, GROUPS, PRODUCTS, LIMITS, SETTINGS)
@@ -64,6 +65,7 @@ READERS = (
     read_limits_sheet,  # refers to the ingredients and the products
     check_undefined_specs,  # needs the ingredients' contents and the specs
     check_diet_maxima,  # Max ingredients in a diet: needs the settings and the ingredients
+    check_weigh_fit,  # packs and steps against the batch, Min if used against Limits: needs them all
 )
 
 # The first bytes of an old binary Excel file, which is also how password-protected

@@ -58,15 +58,19 @@ Under the rules a mill can weigh (Min if used, Pack size, Scale step, Max ingred
 entry)::
 
     "practical": {"lp_cost": float | null, "cost": float | null, "gap": float | null,
-                  "nodes": int, "status": str, "binding": [str], "blocking": [str]}
+                  "nodes": int, "status": str, "binding": [str], "blocking": [str],
+                  "lp_penalty": float, "penalty": float | null}
 
 `lp_cost` is the cost without those rules, `cost` the cost under them, `gap` the
 search's proven relative gap (0 when proven cheapest), `nodes` its node count, `status`
-"optimal", "time_limit", "infeasible" or another engine status; `binding` says which
+"optimal", "time_limit", "infeasible" or another engine status; `lp_penalty` and `penalty`
+the penalties of the soft specs each breaks (0 without soft specs; both searches minimise
+cost plus penalties, so the change is (cost + penalty) - (lp_cost + lp_penalty)); `binding` says which
 rules bind, `blocking` (when the rules leave no formula) the rule families whose removal
 alone restores one; `cross_check` is then the integer program re-solved by HiGHS's MIP
 solver. With products, the run also has a top-level `"practical": {"lp_cost", "cost"}`
-after "cross_check": the run's total cost without the rules and under them (currency; a
+after "cross_check": the run's total cost without the rules and under them (currency,
+with the penalties of broken soft specs of the products under the rules; a
 product without rules counts its own cost in both; `cost` null unless every product has
 a formula). A workbook without those rules has no such key.
 
@@ -197,6 +201,7 @@ def _practical(product: ProductFormula | None) -> dict[str, Any]:
         "lp_cost": _number(record.lp_cost), "cost": _number(record.cost), "gap": _number(record.gap),
         "nodes": int(record.nodes), "status": str(record.status),
         "binding": [str(line) for line in record.binding], "blocking": [str(name) for name in record.blocking],
+        "lp_penalty": _number(record.lp_penalty), "penalty": _number(record.penalty if record.cost is not None else None),
     }}
 
 

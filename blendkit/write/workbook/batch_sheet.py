@@ -231,7 +231,14 @@ class _Levels:
         self.workbook, self.blend, self.lines, self.rows = workbook, formula.blend, lines, rows
 
     def as_fed(self, nutrient: str) -> str | None:
-        """The as-fed level of `nutrient` as a formula's operand (no "="), or None."""
+        """The as-fed level of `nutrient` as a formula's operand (no "="), or None; a
+        combined nutrient is its Sum of its parts' levels (it has no Ingredients column)."""
+        combined = next((item for item in self.blend.combined if item.name == nutrient), None)
+        if combined is not None:
+            parts = [self.as_fed(part) for _number, part in combined.terms]
+            if None in parts:
+                return None
+            return "(" + "+".join(f"{number!r}*{part}" for (number, _), part in zip(combined.terms, parts)) + ")"
         text = recompute_formula(self.blend, self.lines, self.rows, self.workbook,
                                  lambda item: item.content_cells.get(nutrient), column="C")
         return None if text is None else f"({text[1:]})"
