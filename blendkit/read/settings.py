@@ -158,26 +158,24 @@ def _setting_value(key: str, cell: Cell, problems: list[Problem]) -> object | No
 
 def _batch_size(cell: Cell, problems: list[Problem]) -> float | None:
     """The batch size, more than 0; None when wrong (reported)."""
-    size = read_number(cell, "batch size", problems)
-    if size is not None and size <= 0:
-        problems.append(Problem(cell.ref, (
-            f"batch size {format_number(size)} must be more than 0; "
-            "it is the mass of one batch in the mass unit"
-        )))
-        return None
-    return size
+    return _positive(cell, "batch size", "it is the mass of one batch in the mass unit", problems)
 
 
 def _time_limit(cell: Cell, problems: list[Problem]) -> float | None:
     """The time limit in seconds, more than 0; None when wrong (reported)."""
-    seconds = read_number(cell, "time limit", problems)
-    if seconds is not None and seconds <= 0:
-        problems.append(Problem(cell.ref, (
-            f"time limit {format_number(seconds)} must be more than 0; it is how many seconds the search "
-            "for a formula under Min if used, Pack size, Scale step and Max ingredients may take"
-        )))
+    return _positive(cell, "time limit", (
+        "it is how many seconds the search for a formula under Min if used, Pack size, "
+        "Scale step and Max ingredients may take"), problems)
+
+
+def _positive(cell: Cell, label: str, meaning: str, problems: list[Problem]) -> float | None:
+    """A number above 0, the one rule both settings share; None when wrong (reported,
+    with what the setting means)."""
+    value = read_number(cell, label, problems)
+    if value is not None and value <= 0:
+        problems.append(Problem(cell.ref, f"{label} {format_number(value)} must be more than 0; {meaning}"))
         return None
-    return seconds
+    return value
 
 
 def _mass_unit(cell: Cell, label: str, text: str, problems: list[Problem]) -> str | None:
