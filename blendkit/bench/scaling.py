@@ -45,6 +45,8 @@ PLANT_SEARCH_CAP = 240.0  # seconds the plant part may take before the search st
 PLANT_STEP = 5  # the bisection stops when the bracket is this many products wide
 # (c) throughput: this many independent blends of THROUGHPUT_SHAPE.
 THROUGHPUT_LPS, THROUGHPUT_SHAPE = 400, (60, 30)
+# Two objectives agree when they differ by at most this, relative to max(1, |linprog's|).
+AGREE_RTOL = 1e-6
 QUICK = {"ingredients": (25, 50, 100), "nutrients": (10, 30), "products": (5, 10), "lps": 60}
 
 
@@ -98,7 +100,7 @@ class PlantTime:
     ours: float  # seconds
     linprog: float  # seconds
     status: str  # ours
-    agrees: bool  # same objective as linprog's, within 1e-6 relative
+    agrees: bool  # same objective as linprog's, within AGREE_RTOL
 
 
 def time_plant(products: int, seed: int = SEED) -> PlantTime:
@@ -108,7 +110,7 @@ def time_plant(products: int, seed: int = SEED) -> PlantTime:
     ours, t_ours = timed(lambda: solve(*args), 1)
     ref, t_ref = timed(lambda: linprog(*args, method="highs"), 1)
     agrees = (ours.status == "optimal" and ref.status == 0
-              and abs(ours.objective - ref.fun) <= 1e-6 * max(1.0, abs(ref.fun)))
+              and abs(ours.objective - ref.fun) <= AGREE_RTOL * max(1.0, abs(ref.fun)))
     return PlantTime(products=products, columns=lp.c.size, rows=lp.A_ub.shape[0] + lp.A_eq.shape[0],
                      ours=t_ours, linprog=t_ref, status=ours.status, agrees=agrees)
 
@@ -138,7 +140,8 @@ def _largest_within(timed_plants: list[PlantTime], started: float) -> Iterator[s
         low, high = bracket()
     capped = "" if high is not None and high - low <= PLANT_STEP else " (search stopped at the time cap)"
     above = f"; {high} products took longer" if high is not None else ""
-    yield f"  largest plant solved within {PLANT_BUDGET:g} s: {low} products of {PLANT_SHAPE[0]} x {PLANT_SHAPE[1]}{above}{capped}"
+    yield (f"  largest plant solved within {PLANT_BUDGET:g} s: {low} products of "
+           f"{PLANT_SHAPE[0]} x {PLANT_SHAPE[1]}{above}{capped}")
 
 
 def plant_lines(quick: bool) -> Iterator[str]:
@@ -200,9 +203,9 @@ def throughput_lines(quick: bool) -> Iterator[str]:
     yield _per_minute("ours, blendkit.engine.solve in a loop, 1 process", count, t_bare)
     for jobs, check in ((1, False), (2, False), (2, True)):
         formulas, seconds = timed(lambda: solve_lps(blends, jobs=jobs, check=check), 1)
-        what = "with the HiGHS cross-check" if check else "no cross-check"
+        what = "HiGHS cross-check" if check else "no cross-check"
         yield _per_minute(f"ours, batch.solve_lps jobs={jobs} (analysis, ranging; {what})", count, seconds)
-    agree = sum(f.status == "optimal" and r.status == 0 and abs(f.cost - r.fun) <= 1e-6 * max(1.0, abs(r.fun))
+    agree = sum(f.status == "optimal" and r.status == 0 and abs(f.cost - r.fun) <= AGREE_RTOL * max(1.0, abs(r.fun))
                 for f, r in zip(formulas, theirs))
     yield f"  formula costs agreeing with linprog: {agree} of {count}; bare engine ratio to linprog " \
           f"{t_bare / t_ref:.2f}"
