@@ -270,3 +270,33 @@ def test_warm_highspy_timing_resolves_the_sweep_to_linprogs_optima():
         warm.time(step.c, repeat=2)
         ref = linprog(*_args(step), method="highs")
         assert warm.h.getInfo().objective_function_value == pytest.approx(ref.fun, rel=1e-9), step.name
+
+
+def test_scaling_family_agrees_with_highs_on_its_smallest_sizes():
+    # Outside reference: scipy's linprog with HiGHS, on the smallest LP of each part of the
+    # scaling family: a blend, a plant, and the batch API's formula of a blend (cost per tonne).
+    from blendkit.batch import solve_lps
+    from blendkit.bench import scaling
+
+    lp = bench.make_blend(scaling.INGREDIENT_STEPS[0], scaling.AT_NUTRIENTS, scaling.SEED)
+    ref = linprog(*_args(lp), method="highs")
+    ours = solve(*_args(lp))
+    assert ours.status == "optimal" and ref.status == 0
+    assert abs(ours.objective - ref.fun) <= 1e-7 * max(1.0, abs(ref.fun))
+
+    plant = scaling.time_plant(scaling.PLANT_PRODUCTS[0])
+    assert plant.status == "optimal" and plant.agrees
+
+    instance = bench.make_blend(*scaling.THROUGHPUT_SHAPE, scaling.SEED)
+    formula = solve_lps([scaling.feasible_blend(instance)], jobs=1, check=False)[0]
+    ref = linprog(*_args(instance), method="highs")
+    assert formula.status == "optimal" and ref.status == 0
+    assert abs(formula.cost - ref.fun) <= 1e-6 * max(1.0, abs(ref.fun))
+
+
+def test_growth_exponent_recovers_a_power_law():
+    # Outside reference: arithmetic; time = 3 * size^1.7 has exponent 1.7 exactly.
+    from blendkit.bench.scaling import growth_exponent
+
+    sizes = [25, 50, 100, 200, 400]
+    assert abs(growth_exponent(sizes, [3 * s**1.7 for s in sizes]) - 1.7) < 1e-9
