@@ -585,3 +585,23 @@ def test_a_gap_a_large_bound_elsewhere_hides():
     assert highs(**lp).status == "infeasible"
     result = solve(**lp)
     assert result.status == "infeasible", result.message
+
+
+def test_a_row_of_a_general_form_lp_is_named_as_such():
+    # A general-form LP (as an MPS file gives: no A_ub/A_eq split) names its rows by their
+    # place in that form; only a row whose two sides are equal is an equality. The worst
+    # row here is the ranged row 1 (1 <= x0 + x1 <= 2 at x = (2, 2), violated by 2).
+    from blendkit.engine.standard_form import StandardForm
+    from blendkit.engine.verify import worst_violation
+
+    form = StandardForm(
+        c=np.zeros(2), A=np.array([[1.0, 0.0], [1.0, 1.0]]),
+        row_lower=np.array([2.0, 1.0]), row_upper=np.array([2.0, 2.0]),
+        col_lower=np.array([0.0, -np.inf]), col_upper=np.full(2, np.inf))
+    worst, where = worst_violation(form, np.array([2.0, 2.0]))
+    assert where == "row 1"
+    assert worst == pytest.approx(2.0 / 3.0)  # violation 2 over 1 + max(|2|, |2|, |1|, |2|)
+    # x = (4, -0.5): row 0 is off by 2 (size 1 + 4), row 1 by 1.5 (size 1 + 4).
+    worst, where = worst_violation(form, np.array([4.0, -0.5]))
+    assert where == "equality row 0"
+    assert worst == pytest.approx(0.4)

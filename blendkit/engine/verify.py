@@ -38,11 +38,20 @@ def worst_violation(sf: StandardForm, x: np.ndarray) -> tuple[float, str]:
     if row_violation.size and row_violation.max() > worst:
         i = int(np.argmax(row_violation))
         worst = float(row_violation[i])
-        kind = "inequality" if i < sf.n_ub else "equality"
-        index = i if i < sf.n_ub else i - sf.n_ub
-        where = f"{kind} row {index}"
+        where = _row_name(sf, i)
     if col_violation.size and col_violation.max() > worst:
         j = int(np.argmax(col_violation))
         worst = float(col_violation[j])
         where = f"bound of variable {j}"
     return worst, where
+
+
+def _row_name(sf: StandardForm, i: int) -> str:
+    """How a message names row `i`: by the linprog argument it came from (A_ub or A_eq
+    row), or, for a problem given in general form (an MPS file: `n_ub` is 0), as a row of
+    that form, an equality only where its two sides are equal."""
+    if i < sf.n_ub:
+        return f"inequality row {i}"
+    if sf.row_lower[i] == sf.row_upper[i]:
+        return f"equality row {i - sf.n_ub}"
+    return f"row {i}"
