@@ -14,10 +14,11 @@ import re
 from pathlib import Path
 
 from blendkit.errors import OutputError
-from blendkit.lp.changes import compare_runs
 from blendkit.model.formula import Formula, RunInfo
 from blendkit.model.record import RunRecord, run_record
-from blendkit.read.previous import NoRecord, read_run_record
+
+# `blendkit.lp.changes` and `blendkit.read.previous` are imported where an earlier result
+# is read or compared: the first run of a workbook needs neither.
 
 # The suffixes an output or a backup adds to its input's name ("feed.result.xlsx").
 _DERIVED = re.compile(r"(\.(result|backup))+$", re.IGNORECASE)
@@ -44,6 +45,8 @@ def check_earlier_output(path: Path) -> None:
 def _read_compared(path: Path) -> tuple[RunRecord | None, tuple[str, ...]]:
     """The record of the `--compare` file, or None with a note for an output without a
     usable one; CompareError when the file is missing or no output workbook."""
+    from blendkit.read.previous import NoRecord, read_run_record
+
     if path.is_dir():
         raise CompareError(f"{path}: is a folder; --compare names an earlier output workbook")
     if not path.is_file():
@@ -75,6 +78,8 @@ def compare_with_earlier(
     earlier, notes = _earlier(run, Path(output), compare, output_data)
     if earlier is None:
         return _with_notes(formula, notes)
+    from blendkit.lp.changes import compare_runs
+
     changes, compared = compare_runs(earlier, run_record(formula, run))
     return dataclasses.replace(_with_notes(formula, notes + compared), changes=changes)
 
@@ -101,6 +106,8 @@ def _earlier(
 def _read(path: Path, data: bytes | None) -> tuple[RunRecord | None, tuple[str, ...]]:
     """The record at `path`, or None with a note when it is an output without a usable
     record (a file that is no output at all gets no note: it is simply replaced)."""
+    from blendkit.read.previous import NoRecord, read_run_record
+
     try:
         return read_run_record(path, data), ()
     except NoRecord as reason:

@@ -22,8 +22,6 @@ from blendkit.lp.build import build_lp
 from blendkit.lp.combine import combine
 from blendkit.lp.cross_check import cross_check, cross_check_mip
 from blendkit.lp.cross_check import warning as cross_check_warning
-from blendkit.lp.practical import practical_formula, time_limit
-from blendkit.lp.diagnose import change_lines, conflict_lines, diagnose
 from blendkit.lp.split import part_blend, parts, unapplied_stocks
 from blendkit.engine import solve_form
 from blendkit.errors import OutputError
@@ -98,6 +96,8 @@ def formulate_lp(blend: Blend, *, explain: bool = True, check: bool = True) -> F
         formula = _with_cross_check(formula, cross_check(lp.form, result), result)
     if formula.status != "infeasible" or not explain:
         return formula
+    from blendkit.lp.diagnose import change_lines, conflict_lines, diagnose  # only when infeasible
+
     diagnosis = diagnose(blend, lp)
     relaxed = None
     if diagnosis.relaxed_blend is not None:
@@ -116,6 +116,8 @@ def formulate_weighed(blend: Blend, lp, lp_result, *, check: bool = True) -> For
     """The formula under the rules a mill can weigh (`blendkit.lp.practical`), for a blend
     whose LP `lp` is solved optimally as `lp_result`; with `check`, the integer program
     re-solved with HiGHS's MIP solver as a cross-check."""
+    from blendkit.lp.practical import practical_formula, time_limit  # only with weighing rules
+
     formula, mip, result = practical_formula(blend, lp, lp_result)
     if not check or mip is None:
         return formula

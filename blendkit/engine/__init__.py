@@ -16,9 +16,12 @@ Whole numbers and minimums if used: `mip` (the entry points `solve_mip` and
 `branching` and `strong_branching` (which column to branch on), `tightening` (bound
 propagation, reduced-cost fixing), `heuristics` and `incumbent` (solutions found early
 and verified), and `objective_grid` (bounds rounded up to the objective's step).
+`solve_mip` and `solve_mip_form` are imported only when first used: a workbook without
+weighing rules never needs the branch and bound, and a plain solve starts faster without it.
 """
 
-from blendkit.engine.mip import solve_mip, solve_mip_form
+from importlib import import_module
+
 from blendkit.engine.result import MIP_STATUSES, STATUSES, LPResult, MIPResult
 from blendkit.engine.solve import solve, solve_form
 from blendkit.engine.standard_form import StandardForm
@@ -28,3 +31,13 @@ __all__ = [
     "MIP_STATUSES", "STATUSES", "LPResult", "MIPResult", "StandardForm", "Tolerances", "solve", "solve_form",
     "solve_mip", "solve_mip_form",
 ]
+
+# Public name -> the module that defines it, imported on first use.
+_LAZY = {"solve_mip": "blendkit.engine.mip", "solve_mip_form": "blendkit.engine.mip"}
+
+
+def __getattr__(name: str):
+    """Import a lazily re-exported name (the branch and bound) on first use."""
+    if name not in _LAZY:
+        raise AttributeError(f"module 'blendkit.engine' has no attribute {name!r}")
+    return getattr(import_module(_LAZY[name]), name)
