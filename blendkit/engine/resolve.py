@@ -1,0 +1,255 @@
+"""Re-solving one LP after a change of costs or bounds, from the basis and factors it holds.
+
+`Resolver` keeps what a solve builds and a re-solve of the same matrix can reuse: the
+general form in original units, its scaling, the simplex state of the scaled problem and
+the LU factors of its last optimal basis. A change of costs (`change_costs`) or of column
+or row bounds (`change_col_bounds`, `change_row_bounds`, `change_rhs`) only rewrites the
+numbers; `solve` then goes on from the basis held:
+
+- the nonbasic variables go to their (new) bounds and the basic values, duals and reduced
+  costs are recomputed with the factors already held (no refactorisation);
+- when that basis is primal feasible (costs changed only), the primal simplex (`primal`)
+  goes on from it; when it is not, boxed nonbasic variables move to the bound their
+  reduced cost favours and, if the basis is then dual feasible (bounds changed only), the
+  dual simplex (`dual`) goes on from it, with the same perturbation and final primal pass
+  as in `simplex`;
+- anything else (no dual or primal feasible start, infeasible, unbounded, a stall,
+  trouble, a residual check that fails) is solved by `solve_form` from scratch with the
+  last basis, exactly as a cold call would, and the basis it finds is held again.
+
+The result is the LPResult `solve_form` returns, with the residual check in original units.
+Notation as in `blendkit.engine.simplex`.
+"""
+
+from __future__ import annotations
+
+from dataclasses import replace
+
+import numpy as np
+
+from blendkit.engine.basis_factor import SingularBasis
+from blendkit.engine.dual import run_dual
+from blendkit.engine.pricing import prices_out
+from blendkit.engine.primal import run_primal
+from blendkit.engine.result import Basis, LPResult
+from blendkit.engine.scaling import Scaling, find_scaling, scale_form
+from blendkit.engine.simplex import _optimal
+from blendkit.engine.simplex_state import SimplexState
+from blendkit.engine.solve import _checked, one_blas_thread, solve_form
+from blendkit.engine.standard_form import StandardForm, to_standard_form
+from blendkit.engine.tolerances import ITERATION_LIMIT_MIN, ITERATION_LIMIT_PER_LINE, Tolerances
+
+
+class Resolver:
+    """One LP, solved and re-solved after changes of its costs and bounds; see the module
+    docstring. The matrix never changes.
+
+    Build it with linprog's arguments (`Resolver(c, A_ub, b_ub, A_eq, b_eq, bounds)`, rows
+    of A_ub first, then those of A_eq) or from a general form (`Resolver.from_form`). The
+    first `solve` is a cold one; later ones start from the basis held. Inputs are copied,
+    never changed; malformed changes raise ValueError and leave the problem as it was.
+    """
+
+    def __init__(self, c, A_ub=None, b_ub=None, A_eq=None, b_eq=None, bounds=None, *,
+                 tolerances: Tolerances | None = None, max_iterations: int | None = None, scale: bool = True):
+        self._setup(to_standard_form(c, A_ub, b_ub, A_eq, b_eq, bounds), tolerances, max_iterations, scale)
+
+    @classmethod
+    def from_form(cls, form: StandardForm, *, tolerances: Tolerances | None = None,
+                  max_iterations: int | None = None, scale: bool = True) -> Resolver:
+        """A Resolver of the general form `form` (row_lower <= A x <= row_upper)."""
+        resolver = cls.__new__(cls)
+        resolver._setup(form, tolerances, max_iterations, scale)
+        return resolver
+
+    def _setup(self, form: StandardForm, tolerances, max_iterations, scale: bool) -> None:
+        """Shared by both constructors: keep the form, find the scaling once."""
+        m, n = form.shape
+        self._form = form
+        self._tol = tolerances or Tolerances()
+        self._max_iterations = max_iterations or max(ITERATION_LIMIT_MIN, ITERATION_LIMIT_PER_LINE * (m + n))
+        self._scale = scale
+        self._scaling = find_scaling(form.A) if scale else Scaling(np.ones(m), np.ones(n))
+        self._state: SimplexState | None = None  # held after an optimal solve, factors and all
+        self._basis: Basis | None = None  # the last optimal basis
+
+    # ----- the problem and its changes ---------------------------------------------------
+
+    @property
+    def form(self) -> StandardForm:
+        """The problem as it stands now, in original units."""
+        return self._form
+
+    @property
+    def basis(self) -> Basis | None:
+        """The basis of the last optimal solve (None before one)."""
+        return self._basis
+
+    def change_costs(self, costs, index=None) -> None:
+        """New costs: for every column, or for the columns `index` only."""
+        c = _changed(self._form.c, costs, index, "costs")
+        if not np.all(np.isfinite(c)):
+            raise ValueError("costs must be finite numbers")
+        self._form = replace(self._form, c=c)
+
+    def change_col_bounds(self, lower, upper, index=None) -> None:
+        """New column bounds (-inf / inf for none): for every column, or the columns `index`."""
+        lo = _changed(self._form.col_lower, lower, index, "lower")
+        up = _changed(self._form.col_upper, upper, index, "upper")
+        _check_bounds(lo, up, "column")
+        self._form = replace(self._form, col_lower=lo, col_upper=up)
+
+    def change_row_bounds(self, lower, upper, index=None) -> None:
+        """New row bounds (row_lower <= A x <= row_upper; -inf / inf for none): for every
+        row, or the rows `index`. A linprog-built problem has A_ub's rows first."""
+        lo = _changed(self._form.row_lower, lower, index, "lower")
+        up = _changed(self._form.row_upper, upper, index, "upper")
+        _check_bounds(lo, up, "row")
+        self._form = replace(self._form, row_lower=lo, row_upper=up)
+
+    def change_rhs(self, b_ub=None, b_eq=None) -> None:
+        """New right-hand sides of a problem built from linprog's arguments (None: as it was)."""
+        k = self._form.n_ub
+        lo, up = self._form.row_lower.copy(), self._form.row_upper.copy()
+        if b_ub is not None:
+            up[:k] = _changed(up[:k], b_ub, None, "b_ub")
+        if b_eq is not None:
+            lo[k:] = up[k:] = _changed(up[k:], b_eq, None, "b_eq")
+            if not np.all(np.isfinite(up[k:])):
+                raise ValueError("b_eq must contain only finite numbers")
+        self.change_row_bounds(lo, up)
+
+    # ----- solving -----------------------------------------------------------------------
+
+    def solve(self, ranging: bool = False) -> LPResult:
+        """The LP as it stands, from the basis held when there is one; see the module
+        docstring. `ranging` adds the cost and bound ranges, as in `solve_form`."""
+        if self._state is not None:
+            with one_blas_thread():
+                result = self._warm(ranging)
+            if result is not None:
+                return result
+        return self._cold(ranging)
+
+    def _cold(self, ranging: bool) -> LPResult:
+        """A solve from scratch (from the last basis, as `solve_form` takes it); its
+        optimal basis is then factorised and held for the next re-solve."""
+        result = solve_form(self._form, basis=self._basis, tolerances=self._tol, max_iterations=self._max_iterations,
+                            scale=self._scale, ranging=ranging)
+        self._state = None
+        if result.status == "optimal":
+            self._basis = result.basis
+            self._hold(result.basis)
+        return result
+
+    def _hold(self, basis: Basis) -> None:
+        """Build the state of the scaled problem at `basis`, factors and all (None when the
+        basis does not fit it, as when an artificial stayed basic on a redundant row)."""
+        state = SimplexState(scale_form(self._form, self._scaling), self._tol, self._max_iterations)
+        with one_blas_thread():
+            if state.start_from(basis.head, basis.at_upper):
+                self._state = state
+
+    def _warm(self, ranging: bool) -> LPResult | None:
+        """The re-solve from the basis held, or None to solve from scratch."""
+        state, cost = self._state, self._load()
+        if np.any(state.lower > state.upper):
+            return None
+        state.iterations = 0
+        state.max_iterations = self._max_iterations
+        try:
+            status, algorithm = _iterate(state, cost)
+        except SingularBasis:
+            status, algorithm = "numerical_trouble", ""
+        if status != "optimal":
+            return None
+        outcome = _optimal(state, phase_one=0, warm=True, algorithm=algorithm, ranging=ranging)
+        result, trusted = _checked(self._form, self._scaling, outcome, self._tol)
+        if not trusted:
+            return None
+        self._basis = result.basis
+        return result
+
+    def _load(self) -> np.ndarray:
+        """Write the current costs and bounds, scaled, into the state; the cost vector
+        over the structurals and logicals."""
+        state, form, rows, cols = self._state, self._form, self._scaling.rows, self._scaling.cols
+        n = state.n
+        state.c_struct = form.c * cols
+        with np.errstate(invalid="ignore"):
+            state.lower[:n], state.upper[:n] = form.col_lower / cols, form.col_upper / cols
+        state.lower[n:], state.upper[n:] = form.row_lower * rows, form.row_upper * rows
+        return np.concatenate([state.c_struct, np.zeros(state.m)])
+
+
+def _iterate(state: SimplexState, cost: np.ndarray) -> tuple[str, str]:
+    """(status, algorithm) of the iterations from the basis held: none when it is still
+    optimal, the primal simplex when it is primal feasible, else the dual simplex when the
+    boxed nonbasics can be placed so that it is dual feasible ("no_start" when not)."""
+    state.place_nonbasics(state.at_upper)
+    state.basic_values()
+    state.d = state.fresh_duals(cost)
+    if _primal_feasible(state):
+        if _dual_feasible(state):
+            return "optimal", "primal"
+        return run_primal(state, cost), "primal"
+    if not _place_for_dual(state):
+        return "no_start", ""
+    status = run_dual(state, cost, perturb=True)
+    if status == "optimal":
+        state.d = state.fresh_duals(cost)  # the true costs back, if perturbed (see `perturbation`)
+        if not _dual_feasible(state):
+            status = run_primal(state, cost)  # rounding or the perturbation left a reduced cost astray
+    return status, "dual"
+
+
+def _primal_feasible(state: SimplexState) -> bool:
+    """True when every basic value lies within its bounds (primal feasibility tolerance)."""
+    tp = state.tol.primal_feasibility
+    head = state.head
+    xb, lb, ub = state.z[head], state.lower[head], state.upper[head]
+    with np.errstate(invalid="ignore"):
+        return bool(np.all(xb >= lb - tp * (1 + np.abs(lb))) and np.all(xb <= ub + tp * (1 + np.abs(ub))))
+
+
+def _dual_feasible(state: SimplexState) -> bool:
+    """True when no nonbasic variable's reduced cost (`state.d`) asks it to move."""
+    rise, fall = state.mobility()
+    return prices_out(state.d, rise, fall, state.tol.dual_feasibility)
+
+
+def _place_for_dual(state: SimplexState) -> bool:
+    """Put each boxed nonbasic at the bound its reduced cost favours and recompute the basic
+    values; True when the basis is then dual feasible (as in `dual.start_dual`)."""
+    td, d = state.tol.dual_feasibility, state.d
+    wants_upper, wants_lower = d < -td, d > td
+    at_upper = np.where(wants_upper, True, np.where(wants_lower, False, state.at_upper))
+    state.place_nonbasics(at_upper)
+    if not _dual_feasible(state):
+        return False
+    state.basic_values()
+    return True
+
+
+def _changed(values: np.ndarray, new, index, name: str) -> np.ndarray:
+    """A copy of `values` with `new` in every place, or in the places `index`."""
+    out = np.array(values, dtype=float, copy=True)
+    new = np.asarray(new, dtype=float).reshape(-1)
+    if index is None:
+        if new.size != out.size:
+            raise ValueError(f"{name} must have {out.size} entries, got {new.size}")
+        out[:] = new
+        return out
+    index = np.asarray(index, dtype=int).reshape(-1)
+    if new.size not in (1, index.size) or np.any(index < -out.size) or np.any(index >= out.size):
+        raise ValueError(f"{name}: {new.size} values for {index.size} places among {out.size}")
+    out[index] = new
+    return out
+
+
+def _check_bounds(lower: np.ndarray, upper: np.ndarray, what: str) -> None:
+    """Raise ValueError for a NaN bound, a lower bound of +inf or an upper bound of -inf."""
+    if np.any(np.isnan(lower)) or np.any(np.isnan(upper)):
+        raise ValueError(f"{what} bounds must not be NaN")
+    if np.any(lower == np.inf) or np.any(upper == -np.inf):
+        raise ValueError(f"a {what} lower bound of +inf or upper bound of -inf admits no value")
