@@ -5,9 +5,11 @@ formulation (see `make_blend`): inclusions in %, one row fixing the total at 100
 specs as level rows, contents on mixed scales (%, MJ/kg, mg/kg, ppm) with many zeros, and
 specs set around the levels of a known feasible mixture, some of them tight, so that the
 LPs are feasible by construction and many limits bind at the optimum. A price sweep (the
-same LP with prices nudged step by step) is measured twice: every step solved cold, and
+same LP with prices nudged step by step) is measured three ways: every step solved cold,
 every step started from the previous step's basis (a warm start; linprog stays cold, highspy
-re-solves warm from its own previous basis).
+re-solves warm from its own previous basis), and every step re-solved by our `Resolver`
+beside highspy keeping its model (`blendkit.bench.resolves`); a series of changes of limits
+(`bound_sweep`) is re-solved the same way.
 `infeasible_blend` turns a generated blend into a domain-model blend whose specs conflict,
 for the diagnosis family.
 """
@@ -20,6 +22,7 @@ from dataclasses import dataclass, replace
 import numpy as np
 
 from blendkit.bench.options import Options
+from blendkit.bench.resolves import measure_resolves
 from blendkit.bench.timing import measure, measurement_lines
 from blendkit.engine import solve
 from blendkit.model.blend import Blend, Ingredient, Settings, Spec
@@ -292,6 +295,29 @@ def price_sweep(instance: BlendInstance, steps: int, seed: int) -> list[BlendIns
     return out
 
 
+def bound_sweep(instance: BlendInstance, steps: int, seed: int) -> list[BlendInstance]:
+    """The same LP `steps` times with limits changed step by step, as a formulator trying
+    tighter and looser limits does: each step moves a fifth of the inclusion maxima and a
+    fifth of the spec sides, each to between 30 % and 150 % of its distance from the
+    mixture `x0`, so every step stays feasible (x0 meets it) and sides at x0's level stay."""
+    rng = np.random.default_rng([seed, *instance.shape, 104729])  # a stream apart from the others
+    lower = np.array([lo for lo, _ in instance.bounds])
+    upper = np.array([np.inf if hi is None else hi for _, hi in instance.bounds])
+    b_ub, x0 = instance.b_ub.copy(), instance.x0
+    level = instance.A_ub @ x0
+    out = []
+    for step in range(steps):
+        moved = (rng.random(upper.size) < 1 / 5) & np.isfinite(upper) & (upper > lower)
+        upper = np.where(moved, x0 + (upper - x0) * rng.uniform(0.3, 1.5, upper.size), upper)
+        upper = np.maximum(upper, lower)
+        sides = rng.random(b_ub.size) < 1 / 5
+        b_ub = np.where(sides, level + (b_ub - level) * rng.uniform(0.3, 1.5, b_ub.size), b_ub)
+        bounds = [(float(lo), None if np.isinf(hi) else float(hi)) for lo, hi in zip(lower, upper)]
+        out.append(replace(instance, name=f"{instance.name} limit step {step + 1}", bounds=bounds,
+                           b_ub=b_ub.copy()))
+    return out
+
+
 def _ingredients(instance: BlendInstance, names: list[str]) -> tuple[Ingredient, ...]:
     """The generated ingredients as the workbook reader would give them, with their cells."""
     ingredients = []
@@ -348,7 +374,8 @@ def _plan(n_ingredients: int, repeat: int | None, quick: bool) -> tuple[int, int
 
 
 def _size_lines(n_ingredients: int, n_nutrients: int, options: Options) -> Iterator[str]:
-    """The three rows of one size: cold solves, the price sweep cold, then warm-started."""
+    """The rows of one size: cold solves; the price sweep cold, warm-started and re-solved
+    (`blendkit.bench.resolves`); and the series of limit changes re-solved."""
     count, reps = _plan(n_ingredients, options.repeat, options.quick)
     instances = [make_blend(n_ingredients, n_nutrients, options.seed, k) for k in range(count)]
     sweep = price_sweep(instances[0], 3 if options.quick else SWEEP_STEPS, options.seed)
@@ -358,6 +385,11 @@ def _size_lines(n_ingredients: int, n_nutrients: int, options: Options) -> Itera
     yield from measurement_lines([measure(size, instances, reps)], head=False)
     yield from measurement_lines([measure(f"{size} sweep, cold", sweep, reps)], head=False)
     yield from measurement_lines([measure(f"{size} sweep, warm", sweep, reps, warm_from=start)], head=False)
+    yield from measurement_lines([measure_resolves(f"{size} sweep, re-solve", first, sweep, "costs", reps)],
+                                 head=False)
+    limits = bound_sweep(first, 3 if options.quick else SWEEP_STEPS, options.seed)
+    yield from measurement_lines([measure_resolves(f"{size} limits, re-solve", first, limits, "limits", reps)],
+                                 head=False)
 
 
 def section(options: Options) -> Iterator[str]:
@@ -368,4 +400,7 @@ def section(options: Options) -> Iterator[str]:
     for n_ingredients, n_nutrients in options.sizes:
         yield from _size_lines(n_ingredients, n_nutrients, options)
     yield "(sweep: the first LP of the size after each of a series of price changes; cold solves"
-    yield " each from scratch, warm starts each from the previous solve's basis; linprog is cold, highspy warm too)"
+    yield " each from scratch, warm starts each from the previous solve's basis; linprog is cold, highspy warm too;"
+    yield " re-solve: ours through blendkit.engine.resolve.Resolver, highspy keeping its model and factors, both"
+    yield " told only the new costs; limits: a series of changes of inclusion maxima and spec sides, re-solved"
+    yield " the same way, by the dual simplex; linprog cold in both)"

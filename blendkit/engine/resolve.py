@@ -29,7 +29,6 @@ import numpy as np
 
 from blendkit.engine.basis_factor import SingularBasis
 from blendkit.engine.dual import run_dual
-from blendkit.engine.pricing import prices_out
 from blendkit.engine.primal import run_primal
 from blendkit.engine.result import Basis, LPResult
 from blendkit.engine.scaling import Scaling, find_scaling, scale_form
@@ -204,18 +203,23 @@ def _iterate(state: SimplexState, cost: np.ndarray) -> tuple[str, str]:
 
 
 def _primal_feasible(state: SimplexState) -> bool:
-    """True when every basic value lies within its bounds (primal feasibility tolerance)."""
-    tp = state.tol.primal_feasibility
-    head = state.head
+    """True when every basic value lies within its bounds (primal feasibility tolerance, as
+    in `SimplexState.start_from`)."""
+    tp, head = state.tol.primal_feasibility, state.head
     xb, lb, ub = state.z[head], state.lower[head], state.upper[head]
-    with np.errstate(invalid="ignore"):
-        return bool(np.all(xb >= lb - tp * (1 + np.abs(lb))) and np.all(xb <= ub + tp * (1 + np.abs(ub))))
+    return not ((lb - xb > tp * (1 + np.abs(lb))) | (xb - ub > tp * (1 + np.abs(ub)))).any()
 
 
 def _dual_feasible(state: SimplexState) -> bool:
-    """True when no nonbasic variable's reduced cost (`state.d`) asks it to move."""
-    rise, fall = state.mobility()
-    return prices_out(state.d, rise, fall, state.tol.dual_feasibility)
+    """True when no nonbasic variable's reduced cost (`state.d`) asks it to move: one at its
+    lower bound with d < 0, at its upper bound with d > 0, free with d != 0 (beyond the
+    dual feasibility tolerance); basic and fixed variables never ask (`pricing.prices_out`)."""
+    d, td, lower, upper = state.d, state.tol.dual_feasibility, state.lower, state.upper
+    asks = np.where(state.at_upper, d > td, d < -td)
+    free = (lower == -np.inf) & (upper == np.inf)
+    if free.any():
+        asks |= free & (np.abs(d) > td)
+    return not (asks & ~state.basic & (lower != upper)).any()
 
 
 def _place_for_dual(state: SimplexState) -> bool:

@@ -16,34 +16,37 @@ def worst_violation(sf: StandardForm, x: np.ndarray) -> tuple[float, str]:
     """The largest relative violation of any row or column bound by x, and where.
 
     A row's violation is divided by 1 + the largest of |bound| and |a_ij x_j| in that
-    row; a column's by 1 + |bound|. Returns (0.0, "") when x is feasible.
+    row; a column's by 1 + |bound|. Returns (0.0, "") when x is feasible. Those sizes are
+    at least 1, so only the rows and columns that break a bound at all are sized.
     """
     worst, where = 0.0, ""
     activity = sf.A @ x
-    if sp.issparse(sf.A):
-        terms = np.asarray(abs(sf.A.multiply(x[None, :])).max(axis=1).todense()).ravel()
-    else:
-        terms = np.abs(sf.A * x).max(axis=1, initial=0.0)
-    size = 1.0 + np.maximum(
-        terms,
-        np.maximum(np.abs(np.where(np.isfinite(sf.row_lower), sf.row_lower, 0.0)),
-                   np.abs(np.where(np.isfinite(sf.row_upper), sf.row_upper, 0.0))),
-    )
-    row_violation = np.maximum(sf.row_lower - activity, activity - sf.row_upper) / size
-    col_size = 1.0 + np.maximum(
-        np.abs(np.where(np.isfinite(sf.col_lower), sf.col_lower, 0.0)),
-        np.abs(np.where(np.isfinite(sf.col_upper), sf.col_upper, 0.0)),
-    )
-    col_violation = np.maximum(sf.col_lower - x, x - sf.col_upper) / col_size
-    if row_violation.size and row_violation.max() > worst:
-        i = int(np.argmax(row_violation))
-        worst = float(row_violation[i])
-        where = _row_name(sf, i)
-    if col_violation.size and col_violation.max() > worst:
-        j = int(np.argmax(col_violation))
-        worst = float(col_violation[j])
-        where = f"bound of variable {j}"
+    rows = np.flatnonzero(np.maximum(sf.row_lower - activity, activity - sf.row_upper) > 0)
+    cols = np.flatnonzero(np.maximum(sf.col_lower - x, x - sf.col_upper) > 0)
+    if rows.size:
+        A = sf.A[rows]
+        if sp.issparse(A):
+            terms = np.asarray(abs(A.multiply(x[None, :])).max(axis=1).todense()).ravel()
+        else:
+            terms = np.abs(A * x).max(axis=1, initial=0.0)
+        lower, upper, act = sf.row_lower[rows], sf.row_upper[rows], activity[rows]
+        size = 1.0 + np.maximum(terms, np.maximum(_finite_size(lower), _finite_size(upper)))
+        row_violation = np.maximum(lower - act, act - upper) / size
+        k = int(np.argmax(row_violation))
+        worst, where = float(row_violation[k]), _row_name(sf, int(rows[k]))
+    if cols.size:
+        lower, upper, values = sf.col_lower[cols], sf.col_upper[cols], x[cols]
+        col_violation = np.maximum(lower - values, values - upper) / (
+            1.0 + np.maximum(_finite_size(lower), _finite_size(upper)))
+        k = int(np.argmax(col_violation))
+        if col_violation[k] > worst:
+            worst, where = float(col_violation[k]), f"bound of variable {int(cols[k])}"
     return worst, where
+
+
+def _finite_size(bounds: np.ndarray) -> np.ndarray:
+    """|bound|, 0 for an infinite one (it never scales a violation)."""
+    return np.abs(np.where(np.isfinite(bounds), bounds, 0.0))
 
 
 def _row_name(sf: StandardForm, i: int) -> str:
