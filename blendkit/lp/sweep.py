@@ -4,8 +4,10 @@ Exact parametric analysis, never a grid. The optimal cost is piecewise linear in
 (and in a bound); each piece belongs to one optimal basis. Starting at the low end, the
 LP is solved; the basis's own range along the sweep's direction gives where the piece
 ends (for a price: the reduced costs of `blendkit.lp.shared_prices`; for a bound: the
-engine's bound ranging); just past that breakpoint the LP is solved again, warm-started,
-and the next piece begins — until the high end.
+engine's bound ranging); just past that breakpoint the LP is re-solved from the last
+piece's basis and factors (`blendkit.engine.resolve.Resolver`: the primal simplex after a
+price change, the dual simplex after a bound change), and the next piece begins — until
+the high end.
 
 - A price sweep moves the ingredient's price in every product at once (or in one product,
   with `product`); on each piece the formula is fixed, so the ingredient's inclusion
@@ -24,7 +26,8 @@ from dataclasses import dataclass
 
 import numpy as np
 
-from blendkit.engine import LPResult, solve_form
+from blendkit.engine import LPResult
+from blendkit.engine.resolve import Resolver
 from blendkit.lp.build import NUTRIENT, BlendLP, build_lp
 from blendkit.lp.shared_prices import direction_range
 from blendkit.lp.tolerances import SWEEP_NUDGE
@@ -72,14 +75,15 @@ def sweep_price(blend: Blend, ingredient: str, start: float, end: float, product
     j = [item.name for item in blend.ingredients].index(ingredient)
     lp = build_lp(blend)
     direction = _price_direction(lp, j, product)
-    segments, value, basis = [], start, None
+    resolver = Resolver.from_form(lp.form)  # each piece re-solved from the last one's basis and factors
+    segments, value = [], start
     while len(segments) < MOST_SEGMENTS:
-        form = dataclasses.replace(lp.form, c=lp.form.c + (value - blend.ingredients[j].cost) * direction)
-        result = solve_form(form, basis=basis)
+        resolver.change_costs(lp.form.c + (value - blend.ingredients[j].cost) * direction)
+        result = resolver.solve()
         if result.status != "optimal":
             segments.append(Segment(value, end, None, None, status=result.status))
             break
-        _, t_high = direction_range(lp, result, direction, form.c)
+        _, t_high = direction_range(lp, result, direction, resolver.form.c)
         stop = min(end, value + max(t_high, 0.0))
         usage = float(direction @ result.x)
         if stop > value or not segments or stop >= end:
@@ -88,7 +92,7 @@ def sweep_price(blend: Blend, ingredient: str, start: float, end: float, product
                                     inclusion=_inclusion(lp, result, j, product)))
         if stop >= end:
             break
-        value, basis = stop + SWEEP_NUDGE * (1 + abs(stop)), result.basis
+        value = stop + SWEEP_NUDGE * (1 + abs(stop))
     return _sweep("ingredient", ingredient, product, start, end, segments)
 
 
@@ -97,14 +101,18 @@ def sweep_bound(blend: Blend, nutrient: str, side: str, start: float, end: float
     runs from `start` to `end` (the spec must exist with that side)."""
     lp = build_lp(blend)
     i = _spec_row(lp, nutrient, side, product)
-    key = "row_lower" if side == "min" else "row_upper"
     margin = next(s.margin for s in lp.rows[i].sides if s.side == side)
     inward = margin if side == "min" else -margin  # the row holds the target, not the bound
-    segments, value, basis = [], start, None
+    resolver = Resolver.from_form(lp.form)  # each piece re-solved from the last one's basis and factors
+    segments, value = [], start
     while len(segments) < MOST_SEGMENTS:
-        bounds = np.array(getattr(lp.form, key), dtype=float, copy=True)
-        bounds[i] = value + inward
-        result = solve_form(dataclasses.replace(lp.form, **{key: bounds}), basis=basis, ranging=True)
+        lower, upper = resolver.form.row_lower[i], resolver.form.row_upper[i]
+        if side == "min":
+            lower = value + inward
+        else:
+            upper = value + inward
+        resolver.change_row_bounds([lower], [upper], index=[i])
+        result = resolver.solve(ranging=True)
         if result.status != "optimal":
             segments.append(Segment(value, end, None, None, status=result.status))
             break
@@ -115,7 +123,7 @@ def sweep_bound(blend: Blend, nutrient: str, side: str, start: float, end: float
                                 cost_at_end=_cost(lp, result) + price * (stop - value), shadow_price=price))
         if stop >= end:
             break
-        value, basis = stop + SWEEP_NUDGE * (1 + abs(stop)), result.basis
+        value = stop + SWEEP_NUDGE * (1 + abs(stop))
     return _sweep("spec", f"{nutrient} {side}", product, start, end, segments, margin)
 
 
