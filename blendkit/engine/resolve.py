@@ -39,6 +39,26 @@ from blendkit.engine.standard_form import StandardForm, to_standard_form
 from blendkit.engine.tolerances import ITERATION_LIMIT_MIN, ITERATION_LIMIT_PER_LINE, Tolerances
 
 
+class _HeldState(SimplexState):
+    """The state a Resolver holds from one re-solve to the next. Its `refresh` (which the
+    iteration loops call before they stop, when the update file is full, and when the
+    pivots disagree) refactorises only when the file is full or when it is called again
+    with no iteration in between (rounding has built up); otherwise it recomputes the values
+    and duals with the factors at hand, so that a re-solve does not end on a fresh LU that
+    the next change would not need (the residual check still follows every re-solve)."""
+
+    soft_at = -1  # the iteration count at the last refresh
+
+    def refresh(self, cost: np.ndarray) -> np.ndarray:
+        """Values and duals from the factors at hand, refactorising first when needed; d."""
+        if self.factor.due or self.iterations == self.soft_at:
+            self.refactor()
+        else:
+            self.basic_values()
+        self.soft_at = self.iterations
+        return self.fresh_duals(cost)
+
+
 class Resolver:
     """One LP, solved and re-solved after changes of its costs and bounds; see the module
     docstring. The matrix never changes.
@@ -69,8 +89,9 @@ class Resolver:
         self._max_iterations = max_iterations or max(ITERATION_LIMIT_MIN, ITERATION_LIMIT_PER_LINE * (m + n))
         self._scale = scale
         self._scaling = find_scaling(form.A) if scale else Scaling(np.ones(m), np.ones(n))
-        self._state: SimplexState | None = None  # held after an optimal solve, factors and all
+        self._state: _HeldState | None = None  # held after an optimal solve, factors and all
         self._basis: Basis | None = None  # the last optimal basis
+        self._repriced = self._moved = False  # costs, bounds changed since the state last matched them
 
     # ----- the problem and its changes ---------------------------------------------------
 
@@ -90,6 +111,7 @@ class Resolver:
         if not np.all(np.isfinite(c)):
             raise ValueError("costs must be finite numbers")
         self._form = replace(self._form, c=c)
+        self._repriced = True
 
     def change_col_bounds(self, lower, upper, index=None) -> None:
         """New column bounds (-inf / inf for none): for every column, or the columns `index`."""
@@ -97,6 +119,7 @@ class Resolver:
         up = _changed(self._form.col_upper, upper, index, "upper")
         _check_bounds(lo, up, "column")
         self._form = replace(self._form, col_lower=lo, col_upper=up)
+        self._moved = True
 
     def change_row_bounds(self, lower, upper, index=None) -> None:
         """New row bounds (row_lower <= A x <= row_upper; -inf / inf for none): for every
@@ -105,6 +128,7 @@ class Resolver:
         up = _changed(self._form.row_upper, upper, index, "upper")
         _check_bounds(lo, up, "row")
         self._form = replace(self._form, row_lower=lo, row_upper=up)
+        self._moved = True
 
     def change_rhs(self, b_ub=None, b_eq=None) -> None:
         """New right-hand sides of a problem built from linprog's arguments (None: as it was)."""
@@ -123,12 +147,14 @@ class Resolver:
     def solve(self, ranging: bool = False) -> LPResult:
         """The LP as it stands, from the basis held when there is one; see the module
         docstring. `ranging` adds the cost and bound ranges, as in `solve_form`."""
+        result = None
         if self._state is not None:
             with one_blas_thread():
                 result = self._warm(ranging)
-            if result is not None:
-                return result
-        return self._cold(ranging)
+        if result is None:
+            result = self._cold(ranging)
+        self._repriced = self._moved = False
+        return result
 
     def _cold(self, ranging: bool) -> LPResult:
         """A solve from scratch (from the last basis, as `solve_form` takes it); its
@@ -144,20 +170,22 @@ class Resolver:
     def _hold(self, basis: Basis) -> None:
         """Build the state of the scaled problem at `basis`, factors and all (None when the
         basis does not fit it, as when an artificial stayed basic on a redundant row)."""
-        state = SimplexState(scale_form(self._form, self._scaling), self._tol, self._max_iterations)
+        state = _HeldState(scale_form(self._form, self._scaling), self._tol, self._max_iterations)
         with one_blas_thread():
             if state.start_from(basis.head, basis.at_upper):
                 self._state = state
+                self._cost = np.concatenate([state.c_struct, np.zeros(state.m)])
 
     def _warm(self, ranging: bool) -> LPResult | None:
         """The re-solve from the basis held, or None to solve from scratch."""
-        state, cost = self._state, self._load()
-        if np.any(state.lower > state.upper):
+        state, moved = self._state, self._moved
+        self._load()
+        if moved and np.any(state.lower > state.upper):
             return None
-        state.iterations = 0
+        state.iterations, state.soft_at = 0, -1
         state.max_iterations = self._max_iterations
         try:
-            status, algorithm = _iterate(state, cost)
+            status, algorithm = _iterate(state, self._cost, moved, self._repriced or state.d is None)
         except SingularBasis:
             status, algorithm = "numerical_trouble", ""
         if status != "optimal":
@@ -169,26 +197,34 @@ class Resolver:
         self._basis = result.basis
         return result
 
-    def _load(self) -> np.ndarray:
-        """Write the current costs and bounds, scaled, into the state; the cost vector
-        over the structurals and logicals."""
+    def _load(self) -> None:
+        """Write the costs (into `_cost` too, over the structurals and logicals) and bounds
+        changed since the last solve, scaled, into the state."""
         state, form, rows, cols = self._state, self._form, self._scaling.rows, self._scaling.cols
         n = state.n
-        state.c_struct = form.c * cols
-        with np.errstate(invalid="ignore"):
-            state.lower[:n], state.upper[:n] = form.col_lower / cols, form.col_upper / cols
-        state.lower[n:], state.upper[n:] = form.row_lower * rows, form.row_upper * rows
-        return np.concatenate([state.c_struct, np.zeros(state.m)])
+        if self._repriced:
+            state.c_struct = form.c * cols
+            self._cost[:n] = state.c_struct
+        if self._moved:
+            with np.errstate(invalid="ignore"):
+                state.lower[:n], state.upper[:n] = form.col_lower / cols, form.col_upper / cols
+            state.lower[n:], state.upper[n:] = form.row_lower * rows, form.row_upper * rows
 
 
-def _iterate(state: SimplexState, cost: np.ndarray) -> tuple[str, str]:
+def _iterate(state: SimplexState, cost: np.ndarray, moved: bool, repriced: bool) -> tuple[str, str]:
     """(status, algorithm) of the iterations from the basis held: none when it is still
     optimal, the primal simplex when it is primal feasible, else the dual simplex when the
-    boxed nonbasics can be placed so that it is dual feasible ("no_start" when not)."""
-    state.place_nonbasics(state.at_upper)
-    state.basic_values()
-    state.d = state.fresh_duals(cost)
-    if _primal_feasible(state):
+    boxed nonbasics can be placed so that it is dual feasible ("no_start" when not).
+
+    The state ended its last solve optimal, with fresh values and reduced costs: only a
+    move of bounds (`moved`) needs the values again, only new costs (`repriced`) the duals.
+    """
+    if moved:
+        state.place_nonbasics(state.at_upper)
+        state.basic_values()
+    if repriced:
+        state.d = state.fresh_duals(cost)
+    if not moved or _primal_feasible(state):
         if _dual_feasible(state):
             return "optimal", "primal"
         return run_primal(state, cost), "primal"
