@@ -133,14 +133,17 @@ class Resolver:
     def change_rhs(self, b_ub=None, b_eq=None) -> None:
         """New right-hand sides of a problem built from linprog's arguments (None: as it was)."""
         k = self._form.n_ub
-        lo, up = self._form.row_lower.copy(), self._form.row_upper.copy()
+        lo, up = self._form.row_lower, self._form.row_upper.copy()
         if b_ub is not None:
             up[:k] = _changed(up[:k], b_ub, None, "b_ub")
         if b_eq is not None:
+            lo = lo.copy()
             lo[k:] = up[k:] = _changed(up[k:], b_eq, None, "b_eq")
             if not np.all(np.isfinite(up[k:])):
                 raise ValueError("b_eq must contain only finite numbers")
-        self.change_row_bounds(lo, up)
+        _check_bounds(lo, up, "row")
+        self._form = replace(self._form, row_lower=lo, row_upper=up)
+        self._moved = True
 
     # ----- solving -----------------------------------------------------------------------
 
@@ -288,8 +291,10 @@ def _changed(values: np.ndarray, new, index, name: str) -> np.ndarray:
 
 
 def _check_bounds(lower: np.ndarray, upper: np.ndarray, what: str) -> None:
-    """Raise ValueError for a NaN bound, a lower bound of +inf or an upper bound of -inf."""
+    """Raise ValueError for a NaN bound, a lower bound of +inf or an upper bound of -inf
+    (a NaN fails both comparisons of the first test, so it alone passes good bounds)."""
+    if np.all((lower < np.inf) & (upper > -np.inf)):
+        return
     if np.any(np.isnan(lower)) or np.any(np.isnan(upper)):
         raise ValueError(f"{what} bounds must not be NaN")
-    if np.any(lower == np.inf) or np.any(upper == -np.inf):
-        raise ValueError(f"a {what} lower bound of +inf or upper bound of -inf admits no value")
+    raise ValueError(f"a {what} lower bound of +inf or upper bound of -inf admits no value")
