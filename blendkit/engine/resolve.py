@@ -39,26 +39,6 @@ from blendkit.engine.standard_form import StandardForm, to_standard_form
 from blendkit.engine.tolerances import ITERATION_LIMIT_MIN, ITERATION_LIMIT_PER_LINE, Tolerances
 
 
-class _HeldState(SimplexState):
-    """The state a Resolver holds from one re-solve to the next. Its `refresh` (which the
-    iteration loops call before they stop, when the update file is full, and when the
-    pivots disagree) refactorises only when the file is full or when it is called again
-    with no iteration in between (rounding has built up); otherwise it recomputes the values
-    and duals with the factors at hand, so that a re-solve does not end on a fresh LU that
-    the next change would not need (the residual check still follows every re-solve)."""
-
-    soft_at = -1  # the iteration count at the last refresh
-
-    def refresh(self, cost: np.ndarray) -> np.ndarray:
-        """Values and duals from the factors at hand, refactorising first when needed; d."""
-        if self.factor.due or self.iterations == self.soft_at:
-            self.refactor()
-        else:
-            self.basic_values()
-        self.soft_at = self.iterations
-        return self.fresh_duals(cost)
-
-
 class Resolver:
     """One LP, solved and re-solved after changes of its costs and bounds; see the module
     docstring. The matrix never changes.
@@ -89,7 +69,7 @@ class Resolver:
         self._max_iterations = max_iterations or max(ITERATION_LIMIT_MIN, ITERATION_LIMIT_PER_LINE * (m + n))
         self._scale = scale
         self._scaling = find_scaling(form.A) if scale else Scaling(np.ones(m), np.ones(n))
-        self._state: _HeldState | None = None  # held after an optimal solve, factors and all
+        self._state: SimplexState | None = None  # held after an optimal solve, factors and all
         self._basis: Basis | None = None  # the last optimal basis
         self._repriced = self._moved = False  # costs, bounds changed since the state last matched them
 
@@ -173,7 +153,7 @@ class Resolver:
     def _hold(self, basis: Basis) -> None:
         """Build the state of the scaled problem at `basis`, factors and all (None when the
         basis does not fit it, as when an artificial stayed basic on a redundant row)."""
-        state = _HeldState(scale_form(self._form, self._scaling), self._tol, self._max_iterations)
+        state = SimplexState(scale_form(self._form, self._scaling), self._tol, self._max_iterations)
         with one_blas_thread():
             if state.start_from(basis.head, basis.at_upper):
                 self._state = state
@@ -185,7 +165,7 @@ class Resolver:
         self._load()
         if moved and np.any(state.lower > state.upper):
             return None
-        state.iterations, state.soft_at = 0, -1
+        state.iterations = 0
         state.max_iterations = self._max_iterations
         try:
             status, algorithm = _iterate(state, self._cost, moved, self._repriced or state.d is None)
