@@ -110,6 +110,25 @@ def test_timed_solves_agree_with_highs_on_status_and_objective():
     assert bench.measure("20x10 sweep, warm", sweep, repeat=1, warm_from=start).mismatches == 0
 
 
+def test_the_limit_sweep_moves_limits_only_and_keeps_the_mixture_feasible():
+    # Outside reference: scipy's linprog with HiGHS on every step (feasible, as the
+    # mixture x0 meets each), and the re-solve rows agree with it.
+    from blendkit.bench.resolves import measure_resolves
+
+    lp = bench.make_blend(*SMALLEST, SEED)
+    steps = bench.bound_sweep(lp, 3, SEED)
+    before = lp
+    for step in steps:
+        assert step.c is lp.c and step.A_ub is lp.A_ub
+        upper = np.array([np.inf if hi is None else hi for _, hi in step.bounds])
+        assert np.all(lp.x0 <= upper + 1e-12) and np.all(lp.A_ub @ lp.x0 <= step.b_ub + 1e-9)
+        assert step.bounds != before.bounds or not np.array_equal(step.b_ub, before.b_ub)
+        assert linprog(*_args(step), method="highs").status == 0, step.name
+        before = step
+    assert measure_resolves("limits", lp, steps, "limits", repeat=1).mismatches == 0
+    assert measure_resolves("prices", lp, bench.price_sweep(lp, 3, SEED), "costs", repeat=1).mismatches == 0
+
+
 def test_a_wrong_answer_is_counted_as_a_mismatch_and_named(monkeypatch):
     # The mismatch column must catch an engine that goes wrong: make ours 1 % dearer.
     def dearer(*args, **kwargs):
@@ -152,6 +171,10 @@ def test_quick_run_prints_machine_table_and_netlib_line(tmp_path, capsys):
     assert re.search(r"^20x10 .*\d+\.\d\dx", out, re.M)
     assert re.search(r"^20x10 sweep, cold .*\d+\.\d\dx", out, re.M)
     assert re.search(r"^20x10 sweep, warm .*\d+\.\d\dx.*started warm \d+ of 3", out, re.M)
+    assert re.search(r"^20x10 sweep, re-solve .*\d+\.\d\dx\s.*\s0  optimal 3; re-solved from the basis held \d of 3",
+                     out, re.M)
+    assert re.search(r"^20x10 limits, re-solve .*\d+\.\d\dx\s.*\s0  optimal 3; re-solved from the basis held \d of 3",
+                     out, re.M)
     assert "NETLIB skipped" in out
 
 

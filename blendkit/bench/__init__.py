@@ -9,7 +9,10 @@ it the command says so on one line and exits 2. Importing this package does not 
 One module per concern:
 
     blends.py     the blend family: the random blend LP generator (make_blend,
-                  price_sweep, infeasible_blend) and its table (cold solves, price sweeps)
+                  price_sweep, bound_sweep, infeasible_blend) and its table (cold solves,
+                  price sweeps cold, warm-started and re-solved, limit changes re-solved)
+    resolves.py   re-solves of one LP after each change of a series: our Resolver beside
+                  highspy keeping its model, both told only what changed
     plant.py      the plant family: one joint LP of several products sharing ingredient
                   stocks (make_plant), 5 to 60 products, beside linprog and highspy
     diagnosis.py  the diagnosis family: conflict diagnosis of infeasible blends
@@ -31,7 +34,7 @@ A new benchmark family is one more module with ``section(options)`` yielding its
 listed in `blendkit.bench.report.FAMILIES`.
 """
 
-from blendkit.bench.blends import BlendInstance, infeasible_blend, make_blend, price_sweep
+from blendkit.bench.blends import BlendInstance, bound_sweep, infeasible_blend, make_blend, price_sweep
 from blendkit.bench.diagnosis import diagnosis_lines
 from blendkit.bench.highs import MissingTestExtra
 from blendkit.bench.machine import machine_lines
@@ -51,6 +54,7 @@ __all__ = [
     "NetlibRow",
     "Options",
     "agreement",
+    "bound_sweep",
     "diagnosis_lines",
     "infeasible_blend",
     "machine_lines",
