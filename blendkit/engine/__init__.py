@@ -2,9 +2,10 @@
 
 Stages, one module each: `standard_form` (check and convert the arguments), `scaling`,
 `simplex` (the algorithm: phases, and the dual simplex first when it can), `verify`
-(residuals in the original problem), `solve` (the public entry point). The simplex's
-parts: `simplex_state` (matrix, values, basis; a dense or a sparse matrix by size and
-fill), `primal` and `dual` (the iterations), `perturbation` (the dual simplex's cost
+(residuals in the original problem), `solve` (the public entry point), and `resolve`
+(`Resolver`: one LP re-solved after changes of costs or bounds, from the basis and
+factors it holds). The simplex's parts: `simplex_state` (matrix, values, basis; a dense
+or a sparse matrix by size and fill), `primal` and `dual` (the iterations), `perturbation` (the dual simplex's cost
 perturbation), `pricing`, `ratio_test`, `basis_factor` (LU factors of the basis, dense
 or sparse, with product-form updates applied at once), `ranging`, and
 `certificate` (why a problem is infeasible). `tolerances` names every tolerance and
@@ -22,13 +23,15 @@ weighing rules never needs the branch and bound, and a plain solve starts faster
 
 from importlib import import_module
 
+from blendkit.engine.resolve import Resolver
 from blendkit.engine.result import MIP_STATUSES, STATUSES, LPResult, MIPResult
 from blendkit.engine.solve import solve, solve_form
 from blendkit.engine.standard_form import StandardForm
 from blendkit.engine.tolerances import Tolerances
 
 __all__ = [
-    "MIP_STATUSES", "STATUSES", "LPResult", "MIPResult", "StandardForm", "Tolerances", "solve", "solve_form",
+    "MIP_STATUSES", "STATUSES", "LPResult", "MIPResult", "Resolver", "StandardForm", "Tolerances", "solve",
+    "solve_form",
     "solve_mip", "solve_mip_form",
 ]
 
