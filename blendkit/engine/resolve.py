@@ -243,10 +243,12 @@ def _dual_feasible(state: SimplexState) -> bool:
 
 def _place_for_dual(state: SimplexState) -> bool:
     """Put each boxed nonbasic at the bound its reduced cost favours and recompute the basic
-    values; True when the basis is then dual feasible (as in `dual.start_dual`)."""
+    values; True when the basis is then dual feasible (as in `dual.start_dual`). The
+    nonbasics were just placed by `at_upper`: when no bound changes, nothing is redone."""
     td, d = state.tol.dual_feasibility, state.d
-    wants_upper, wants_lower = d < -td, d > td
-    at_upper = np.where(wants_upper, True, np.where(wants_lower, False, state.at_upper))
+    at_upper = np.where(d < -td, True, np.where(d > td, False, state.at_upper))
+    if np.array_equal(at_upper, state.at_upper):
+        return _dual_feasible(state)
     state.place_nonbasics(at_upper)
     if not _dual_feasible(state):
         return False
