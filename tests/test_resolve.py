@@ -22,6 +22,7 @@ from hypothesis import strategies as st
 from scipy.optimize import linprog
 
 from blendkit.bench.blends import bound_sweep, make_blend, price_sweep
+from blendkit.bench.highs import highs_lp
 from blendkit.engine.resolve import Resolver
 from tests.lp_checks import assert_rows_hold, assert_within_bounds, from_form
 from tests.reference import highs_form
@@ -145,7 +146,7 @@ def test_sweeps_resolved_from_the_basis_held_reach_highspys_optima(size):
     h.setOptionValue("output_flag", False)
     lower = np.array([lo for lo, _ in first.bounds])
     upper = np.array([np.inf if hi is None else hi for _, hi in first.bounds])
-    h.passModel(_highs_model(highspy, first, lower, upper))
+    h.passModel(highs_lp(first.c, first.A_ub, first.b_ub, first.A_eq, first.b_eq, first.bounds))
     h.run()
     n, k = first.c.size, first.b_ub.size
     cols, rows = np.arange(n, dtype=np.int32), np.arange(k, dtype=np.int32)
@@ -166,14 +167,6 @@ def test_sweeps_resolved_from_the_basis_held_reach_highspys_optima(size):
             assert result.status == "optimal" and result.warm_start
             assert result.algorithm == ("primal" if kind == "costs" else "dual") or result.iterations == 0
             assert abs(result.objective - reference) <= OBJECTIVE_RTOL * max(1.0, abs(reference))
-
-
-def _highs_model(highspy, lp, lower, upper):
-    """The blend LP as a HighsLp, rows of A_ub then the total."""
-    from blendkit.bench.highs import highs_lp
-
-    del highspy, lower, upper  # highs_lp builds the bounds from the instance itself
-    return highs_lp(lp.c, lp.A_ub, lp.b_ub, lp.A_eq, lp.b_eq, lp.bounds)
 
 
 def test_a_cost_change_keeps_the_basis_and_refactorises_nothing():
