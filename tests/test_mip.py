@@ -65,6 +65,11 @@ def highs_milp(case: Case) -> tuple[str, float | None]:
     constraints = [LinearConstraint(case.A_ub, -np.inf, case.b_ub), LinearConstraint(case.A_eq, case.b_eq, case.b_eq)]
     res = milp(case.c, constraints=constraints, bounds=Bounds(lower, case.upper), integrality=integrality,
                options={"mip_rel_gap": 0.0})
+    if res.status == 4:
+        # HiGHS's own "solve error" (seen on a pack-size blend where its presolve found a
+        # point the original rejects) is no answer: ask HiGHS again without its presolve.
+        res = milp(case.c, constraints=constraints, bounds=Bounds(lower, case.upper), integrality=integrality,
+                   options={"mip_rel_gap": 0.0, "presolve": False})
     status = {0: "optimal", 2: "infeasible", 3: "unbounded"}.get(res.status, f"milp status {res.status}")
     return status, (float(res.fun) if res.status == 0 else None)
 
@@ -553,3 +558,16 @@ def test_an_unknown_marker_is_an_error_naming_the_line(tmp_path):
     path.write_text(MARKERS.replace("'INTEND'", "'SOSEND'"))
     with pytest.raises(MPSError, match="line 11: a MARKER line must say 'INTORG' or 'INTEND'"):
         read(path, format="fixed")
+
+
+def test_packs_no_batch_can_meet_are_infeasible_where_highs_presolve_errs():
+    # A pack-size blend drawn by the family above: x0 = 4 n0, x1 = 4 n1, x2 = 5 n2 whole
+    # packs, x0 <= 60, so x1 + x2 >= 40 with x1 <= 12; the only mix of whole packs, x2 = 40,
+    # breaks 0.001 x1 + 0.002 x2 <= 0.06565. HiGHS's milp with presolve ends in "solve
+    # error" (status 4) here; without presolve it says infeasible, as we do.
+    case = Case(c=np.array([0.5, 0.5, 0.5, 0.0, 0.0, 0.0]),
+                A_ub=np.array([[0.0, 0.001, 0.002, 0.0, 0.0, 0.0], [0.0] * 6]), b_ub=np.array([0.06565, 0.0]),
+                A_eq=np.array([[1.0, 1, 1, 0, 0, 0], [1, 0, 0, -4, 0, 0], [0, 1, 0, 0, -4, 0], [0, 0, 1, 0, 0, -5]]),
+                b_eq=np.array([100.0, 0.0, 0.0, 0.0]), upper=np.array([60.0, 15.0, 100.0, 15.0, 3.0, 20.0]),
+                integrality=np.array([0.0, 0, 0, 1, 1, 1]), semicontinuous=np.zeros(6))
+    assert check_against_highs(case).status == "infeasible"
