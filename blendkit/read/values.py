@@ -6,6 +6,7 @@ sheet and a mistake in one is worded the same way everywhere.
 
 from __future__ import annotations
 
+import functools
 import math
 import re
 from datetime import date, datetime, time, timedelta
@@ -61,6 +62,7 @@ def format_number(number: float) -> str:
     return f"{number:g}"
 
 
+@functools.lru_cache(maxsize=256)  # a sheet has a few formats, and 400,000 cells ask
 def is_percent_format(number_format: str) -> bool:
     """True when the format shows numbers as percentages (an unquoted, unescaped %)."""
     return "%" in _LITERAL_FORMAT_PARTS.sub("", number_format)
