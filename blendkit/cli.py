@@ -138,9 +138,6 @@ def solve(
 ) -> None:
     """Find the least-cost formulas of one or more workbooks and write an output beside each."""
     from blendkit.run import solve_run
-    from blendkit.write.books import books_to_dict, books_to_text
-    from blendkit.write.console import render_summary
-    from blendkit.write.json import formula_to_dict
     from blendkit.write.progress import progress_bar
 
     with _reporting(as_json):
@@ -151,15 +148,33 @@ def solve(
     if len(results) == 1 and results[0].error is not None:
         with _reporting(as_json):
             raise results[0].error
-    if as_json:
-        document = books_to_dict(results) if len(results) > 1 else formula_to_dict(results[0].outcome.formula)
-        typer.echo(json.dumps(document, indent=2))
-    elif len(results) > 1:
-        typer.echo(books_to_text(results))
-    else:
-        typer.echo(render_summary(results[0].outcome.formula))
+    _render(results, as_json)
+    if not as_json and len(results) == 1:
         typer.echo(f"\nOutput workbook: {results[0].outcome.output}")
     raise typer.Exit(max(_exit_code(result) for result in results))
+
+
+def _render(results, as_json: bool) -> None:
+    """Print the run: one JSON document, or the summary of one book, or a line per book
+    (each renderer imported only when it is the one used)."""
+    if as_json:
+        if len(results) > 1:
+            from blendkit.write.books import books_to_dict
+
+            document = books_to_dict(results)
+        else:
+            from blendkit.write.json import formula_to_dict
+
+            document = formula_to_dict(results[0].outcome.formula)
+        typer.echo(json.dumps(document, indent=2))
+    elif len(results) > 1:
+        from blendkit.write.books import books_to_text
+
+        typer.echo(books_to_text(results))
+    else:
+        from blendkit.write.console import render_summary
+
+        typer.echo(render_summary(results[0].outcome.formula))
 
 
 def _exit_code(result) -> int:

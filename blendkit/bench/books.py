@@ -16,7 +16,10 @@ as JSON; the parent reads the child's peak resident memory from the operating sy
 
 For each sample workbook, ``blendkit solve`` as a user runs it (a new process: start,
 imports, read, solve, write) beside a child process that imports openpyxl, loads and saves
-the same file. Run alone with ``python -m blendkit.bench.books`` (``--sizes 500x60``).
+the same file, with blendkit's bytecode written first as installing it does
+(`blendkit.bench.start_up.compile_blendkit`); then where the start-up goes, import by
+import (`blendkit.bench.start_up`). Run alone with ``python -m blendkit.bench.books``
+(``--sizes 500x60``).
 """
 
 from __future__ import annotations
@@ -35,6 +38,7 @@ from pathlib import Path
 
 from blendkit.bench.machine import load_average, machine_lines
 from blendkit.bench.options import Options
+from blendkit.bench.start_up import compile_blendkit, start_up_lines
 
 # The sizes measured by default, and in a quick run.
 BOOK_SIZES = ((500, 60), (2000, 200))
@@ -237,7 +241,11 @@ def section(options: Options, sizes: Sequence[tuple[int, int]] | None = None) ->
             yield from _book_lines(folder, ingredients, nutrients, repeat)
         yield ""
         yield "Samples: `blendkit solve` end to end beside a process that imports openpyxl, loads and saves"
+        compile_blendkit()  # as installed: see compile_blendkit
         yield from _sample_lines(folder)
+    yield ""
+    yield "Start-up: the imports of a plain `blendkit solve`, each in CPU seconds (blendkit.bench.start_up)"
+    yield from start_up_lines()
 
 
 def main(argv: list[str] | None = None) -> None:
