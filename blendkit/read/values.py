@@ -75,10 +75,13 @@ def read_number(cell: Cell | None, what: str, problems: list[Problem]) -> float 
     """
     if cell is None or cell.kind in ("blank", "unsaved"):
         return None
+    value = cell.value
+    if (type(value) is float and -LARGEST_NUMBER <= value <= LARGEST_NUMBER
+            and not is_percent_format(cell.number_format)):
+        return value  # most cells: a plain number in range, as the general path below reads it
     if cell.kind == "error":
         problems.append(Problem(cell.ref, f'{what} "{cell.value}" is not a number'))
         return None
-    value = cell.value
     number = _as_number(value)
     if number is None or not math.isfinite(number):
         problems.append(Problem(cell.ref, f'{what} "{as_text(value)}" is not a number{_number_hint(value)}'))
@@ -128,6 +131,9 @@ def read_name(cell: Cell | None, what: str, problems: list[Problem]) -> str | No
     """The text of a name cell; None when blank, missing or an error value (reported)."""
     if cell is None or cell.kind in ("blank", "unsaved"):
         return None
+    value = cell.value
+    if type(value) is float and -LARGEST_NUMBER <= value <= LARGEST_NUMBER and not is_percent_format(cell.number_format):
+        return value  # most cells: a plain number in range, as the general path below reads it
     if cell.kind == "error":
         problems.append(Problem(cell.ref, (
             f'{what} "{cell.value}" is an error value from a formula; fix the formula or type the {what}'
