@@ -109,7 +109,7 @@ def _plain_cells(sheet) -> bool:
     return not any(cell.comment is not None or cell.hyperlink is not None for cell in sheet._cells.values())
 
 
-def _cell_table(xml: bytes) -> tuple[bytes, bytes, bytes | None] | None:
+def _cell_table(xml: bytes) -> tuple[memoryview, bytes, bytes | None] | None:
     """An input worksheet part's cell table (its whole sheetData element), the namespace
     declarations of its worksheet element and its mc:Ignorable value; None when the part
     is not as expected (no worksheet element, a default namespace of another kind, or not
@@ -127,13 +127,13 @@ def _cell_table(xml: bytes) -> tuple[bytes, bytes, bytes | None] | None:
     if prefix is not None and prefix not in declarations:
         return None
     if start.group(2):  # <sheetData/>
-        table = start.group(0)
+        table = memoryview(start.group(0))
     else:
         closing = b"</" + (prefix + b":" if prefix else b"") + b"sheetData>"
         end = xml.find(closing, start.end())
         if end < 0:
             return None
-        table = xml[start.start(): end + len(closing)]
+        table = memoryview(xml)[start.start(): end + len(closing)]  # a view: the part may be 20 MB
     names = b"".join(b" xmlns:" + name + b"=" + uri for name, uri in declarations.items() if name)
     ignorable = _IGNORABLE.search(root.group(2))
     return table, names, ignorable.group(1) if ignorable else None
@@ -142,41 +142,53 @@ def _cell_table(xml: bytes) -> tuple[bytes, bytes, bytes | None] | None:
 def put_back(content: bytes, held: Held) -> bytes | None:
     """The saved workbook `content` with each held sheet's cell table copied from the
     input (and the input's shared strings added); None when the package is not as this
-    module expects (then the caller saves again with every cell)."""
+    module expects (then the caller saves again with every cell). Written part by part,
+    so that no more than one part is in memory twice."""
     if not held.parts:
         return content
-    with zipfile.ZipFile(io.BytesIO(content)) as archive:
-        members = [(info, archive.read(info)) for info in archive.infolist()]
-    names = {info.filename for info, _ in members}
-    if _STRINGS_PART in names or "xl/_rels/workbook.xml.rels" not in names:
-        return None
     copied = {sheet.path.lstrip("/"): sheet for sheet in held.parts}
     out = io.BytesIO()
-    with zipfile.ZipFile(out, "w", zipfile.ZIP_DEFLATED) as archive:
-        for info, data in members:
+    with zipfile.ZipFile(io.BytesIO(content)) as source, zipfile.ZipFile(out, "w", zipfile.ZIP_DEFLATED) as target:
+        names = set(source.NameToInfo)
+        if _STRINGS_PART in names or "xl/_rels/workbook.xml.rels" not in names:
+            return None
+        for info in source.infolist():
+            data = source.read(info)
             if info.filename in copied:
                 sheet = copied[info.filename]
-                data = _spliced(data, *held.parts[sheet], held.dimensions[sheet])
-                if data is None:
+                pieces = _spliced(data, *held.parts.pop(sheet), held.dimensions[sheet])
+                if pieces is None:
                     return None
-            elif info.filename == "xl/_rels/workbook.xml.rels" and held.strings is not None:
-                data = data.replace(b"</Relationships>", (
-                    f'<Relationship Id="blendkitSharedStrings" Type="{_STRINGS_REL}" '
-                    f'Target="sharedStrings.xml"/></Relationships>').encode())
-            elif info.filename == "[Content_Types].xml" and held.strings is not None:
-                data = data.replace(b"</Types>", (
-                    f'<Override PartName="/{_STRINGS_PART}" ContentType="{_STRINGS_TYPE}"/></Types>').encode())
-            archive.writestr(info, data)
+                with target.open(info, "w") as stream:
+                    for piece in pieces:
+                        stream.write(piece)
+                continue
+            if held.strings is not None:
+                data = _with_shared_strings(info.filename, data)
+            target.writestr(info, data)
         if held.strings is not None:
-            archive.writestr(zipfile.ZipInfo(_STRINGS_PART, date_time=members[0][0].date_time), held.strings,
-                             compress_type=zipfile.ZIP_DEFLATED)
+            target.writestr(zipfile.ZipInfo(_STRINGS_PART, date_time=source.infolist()[0].date_time), held.strings,
+                            compress_type=zipfile.ZIP_DEFLATED)
     return out.getvalue()
 
 
-def _spliced(xml: bytes, table: bytes, names: bytes, ignorable: bytes | None, dimension: str) -> bytes | None:
-    """openpyxl's part for a held sheet with the input's cell table, the dimension openpyxl
-    would have written and the input's namespace declarations; None when openpyxl's part
-    has not one cell table."""
+def _with_shared_strings(name: str, data: bytes) -> bytes:
+    """The workbook's relationships and the content types, naming the shared strings part."""
+    if name == "xl/_rels/workbook.xml.rels":
+        return data.replace(b"</Relationships>", (
+            f'<Relationship Id="blendkitSharedStrings" Type="{_STRINGS_REL}" '
+            f'Target="sharedStrings.xml"/></Relationships>').encode())
+    if name == "[Content_Types].xml":
+        return data.replace(b"</Types>", (
+            f'<Override PartName="/{_STRINGS_PART}" ContentType="{_STRINGS_TYPE}"/></Types>').encode())
+    return data
+
+
+def _spliced(xml: bytes, table: memoryview, names: bytes, ignorable: bytes | None,
+             dimension: str) -> tuple[bytes, memoryview, bytes] | None:
+    """openpyxl's part for a held sheet, in three pieces around the input's cell table:
+    with the dimension openpyxl would have written and the input's namespace
+    declarations; None when openpyxl's part has not one cell table."""
     starts = list(_SHEET_DATA.finditer(xml))
     if len(starts) != 1 or starts[0].group(1) is not None:
         return None
@@ -184,9 +196,8 @@ def _spliced(xml: bytes, table: bytes, names: bytes, ignorable: bytes | None, di
     end = start.end() if start.group(2) else xml.find(b"</sheetData>", start.end()) + len(b"</sheetData>")
     if end < start.end():
         return None
-    xml = xml[:start.start()] + table + xml[end:]
-    xml = _DIMENSION.sub(f'<dimension ref="{dimension}"/>'.encode(), xml, count=1)
-    root = _WORKSHEET.search(xml)
+    head = _DIMENSION.sub(f'<dimension ref="{dimension}"/>'.encode(), xml[:start.start()], count=1)
+    root = _WORKSHEET.search(head)
     present = {prefix for prefix, _ in _DECLARATION.findall(root.group(2))}
     extra = b"".join(declaration for declaration in re.findall(rb" xmlns:[^=]+=(?:\"[^\"]*\"|'[^']*')", names)
                      if declaration[7:declaration.index(b"=")] not in present)
@@ -194,4 +205,4 @@ def _spliced(xml: bytes, table: bytes, names: bytes, ignorable: bytes | None, di
         if b"mc" not in present and b" xmlns:mc=" not in extra:
             extra += b' xmlns:mc="' + _MC_NS + b'"'
         extra += b" mc:Ignorable=" + ignorable
-    return xml[:root.end() - 1] + extra + xml[root.end() - 1:]
+    return head[:root.end() - 1] + extra + head[root.end() - 1:], table, xml[end:]
