@@ -109,6 +109,8 @@ def assert_same_cells(copied: Path, written: Path) -> None:
                     assert repr(getattr(cell, style)) == repr(getattr(twin, style)), (title, place, style)
             assert a.print_title_rows == b.print_title_rows and a.freeze_panes == b.freeze_panes
             assert a.page_setup.orientation == b.page_setup.orientation
+            assert (a.oddFooter.left.text, a.oddFooter.right.text, a.oddHeader.center.text) == (
+                b.oddFooter.left.text, b.oddFooter.right.text, b.oddHeader.center.text)
             assert a.dimensions == b.dimensions, title
 
 
