@@ -14,6 +14,7 @@ from pathlib import Path
 import typer
 
 from blendkit import __version__
+from blendkit.start import imported
 from blendkit.authoring import EXAMPLE_NAMES
 from blendkit.errors import OutputError, UsageError, WorkbookError
 from blendkit.read.package import DEFAULT_MAX_CELLS, DEFAULT_MAX_UNPACKED_MB, ReadLimits
@@ -140,6 +141,8 @@ def solve(
     from blendkit.run import solve_run
     from blendkit.write.progress import progress_bar
 
+    imported()
+
     with _reporting(as_json):
         results = solve_run(books, output=output, mps_file=export_mps, in_place=in_place, compare=compare,
                             prices=prices, overview=overview, jobs=jobs, progress=progress_bar(as_json),
@@ -193,6 +196,8 @@ def check(
     """Validate a workbook without solving it."""
     from blendkit.pipeline import check_workbook
 
+    imported()
+
     with _reporting(False):
         blend = check_workbook(book, limits=ReadLimits(max_cells=max_cells, max_unpacked_mb=max_unpacked_mb))
     typer.echo(
@@ -222,6 +227,8 @@ def sweep(
     from blendkit.run import sweep_run
     from blendkit.write.sweep_book import sweep_text, sweep_to_dict
 
+    imported()
+
     with _reporting(as_json):
         found, written = sweep_run(book, ingredient=ingredient, spec=spec, start=start, end=end,
                                    product=product, output=output)
@@ -244,6 +251,8 @@ def new(
 ) -> None:
     """Write a blank workbook template, or a worked example, to start from."""
     from blendkit.authoring.template import write_new
+
+    imported()
 
     if path.suffix.lower() != ".xlsx":
         typer.echo(f"{path}: the new workbook must be an .xlsx file", err=True)
