@@ -31,7 +31,9 @@ input sheet's cells are never changed, only its print settings.
 
 The save is atomic (`save`): a temporary file in the output's folder is moved into place,
 so a failed run leaves no half-written output. The source file is only ever read; the
-results saved with its formula cells are put back into the output (`saved_results`).
+results saved with its formula cells are put back into the output (`saved_results`). A big
+input sheet's cells are not written again: its cell table is copied from the input byte
+for byte (`copied_sheets`).
 """
 
 from __future__ import annotations

@@ -59,7 +59,7 @@ class Held:
 
     cells: dict = field(default_factory=dict)  # sheet -> its `_cells`
     dimensions: dict = field(default_factory=dict)  # sheet -> "A1:GT2001"
-    parts: dict = field(default_factory=dict)  # sheet -> (input part, its sheetData and namespaces)
+    parts: dict = field(default_factory=dict)  # sheet -> (its input cell table, namespaces, mc:Ignorable)
     strings: bytes | None = None  # the input's shared strings part
 
     def restore(self) -> None:
