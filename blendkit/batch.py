@@ -13,7 +13,6 @@ from __future__ import annotations
 import dataclasses
 import os
 from collections.abc import Callable
-from concurrent.futures import ProcessPoolExecutor, as_completed
 from dataclasses import dataclass
 from pathlib import Path
 
@@ -123,6 +122,8 @@ def solve_lps(blends: list[Blend], jobs: int | None = None, progress: Progress |
         return results
     # Each worker gets the blends once; tasks are runs of indices, and a formula comes
     # back without its blend (this process has it), to keep what crosses processes small.
+    from concurrent.futures import ProcessPoolExecutor, as_completed  # only with workers: it costs a start-up
+
     size = max(1, min(_MOST_PER_TASK, len(blends) // (jobs * 4)))
     chunks = [range(start, min(start + size, len(blends))) for start in range(0, len(blends), size)]
     with ProcessPoolExecutor(max_workers=jobs, initializer=_receive, initargs=(blends, check)) as pool:

@@ -14,6 +14,7 @@ from pathlib import Path
 import typer
 
 from blendkit import __version__
+from blendkit.start import imported
 from blendkit.authoring import EXAMPLE_NAMES
 from blendkit.errors import OutputError, UsageError, WorkbookError
 from blendkit.read.package import DEFAULT_MAX_CELLS, DEFAULT_MAX_UNPACKED_MB, ReadLimits
@@ -138,10 +139,9 @@ def solve(
 ) -> None:
     """Find the least-cost formulas of one or more workbooks and write an output beside each."""
     from blendkit.run import solve_run
-    from blendkit.write.books import books_to_dict, books_to_text
-    from blendkit.write.console import render_summary
-    from blendkit.write.json import formula_to_dict
     from blendkit.write.progress import progress_bar
+
+    imported()
 
     with _reporting(as_json):
         results = solve_run(books, output=output, mps_file=export_mps, in_place=in_place, compare=compare,
@@ -151,15 +151,33 @@ def solve(
     if len(results) == 1 and results[0].error is not None:
         with _reporting(as_json):
             raise results[0].error
-    if as_json:
-        document = books_to_dict(results) if len(results) > 1 else formula_to_dict(results[0].outcome.formula)
-        typer.echo(json.dumps(document, indent=2))
-    elif len(results) > 1:
-        typer.echo(books_to_text(results))
-    else:
-        typer.echo(render_summary(results[0].outcome.formula))
+    _render(results, as_json)
+    if not as_json and len(results) == 1:
         typer.echo(f"\nOutput workbook: {results[0].outcome.output}")
     raise typer.Exit(max(_exit_code(result) for result in results))
+
+
+def _render(results, as_json: bool) -> None:
+    """Print the run: one JSON document, or the summary of one book, or a line per book
+    (each renderer imported only when it is the one used)."""
+    if as_json:
+        if len(results) > 1:
+            from blendkit.write.books import books_to_dict
+
+            document = books_to_dict(results)
+        else:
+            from blendkit.write.json import formula_to_dict
+
+            document = formula_to_dict(results[0].outcome.formula)
+        typer.echo(json.dumps(document, indent=2))
+    elif len(results) > 1:
+        from blendkit.write.books import books_to_text
+
+        typer.echo(books_to_text(results))
+    else:
+        from blendkit.write.console import render_summary
+
+        typer.echo(render_summary(results[0].outcome.formula))
 
 
 def _exit_code(result) -> int:
@@ -177,6 +195,8 @@ def check(
 ) -> None:
     """Validate a workbook without solving it."""
     from blendkit.pipeline import check_workbook
+
+    imported()
 
     with _reporting(False):
         blend = check_workbook(book, limits=ReadLimits(max_cells=max_cells, max_unpacked_mb=max_unpacked_mb))
@@ -207,6 +227,8 @@ def sweep(
     from blendkit.run import sweep_run
     from blendkit.write.sweep_book import sweep_text, sweep_to_dict
 
+    imported()
+
     with _reporting(as_json):
         found, written = sweep_run(book, ingredient=ingredient, spec=spec, start=start, end=end,
                                    product=product, output=output)
@@ -229,6 +251,8 @@ def new(
 ) -> None:
     """Write a blank workbook template, or a worked example, to start from."""
     from blendkit.authoring.template import write_new
+
+    imported()
 
     if path.suffix.lower() != ".xlsx":
         typer.echo(f"{path}: the new workbook must be an .xlsx file", err=True)

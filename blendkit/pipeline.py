@@ -10,7 +10,6 @@ import dataclasses
 import hashlib
 import os
 from collections.abc import Iterable
-from concurrent.futures import ProcessPoolExecutor
 from dataclasses import dataclass, field
 from datetime import UTC, datetime
 from pathlib import Path
@@ -19,10 +18,8 @@ from blendkit import __version__
 from blendkit.compare import compare_with_earlier
 from blendkit.lp.analyse import analyse
 from blendkit.lp.build import build_lp
-from blendkit.lp.combine import combine
 from blendkit.lp.cross_check import cross_check, cross_check_mip
 from blendkit.lp.cross_check import warning as cross_check_warning
-from blendkit.lp.split import part_blend, parts, unapplied_stocks
 from blendkit.engine import solve_form
 from blendkit.errors import OutputError
 from blendkit.model.formula import Formula, Relaxation, RunInfo
@@ -66,19 +63,30 @@ def lp_blends(blend: Blend) -> list[Blend]:
     """The blends of the LPs that formulate `blend`: itself, or one per part of its
     products (`blendkit.lp.split`); `assemble` puts their formulas together."""
     groups = _split(blend)
-    return [blend] if groups is None else [part_blend(blend, group) for group in groups]
+    if groups is None:
+        return [blend]
+    from blendkit.lp.split import part_blend  # only with products: a plain blend is one LP
+
+    return [part_blend(blend, group) for group in groups]
 
 
 def assemble(blend: Blend, formulas: list[Formula]) -> Formula:
     """The run's formula from the formulas of `lp_blends(blend)`, in the same order."""
     if _split(blend) is None:
         return formulas[0]
+    from blendkit.lp.combine import combine  # only with products, as in `lp_blends`
+    from blendkit.lp.split import unapplied_stocks
+
     return combine(blend, formulas, unapplied_stocks(blend))
 
 
 def _split(blend: Blend):
     """The parts to solve separately, or None when the blend is one LP as it stands."""
-    groups = parts(blend) if blend.products else []
+    if not blend.products:
+        return None
+    from blendkit.lp.split import parts  # only with products, as in `lp_blends`
+
+    groups = parts(blend)
     if len(groups) <= 1 and all(product.amount is not None for product in blend.products):
         return None
     return groups
@@ -149,6 +157,8 @@ def formulate_many(blends: Iterable[Blend], jobs: int | None = None) -> list[For
     jobs = min(jobs, len(blends))
     if jobs <= 1:
         return [formulate(blend) for blend in blends]
+    from concurrent.futures import ProcessPoolExecutor  # only with workers: it costs a start-up
+
     with ProcessPoolExecutor(max_workers=jobs) as pool:
         return list(pool.map(formulate, blends))
 

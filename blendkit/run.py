@@ -9,8 +9,6 @@ from blendkit.batch import BookResult, Progress, solve_books
 from blendkit.errors import OutputError, UsageError
 from blendkit.pipeline import same_file
 from blendkit.read.package import ReadLimits
-from blendkit.read.prices import read_price_list
-from blendkit.write.overview_book import write_overview
 
 
 def solve_run(
@@ -34,10 +32,16 @@ def solve_run(
     books = [Path(book) for book in books]
     if overview is not None:
         _check_overview(Path(overview), books, prices)
-    price_list = read_price_list(prices, limits=limits) if prices is not None else None
+    price_list = None
+    if prices is not None:
+        from blendkit.read.prices import read_price_list  # only when asked: each module costs a start-up
+
+        price_list = read_price_list(prices, limits=limits)
     results = solve_books(books, output=output, mps_file=mps_file, in_place=in_place, compare=compare,
                           price_list=price_list, jobs=jobs, progress=progress, check=check, limits=limits)
     if overview is not None:
+        from blendkit.write.overview_book import write_overview  # only when asked
+
         try:
             write_overview(results, Path(overview))
         except OSError as error:

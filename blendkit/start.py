@@ -6,6 +6,7 @@ SIGTERM prints "terminated" and exits 143, and on either, a half-written output 
 removed (the writers clean up on any exception).
 """
 
+import gc
 import signal
 import sys
 
@@ -37,6 +38,10 @@ def main() -> None:
     """Entry point of the `blendkit` console script and of `python -m blendkit`."""
     signal.signal(signal.SIGINT, _interrupt)
     signal.signal(signal.SIGTERM, _terminate)
+    # The imports make a few hundred thousand objects and no garbage worth collecting, and
+    # the collector's passes over them cost about 8% of the imports' time: it is off
+    # until the command has its modules (`imported`), and on again however main ends.
+    gc.disable()
     try:
         from blendkit.cli import app
 
@@ -47,6 +52,17 @@ def main() -> None:
         _exit(EXIT_TERMINATED, "terminated")
     except Exception as error:  # a bug of ours: say so plainly, without a traceback
         _exit(EXIT_INTERNAL, f"blendkit: internal error ({type(error).__name__}: {error}); please report it")
+    finally:
+        gc.enable()
+        # The process ends next: its objects go with it, and the collector's last passes
+        # over them at exit (0.06-0.09 s after a plain solve) are saved.
+        gc.freeze()
+
+
+def imported() -> None:
+    """Called by each command once its modules are imported: the garbage collector on
+    again, for the work (a big workbook's objects refer to each other)."""
+    gc.enable()
 
 
 def _exit(code: int, message: str) -> None:

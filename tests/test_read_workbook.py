@@ -1561,3 +1561,32 @@ def test_a_workbook_without_formulas_has_no_saved_results(tmp_path):
 
     path = make_workbook(tmp_path, INGREDIENTS, SPECS)
     assert saved_values(path.read_bytes()) == {}
+
+
+def test_stored_cells_read_each_sample_cell_as_openpyxl_shows_it():
+    # Outside reference: openpyxl's own load of each sample (formulas, and saved results
+    # with data_only=True): every stored cell's value, number format and place, whether
+    # the reader took its quick path for numbers or the general one.
+    import openpyxl
+
+    from blendkit.read.saved_values import saved_values
+    from blendkit.read.tables import stored_cells
+
+    samples = sorted((Path(__file__).resolve().parents[1] / "sample_workbooks").glob("*.xlsx"))
+    assert samples
+    for sample in samples:
+        book = openpyxl.load_workbook(sample)
+        shown = openpyxl.load_workbook(sample, data_only=True)
+        saved = saved_values(sample.read_bytes())
+        for sheet in book.worksheets:
+            grid = stored_cells(sheet, saved.get(sheet.title, {}))
+            for (row, column), cell in sheet._cells.items():
+                read = grid[row][column]
+                value = shown[sheet.title].cell(row, column).value
+                assert read.ref == f"{sheet.title}!{cell.coordinate}"
+                assert read.number_format == (cell.number_format or "General")
+                if read.kind == "value":
+                    assert read.value == value, read.ref
+                else:
+                    assert value is None or (isinstance(value, str) and not value.strip()) or read.kind == "error"
+                assert read.formula == (cell.value if cell.data_type == "f" else None), read.ref

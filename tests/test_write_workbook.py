@@ -1191,3 +1191,14 @@ def test_a_generated_big_book_keeps_every_input_cell(tmp_path: Path):
     assert outcome.formula.status == "optimal"
     _assert_inputs_kept(source, outcome.output)
     assert load_workbook(outcome.output, data_only=True)["Ingredients"]["B3"].value == cost
+
+
+def test_saved_text_is_escaped_as_the_standard_library_escapes_it():
+    # Outside reference: xml.sax.saxutils.escape, which the writer no longer imports (it
+    # brings in urllib and http at start-up).
+    from xml.sax.saxutils import escape
+
+    from blendkit.write.workbook.saved_results import _xml_escape
+
+    for text in ["a<b>", "&amp;", "x > y & z < w", "plain", "", "<<&>>", "&lt;"]:
+        assert _xml_escape(text) == escape(text)

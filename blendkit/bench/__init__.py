@@ -23,6 +23,8 @@ One module per concern:
                   openpyxl's load and save of the same file, and the samples end to end, each
                   step in a child process (peak memory from os.wait4); alone with
                   python -m blendkit.bench.books
+    start_up.py   where the start-up of `blendkit solve` goes, import by import (CPU
+                  seconds, each step in child processes), printed after the samples
     timing.py     shared by the families: timed, agreement, measure and its table
     highs.py      highspy, imported only when needed, with the missing-extra message, and
                   linprog's arguments as a HighsLp for timing highspy directly

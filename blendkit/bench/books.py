@@ -16,7 +16,10 @@ as JSON; the parent reads the child's peak resident memory from the operating sy
 
 For each sample workbook, ``blendkit solve`` as a user runs it (a new process: start,
 imports, read, solve, write) beside a child process that imports openpyxl, loads and saves
-the same file. Run alone with ``python -m blendkit.bench.books`` (``--sizes 500x60``).
+the same file, with blendkit's bytecode written first as installing it does
+(`blendkit.bench.start_up.compile_blendkit`); then where the start-up goes, import by
+import (`blendkit.bench.start_up`). Run alone with ``python -m blendkit.bench.books``
+(``--sizes 500x60``).
 """
 
 from __future__ import annotations
@@ -35,6 +38,7 @@ from pathlib import Path
 
 from blendkit.bench.machine import load_average, machine_lines
 from blendkit.bench.options import Options
+from blendkit.bench.start_up import compile_blendkit, start_up_lines
 
 # The sizes measured by default, and in a quick run.
 BOOK_SIZES = ((500, 60), (2000, 200))
@@ -200,25 +204,33 @@ BOOK_HEAD = (f"{'size':<14}{'MB':>7}{'o.load':>8}{'o.save':>8}{'o.both':>8}{'che
              f"{'LP':>7}{'write':>8}{'solve':>8}{'ratio':>8}{'o.peak':>9}{'c.peak':>8}{'s.peak':>8}")
 
 
-def _sample_lines(folder: Path) -> Iterator[str]:
+def _sample_lines(folder: Path, repeat: int = 1) -> Iterator[str]:
     """Each sample: `blendkit solve` end to end (with the default HiGHS cross-check, and
     with --no-cross-check) beside openpyxl's load and save, each a whole child process
-    (start, imports, work)."""
+    (start, imports, work); `repeat` rounds of the three in turn, medians."""
     head = (f"{'sample':<20}{'openpyxl s':>11}{'solve s':>9}{'ratio':>8}{'no-check s':>12}{'ratio':>8}"
             f"{'o.peak':>8}{'s.peak':>8}")
     yield head
     yield "-" * len(head)
     for sample in sorted(SAMPLES.glob("*.xlsx")):
-        yardstick = measured("openpyxl", sample, folder / "copy.xlsx")
-        runs = []
-        for extra in ([], ["--no-cross-check"]):
-            output = folder / f"{sample.stem}{len(extra)}.result.xlsx"  # new: nothing to compare with
-            argv = ["blendkit", "solve", str(sample), "-o", str(output), *extra]
-            runs.append(_run_with_peak([sys.executable, "-c", PEAK_PREAMBLE + _CLI.format(argv=argv)]))
-        solve, unchecked = runs
+        rounds = [_sample_round(folder, sample) for _ in range(repeat)]
+        yardstick, solve, unchecked = (_median_run(list(runs)) for runs in zip(*rounds))
         yield (f"{sample.stem:<20}{yardstick.seconds:>11.2f}{solve.seconds:>9.2f}"
                f"{solve.seconds / yardstick.seconds:>7.2f}x{unchecked.seconds:>12.2f}"
                f"{unchecked.seconds / yardstick.seconds:>7.2f}x{yardstick.peak_mb:>8.0f}{solve.peak_mb:>8.0f}")
+
+
+def _sample_round(folder: Path, sample: Path) -> tuple[Run, Run, Run]:
+    """One round of a sample: openpyxl's load and save, then the solve with and without
+    the cross-check, each a new output (nothing to compare with)."""
+    yardstick = measured("openpyxl", sample, folder / "copy.xlsx")
+    runs = []
+    for extra in ([], ["--no-cross-check"]):
+        output = folder / f"{sample.stem}{len(extra)}.result.xlsx"
+        output.unlink(missing_ok=True)
+        argv = ["blendkit", "solve", str(sample), "-o", str(output), *extra]
+        runs.append(_run_with_peak([sys.executable, "-c", PEAK_PREAMBLE + _CLI.format(argv=argv)]))
+    return yardstick, *runs
 
 
 def section(options: Options, sizes: Sequence[tuple[int, int]] | None = None) -> Iterator[str]:
@@ -237,7 +249,11 @@ def section(options: Options, sizes: Sequence[tuple[int, int]] | None = None) ->
             yield from _book_lines(folder, ingredients, nutrients, repeat)
         yield ""
         yield "Samples: `blendkit solve` end to end beside a process that imports openpyxl, loads and saves"
-        yield from _sample_lines(folder)
+        compile_blendkit()  # as installed: see compile_blendkit
+        yield from _sample_lines(folder, repeat)
+    yield ""
+    yield "Start-up: the imports of a plain `blendkit solve`, each in CPU seconds (blendkit.bench.start_up)"
+    yield from start_up_lines()
 
 
 def main(argv: list[str] | None = None) -> None:

@@ -196,3 +196,16 @@ def _relation_targets(archive: zipfile.ZipFile, rels_part: str, folder: str) -> 
 def open_archive(data: bytes) -> zipfile.ZipFile:
     """The workbook's bytes as a zip archive (raises zipfile.BadZipFile when damaged)."""
     return zipfile.ZipFile(io.BytesIO(data))
+
+
+def shared_strings_part(archive: zipfile.ZipFile) -> str | None:
+    """The path of the workbook's shared strings part, by the package's relationships
+    (None when it has none, or they are unreadable)."""
+    try:
+        workbook_part = _relation_targets(archive, "_rels/.rels", "")["officeDocument"][0][1]
+        folder, name = posixpath.split(workbook_part)
+        relations = _relation_targets(archive, posixpath.join(folder, "_rels", f"{name}.rels"), folder)
+    except (KeyError, ValueError, SyntaxError, ElementTree.ParseError):
+        return None
+    found = relations.get("sharedStrings", [])
+    return found[0][1] if found else None

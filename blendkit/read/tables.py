@@ -94,6 +94,7 @@ def read_table(sheet, saved: SheetValues, problems: list[Problem]) -> Table | No
     grid = stored_cells(sheet, saved)
     table: Table | None = None
     labelled: set[int] = set()  # columns whose header cell is not blank
+    places: list[tuple[str, int]] = []  # each headed column's key and number
     for row_number in sorted(grid):
         cells = grid[row_number]
         if table is None:
@@ -101,12 +102,11 @@ def read_table(sheet, saved: SheetValues, problems: list[Problem]) -> Table | No
                 continue
             table = Table(title, row_number, _read_header(cells, problems), layout=sheet_layout(sheet))
             labelled = {index for index, cell in cells.items() if cell.kind != "blank"}
+            places = [(column.key, column.index) for column in table.columns]
             continue
-        _note_unheaded(table, cells, labelled)
-        picked = {
-            column.key: cells.get(column.index) or blank_cell(title, row_number, column.index)
-            for column in table.columns
-        }
+        if not cells.keys() <= labelled:
+            _note_unheaded(table, cells, labelled)
+        picked = {key: cells.get(index) or blank_cell(title, row_number, index) for key, index in places}
         if all(cell.kind == "blank" for cell in picked.values()):
             continue
         for cell in picked.values():
@@ -160,22 +160,33 @@ def stored_cells(sheet, saved: SheetValues) -> dict[int, dict[int, Cell]]:
     """
     title = sheet.title
     epoch = sheet.parent.epoch
-    # Number formats by their id and column letters by number, each found once: openpyxl
+    # Number formats by their id and "Title!F" by column number, each found once: openpyxl
     # works both out afresh for every cell, and a big sheet has 400,000 of them.
     formats: dict[int, str] = {}
-    letters: dict[int, str] = {}
+    prefixes: dict[int, str] = {}
     grid: dict[int, dict[int, Cell]] = {}
+    last_row, cells = None, {}
     for (row, column), cell in sheet._cells.items():
-        key = cell._style.numFmtId if cell._style is not None else 0
-        if key not in formats:
-            formats[key] = cell.number_format
-        if column not in letters:
-            letters[column] = get_column_letter(column)
-        coordinate = f"{letters[column]}{row}"
-        value_cell = cell
-        if cell.data_type == "f":
-            value_cell = shown_value(saved.get((row, column)), formats[key], coordinate, epoch)
-        grid.setdefault(row, {})[column] = read_cell(title, value_cell, cell, formats[key], coordinate)
+        style = cell._style
+        key = style.numFmtId if style is not None else 0
+        number_format = formats.get(key)
+        if number_format is None:
+            number_format = formats[key] = cell.number_format
+        prefix = prefixes.get(column)
+        if prefix is None:
+            prefix = prefixes[column] = f"{title}!{get_column_letter(column)}"
+        value, data_type = cell._value, cell.data_type
+        if data_type == "n" and value is not None:  # most cells: a number, as read_cell reads it, sooner
+            found = Cell(f"{prefix}{row}", "value", value, number_format or "General")
+        else:
+            coordinate = f"{prefix[len(title) + 1:]}{row}"
+            value_cell = cell
+            if data_type == "f":
+                value_cell = shown_value(saved.get((row, column)), number_format, coordinate, epoch)
+            found = read_cell(title, value_cell, cell, number_format, coordinate)
+        if row != last_row:  # openpyxl stores a sheet's cells row by row
+            last_row, cells = row, grid.setdefault(row, {})
+        cells[column] = found
     return grid
 
 

@@ -6,6 +6,7 @@ sheet and a mistake in one is worded the same way everywhere.
 
 from __future__ import annotations
 
+import functools
 import math
 import re
 from datetime import date, datetime, time, timedelta
@@ -61,6 +62,7 @@ def format_number(number: float) -> str:
     return f"{number:g}"
 
 
+@functools.lru_cache(maxsize=256)  # a sheet has a few formats, and 400,000 cells ask
 def is_percent_format(number_format: str) -> bool:
     """True when the format shows numbers as percentages (an unquoted, unescaped %)."""
     return "%" in _LITERAL_FORMAT_PARTS.sub("", number_format)
@@ -73,10 +75,13 @@ def read_number(cell: Cell | None, what: str, problems: list[Problem]) -> float 
     """
     if cell is None or cell.kind in ("blank", "unsaved"):
         return None
+    value = cell.value
+    if (type(value) is float and -LARGEST_NUMBER <= value <= LARGEST_NUMBER
+            and not is_percent_format(cell.number_format)):
+        return value  # most cells: a plain number in range, as the general path below reads it
     if cell.kind == "error":
         problems.append(Problem(cell.ref, f'{what} "{cell.value}" is not a number'))
         return None
-    value = cell.value
     number = _as_number(value)
     if number is None or not math.isfinite(number):
         problems.append(Problem(cell.ref, f'{what} "{as_text(value)}" is not a number{_number_hint(value)}'))
@@ -126,6 +131,9 @@ def read_name(cell: Cell | None, what: str, problems: list[Problem]) -> str | No
     """The text of a name cell; None when blank, missing or an error value (reported)."""
     if cell is None or cell.kind in ("blank", "unsaved"):
         return None
+    value = cell.value
+    if type(value) is float and -LARGEST_NUMBER <= value <= LARGEST_NUMBER and not is_percent_format(cell.number_format):
+        return value  # most cells: a plain number in range, as the general path below reads it
     if cell.kind == "error":
         problems.append(Problem(cell.ref, (
             f'{what} "{cell.value}" is an error value from a formula; fix the formula or type the {what}'

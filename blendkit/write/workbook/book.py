@@ -31,7 +31,9 @@ input sheet's cells are never changed, only its print settings.
 
 The save is atomic (`save`): a temporary file in the output's folder is moved into place,
 so a failed run leaves no half-written output. The source file is only ever read; the
-results saved with its formula cells are put back into the output (`saved_results`).
+results saved with its formula cells are put back into the output (`saved_results`). A big
+input sheet's cells are not written again: its cell table is copied from the input byte
+for byte (`copied_sheets`).
 """
 
 from __future__ import annotations
@@ -57,6 +59,7 @@ from blendkit.write.workbook import (
     batch_sheet,
     changes,
     conflicts,
+    copied_sheets,
     overview,
     printing,
     result,
@@ -114,6 +117,7 @@ def write_workbook(
     kept = _make_room(workbook)
     mark_replaced(workbook, formula.blend.replaced)
     saved = saved_results(data, workbook)  # by the titles the input gives its sheets
+    original_titles = {sheet: sheet.title for sheet in workbook.worksheets}
     _rename(workbook, kept)
     saved = {kept.get(title, title): cells for title, cells in saved.items()}
     title = formula.blend.settings.name or source.stem
@@ -126,10 +130,29 @@ def write_workbook(
     _show_first(workbook, workbook[first])
     # The live formulas on Result have no saved result yet: ask for a full recalculation.
     workbook.calculation.fullCalcOnLoad = True
+    touched = {change.cell.rpartition("!")[0] for change in formula.blend.replaced}
+    content, copied = _saved(workbook, data, original_titles, touched)
+    saved = {title: cells for title, cells in saved.items() if title not in copied}
+    save_atomically(with_saved_results(content, saved), output)
+    return output
+
+
+def _saved(workbook: Workbook, data: bytes, original_titles: dict, touched: set[str]) -> tuple[bytes, set[str]]:
+    """The workbook saved, its big input sheets' cells copied from the input
+    (`copied_sheets`), and the titles of those sheets; saved again with every cell written
+    by openpyxl should the copy not fit the package openpyxl wrote."""
+    held = copied_sheets.hold_back(workbook, data, original_titles, touched)
+    buffer = io.BytesIO()
+    try:
+        workbook.save(buffer)
+    finally:
+        held.restore()
+    content = copied_sheets.put_back(buffer.getvalue(), held)
+    if content is not None:
+        return content, held.titles()
     buffer = io.BytesIO()
     workbook.save(buffer)
-    save_atomically(with_saved_results(buffer.getvalue(), saved), output)
-    return output
+    return buffer.getvalue(), set()
 
 
 def _read_source(source: Path, output: Path, run: RunInfo) -> bytes:

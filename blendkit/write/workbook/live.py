@@ -45,7 +45,8 @@ LIVE_COLUMN = 8
 # bare "F12" (on Ingredients); the sheet part, the column letters and the row.
 _REFERENCE = re.compile(r"^(?:(.*)!)?\$?([A-Za-z]{1,3})\$?([0-9]+)$", re.MULTILINE)
 
-# Operands already found, per workbook being written (forgotten with the workbook).
+# What one write has found already (operands, sheets, percent formats), per workbook being
+# written (forgotten with the workbook): a Batch sheet asks for 60,000 input cells.
 _OPERANDS: weakref.WeakKeyDictionary = weakref.WeakKeyDictionary()
 
 # Parts of a number format that never make it a percentage: quoted text, escaped
@@ -249,6 +250,7 @@ class _Known:
     def __init__(self):
         self.sheets: dict[str, Worksheet | None] = {}
         self.formats: dict[int, bool] = {}
+        self.operands: dict[str | None, str | None] = {}  # `_input_operand`'s answers
 
     def sheet(self, workbook: Workbook, name: str) -> Worksheet | None:
         """`_sheet_named`, remembered."""
@@ -311,20 +313,22 @@ def input_operand(workbook: Workbook, reference: str | None) -> str | None:
 def _input_operand(workbook: Workbook, reference: str | None) -> str | None:
     """`_find_operand`, remembered per workbook: a Result sheet asks for each input cell
     once per product and nutrient."""
-    known = _OPERANDS.setdefault(workbook, {})
-    if reference not in known:
-        known[reference] = _find_operand(workbook, reference)
-    return known[reference]
+    known = _OPERANDS.get(workbook)
+    if known is None:
+        known = _OPERANDS[workbook] = _Known()
+    if reference not in known.operands:
+        known.operands[reference] = _find_operand(workbook, reference, known)
+    return known.operands[reference]
 
 
-def _find_operand(workbook: Workbook, reference: str | None) -> str | None:
+def _find_operand(workbook: Workbook, reference: str | None, known: _Known | None = None) -> str | None:
     """The reader's "Sheet!A1" (or bare "A1", on Ingredients) as a formula operand.
 
     A number shown as a percentage (0.05 shown as 5%) was read as the number shown, so
     the operand is scaled the same way: ``Ingredients!F2*100``. None when the sheet is
     not in the workbook.
     """
-    place = _place(workbook, reference)
+    place = _place(workbook, reference, known)
     if place is None:
         return None
     sheet, _, _, scaled = place

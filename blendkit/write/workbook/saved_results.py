@@ -13,7 +13,6 @@ import io
 import re
 import zipfile
 from xml.etree import ElementTree
-from xml.sax.saxutils import escape as xml_escape
 
 from openpyxl.utils.datetime import from_ISO8601, to_excel
 from openpyxl.workbook.workbook import Workbook
@@ -125,4 +124,9 @@ def _result_text(value: object) -> tuple[str, str]:
         return "n", repr(value)
     if isinstance(value, str) and value in _ERROR_VALUES:
         return "e", value
-    return "str", xml_escape(str(value))
+    return "str", _xml_escape(str(value))
+
+
+def _xml_escape(text: str) -> str:
+    """&, < and > as XML entities, as xml.sax.saxutils.escape does (which brings in urllib)."""
+    return text.replace("&", "&amp;").replace(">", "&gt;").replace("<", "&lt;")
