@@ -44,6 +44,7 @@ class BasisFactor:
         self._piv = None
         self._m = 0
         self._k = 0  # updates since the last factorisation
+        self.factorisations = 0  # how many factorisations so far, which tells them apart
         self._rows = np.zeros(refactor_every, dtype=np.intp)  # r_i
         self._etas = np.zeros((0, refactor_every), order="F")  # H, m x refactor_every
         self._tri, self._tri_k, self._tri_repeats = np.zeros((0, 0)), 0, False  # T, for _tri_k etas
@@ -62,6 +63,7 @@ class BasisFactor:
         """Start a factorisation of B: empty the update file; False when B has no rows."""
         self._m = B.shape[0]
         self._k = 0
+        self.factorisations += 1
         self._tri_k = 0
         if self._etas.shape[0] != self._m:
             self._etas = np.zeros((self._m, self.refactor_every), order="F")

@@ -8,10 +8,10 @@ refactorisation that refreshes the values and the duals. The notation is the one
 
 A problem of at least SPARSE_ROWS rows and at most SPARSE_DENSITY full (a plant of many
 products, whose blocks only the stock rows link) is held sparse: M by columns (CSC) and
-by rows (CSR and M^T), its basis factorised by SuperLU. Then no step does dense m x n
-work: a pivot row B^-T e_r with few non-zeros is multiplied into M through the rows it
-picks (`gather`), a fuller one through M^T; the bound flips of the dual ratio test move
-the basic values through the flipped columns alone. Smaller or denser problems (blends,
+by rows (`row_product`), its basis factorised by SuperLU. Then no step does dense m x n
+work: a pivot row B^-T e_r is multiplied into M through the rows it picks or the binding
+rows it lives on (`row_product`); the bound flips of the dual ratio test move the basic
+values through the flipped columns alone. Smaller or denser problems (blends,
 the NETLIB set) are held as dense arrays and factorised by LAPACK.
 """
 
@@ -21,32 +21,18 @@ import numpy as np
 import scipy.sparse as sp
 
 from blendkit.engine.basis_factor import BasisFactor, SingularBasis, SparseBasisFactor
+from blendkit.engine.row_product import RowProduct, gather
 from blendkit.engine.standard_form import StandardForm
 from blendkit.engine.tolerances import (
     DENSE_REFACTOR_MAX,
     DENSE_REFACTOR_MIN,
     DENSE_REFACTOR_PER_ROOT,
-    HYPERSPARSE_SHARE,
     PIVOT_AGREEMENT,
     SPARSE_DENSITY,
     SPARSE_REFACTOR_EVERY,
     SPARSE_ROWS,
     Tolerances,
 )
-
-
-def gather(indptr: np.ndarray, indices: np.ndarray, data: np.ndarray, which: np.ndarray, weights: np.ndarray,
-           size: int) -> np.ndarray:
-    """sum_k weights[k] * (line which[k] of a compressed matrix), as a dense vector of `size`.
-
-    A compressed (CSC or CSR) matrix's lines `which` are gathered straight from its arrays,
-    so the work is their non-zeros alone, not the whole matrix's.
-    """
-    starts = indptr[which]
-    lengths = indptr[which + 1] - starts
-    ends = np.cumsum(lengths)
-    positions = np.arange(ends[-1] if ends.size else 0) + np.repeat(starts - ends + lengths, lengths)
-    return np.bincount(indices[positions], weights=data[positions] * np.repeat(weights, lengths), minlength=size)
 
 
 def pivots_disagree(row_entry: float, pivot: float) -> bool:
@@ -82,8 +68,7 @@ class SimplexState:
         if self.sparse:
             self.factor = SparseBasisFactor(refactor_every=SPARSE_REFACTOR_EVERY)
             self.M = sp.hstack([sp.csc_matrix(self.A), -sp.identity(self.m, format="csc")], format="csc")
-            self.MT = self.M.T.tocsr()  # M^T as rows, for the pivot row and the duals
-            self.rows = self.M.tocsr()  # M by rows, for pivot rows from few duals
+            self.products = RowProduct(self.M)  # y^T M, for the pivot row and the duals
         else:
             every = np.clip(np.sqrt(self.m) * DENSE_REFACTOR_PER_ROOT, DENSE_REFACTOR_MIN, DENSE_REFACTOR_MAX)
             self.factor = BasisFactor(refactor_every=int(every))
@@ -108,7 +93,7 @@ class SimplexState:
 
     def times_transpose(self, y: np.ndarray) -> np.ndarray:
         """M^T y."""
-        return self.MT @ y if self.sparse else self.M.T @ y
+        return self.row_combination(y) if self.sparse else self.M.T @ y
 
     def times_columns(self, columns: np.ndarray, values: np.ndarray) -> np.ndarray:
         """M[:, columns] @ values, from those columns' non-zeros alone when M is sparse."""
@@ -118,14 +103,15 @@ class SimplexState:
         return gather(M.indptr, M.indices, M.data, columns, values, self.m)
 
     def row_combination(self, y: np.ndarray) -> np.ndarray:
-        """M^T y; when few entries of y are non-zero (a hypersparse y), from the rows of
-        M they pick, which touches a small part of M."""
-        if self.sparse:
-            picked = np.flatnonzero(y)
-            if picked.size <= HYPERSPARSE_SHARE * self.m:
-                rows = self.rows
-                return gather(rows.indptr, rows.indices, rows.data, picked, y[picked], self.M.shape[1])
-        return self.times_transpose(y)
+        """M^T y; when M is sparse, from the rows of M that y picks or lives on
+        (`row_product`), which touches a small part of M."""
+        if not self.sparse:
+            return self.M.T @ y
+        return self.products.combine(y, self._focus_rows)
+
+    def _focus_rows(self) -> np.ndarray:
+        """The rows whose logical is nonbasic: those a pivot row lives on (`row_product`)."""
+        return np.flatnonzero(~self.basic[self.n : self.n + self.m])
 
     def add_artificials(self, rows: np.ndarray, signs: np.ndarray) -> None:
         """Append one artificial column sign * e_row per given row to M."""
@@ -135,8 +121,7 @@ class SimplexState:
         if self.sparse:
             columns = sp.csc_matrix((signs, (rows, np.arange(rows.size))), shape=(self.m, rows.size))
             self.M = sp.hstack([self.M[:, : self.n + self.m], columns], format="csc")
-            self.MT = self.M.T.tocsr()
-            self.rows = self.M.tocsr()
+            self.products = RowProduct(self.M)
         else:
             columns = np.zeros((self.m, rows.size))
             columns[rows, np.arange(rows.size)] = signs

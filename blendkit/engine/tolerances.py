@@ -108,6 +108,12 @@ SPARSE_DENSITY = 0.15
 # A pivot row B^-T e_r whose non-zeros are at most this share of the rows is multiplied
 # into M row by row (only the rows it picks); a fuller one through all of M.
 HYPERSPARSE_SHARE = 0.1
+# A fuller one is multiplied into the rows of M it lives on, the binding rows, when those
+# hold at most this share of M's non-zeros (`row_product`); else into all of M.
+FOCUS_SHARE = 0.5
+# ... and those rows are taken afresh once a pivot row has more than this many non-zeros
+# outside them (rows whose logical left the basis since).
+REFOCUS_AFTER = 4
 # Up to this many product-form updates are applied one by one, more all at once (see
 # `basis_factor`): below it one Python pass per eta beats setting up the triangular
 # system. Dense bases (refactorised every 4 to 11 updates below 220 rows) always loop.
