@@ -47,7 +47,8 @@ class BasisFactor:
         self.factorisations = 0  # how many factorisations so far, which tells them apart
         self._rows = np.zeros(refactor_every, dtype=np.intp)  # r_i
         self._etas = np.zeros((0, refactor_every), order="F")  # H, m x refactor_every
-        self._tri, self._tri_k, self._tri_repeats = np.zeros((0, 0)), 0, False  # T, for _tri_k etas
+        self._tri = np.zeros((refactor_every, refactor_every), order="F")  # T, a row per eta
+        self._repeats = False  # a basis position replaced more than once since the factorisation
 
     @property
     def updates(self) -> int:
@@ -64,7 +65,7 @@ class BasisFactor:
         self._m = B.shape[0]
         self._k = 0
         self.factorisations += 1
-        self._tri_k = 0
+        self._repeats = False
         if self._etas.shape[0] != self._m:
             self._etas = np.zeros((self._m, self.refactor_every), order="F")
         return self._m > 0
@@ -105,10 +106,9 @@ class BasisFactor:
                 z -= zr * alpha
                 z[r] = zr
         elif k:
-            tri, repeats = self._triangle()
-            t, _ = lapack.dtrtrs(tri, z[rows[:k]], lower=1)
+            t, _ = lapack.dtrtrs(self._tri[:k, :k], z[rows[:k]], lower=1)
             z -= etas[:, :k] @ t
-            _scatter_add(z, rows[:k], t, repeats)
+            _scatter_add(z, rows[:k], t, self._repeats)
         return z
 
     def btran(self, c: np.ndarray) -> np.ndarray:
@@ -124,23 +124,9 @@ class BasisFactor:
                 # E^T w_new = w: only entry r changes.
                 w[r] = (w[r] - (alpha @ w - alpha[r] * w[r])) / alpha[r]
         elif k:
-            tri, repeats = self._triangle()
-            u, _ = lapack.dtrtrs(tri, w[rows[:k]] - w @ etas[:, :k], lower=1, trans=1)
-            _scatter_add(w, rows[:k], u, repeats)
+            u, _ = lapack.dtrtrs(self._tri[:k, :k], w[rows[:k]] - w @ etas[:, :k], lower=1, trans=1)
+            _scatter_add(w, rows[:k], u, self._repeats)
         return self._solve(w, True)
-
-    def _triangle(self) -> tuple[np.ndarray, bool]:
-        """T of the module docstring for the etas on file, and whether a basis position
-        was replaced more than once; built once per update file length."""
-        k = self._k
-        if self._tri_k != k:
-            rows = self._rows[:k]
-            gathered = self._etas[rows, :k]
-            same = rows[:, None] == rows[None, :]
-            self._tri = np.asfortranarray(np.tril(gathered - same, -1) + np.diag(np.diag(gathered)))
-            self._tri_repeats = int(same.sum()) > k
-            self._tri_k = k
-        return self._tri, self._tri_repeats
 
     def update(self, r: int, alpha: np.ndarray) -> None:
         """Record that column r of the basis was replaced; alpha = B_old^{-1} a_new."""
@@ -148,7 +134,14 @@ class BasisFactor:
         if k == self.refactor_every:
             raise RuntimeError("the update file is full: refactorise first")
         self._etas[:, k] = alpha
-        self._rows[k] = r
+        rows = self._rows
+        # Row k of T (module docstring): the earlier etas at position r, less 1 where
+        # one of them replaced position r too; alpha[r] on the diagonal.
+        earlier = rows[:k] == r
+        self._tri[k, :k] = self._etas[r, :k] - earlier
+        self._tri[k, k] = alpha[r]
+        self._repeats = self._repeats or bool(earlier.any())
+        rows[k] = r
         self._k = k + 1
 
 

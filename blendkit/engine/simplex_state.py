@@ -228,9 +228,23 @@ class SimplexState:
         """Row r of B^-1 M (alpha_r): how basic position r changes with each variable."""
         e_r = self._unit
         e_r[r] = 1.0
-        row = self.row_combination(self.factor.btran(e_r))
+        rho = self.factor.btran(e_r)
         e_r[r] = 0.0
+        if self.sparse:
+            self._clear_logical_rows(rho, r)
+        row = self.row_combination(rho)
         return row
+
+    def _clear_logical_rows(self, rho: np.ndarray, r: int) -> None:
+        """Set rho = B^-T e_r to its exact zero on the rows whose logical is basic in a
+        position other than r (its equation there reads -rho_i = 0), so that rho lives on
+        the binding rows alone (`row_product`), rounding left out."""
+        n, m = self.n, self.m
+        leaving = self.head[r] - n
+        kept = rho[leaving] if 0 <= leaving < m else 0.0
+        rho[self.basic[n : n + m]] = 0.0
+        if 0 <= leaving < m:
+            rho[leaving] = kept
 
     def mobility(self) -> tuple[np.ndarray, np.ndarray]:
         """1.0 where a variable may rise (fall) from where it sits, 0.0 where it may not.

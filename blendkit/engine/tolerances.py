@@ -113,7 +113,7 @@ HYPERSPARSE_SHARE = 0.1
 FOCUS_SHARE = 0.5
 # ... and those rows are taken afresh once a pivot row has more than this many non-zeros
 # outside them (rows whose logical left the basis since).
-REFOCUS_AFTER = 4
+REFOCUS_AFTER = 20
 # Up to this many product-form updates are applied one by one, more all at once (see
 # `basis_factor`): below it one Python pass per eta beats setting up the triangular
 # system. Dense bases (refactorised every 4 to 11 updates below 220 rows) always loop.
