@@ -93,17 +93,19 @@ class BasisFactor:
         return z
 
     def ftran(self, a: np.ndarray) -> np.ndarray:
-        """Solve B z = a for the current basis."""
+        """Solve B z = a for the current basis; `a` one vector, or an m x 2 array of two
+        (one solve for both costs less than two)."""
         if self._m == 0:
-            return np.zeros(0)
+            return np.zeros(a.shape)
         z = self._solve(a, False)
         k, rows, etas = self._k, self._rows, self._etas
         if k <= ETA_LOOP_MAX:  # few etas: one by one costs less than setting up T
+            wide = z.ndim > 1
             for i in range(k):
                 r = rows[i]
                 alpha = etas[:, i]
                 zr = z[r] / alpha[r]
-                z -= zr * alpha
+                z -= np.multiply.outer(alpha, zr) if wide else zr * alpha
                 z[r] = zr
         elif k:
             t, _ = lapack.dtrtrs(self._tri[:k, :k], z[rows[:k]], lower=1)

@@ -123,14 +123,19 @@ class _DualRun:
                 self.store_positions()
                 return "infeasible"
             q, flipped = choice
-            alpha = factor.ftran(state.column(q))
+            if flipped.size:  # the entering column and the flips' move in one solve
+                change = self.flip_change(flipped)
+                both = factor.ftran(np.column_stack([state.column(q), state.times_columns(flipped, change)]))
+                alpha, moved = np.ascontiguousarray(both[:, 0]), both[:, 1]
+            else:
+                alpha = factor.ftran(state.column(q))
             pivot = alpha[r]
             if pivots_disagree(row[q], pivot):
                 self.refresh()
                 continue
             state.iterations += 1
             if flipped.size:
-                self.flip(flipped)
+                self.flip(flipped, change, moved)
             progress = self.pivot(r, q, rises, target, alpha, row)
             update_dual_weights(weights, alpha, pivot, r)
             factor.update(r, alpha)
@@ -206,17 +211,22 @@ class _DualRun:
         infeasible_by = abs(self.xb[r] - target)
         return dual_ratio_test(order, room, size, self.span, infeasible_by, self.dual_tol)
 
-    def flip(self, flipped: np.ndarray) -> None:
-        """Move the variables `flipped` to their other bound and the basic values with them."""
-        state, span = self.state, self.span
+    def flip_change(self, flipped: np.ndarray) -> np.ndarray:
+        """How far each of the variables `flipped` moves to its other bound."""
+        span = self.span[flipped]
+        return np.where(self.state.at_upper[flipped], -span, span)
+
+    def flip(self, flipped: np.ndarray, change: np.ndarray, moved: np.ndarray) -> None:
+        """Move the variables `flipped` by `change` to their other bound, and the basic
+        values by `moved` = B^-1 M[:, flipped] change with them."""
+        state = self.state
         at_upper = state.at_upper
-        change = np.where(at_upper[flipped], -span[flipped], span[flipped])
         state.z[flipped] += change
         at_upper[flipped] = ~at_upper[flipped]
         self.rise[flipped], self.fall[flipped] = self.fall[flipped], self.rise[flipped]
         self.way[flipped] = -self.way[flipped]
         self.back[flipped] = -self.back[flipped]
-        self.xb -= state.factor.ftran(state.times_columns(flipped, change))
+        self.xb -= moved
 
     def pivot(self, r: int, q: int, rises: bool, target: float, alpha: np.ndarray, row: np.ndarray) -> float:
         """Bring q into basis position r and move the leaving variable p = head[r] to
