@@ -48,6 +48,7 @@ class BasisFactor:
         self._rows = np.zeros(refactor_every, dtype=np.intp)  # r_i
         self._etas = np.zeros((0, refactor_every), order="F")  # H, m x refactor_every
         self._tri = np.zeros((refactor_every, refactor_every), order="F")  # T, a row per eta
+        self._batched = refactor_every > ETA_LOOP_MAX  # T is ever used (else the etas loop)
         self._repeats = False  # a basis position replaced more than once since the factorisation
 
     @property
@@ -137,12 +138,13 @@ class BasisFactor:
             raise RuntimeError("the update file is full: refactorise first")
         self._etas[:, k] = alpha
         rows = self._rows
-        # Row k of T (module docstring): the earlier etas at position r, less 1 where
-        # one of them replaced position r too; alpha[r] on the diagonal.
-        earlier = rows[:k] == r
-        self._tri[k, :k] = self._etas[r, :k] - earlier
-        self._tri[k, k] = alpha[r]
-        self._repeats = self._repeats or bool(earlier.any())
+        if self._batched:
+            # Row k of T (module docstring): the earlier etas at position r, less 1 where
+            # one of them replaced position r too; alpha[r] on the diagonal.
+            earlier = rows[:k] == r
+            self._tri[k, :k] = self._etas[r, :k] - earlier
+            self._tri[k, k] = alpha[r]
+            self._repeats = self._repeats or bool(earlier.any())
         rows[k] = r
         self._k = k + 1
 

@@ -123,12 +123,7 @@ class _DualRun:
                 self.store_positions()
                 return "infeasible"
             q, flipped = choice
-            if flipped.size:  # the entering column and the flips' move in one solve
-                change = self.flip_change(flipped)
-                both = factor.ftran(np.column_stack([state.column(q), state.times_columns(flipped, change)]))
-                alpha, moved = np.ascontiguousarray(both[:, 0]), both[:, 1]
-            else:
-                alpha = factor.ftran(state.column(q))
+            alpha, change, moved = self.solve_columns(q, flipped)
             pivot = alpha[r]
             if pivots_disagree(row[q], pivot):
                 self.refresh()
@@ -211,10 +206,19 @@ class _DualRun:
         infeasible_by = abs(self.xb[r] - target)
         return dual_ratio_test(order, room, size, self.span, infeasible_by, self.dual_tol)
 
-    def flip_change(self, flipped: np.ndarray) -> np.ndarray:
-        """How far each of the variables `flipped` moves to its other bound."""
+    def solve_columns(self, q: int, flipped: np.ndarray):
+        """(alpha, change, moved): the entering column B^-1 M_q; how far each variable in
+        `flipped` moves to its other bound, and the basic values' move B^-1 M_flipped change
+        that makes (None, None without flips). A sparse basis solves both in one call."""
+        state, factor = self.state, self.state.factor
+        if not flipped.size:
+            return factor.ftran(state.column(q)), None, None
         span = self.span[flipped]
-        return np.where(self.state.at_upper[flipped], -span, span)
+        change = np.where(state.at_upper[flipped], -span, span)
+        if not state.sparse:  # LAPACK's solves cost little; two apart keep the etas' loop simple
+            return factor.ftran(state.column(q)), change, factor.ftran(state.times_columns(flipped, change))
+        both = factor.ftran(np.column_stack([state.column(q), state.times_columns(flipped, change)]))
+        return np.ascontiguousarray(both[:, 0]), change, both[:, 1]
 
     def flip(self, flipped: np.ndarray, change: np.ndarray, moved: np.ndarray) -> None:
         """Move the variables `flipped` by `change` to their other bound, and the basic

@@ -12,7 +12,7 @@ from __future__ import annotations
 
 import numpy as np
 
-from blendkit.engine.tolerances import BLAND_TIE_ABSOLUTE, BLAND_TIE_RELATIVE, FLIP_WINDOW
+from blendkit.engine.tolerances import BLAND_TIE_ABSOLUTE, BLAND_TIE_RELATIVE, FLIP_SORT_ALL, FLIP_WINDOW
 
 
 def primal_ratio_test(state, q: int, delta: np.ndarray, bland: bool):
@@ -92,21 +92,32 @@ def _bound_flipping(order, room, size, exact, span, infeasible_by: float, dual_f
     FLIP_WINDOW nearest breakpoints are sorted (partial selection); the walk rarely gets
     past them, and when it does all of them are sorted.
     """
-    window = exact.size if exact.size <= FLIP_WINDOW else FLIP_WINDOW
-    near = np.arange(exact.size) if window == exact.size else np.sort(np.argpartition(exact, window - 1)[:window])
+    if exact.size <= FLIP_SORT_ALL:
+        return _flip_sorted(order, room, size, exact, span, infeasible_by, dual_feasibility)
+    window = FLIP_WINDOW
+    near = np.sort(np.argpartition(exact, window - 1)[:window])
     near = near[np.argsort(exact[near], kind="stable")]
     left = infeasible_by - np.cumsum(size[near] * span[order[near]])
     passed = int((left <= 0).argmax())
     if left[passed] > 0:
-        if window < exact.size:  # past the window: walk every breakpoint
-            near = np.argsort(exact, kind="stable")
-            left = infeasible_by - np.cumsum(size[near] * span[order[near]])
-            passed = int((left <= 0).argmax())
-        if left[passed] > 0:
-            return None  # every breakpoint passed: the dual is unbounded
+        return _flip_sorted(order, room, size, exact, span, infeasible_by, dual_feasibility)
     flipped = near[:passed]
     rest = np.ones(exact.size, dtype=bool)
     rest[flipped] = False
     relaxed = ((room[rest] + dual_feasibility) / size[rest]).min()
     pick = np.flatnonzero(rest & (exact <= relaxed))
     return int(order[pick[size[pick].argmax()]]), order[flipped]
+
+
+def _flip_sorted(order, room, size, exact, span, infeasible_by: float, dual_feasibility: float):
+    """`_bound_flipping` with every breakpoint sorted: for few candidates, or a walk past
+    the window."""
+    sort = np.argsort(exact, kind="stable")
+    order, room, size, exact = order[sort], room[sort], size[sort], exact[sort]
+    left = infeasible_by - np.cumsum(size * span[order])
+    passed = int((left <= 0).argmax())
+    if left[passed] > 0:
+        return None  # every breakpoint passed: the dual is unbounded
+    relaxed = ((room[passed:] + dual_feasibility) / size[passed:]).min()
+    pick = passed + (exact[passed:] <= relaxed).nonzero()[0]
+    return int(order[pick[size[pick].argmax()]]), order[:passed]

@@ -26,7 +26,7 @@ from blendkit.engine.standard_form import StandardForm
 from blendkit.engine.tolerances import (
     DENSE_REFACTOR_MAX,
     DENSE_REFACTOR_MIN,
-    DENSE_REFACTOR_PER_ROOT,
+    DENSE_REFACTOR_DIVISOR,
     PIVOT_AGREEMENT,
     SPARSE_DENSITY,
     SPARSE_REFACTOR_EVERY,
@@ -70,10 +70,11 @@ class SimplexState:
             self.M = sp.hstack([sp.csc_matrix(self.A), -sp.identity(self.m, format="csc")], format="csc")
             self.products = RowProduct(self.M)  # y^T M, for the pivot row and the duals
         else:
-            every = np.clip(np.sqrt(self.m) * DENSE_REFACTOR_PER_ROOT, DENSE_REFACTOR_MIN, DENSE_REFACTOR_MAX)
+            every = np.clip(self.m**1.5 / DENSE_REFACTOR_DIVISOR, DENSE_REFACTOR_MIN, DENSE_REFACTOR_MAX)
             self.factor = BasisFactor(refactor_every=int(every))
             dense = self.A.toarray() if sp.issparse(self.A) else self.A
             self.M = np.hstack([dense, -np.eye(self.m)])
+            self.MT = np.ascontiguousarray(self.M[:, : self.n].T)  # A^T by rows: y^T A reads it in order
 
     # ----- the matrix M = [A, -I, artificial columns] -------------------------------
 
@@ -93,7 +94,7 @@ class SimplexState:
 
     def times_transpose(self, y: np.ndarray) -> np.ndarray:
         """M^T y."""
-        return self.row_combination(y) if self.sparse else self.M.T @ y
+        return self.row_combination(y)
 
     def times_columns(self, columns: np.ndarray, values: np.ndarray) -> np.ndarray:
         """M[:, columns] @ values, from those columns' non-zeros alone when M is sparse."""
@@ -106,7 +107,14 @@ class SimplexState:
         """M^T y; when M is sparse, from the rows of M that y picks or lives on
         (`row_product`), which touches a small part of M."""
         if not self.sparse:
-            return self.M.T @ y
+            # [A, -I, artificials]^T y: A^T y from its transposed copy, then -y and
+            # the artificials' sign * y[row].
+            n, m = self.n, self.m
+            out = np.empty(self.M.shape[1])
+            np.dot(self.MT, y, out=out[:n])
+            np.negative(y, out=out[n : n + m])
+            out[n + m :] = self.art_sign * y[self.art_row]
+            return out
         return self.products.combine(y, self._focus_rows)
 
     def _focus_rows(self) -> np.ndarray:

@@ -93,6 +93,8 @@ DRIVE_OUT_PIVOT = 1e-7
 # The dual ratio test sorts only this many of the nearest breakpoints when it flips bounds
 # (the walk passes more than 12 in one iteration in 1 % of a plant LP's iterations).
 FLIP_WINDOW = 32
+# Up to this many candidates, sorting them all costs less than selecting the nearest.
+FLIP_SORT_ALL = 512
 # In cost and bound ranging, tableau entries this small or smaller count as zero (they
 # limit no range).
 RANGING_ZERO = 1e-12
@@ -123,12 +125,11 @@ REFOCUS_AFTER = 20
 ETA_LOOP_MAX = 16
 # Column replacements between two factorisations of a sparse basis.
 SPARSE_REFACTOR_EVERY = 50
-# The same for a dense basis: DENSE_REFACTOR_PER_ROOT x sqrt(rows), clipped to
+# The same for a dense basis: rows^1.5 / DENSE_REFACTOR_DIVISOR, clipped to
 # DENSE_REFACTOR_MIN..DENSE_REFACTOR_MAX. Refactorising costs about m^3 and each stored
-# update about m per solve; this interval balances the two for the sizes blends have.
-# (Four times this interval, with the updates applied all at once, made a 300 x 120 blend a
-# fifth faster but the small NETLIB problems a tenth slower; dense bases keep the loop.)
-DENSE_REFACTOR_PER_ROOT = 0.75
+# update a nearly fixed time per solve (numpy's call overhead), so the best interval
+# grows as m^1.5: 6 updates at 84 rows, 15 at 153, 30 at 247 (measured on blends).
+DENSE_REFACTOR_DIVISOR = 128.0
 DENSE_REFACTOR_MIN = 4
 DENSE_REFACTOR_MAX = 64
 
