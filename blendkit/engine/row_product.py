@@ -23,7 +23,7 @@ from collections.abc import Callable
 import numpy as np
 import scipy.sparse as sp
 
-from blendkit.engine.tolerances import FOCUS_SHARE, HYPERSPARSE_SHARE, REFOCUS_AFTER
+from blendkit.engine.tolerances import FOCUS_MIN_NONZEROS, FOCUS_SHARE, HYPERSPARSE_SHARE, REFOCUS_AFTER
 
 
 def gather(indptr: np.ndarray, indices: np.ndarray, data: np.ndarray, which: np.ndarray, weights: np.ndarray,
@@ -43,7 +43,7 @@ def gather(indptr: np.ndarray, indices: np.ndarray, data: np.ndarray, which: np.
 class RowProduct:
     """y^T M for one sparse M (see the module docstring), focused on a set of rows."""
 
-    __slots__ = ("rows", "MT", "size", "m", "inside", "focus", "part")
+    __slots__ = ("rows", "MT", "size", "m", "inside", "focus", "part", "focused")
 
     def __init__(self, M: sp.csc_matrix):
         self.rows = M.tocsr()  # M by rows, for y with few non-zeros
@@ -51,6 +51,7 @@ class RowProduct:
         self.m, self.size = M.shape
         self.inside = np.zeros(self.m, dtype=bool)
         self.focus = self.part = None
+        self.focused = M.nnz >= FOCUS_MIN_NONZEROS  # else M^T y costs less than choosing rows
 
     def refocus(self, focus: np.ndarray) -> None:
         """Take the rows `focus` as those y lives on: their part of M, or none when they
@@ -72,6 +73,8 @@ class RowProduct:
         rows = self.rows
         if picked.size <= HYPERSPARSE_SHARE * self.m:
             return gather(rows.indptr, rows.indices, rows.data, picked, y[picked], self.size)
+        if not self.focused:
+            return self.MT @ y
         extra = picked[~self.inside[picked]]
         if self.part is None or extra.size > REFOCUS_AFTER:
             self.refocus(focus_rows())

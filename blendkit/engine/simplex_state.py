@@ -238,7 +238,7 @@ class SimplexState:
         e_r[r] = 1.0
         rho = self.factor.btran(e_r)
         e_r[r] = 0.0
-        if self.sparse:
+        if self.sparse and self.products.focused:
             self._clear_logical_rows(rho, r)
         row = self.row_combination(rho)
         return row
