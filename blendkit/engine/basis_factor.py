@@ -28,7 +28,7 @@ import scipy.sparse as sp
 from scipy.linalg import lapack
 from scipy.sparse.linalg import splu
 
-from blendkit.engine.tolerances import ETA_LOOP_MAX, SINGULAR_PIVOT
+from blendkit.engine.tolerances import ETA_LOOP_MAX, REORDER_EVERY, REORDER_FILL, SINGULAR_PIVOT
 
 
 class SingularBasis(Exception):
@@ -160,21 +160,53 @@ def _scatter_add(v: np.ndarray, rows: np.ndarray, values: np.ndarray, repeats: b
 class SparseBasisFactor(BasisFactor):
     """The same interface over a sparse LU (SuperLU via scipy.sparse), for large bases.
 
+    Ordering the columns (COLAMD) takes more than half of SuperLU's factorisation time on
+    the plant LPs, and one refactorisation's basis differs from the last one's in a few
+    columns only, each new column in the position of the one it replaced. So the column
+    order found at one factorisation is reused by the next ones (SuperLU then keeps the
+    columns as given and only pivots on rows), until REORDER_EVERY factorisations have
+    passed or the factors have grown REORDER_FILL times fuller than with a fresh order.
+
     (Setting the basis's column singletons aside and factorising only the kernel left was
     tried on the plant LPs: the kernel's LU was two thirds of the whole one's and SuperLU
     solved with it no faster, so the whole basis is factorised.)
     """
 
+    def __init__(self, refactor_every: int):
+        super().__init__(refactor_every)
+        self._order = None  # column order of the last fresh ordering, by basis position
+        self._ordered_fill = 0  # non-zeros of the factors with that order fresh
+        self._reused = 0  # factorisations since, with the order reused
+        self._columns = None  # the order B0's columns were factorised in; None: as given
+
     def factor(self, B) -> None:
         """Factorise the sparse basis B afresh and clear the update file."""
         if not self._clear(B):
             return
+        B = sp.csc_matrix(B)
+        order = self._order
         try:
-            self._lu = splu(sp.csc_matrix(B), permc_spec="COLAMD")
+            if order is not None and order.size == self._m and self._reused < REORDER_EVERY:
+                self._lu, self._columns = splu(B[:, order], permc_spec="NATURAL"), order
+                self._reused += 1
+                if self._lu.nnz > REORDER_FILL * self._ordered_fill:
+                    self._reused = REORDER_EVERY  # order afresh next time
+            else:
+                self._lu, self._columns = splu(B, permc_spec="COLAMD"), None
+                self._order = np.argsort(self._lu.perm_c)
+                self._ordered_fill, self._reused = self._lu.nnz, 0
         except RuntimeError as error:
             raise SingularBasis(f"basis matrix is singular ({error})") from None
         self._check_pivots(self._lu.U.diagonal())
 
     def _solve(self, a: np.ndarray, transpose: bool) -> np.ndarray:
-        """Solve B0 z = a (or B0^T z = a) with SuperLU's factors."""
-        return self._lu.solve(np.asarray(a, dtype=float), trans="T" if transpose else "N")
+        """Solve B0 z = a (or B0^T z = a) with SuperLU's factors of B0's columns in `_columns`."""
+        a = np.asarray(a, dtype=float)
+        order = self._columns
+        if order is None:
+            return self._lu.solve(a, trans="T" if transpose else "N")
+        if transpose:
+            return self._lu.solve(a[order], trans="T")
+        z = np.empty_like(a)
+        z[order] = self._lu.solve(a)
+        return z

@@ -128,6 +128,11 @@ REFOCUS_AFTER = 20
 ETA_LOOP_MAX = 16
 # Column replacements between two factorisations of a sparse basis.
 SPARSE_REFACTOR_EVERY = 50
+# A sparse basis's column order is found afresh every REORDER_EVERY factorisations, and
+# sooner once the factors are REORDER_FILL times fuller than with a fresh order; in between
+# the last order is reused (`basis_factor.SparseBasisFactor`).
+REORDER_EVERY = 10
+REORDER_FILL = 1.3
 # The same for a dense basis: rows^1.5 / DENSE_REFACTOR_DIVISOR, clipped to
 # DENSE_REFACTOR_MIN..DENSE_REFACTOR_MAX. Refactorising costs about m^3 and each stored
 # update a nearly fixed time per solve (numpy's call overhead), so the best interval
