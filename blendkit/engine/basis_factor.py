@@ -100,8 +100,10 @@ class BasisFactor:
             return np.zeros(a.shape)
         z = self._solve(a, False)
         k, rows, etas = self._k, self._rows, self._etas
-        if k <= ETA_LOOP_MAX:  # few etas: one by one costs less than setting up T
-            wide = z.ndim > 1
+        wide = z.ndim > 1
+        # Few etas: one by one costs less than the triangular solve, except for two
+        # right-hand sides when T is kept anyway.
+        if k <= ETA_LOOP_MAX and not (wide and self._batched):
             for i in range(k):
                 r = rows[i]
                 alpha = etas[:, i]
