@@ -17,8 +17,12 @@ alpha_l[r_i] - [r_l = r_i] below the diagonal, alpha_i[r_i] on it), so that
     btran:  T^T u = c[r] - H^T c,  w = c + sum_i u_i e_(r_i),  y = B0^-T w
 
 which costs two matrix-vector products and one k x k triangular solve instead of k
-passes over the vector from Python. Up to ETA_LOOP_MAX etas are still applied one by one,
-which on small bases (the NETLIB set) costs less than setting up T.
+passes over the vector from Python. T grows by one row per update (its row k reads the
+earlier etas at r_k), so it is never rebuilt. Up to ETA_LOOP_MAX etas are still applied
+one by one, which on small bases (the NETLIB set) costs less than the triangular solve;
+a basis refactorised that often keeps no T at all. `ftran` also takes two right-hand
+sides at once (the dual simplex's entering column and its bound flips' move), which costs
+a sparse basis less than two solves.
 """
 
 from __future__ import annotations

@@ -123,8 +123,8 @@ FOCUS_MIN_NONZEROS = 100_000
 # outside them (rows whose logical left the basis since).
 REFOCUS_AFTER = 20
 # Up to this many product-form updates are applied one by one, more all at once (see
-# `basis_factor`): below it one Python pass per eta beats setting up the triangular
-# system. Dense bases (refactorised every 4 to 11 updates below 220 rows) always loop.
+# `basis_factor`): below it one Python pass per eta beats the triangular system. Dense
+# bases below 160 rows are refactorised within 16 updates, so they always loop.
 ETA_LOOP_MAX = 16
 # Column replacements between two factorisations of a sparse basis.
 SPARSE_REFACTOR_EVERY = 50
