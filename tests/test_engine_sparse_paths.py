@@ -1,10 +1,10 @@
-"""The engine's fast paths for large sparse LPs, against scipy as the outside reference.
+"""The engine's paths for large LPs, against numpy and scipy as the outside reference.
 
 The pivot row by binding rows (`row_product`), the reused column order of the sparse
-basis factors (`basis_factor.SparseBasisFactor`) and the partial sort of the bound-flipping
-ratio test only switch on for large problems; here their thresholds are lowered so that a
-small plant LP takes them, and each answer is checked against scipy (sparse products,
-spsolve, linprog with HiGHS).
+basis factors (`basis_factor.SparseBasisFactor`), the partial sort of the bound-flipping
+ratio test and the dual steepest-edge weights only switch on for large problems; here their
+thresholds are lowered so that a small plant LP takes them, and each answer is checked
+against numpy or scipy (inverse, sparse products, spsolve, linprog with HiGHS).
 """
 
 from __future__ import annotations
@@ -16,7 +16,8 @@ from scipy.optimize import linprog
 from scipy.sparse.linalg import spsolve
 
 from blendkit.bench.plant import make_plant
-from blendkit.engine import basis_factor, ratio_test, row_product, solve
+from blendkit.engine import basis_factor, dual, ratio_test, row_product, solve
+from blendkit.engine.pricing import update_steepest_weights
 from blendkit.engine.basis_factor import SparseBasisFactor
 from blendkit.engine.row_product import RowProduct
 
@@ -87,6 +88,7 @@ def test_a_plant_on_the_large_problem_paths_agrees_with_highs(monkeypatch):
     monkeypatch.setattr(ratio_test, "FLIP_SORT_ALL", 8)
     monkeypatch.setattr(ratio_test, "FLIP_WINDOW", 4)
     monkeypatch.setattr(basis_factor, "REORDER_EVERY", 4)
+    monkeypatch.setattr(dual, "STEEPEST_EDGE_ROWS", 0)
     plant = make_plant(10, 40, 20, 20240611)
     args = (plant.c, plant.A_ub, plant.b_ub, plant.A_eq, plant.b_eq, plant.bounds)
     ours = solve(*args)
@@ -95,3 +97,22 @@ def test_a_plant_on_the_large_problem_paths_agrees_with_highs(monkeypatch):
     assert ours.objective == pytest.approx(ref.fun, rel=1e-7)
     assert np.all(plant.A_ub @ ours.x <= plant.b_ub + 1e-6 * (1 + np.abs(plant.b_ub)))
     np.testing.assert_allclose(plant.A_eq @ ours.x, plant.b_eq, rtol=1e-7)
+
+
+def test_steepest_edge_weights_are_the_row_norms_of_the_new_inverse():
+    # Reference: numpy.linalg.inv of the basis after the column replacement; the updated
+    # weights must be the squared norms of its rows.
+    rng = np.random.default_rng(5)
+    m = 30
+    B = rng.standard_normal((m, m)) + 4 * np.eye(m)
+    inverse = np.linalg.inv(B)
+    weights = np.einsum("ij,ij->i", inverse, inverse)
+    for _ in range(5):
+        a = rng.standard_normal(m)  # the entering column
+        alpha = inverse @ a
+        r = int(np.argmax(np.abs(alpha)))
+        rho = inverse[r]
+        update_steepest_weights(weights, alpha, inverse @ rho, rho.copy(), alpha[r], r)
+        B[:, r] = a
+        inverse = np.linalg.inv(B)
+        np.testing.assert_allclose(weights, np.einsum("ij,ij->i", inverse, inverse), rtol=1e-8)

@@ -60,7 +60,7 @@ class SimplexState:
         self.art_row = np.zeros(0, dtype=int)
         self.art_sign = np.zeros(0)
         self.iterations = 0
-        self.y = self.d = self.ray = None
+        self.y = self.d = self.ray = self.rho = None
         self._unit = np.zeros(self.m)  # e_r, for the pivot row
         nonzeros = self.A.nnz if sp.issparse(self.A) else np.count_nonzero(self.A)
         density = nonzeros / max(1, self.m * self.n)
@@ -240,8 +240,8 @@ class SimplexState:
         e_r[r] = 0.0
         if self.sparse and self.products.focused:
             self._clear_logical_rows(rho, r)
-        row = self.row_combination(rho)
-        return row
+        self.rho = rho  # B^-T e_r, kept for the dual simplex's edge weights
+        return self.row_combination(rho)
 
     def _clear_logical_rows(self, rho: np.ndarray, r: int) -> None:
         """Set rho = B^-T e_r to its exact zero on the rows whose logical is basic in a

@@ -67,6 +67,13 @@ CERTIFICATE_PROOF = 1e-9
 PIVOT_AGREEMENT = 1e-7
 # A Devex reference weight above this starts a new reference framework (all weights 1).
 DEVEX_WEIGHT_LIMIT = 1e8
+# The dual simplex prices by exact steepest-edge weights (one more solve per iteration)
+# on problems of at least this many rows, by Devex below: measured CPU time over three
+# seeds, 40-product plants took 30 % less, 600 x 200 blends 17 % less, 20-product plants
+# 50 % more, and blends of 60 x 30 a fifth more.
+STEEPEST_EDGE_ROWS = 200
+# A steepest-edge weight is kept at least this large against rounding.
+STEEPEST_FLOOR = 1e-8
 # An iteration that moves the objective by at most this, relative to 1 + |objective|, is
 # degenerate: it counts towards a stall.
 PROGRESS = 1e-12
