@@ -68,9 +68,10 @@ PIVOT_AGREEMENT = 1e-7
 # A Devex reference weight above this starts a new reference framework (all weights 1).
 DEVEX_WEIGHT_LIMIT = 1e8
 # The dual simplex prices by exact steepest-edge weights (one more solve per iteration)
-# on problems of at least this many rows, by Devex below: measured CPU time over three
-# seeds, 40-product plants took 30 % less, 600 x 200 blends 17 % less, 20-product plants
-# 50 % more, and blends of 60 x 30 a fifth more.
+# on problems of at least this many rows, by Devex below. Measured CPU time against Devex:
+# plants of 10 x 80 x 40, 30 x 60 x 30 and 40 x 80 x 40 (two or three seeds each) 15 %,
+# 18 % and 35 % less, 600 x 200 blends 30 % less; 20 x 60 x 30 plants 30 % more (2 of 3
+# seeds took more iterations); blends of 60 x 30 (33 rows) a fifth more, hence the floor.
 STEEPEST_EDGE_ROWS = 200
 # A steepest-edge weight is kept at least this large against rounding.
 STEEPEST_FLOOR = 1e-8
