@@ -17,8 +17,12 @@ alpha_l[r_i] - [r_l = r_i] below the diagonal, alpha_i[r_i] on it), so that
     btran:  T^T u = c[r] - H^T c,  w = c + sum_i u_i e_(r_i),  y = B0^-T w
 
 which costs two matrix-vector products and one k x k triangular solve instead of k
-passes over the vector from Python. Up to ETA_LOOP_MAX etas are still applied one by one,
-which on small bases (the NETLIB set) costs less than setting up T.
+passes over the vector from Python. T grows by one row per update (its row k reads the
+earlier etas at r_k), so it is never rebuilt. Up to ETA_LOOP_MAX etas are still applied
+one by one, which on small bases (the NETLIB set) costs less than the triangular solve;
+a basis refactorised that often keeps no T at all. `ftran` also takes two right-hand
+sides at once (the dual simplex's entering column and its bound flips' move), which costs
+a sparse basis less than two solves.
 """
 
 from __future__ import annotations
@@ -28,7 +32,7 @@ import scipy.sparse as sp
 from scipy.linalg import lapack
 from scipy.sparse.linalg import splu
 
-from blendkit.engine.tolerances import ETA_LOOP_MAX, SINGULAR_PIVOT
+from blendkit.engine.tolerances import ETA_LOOP_MAX, REORDER_EVERY, REORDER_FILL, SINGULAR_PIVOT
 
 
 class SingularBasis(Exception):
@@ -44,9 +48,12 @@ class BasisFactor:
         self._piv = None
         self._m = 0
         self._k = 0  # updates since the last factorisation
+        self.factorisations = 0  # how many factorisations so far, which tells them apart
         self._rows = np.zeros(refactor_every, dtype=np.intp)  # r_i
         self._etas = np.zeros((0, refactor_every), order="F")  # H, m x refactor_every
-        self._tri, self._tri_k, self._tri_repeats = np.zeros((0, 0)), 0, False  # T, for _tri_k etas
+        self._tri = np.zeros((refactor_every, refactor_every), order="F")  # T, a row per eta
+        self._batched = refactor_every > ETA_LOOP_MAX  # T is ever used (else the etas loop)
+        self._repeats = False  # a basis position replaced more than once since the factorisation
 
     @property
     def updates(self) -> int:
@@ -62,7 +69,8 @@ class BasisFactor:
         """Start a factorisation of B: empty the update file; False when B has no rows."""
         self._m = B.shape[0]
         self._k = 0
-        self._tri_k = 0
+        self.factorisations += 1
+        self._repeats = False
         if self._etas.shape[0] != self._m:
             self._etas = np.zeros((self._m, self.refactor_every), order="F")
         return self._m > 0
@@ -90,23 +98,26 @@ class BasisFactor:
         return z
 
     def ftran(self, a: np.ndarray) -> np.ndarray:
-        """Solve B z = a for the current basis."""
+        """Solve B z = a for the current basis; `a` one vector, or an m x 2 array of two
+        (one solve for both costs less than two)."""
         if self._m == 0:
-            return np.zeros(0)
+            return np.zeros(a.shape)
         z = self._solve(a, False)
         k, rows, etas = self._k, self._rows, self._etas
-        if k <= ETA_LOOP_MAX:  # few etas: one by one costs less than setting up T
+        wide = z.ndim > 1
+        # Few etas: one by one costs less than the triangular solve, except for two
+        # right-hand sides when T is kept anyway.
+        if k <= ETA_LOOP_MAX and not (wide and self._batched):
             for i in range(k):
                 r = rows[i]
                 alpha = etas[:, i]
                 zr = z[r] / alpha[r]
-                z -= zr * alpha
+                z -= np.multiply.outer(alpha, zr) if wide else zr * alpha
                 z[r] = zr
         elif k:
-            tri, repeats = self._triangle()
-            t, _ = lapack.dtrtrs(tri, z[rows[:k]], lower=1)
+            t, _ = lapack.dtrtrs(self._tri[:k, :k], z[rows[:k]], lower=1)
             z -= etas[:, :k] @ t
-            _scatter_add(z, rows[:k], t, repeats)
+            _scatter_add(z, rows[:k], t, self._repeats)
         return z
 
     def btran(self, c: np.ndarray) -> np.ndarray:
@@ -122,23 +133,9 @@ class BasisFactor:
                 # E^T w_new = w: only entry r changes.
                 w[r] = (w[r] - (alpha @ w - alpha[r] * w[r])) / alpha[r]
         elif k:
-            tri, repeats = self._triangle()
-            u, _ = lapack.dtrtrs(tri, w[rows[:k]] - w @ etas[:, :k], lower=1, trans=1)
-            _scatter_add(w, rows[:k], u, repeats)
+            u, _ = lapack.dtrtrs(self._tri[:k, :k], w[rows[:k]] - w @ etas[:, :k], lower=1, trans=1)
+            _scatter_add(w, rows[:k], u, self._repeats)
         return self._solve(w, True)
-
-    def _triangle(self) -> tuple[np.ndarray, bool]:
-        """T of the module docstring for the etas on file, and whether a basis position
-        was replaced more than once; built once per update file length."""
-        k = self._k
-        if self._tri_k != k:
-            rows = self._rows[:k]
-            gathered = self._etas[rows, :k]
-            same = rows[:, None] == rows[None, :]
-            self._tri = np.asfortranarray(np.tril(gathered - same, -1) + np.diag(np.diag(gathered)))
-            self._tri_repeats = int(same.sum()) > k
-            self._tri_k = k
-        return self._tri, self._tri_repeats
 
     def update(self, r: int, alpha: np.ndarray) -> None:
         """Record that column r of the basis was replaced; alpha = B_old^{-1} a_new."""
@@ -146,7 +143,15 @@ class BasisFactor:
         if k == self.refactor_every:
             raise RuntimeError("the update file is full: refactorise first")
         self._etas[:, k] = alpha
-        self._rows[k] = r
+        rows = self._rows
+        if self._batched:
+            # Row k of T (module docstring): the earlier etas at position r, less 1 where
+            # one of them replaced position r too; alpha[r] on the diagonal.
+            earlier = rows[:k] == r
+            self._tri[k, :k] = self._etas[r, :k] - earlier
+            self._tri[k, k] = alpha[r]
+            self._repeats = self._repeats or bool(earlier.any())
+        rows[k] = r
         self._k = k + 1
 
 
@@ -161,21 +166,53 @@ def _scatter_add(v: np.ndarray, rows: np.ndarray, values: np.ndarray, repeats: b
 class SparseBasisFactor(BasisFactor):
     """The same interface over a sparse LU (SuperLU via scipy.sparse), for large bases.
 
+    Ordering the columns (COLAMD) takes more than half of SuperLU's factorisation time on
+    the plant LPs, and one refactorisation's basis differs from the last one's in a few
+    columns only, each new column in the position of the one it replaced. So the column
+    order found at one factorisation is reused by the next ones (SuperLU then keeps the
+    columns as given and only pivots on rows), until REORDER_EVERY factorisations have
+    passed or the factors have grown REORDER_FILL times fuller than with a fresh order.
+
     (Setting the basis's column singletons aside and factorising only the kernel left was
     tried on the plant LPs: the kernel's LU was two thirds of the whole one's and SuperLU
     solved with it no faster, so the whole basis is factorised.)
     """
 
+    def __init__(self, refactor_every: int):
+        super().__init__(refactor_every)
+        self._order = None  # column order of the last fresh ordering, by basis position
+        self._ordered_fill = 0  # non-zeros of the factors with that order fresh
+        self._reused = 0  # factorisations since, with the order reused
+        self._columns = None  # the order B0's columns were factorised in; None: as given
+
     def factor(self, B) -> None:
         """Factorise the sparse basis B afresh and clear the update file."""
         if not self._clear(B):
             return
+        B = sp.csc_matrix(B)
+        order = self._order
         try:
-            self._lu = splu(sp.csc_matrix(B), permc_spec="COLAMD")
+            if order is not None and order.size == self._m and self._reused < REORDER_EVERY:
+                self._lu, self._columns = splu(B[:, order], permc_spec="NATURAL"), order
+                self._reused += 1
+                if self._lu.nnz > REORDER_FILL * self._ordered_fill:
+                    self._reused = REORDER_EVERY  # order afresh next time
+            else:
+                self._lu, self._columns = splu(B, permc_spec="COLAMD"), None
+                self._order = np.argsort(self._lu.perm_c)
+                self._ordered_fill, self._reused = self._lu.nnz, 0
         except RuntimeError as error:
             raise SingularBasis(f"basis matrix is singular ({error})") from None
         self._check_pivots(self._lu.U.diagonal())
 
     def _solve(self, a: np.ndarray, transpose: bool) -> np.ndarray:
-        """Solve B0 z = a (or B0^T z = a) with SuperLU's factors."""
-        return self._lu.solve(np.asarray(a, dtype=float), trans="T" if transpose else "N")
+        """Solve B0 z = a (or B0^T z = a) with SuperLU's factors of B0's columns in `_columns`."""
+        a = np.asarray(a, dtype=float)
+        order = self._columns
+        if order is None:
+            return self._lu.solve(a, trans="T" if transpose else "N")
+        if transpose:
+            return self._lu.solve(a[order], trans="T")
+        z = np.empty_like(a)
+        z[order] = self._lu.solve(a)
+        return z

@@ -14,10 +14,10 @@ import numpy as np
 
 from blendkit.engine.basis_factor import SingularBasis
 from blendkit.engine.perturbation import perturbed_costs
-from blendkit.engine.pricing import StallWatch, leaving_position, update_dual_weights
+from blendkit.engine.pricing import StallWatch, leaving_position, update_dual_weights, update_steepest_weights
 from blendkit.engine.ratio_test import dual_ratio_test
 from blendkit.engine.simplex_state import SimplexState, pivots_disagree
-from blendkit.engine.tolerances import PERTURB_AFTER
+from blendkit.engine.tolerances import PERTURB_AFTER, STEEPEST_EDGE_ROWS
 
 
 def start_dual(state: SimplexState, basis=None) -> bool:
@@ -79,7 +79,7 @@ class _DualRun:
     """
 
     __slots__ = ("state", "cost", "d", "rise", "fall", "way", "back", "two_way", "span", "weights",
-                 "primal_tol", "dual_tol", "pivot_tol", "stall", "xb", "lb", "ub", "slack", "perturb")
+                 "primal_tol", "dual_tol", "pivot_tol", "stall", "xb", "lb", "ub", "slack", "perturb", "steepest")
 
     def __init__(self, state: SimplexState, cost: np.ndarray, perturb: bool = False):
         tol = state.tol
@@ -96,6 +96,9 @@ class _DualRun:
         self.two_way = bool(np.any(self.rise & self.fall))
         self.span = state.upper - state.lower
         self.weights = np.ones(state.m)
+        # Steepest-edge weights (exact, 1, for the basis of logicals) on large problems,
+        # Devex reference weights on small ones (see `pricing`).
+        self.steepest = state.m >= STEEPEST_EDGE_ROWS
         self.primal_tol, self.dual_tol, self.pivot_tol = tol.primal_feasibility, tol.dual_feasibility, tol.pivot
         self.stall = StallWatch(float(cost @ state.z))
         self.load_positions()
@@ -123,16 +126,19 @@ class _DualRun:
                 self.store_positions()
                 return "infeasible"
             q, flipped = choice
-            alpha = factor.ftran(state.column(q))
+            alpha, change, moved, tau = self.solve_columns(q, flipped)
             pivot = alpha[r]
             if pivots_disagree(row[q], pivot):
                 self.refresh()
                 continue
             state.iterations += 1
             if flipped.size:
-                self.flip(flipped)
+                self.flip(flipped, change, moved)
             progress = self.pivot(r, q, rises, target, alpha, row)
-            update_dual_weights(weights, alpha, pivot, r)
+            if tau is None:
+                update_dual_weights(weights, alpha, pivot, r)
+            else:
+                update_steepest_weights(weights, alpha, tau, state.rho, pivot, r)
             factor.update(r, alpha)
             if factor.due:
                 self.refresh()
@@ -206,17 +212,42 @@ class _DualRun:
         infeasible_by = abs(self.xb[r] - target)
         return dual_ratio_test(order, room, size, self.span, infeasible_by, self.dual_tol)
 
-    def flip(self, flipped: np.ndarray) -> None:
-        """Move the variables `flipped` to their other bound and the basic values with them."""
-        state, span = self.state, self.span
+    def solve_columns(self, q: int, flipped: np.ndarray):
+        """(alpha, change, moved, tau): the entering column B^-1 M_q; how far each variable
+        in `flipped` moves to its other bound and the basic values' move B^-1 M_flipped
+        change (None, None without flips); with steepest-edge pricing tau = B^-1 rho_r
+        (else None). A sparse basis solves them in one call."""
+        state, factor = self.state, self.state.factor
+        columns = [state.column(q)]
+        change = None
+        if flipped.size:
+            span = self.span[flipped]
+            change = np.where(state.at_upper[flipped], -span, span)
+            columns.append(state.times_columns(flipped, change))
+        if self.steepest:
+            columns.append(state.rho)
+        if len(columns) == 1:
+            return factor.ftran(columns[0]), None, None, None
+        if state.sparse:
+            solved = factor.ftran(np.column_stack(columns))
+            parts = [np.ascontiguousarray(solved[:, j]) for j in range(len(columns))]
+        else:  # LAPACK's solves cost little; apart, they keep the etas' loop simple
+            parts = [factor.ftran(column) for column in columns]
+        alpha = parts[0]
+        moved = parts[1] if flipped.size else None
+        return alpha, change, moved, parts[-1] if self.steepest else None
+
+    def flip(self, flipped: np.ndarray, change: np.ndarray, moved: np.ndarray) -> None:
+        """Move the variables `flipped` by `change` to their other bound, and the basic
+        values by `moved` = B^-1 M[:, flipped] change with them."""
+        state = self.state
         at_upper = state.at_upper
-        change = np.where(at_upper[flipped], -span[flipped], span[flipped])
         state.z[flipped] += change
         at_upper[flipped] = ~at_upper[flipped]
         self.rise[flipped], self.fall[flipped] = self.fall[flipped], self.rise[flipped]
         self.way[flipped] = -self.way[flipped]
         self.back[flipped] = -self.back[flipped]
-        self.xb -= state.factor.ftran(state.times_columns(flipped, change))
+        self.xb -= moved
 
     def pivot(self, r: int, q: int, rises: bool, target: float, alpha: np.ndarray, row: np.ndarray) -> float:
         """Bring q into basis position r and move the leaving variable p = head[r] to

@@ -3,7 +3,10 @@
 Both iteration loops price with Devex weights (approximate steepest edge, Forrest &
 Goldfarb 1992): reference weights w that grow as the basis moves away from the reference
 framework, so that a candidate's merit is its (reduced cost or infeasibility)^2 / w. When
-a weight grows past DEVEX_WEIGHT_LIMIT the framework starts afresh. `StallWatch` counts
+a weight grows past DEVEX_WEIGHT_LIMIT the framework starts afresh. On problems of at
+least STEEPEST_EDGE_ROWS rows the dual simplex keeps exact steepest-edge weights instead,
+the squared norms of the rows of B^-1 (`update_steepest_weights`), at the cost of one more
+solve per iteration, which there saves more iterations than it costs. `StallWatch` counts
 objective-neutral iterations; after STALL_LIMIT of them in a row the primal method prices
 by Bland's smallest-index rule, which cannot cycle, and the dual simplex gives up.
 """
@@ -13,7 +16,7 @@ from __future__ import annotations
 import numpy as np
 
 from blendkit.engine import tolerances
-from blendkit.engine.tolerances import DEVEX_WEIGHT_LIMIT, PROGRESS
+from blendkit.engine.tolerances import DEVEX_WEIGHT_LIMIT, PROGRESS, STEEPEST_FLOOR
 
 
 def entering_variable(d: np.ndarray, rise: np.ndarray, fall: np.ndarray, weights: np.ndarray,
@@ -69,6 +72,19 @@ def update_dual_weights(weights: np.ndarray, alpha: np.ndarray, pivot: float, r:
     np.maximum(weights, (alpha * alpha) * (weight_r / (pivot * pivot)), out=weights)
     weights[r] = max(weight_r / (pivot * pivot), 1.0)
     _reset_when_large(weights, r)
+
+
+def update_steepest_weights(weights: np.ndarray, alpha: np.ndarray, tau: np.ndarray, rho: np.ndarray,
+                            pivot: float, r: int) -> None:
+    """Dual steepest-edge weights w_i = ||row i of B^-1||^2 after position r changed
+    variable (Forrest & Goldfarb 1992): w_i += (alpha_i / pivot) ((alpha_i / pivot) w_r
+    - 2 tau_i), with w_r = ||rho_r||^2 taken exact, tau = B^-1 rho_r, and each weight kept
+    at least STEEPEST_FLOOR against rounding."""
+    weight_r = float(rho @ rho)
+    ratio = alpha / pivot
+    weights += ratio * (ratio * weight_r - 2.0 * tau)
+    np.maximum(weights, STEEPEST_FLOOR, out=weights)
+    weights[r] = max(weight_r / (pivot * pivot), STEEPEST_FLOOR)
 
 
 def _reset_when_large(weights: np.ndarray, *changed: int) -> None:

@@ -12,7 +12,7 @@ from __future__ import annotations
 
 import numpy as np
 
-from blendkit.engine.tolerances import BLAND_TIE_ABSOLUTE, BLAND_TIE_RELATIVE
+from blendkit.engine.tolerances import BLAND_TIE_ABSOLUTE, BLAND_TIE_RELATIVE, FLIP_SORT_ALL, FLIP_WINDOW
 
 
 def primal_ratio_test(state, q: int, delta: np.ndarray, bland: bool):
@@ -88,8 +88,30 @@ def _bound_flipping(order, room, size, exact, span, infeasible_by: float, dual_f
 
     Walking the breakpoints in order, a boxed variable whose reduced cost would change
     sign is moved to its other bound instead of entering, while the leaving variable stays
-    infeasible; Harris's choice is then made among the breakpoints from there on.
+    infeasible; Harris's choice is then made among the breakpoints from there on. Only the
+    FLIP_WINDOW nearest breakpoints are sorted (partial selection); the walk rarely gets
+    past them, and when it does all of them are sorted.
     """
+    if exact.size <= FLIP_SORT_ALL:
+        return _flip_sorted(order, room, size, exact, span, infeasible_by, dual_feasibility)
+    window = FLIP_WINDOW
+    near = np.sort(np.argpartition(exact, window - 1)[:window])
+    near = near[np.argsort(exact[near], kind="stable")]
+    left = infeasible_by - np.cumsum(size[near] * span[order[near]])
+    passed = int((left <= 0).argmax())
+    if left[passed] > 0:
+        return _flip_sorted(order, room, size, exact, span, infeasible_by, dual_feasibility)
+    flipped = near[:passed]
+    rest = np.ones(exact.size, dtype=bool)
+    rest[flipped] = False
+    relaxed = ((room[rest] + dual_feasibility) / size[rest]).min()
+    pick = np.flatnonzero(rest & (exact <= relaxed))
+    return int(order[pick[size[pick].argmax()]]), order[flipped]
+
+
+def _flip_sorted(order, room, size, exact, span, infeasible_by: float, dual_feasibility: float):
+    """`_bound_flipping` with every breakpoint sorted: for few candidates, or a walk past
+    the window."""
     sort = np.argsort(exact, kind="stable")
     order, room, size, exact = order[sort], room[sort], size[sort], exact[sort]
     left = infeasible_by - np.cumsum(size * span[order])

@@ -8,10 +8,10 @@ refactorisation that refreshes the values and the duals. The notation is the one
 
 A problem of at least SPARSE_ROWS rows and at most SPARSE_DENSITY full (a plant of many
 products, whose blocks only the stock rows link) is held sparse: M by columns (CSC) and
-by rows (CSR and M^T), its basis factorised by SuperLU. Then no step does dense m x n
-work: a pivot row B^-T e_r with few non-zeros is multiplied into M through the rows it
-picks (`gather`), a fuller one through M^T; the bound flips of the dual ratio test move
-the basic values through the flipped columns alone. Smaller or denser problems (blends,
+by rows (`row_product`), its basis factorised by SuperLU. Then no step does dense m x n
+work: a pivot row B^-T e_r is multiplied into M through the rows it picks or the binding
+rows it lives on (`row_product`); the bound flips of the dual ratio test move the basic
+values through the flipped columns alone. Smaller or denser problems (blends,
 the NETLIB set) are held as dense arrays and factorised by LAPACK.
 """
 
@@ -21,32 +21,18 @@ import numpy as np
 import scipy.sparse as sp
 
 from blendkit.engine.basis_factor import BasisFactor, SingularBasis, SparseBasisFactor
+from blendkit.engine.row_product import RowProduct, gather
 from blendkit.engine.standard_form import StandardForm
 from blendkit.engine.tolerances import (
     DENSE_REFACTOR_MAX,
     DENSE_REFACTOR_MIN,
-    DENSE_REFACTOR_PER_ROOT,
-    HYPERSPARSE_SHARE,
+    DENSE_REFACTOR_DIVISOR,
     PIVOT_AGREEMENT,
     SPARSE_DENSITY,
     SPARSE_REFACTOR_EVERY,
     SPARSE_ROWS,
     Tolerances,
 )
-
-
-def gather(indptr: np.ndarray, indices: np.ndarray, data: np.ndarray, which: np.ndarray, weights: np.ndarray,
-           size: int) -> np.ndarray:
-    """sum_k weights[k] * (line which[k] of a compressed matrix), as a dense vector of `size`.
-
-    A compressed (CSC or CSR) matrix's lines `which` are gathered straight from its arrays,
-    so the work is their non-zeros alone, not the whole matrix's.
-    """
-    starts = indptr[which]
-    lengths = indptr[which + 1] - starts
-    ends = np.cumsum(lengths)
-    positions = np.arange(ends[-1] if ends.size else 0) + np.repeat(starts - ends + lengths, lengths)
-    return np.bincount(indices[positions], weights=data[positions] * np.repeat(weights, lengths), minlength=size)
 
 
 def pivots_disagree(row_entry: float, pivot: float) -> bool:
@@ -74,7 +60,7 @@ class SimplexState:
         self.art_row = np.zeros(0, dtype=int)
         self.art_sign = np.zeros(0)
         self.iterations = 0
-        self.y = self.d = self.ray = None
+        self.y = self.d = self.ray = self.rho = None
         self._unit = np.zeros(self.m)  # e_r, for the pivot row
         nonzeros = self.A.nnz if sp.issparse(self.A) else np.count_nonzero(self.A)
         density = nonzeros / max(1, self.m * self.n)
@@ -82,13 +68,13 @@ class SimplexState:
         if self.sparse:
             self.factor = SparseBasisFactor(refactor_every=SPARSE_REFACTOR_EVERY)
             self.M = sp.hstack([sp.csc_matrix(self.A), -sp.identity(self.m, format="csc")], format="csc")
-            self.MT = self.M.T.tocsr()  # M^T as rows, for the pivot row and the duals
-            self.rows = self.M.tocsr()  # M by rows, for pivot rows from few duals
+            self.products = RowProduct(self.M)  # y^T M, for the pivot row and the duals
         else:
-            every = np.clip(np.sqrt(self.m) * DENSE_REFACTOR_PER_ROOT, DENSE_REFACTOR_MIN, DENSE_REFACTOR_MAX)
+            every = np.clip(self.m**1.5 / DENSE_REFACTOR_DIVISOR, DENSE_REFACTOR_MIN, DENSE_REFACTOR_MAX)
             self.factor = BasisFactor(refactor_every=int(every))
             dense = self.A.toarray() if sp.issparse(self.A) else self.A
             self.M = np.hstack([dense, -np.eye(self.m)])
+            self.MT = np.ascontiguousarray(self.M[:, : self.n].T)  # A^T by rows: y^T A reads it in order
 
     # ----- the matrix M = [A, -I, artificial columns] -------------------------------
 
@@ -108,7 +94,7 @@ class SimplexState:
 
     def times_transpose(self, y: np.ndarray) -> np.ndarray:
         """M^T y."""
-        return self.MT @ y if self.sparse else self.M.T @ y
+        return self.row_combination(y)
 
     def times_columns(self, columns: np.ndarray, values: np.ndarray) -> np.ndarray:
         """M[:, columns] @ values, from those columns' non-zeros alone when M is sparse."""
@@ -118,14 +104,22 @@ class SimplexState:
         return gather(M.indptr, M.indices, M.data, columns, values, self.m)
 
     def row_combination(self, y: np.ndarray) -> np.ndarray:
-        """M^T y; when few entries of y are non-zero (a hypersparse y), from the rows of
-        M they pick, which touches a small part of M."""
-        if self.sparse:
-            picked = np.flatnonzero(y)
-            if picked.size <= HYPERSPARSE_SHARE * self.m:
-                rows = self.rows
-                return gather(rows.indptr, rows.indices, rows.data, picked, y[picked], self.M.shape[1])
-        return self.times_transpose(y)
+        """M^T y; when M is sparse, from the rows of M that y picks or lives on
+        (`row_product`), which touches a small part of M."""
+        if not self.sparse:
+            # [A, -I, artificials]^T y: A^T y from its transposed copy, then -y and
+            # the artificials' sign * y[row].
+            n, m = self.n, self.m
+            out = np.empty(self.M.shape[1])
+            np.dot(self.MT, y, out=out[:n])
+            np.negative(y, out=out[n : n + m])
+            out[n + m :] = self.art_sign * y[self.art_row]
+            return out
+        return self.products.combine(y, self._focus_rows)
+
+    def _focus_rows(self) -> np.ndarray:
+        """The rows whose logical is nonbasic: those a pivot row lives on (`row_product`)."""
+        return np.flatnonzero(~self.basic[self.n : self.n + self.m])
 
     def add_artificials(self, rows: np.ndarray, signs: np.ndarray) -> None:
         """Append one artificial column sign * e_row per given row to M."""
@@ -135,8 +129,7 @@ class SimplexState:
         if self.sparse:
             columns = sp.csc_matrix((signs, (rows, np.arange(rows.size))), shape=(self.m, rows.size))
             self.M = sp.hstack([self.M[:, : self.n + self.m], columns], format="csc")
-            self.MT = self.M.T.tocsr()
-            self.rows = self.M.tocsr()
+            self.products = RowProduct(self.M)
         else:
             columns = np.zeros((self.m, rows.size))
             columns[rows, np.arange(rows.size)] = signs
@@ -243,9 +236,23 @@ class SimplexState:
         """Row r of B^-1 M (alpha_r): how basic position r changes with each variable."""
         e_r = self._unit
         e_r[r] = 1.0
-        row = self.row_combination(self.factor.btran(e_r))
+        rho = self.factor.btran(e_r)
         e_r[r] = 0.0
-        return row
+        if self.sparse and self.products.focused:
+            self._clear_logical_rows(rho, r)
+        self.rho = rho  # B^-T e_r, kept for the dual simplex's edge weights
+        return self.row_combination(rho)
+
+    def _clear_logical_rows(self, rho: np.ndarray, r: int) -> None:
+        """Set rho = B^-T e_r to its exact zero on the rows whose logical is basic in a
+        position other than r (its equation there reads -rho_i = 0), so that rho lives on
+        the binding rows alone (`row_product`), rounding left out."""
+        n, m = self.n, self.m
+        leaving = self.head[r] - n
+        kept = rho[leaving] if 0 <= leaving < m else 0.0
+        rho[self.basic[n : n + m]] = 0.0
+        if 0 <= leaving < m:
+            rho[leaving] = kept
 
     def mobility(self) -> tuple[np.ndarray, np.ndarray]:
         """1.0 where a variable may rise (fall) from where it sits, 0.0 where it may not.

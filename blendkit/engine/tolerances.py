@@ -67,6 +67,14 @@ CERTIFICATE_PROOF = 1e-9
 PIVOT_AGREEMENT = 1e-7
 # A Devex reference weight above this starts a new reference framework (all weights 1).
 DEVEX_WEIGHT_LIMIT = 1e8
+# The dual simplex prices by exact steepest-edge weights (one more solve per iteration)
+# on problems of at least this many rows, by Devex below. Measured CPU time against Devex:
+# plants of 10 x 80 x 40, 30 x 60 x 30 and 40 x 80 x 40 (two or three seeds each) 15 %,
+# 18 % and 35 % less, 600 x 200 blends 30 % less; 20 x 60 x 30 plants 30 % more (2 of 3
+# seeds took more iterations); blends of 60 x 30 (33 rows) a fifth more, hence the floor.
+STEEPEST_EDGE_ROWS = 200
+# A steepest-edge weight is kept at least this large against rounding.
+STEEPEST_FLOOR = 1e-8
 # An iteration that moves the objective by at most this, relative to 1 + |objective|, is
 # degenerate: it counts towards a stall.
 PROGRESS = 1e-12
@@ -90,6 +98,11 @@ BLAND_TIE_ABSOLUTE = 1e-15
 # An artificial variable still basic after phase one is swapped out of the basis only on a
 # pivot element larger than this; otherwise its row is redundant and it stays.
 DRIVE_OUT_PIVOT = 1e-7
+# The dual ratio test sorts only this many of the nearest breakpoints when it flips bounds
+# (the walk passes more than 12 in one iteration in 1 % of a plant LP's iterations).
+FLIP_WINDOW = 32
+# Up to this many candidates, sorting them all costs less than selecting the nearest.
+FLIP_SORT_ALL = 512
 # In cost and bound ranging, tableau entries this small or smaller count as zero (they
 # limit no range).
 RANGING_ZERO = 1e-12
@@ -108,18 +121,31 @@ SPARSE_DENSITY = 0.15
 # A pivot row B^-T e_r whose non-zeros are at most this share of the rows is multiplied
 # into M row by row (only the rows it picks); a fuller one through all of M.
 HYPERSPARSE_SHARE = 0.1
+# A fuller one is multiplied into the rows of M it lives on, the binding rows, when those
+# hold at most this share of M's non-zeros (`row_product`); else into all of M.
+FOCUS_SHARE = 0.5
+# Only a matrix with at least this many non-zeros is worth the choice of rows (a 40-product
+# plant has 188,000 and its pivot rows take 30 % less time; a 20-product one, 55,000, no less).
+FOCUS_MIN_NONZEROS = 100_000
+# ... and those rows are taken afresh once a pivot row has more than this many non-zeros
+# outside them (rows whose logical left the basis since).
+REFOCUS_AFTER = 20
 # Up to this many product-form updates are applied one by one, more all at once (see
-# `basis_factor`): below it one Python pass per eta beats setting up the triangular
-# system. Dense bases (refactorised every 4 to 11 updates below 220 rows) always loop.
+# `basis_factor`): below it one Python pass per eta beats the triangular system. Dense
+# bases below 160 rows are refactorised within 16 updates, so they always loop.
 ETA_LOOP_MAX = 16
 # Column replacements between two factorisations of a sparse basis.
 SPARSE_REFACTOR_EVERY = 50
-# The same for a dense basis: DENSE_REFACTOR_PER_ROOT x sqrt(rows), clipped to
+# A sparse basis's column order is found afresh every REORDER_EVERY factorisations, and
+# sooner once the factors are REORDER_FILL times fuller than with a fresh order; in between
+# the last order is reused (`basis_factor.SparseBasisFactor`).
+REORDER_EVERY = 10
+REORDER_FILL = 1.3
+# The same for a dense basis: rows^1.5 / DENSE_REFACTOR_DIVISOR, clipped to
 # DENSE_REFACTOR_MIN..DENSE_REFACTOR_MAX. Refactorising costs about m^3 and each stored
-# update about m per solve; this interval balances the two for the sizes blends have.
-# (Four times this interval, with the updates applied all at once, made a 300 x 120 blend a
-# fifth faster but the small NETLIB problems a tenth slower; dense bases keep the loop.)
-DENSE_REFACTOR_PER_ROOT = 0.75
+# update a nearly fixed time per solve (numpy's call overhead), so the best interval
+# grows as m^1.5: 6 updates at 84 rows, 15 at 153, 30 at 247 (measured on blends).
+DENSE_REFACTOR_DIVISOR = 128.0
 DENSE_REFACTOR_MIN = 4
 DENSE_REFACTOR_MAX = 64
 
