@@ -73,10 +73,12 @@ def highs(c, A_ub=None, b_ub=None, A_eq=None, b_eq=None, bounds=None) -> Referen
         status = _unknown_status(c, kw)
     if status in ("infeasible", "numerical_trouble"):
         status, res = _without_presolve(c, kw, status, res)
-    if status == "infeasible":
+    if status in ("infeasible", "unbounded"):
+        # Unbounded needs a feasible point, infeasible none: HiGHS's zero-cost LP decides
+        # (seen: an LP made infeasible by a margin of 1e-5 of its size called unbounded).
         feasible = linprog(np.zeros(len(c)), method="highs", **kw)
-        if feasible.status == 0:
-            status = "unbounded"
+        if feasible.status in (0, 2):
+            status = "unbounded" if feasible.status == 0 else "infeasible"
     if status != "optimal":
         return Reference(status, None, None, None, None, None)
     return Reference(
