@@ -575,16 +575,16 @@ def test_a_gap_scaling_hides_is_found_unscaled():
     assert_proves_infeasible(general_form(**lp), result.farkas)
 
 
-@pytest.mark.xfail(strict=True, reason="phase one measures its total infeasibility against 1e-8 x (1 + the "
-                   "largest bound of the whole LP), so a large bound elsewhere hides a small row's gap")
 def test_a_gap_a_large_bound_elsewhere_hides():
     # x0 >= 25000 and 0.25 x1 <= -1.025e-5 with x1 >= 0: infeasible by 1e-5 relative to the
-    # second row (shrunk by a hypothesis family), and HiGHS says so; ours reports numerical
-    # trouble (the residual check catches phase one's "feasible"), not "infeasible".
+    # second row (shrunk by a hypothesis family), and HiGHS says so. Phase one's total
+    # infeasibility threshold, 1e-8 x (1 + the largest bound of the whole LP), is above
+    # this gap; the phase-one duals must decide, and they prove it.
     lp = dict(c=[0.0, 0.0], A_ub=[[0.0, 0.25]], b_ub=[-1.025e-05], bounds=[(25000.0, None), (0, None)])
     assert highs(**lp).status == "infeasible"
     result = solve(**lp)
     assert result.status == "infeasible", result.message
+    assert_proves_infeasible(general_form(**lp), result.farkas)  # Farkas, checked by arithmetic
 
 
 def test_a_row_of_a_general_form_lp_is_named_as_such():

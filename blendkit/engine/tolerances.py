@@ -59,6 +59,11 @@ class Tolerances:
 # a phase one that ends "infeasible" without such a proof is solved again unscaled, and
 # reported as numerical trouble if the proof is still missing.
 CERTIFICATE_PROOF = 1e-9
+# An unbounded verdict must likewise prove itself: its ray, in the original units, may move
+# a row the wrong way by CERTIFICATE_PROOF x the row's terms along it plus this many ulps of
+# the row's entries (the rounding of A·ray itself); see `certificate.proves_unbounded`.
+# A ray that does not prove itself is solved again unscaled, then reported as trouble.
+RAY_ROUNDING_ULPS = 4
 
 # ----- inside the simplex iterations ------------------------------------------------------
 
