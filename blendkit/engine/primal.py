@@ -61,6 +61,11 @@ class _PrimalRun:
             delta = -direction * alpha
             step = primal_ratio_test(state, q, delta, self.bland)
             if step is None:
+                if state.factor.updates:
+                    # Judge unboundedness on fresh factors and reduced costs only: an
+                    # updated column may hide a blocker or a stale d[q] ask for a move.
+                    self.d = state.refresh(self.cost)
+                    continue
                 state.ray = self.ray(q, direction, delta)
                 return "unbounded"
             theta, r, hits_upper = step
