@@ -566,8 +566,10 @@ def test_a_gap_scaling_hides_is_found_unscaled():
     # x >= 0 with 5000 x >= 0.125 and 2500 x <= 0.0624881875...: x must be at least 2.5e-5
     # and at most 2.49953e-5, a gap of 2e-5 relative to row 0 (shrunk by a hypothesis
     # family, tests/test_engine_families.py). Scaled by 1/4096, the rows' bounds are
-    # 3e-5 and phase one's threshold swallows the gap; the residual check catches the
-    # answer and the LP is solved once more unscaled. HiGHS calls it infeasible too.
+    # 3e-5 and the gap (phase one's total, 5.8e-9) sits below phase one's threshold
+    # (1e-8 x (1 + the largest bound)): the phase-one duals must prove it on the scaled
+    # LP, or the residual check catch the answer and the LP be solved once more unscaled.
+    # HiGHS calls it infeasible too.
     lp = dict(c=[0.0], A_ub=[[-5000.0], [2500.0]], b_ub=[-0.125, 0.062488187511249994])
     assert highs(**lp).status == "infeasible"
     result = solve(**lp)
