@@ -2,6 +2,9 @@
 
 from __future__ import annotations
 
+import dataclasses
+import importlib
+
 import numpy as np
 import pytest
 from hypothesis import HealthCheck, given, settings
@@ -143,6 +146,46 @@ def test_unbounded():
     result = solve(**lp)
     assert result.status == "unbounded" == highs(**lp).status
     assert_improving_ray(general_form(**lp), result.ray)
+
+
+def test_a_ray_that_crosses_a_bound_proves_nothing():
+    # min -x0 with x0 - x1 <= 1, x >= 0: unbounded along (1, 1) (HiGHS agrees). Our own
+    # check of a ray (certificate.proves_unbounded) accepts the engine's ray and rejects
+    # (1, 0.5), along which the row rises, and (1, -1), along which x1 falls below 0, just
+    # as the plain arithmetic of tests/lp_checks.py does.
+    from blendkit.engine.certificate import proves_unbounded
+    from blendkit.engine.standard_form import to_standard_form
+
+    lp = dict(c=[-1.0, 0.0], A_ub=[[1.0, -1.0]], b_ub=[1.0])
+    assert highs(**lp).status == "unbounded"
+    form, general = to_standard_form(**lp), general_form(**lp)
+    result = solve(**lp)
+    assert result.status == "unbounded" and proves_unbounded(form, result.ray)
+    assert_improving_ray(general, result.ray)
+    for bad in ([1.0, 0.5], [1.0, -1.0], [-1.0, -1.0]):
+        assert not proves_unbounded(form, np.array(bad))
+        with pytest.raises(AssertionError):
+            assert_improving_ray(general, np.array(bad))
+
+
+def test_an_unproven_ray_is_numerical_trouble(monkeypatch):
+    # Should the simplex ever end "unbounded" with a ray that crosses a bound (here forced:
+    # (1, 0.5) makes the row x0 - x1 <= 1 rise), the solve is repeated unscaled and then
+    # reported as numerical trouble, never as "unbounded" with a wrong ray.
+    solve_module = importlib.import_module("blendkit.engine.solve")  # the package's `solve` hides it
+    real = solve_module.run_simplex
+
+    def wrong_ray(*args, **kwargs):
+        outcome = real(*args, **kwargs)
+        return dataclasses.replace(outcome, ray=np.array([1.0, 0.5]))
+
+    monkeypatch.setattr(solve_module, "run_simplex", wrong_ray)
+    lp = dict(c=[-1.0, 0.0], A_ub=[[1.0, -1.0]], b_ub=[1.0])
+    with pytest.raises(AssertionError):
+        assert_improving_ray(general_form(**lp), np.array([1.0, 0.5]))  # the ray is wrong
+    result = solve(**lp)
+    assert result.status == "numerical_trouble" and result.ray is None
+    assert "ray does not prove it" in result.message
 
 
 def test_iteration_limit_is_a_status():
