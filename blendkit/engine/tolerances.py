@@ -21,7 +21,9 @@ DUAL_FEASIBILITY = 1e-9
 # column (or absolute, when that is below 1), are never chosen.
 PIVOT = 1e-9
 # Phase one reports "infeasible" when the sum of artificial variables stays above
-# this, relative to 1 + the largest finite bound or right-hand side.
+# this, relative to 1 + the largest finite bound or right-hand side; or, below that, above
+# PRIMAL_FEASIBILITY when its duals prove it (`certificate.proves_infeasible`), since a
+# large bound on one column would otherwise hide a small row's gap.
 INFEASIBILITY = 1e-8
 # After solving, residuals in the original problem above this (relative to
 # 1 + the size of the row's terms) turn "optimal" into "numerical_trouble".
