@@ -21,7 +21,11 @@ BOUND_TOL = 1e-9
 # A direction or a certificate is accepted with rounding of this size, relative to the
 # magnitudes of the terms involved.
 # Entries of a ray (scaled to largest 1) below this are the rounding of its computation
-# (seen: 2.8e-16 on a column the ray does not use, moving a 0.0025 row by 7e-19).
+# (seen: 2.8e-16 on a column the ray does not use, moving a 0.0025 row by 7e-19), when
+# their weight (|d_j| x the size of the column and cost) is also below this share of the
+# largest: with columns scaled over 1e-6...1e6 a real entry may sit 1e-13 below the
+# largest and still carry a row (seen: 5.3e-5 beside 5.6e7, on a column of entries 3.7e6,
+# without which a ranged row fell by 3.5e-6 over terms of 4e-3).
 RAY_NOISE = 1e-12
 PROOF_TOL = 1e-9
 
@@ -107,7 +111,9 @@ def assert_improving_ray(lp: GeneralLP, ray: np.ndarray) -> None:
     """
     assert ray is not None and ray.shape == lp.c.shape
     d = ray / np.abs(ray).max()
-    d[np.abs(d) < RAY_NOISE] = 0.0  # rounding noise of the ray's own entries, not moves
+    weight = np.abs(d) * (np.abs(lp.A).sum(axis=0) + np.abs(lp.c))
+    noise = (np.abs(d) < RAY_NOISE) & (weight < RAY_NOISE * weight.max())
+    d[noise] = 0.0  # rounding noise of the ray's own entries, not moves
     change = lp.A @ d
     ulps = 4 * np.finfo(float).eps * np.abs(lp.A).sum(axis=1)
     room = PROOF_TOL * (np.abs(lp.A) @ np.abs(d)) + ulps

@@ -2,6 +2,9 @@
 
 from __future__ import annotations
 
+import dataclasses
+import importlib
+
 import numpy as np
 import pytest
 from hypothesis import HealthCheck, given, settings
@@ -143,6 +146,46 @@ def test_unbounded():
     result = solve(**lp)
     assert result.status == "unbounded" == highs(**lp).status
     assert_improving_ray(general_form(**lp), result.ray)
+
+
+def test_a_ray_that_crosses_a_bound_proves_nothing():
+    # min -x0 with x0 - x1 <= 1, x >= 0: unbounded along (1, 1) (HiGHS agrees). Our own
+    # check of a ray (certificate.proves_unbounded) accepts the engine's ray and rejects
+    # (1, 0.5), along which the row rises, and (1, -1), along which x1 falls below 0, just
+    # as the plain arithmetic of tests/lp_checks.py does.
+    from blendkit.engine.certificate import proves_unbounded
+    from blendkit.engine.standard_form import to_standard_form
+
+    lp = dict(c=[-1.0, 0.0], A_ub=[[1.0, -1.0]], b_ub=[1.0])
+    assert highs(**lp).status == "unbounded"
+    form, general = to_standard_form(**lp), general_form(**lp)
+    result = solve(**lp)
+    assert result.status == "unbounded" and proves_unbounded(form, result.ray)
+    assert_improving_ray(general, result.ray)
+    for bad in ([1.0, 0.5], [1.0, -1.0], [-1.0, -1.0]):
+        assert not proves_unbounded(form, np.array(bad))
+        with pytest.raises(AssertionError):
+            assert_improving_ray(general, np.array(bad))
+
+
+def test_an_unproven_ray_is_numerical_trouble(monkeypatch):
+    # Should the simplex ever end "unbounded" with a ray that crosses a bound (here forced:
+    # (1, 0.5) makes the row x0 - x1 <= 1 rise), the solve is repeated unscaled and then
+    # reported as numerical trouble, never as "unbounded" with a wrong ray.
+    solve_module = importlib.import_module("blendkit.engine.solve")  # the package's `solve` hides it
+    real = solve_module.run_simplex
+
+    def wrong_ray(*args, **kwargs):
+        outcome = real(*args, **kwargs)
+        return dataclasses.replace(outcome, ray=np.array([1.0, 0.5]))
+
+    monkeypatch.setattr(solve_module, "run_simplex", wrong_ray)
+    lp = dict(c=[-1.0, 0.0], A_ub=[[1.0, -1.0]], b_ub=[1.0])
+    with pytest.raises(AssertionError):
+        assert_improving_ray(general_form(**lp), np.array([1.0, 0.5]))  # the ray is wrong
+    result = solve(**lp)
+    assert result.status == "numerical_trouble" and result.ray is None
+    assert "ray does not prove it" in result.message
 
 
 def test_iteration_limit_is_a_status():
@@ -566,8 +609,10 @@ def test_a_gap_scaling_hides_is_found_unscaled():
     # x >= 0 with 5000 x >= 0.125 and 2500 x <= 0.0624881875...: x must be at least 2.5e-5
     # and at most 2.49953e-5, a gap of 2e-5 relative to row 0 (shrunk by a hypothesis
     # family, tests/test_engine_families.py). Scaled by 1/4096, the rows' bounds are
-    # 3e-5 and phase one's threshold swallows the gap; the residual check catches the
-    # answer and the LP is solved once more unscaled. HiGHS calls it infeasible too.
+    # 3e-5 and the gap (phase one's total, 5.8e-9) sits below phase one's threshold
+    # (1e-8 x (1 + the largest bound)): the phase-one duals must prove it on the scaled
+    # LP, or the residual check catch the answer and the LP be solved once more unscaled.
+    # HiGHS calls it infeasible too.
     lp = dict(c=[0.0], A_ub=[[-5000.0], [2500.0]], b_ub=[-0.125, 0.062488187511249994])
     assert highs(**lp).status == "infeasible"
     result = solve(**lp)
@@ -575,16 +620,16 @@ def test_a_gap_scaling_hides_is_found_unscaled():
     assert_proves_infeasible(general_form(**lp), result.farkas)
 
 
-@pytest.mark.xfail(strict=True, reason="phase one measures its total infeasibility against 1e-8 x (1 + the "
-                   "largest bound of the whole LP), so a large bound elsewhere hides a small row's gap")
 def test_a_gap_a_large_bound_elsewhere_hides():
     # x0 >= 25000 and 0.25 x1 <= -1.025e-5 with x1 >= 0: infeasible by 1e-5 relative to the
-    # second row (shrunk by a hypothesis family), and HiGHS says so; ours reports numerical
-    # trouble (the residual check catches phase one's "feasible"), not "infeasible".
+    # second row (shrunk by a hypothesis family), and HiGHS says so. Phase one's total
+    # infeasibility threshold, 1e-8 x (1 + the largest bound of the whole LP), is above
+    # this gap; the phase-one duals must decide, and they prove it.
     lp = dict(c=[0.0, 0.0], A_ub=[[0.0, 0.25]], b_ub=[-1.025e-05], bounds=[(25000.0, None), (0, None)])
     assert highs(**lp).status == "infeasible"
     result = solve(**lp)
     assert result.status == "infeasible", result.message
+    assert_proves_infeasible(general_form(**lp), result.farkas)  # Farkas, checked by arithmetic
 
 
 def test_a_row_of_a_general_form_lp_is_named_as_such():

@@ -294,19 +294,17 @@ def infeasible_lps(draw, max_rows: int = 60, max_cols: int = 40):
 # ----- the default suite: a modest number of each -------------------------------------
 
 
-# The default runs of the general-LP families are derandomized (the same LPs every run):
-# random draws of this family still find engine defects now and then (see the
-# engine_edges families below), and CI must not pass or fail by luck. A change to the
-# engine that breaks any of these fixed LPs still fails here.
+# The default runs of the general-LP families are derandomized (the same LPs every run),
+# so that CI never passes or fails by luck; the long families below draw afresh each run.
+# A change to the engine that breaks any of these fixed LPs still fails here.
 @settings(max_examples=300, derandomize=True, **SETTINGS)
 @given(general_lps())
 def test_general_lps_agree_with_highs(form):
     check_form_against_highs(form)
 
 
-# The two-phase primal method alone meets those defects most often, even on this
-# fixed set, so this family runs with the engine_edges ones until they are fixed.
-@pytest.mark.engine_edges
+# The same fixed set through the two-phase primal method alone, which meets unbounded
+# LPs in phase two and so checks its rays (as proofs, tests/lp_checks.py) most often.
 @settings(max_examples=150, derandomize=True, **SETTINGS)
 @given(general_lps())
 def test_general_lps_two_phase_primal_agrees_with_highs(form):
@@ -317,10 +315,8 @@ def check_infeasible(form: StandardForm) -> None:
     """An LP made infeasible: ours says so with a certificate that proves it (checked by
     check_form_against_highs), or reports numerical trouble; never an optimum or a ray.
     Numerical trouble is a known weakness on the badly scaled members (entries from 1e-8
-    to 5, bounds up to 1e6): phase one's threshold, 1e-8 x (1 + the largest bound), may
-    swallow a small row's gap (the residual check then refuses the point; see
-    test_a_gap_a_large_bound_elsewhere_hides in tests/test_engine.py), or phase one's
-    duals may fall short of a proof at 1e-9 (CERTIFICATE_PROOF), solved scaled or not."""
+    to 5, bounds up to 1e6): phase one's duals may fall short of a proof at 1e-9
+    (CERTIFICATE_PROOF), solved scaled or not."""
     ours = solve_form(form)
     if ours.status == "numerical_trouble":
         ref = highs_form(form)
@@ -345,18 +341,14 @@ def test_certificates_of_lps_made_infeasible(form):
 # ----- long families: many more of each (run by .ci/run) -------------------------------
 
 
-# These two still find engine defects, so they are kept out of CI until they are fixed
-# (`pytest -m engine_edges`): on some degenerate, badly scaled general LPs the engine
-# answers "unbounded" where HiGHS finds an optimum, or gives a ray that crosses a bound.
-# The 300-example runs of the same families above pass and stay in the default suite.
-@pytest.mark.engine_edges
+@pytest.mark.long
 @settings(max_examples=3000, **SETTINGS)
 @given(general_lps())
 def test_many_general_lps_agree_with_highs(form):
     check_form_against_highs(form)
 
 
-@pytest.mark.engine_edges
+@pytest.mark.long
 @settings(max_examples=1500, **SETTINGS)
 @given(general_lps())
 def test_many_general_lps_two_phase_primal_agree_with_highs(form):

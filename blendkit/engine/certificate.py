@@ -1,20 +1,26 @@
-"""The certificate of infeasibility, in the original problem's units.
+"""The certificate of infeasibility, in the original problem's units, and the checks that
+an infeasible or unbounded verdict proves itself.
 
 Phase one ends infeasible with duals that prove it (Farkas): `certificate` scales them
 back from the engine's scaled rows and columns and lists the constraints they involve,
-which is where conflict diagnosis starts.
+which is where conflict diagnosis starts. `proves_infeasible` checks such duals, and
+`proves_unbounded` a ray, by plain arithmetic on the problem they are given.
 """
 
 from __future__ import annotations
+
+from typing import TYPE_CHECKING
 
 import numpy as np
 import scipy.sparse as sp
 
 from blendkit.engine.result import Certificate, ConflictPart
 from blendkit.engine.scaling import Scaling
-from blendkit.engine.simplex import SimplexOutcome
 from blendkit.engine.standard_form import StandardForm
-from blendkit.engine.tolerances import CERTIFICATE_PROOF, Tolerances
+from blendkit.engine.tolerances import CERTIFICATE_PROOF, RAY_ROUNDING_ULPS, Tolerances
+
+if TYPE_CHECKING:  # simplex imports this module (phase one's proof)
+    from blendkit.engine.simplex import SimplexOutcome
 
 
 def certificate(form: StandardForm, scaling: Scaling, outcome: SimplexOutcome, tol: Tolerances) -> Certificate:
@@ -91,3 +97,39 @@ def proves_infeasible(form: StandardForm, y: np.ndarray, proof: float = CERTIFIC
     slack = float(noise[boxed] @ np.maximum(np.abs(form.col_lower[boxed]), np.abs(form.col_upper[boxed])))
     terms = float(np.abs(y[used]) @ np.abs(row_bound) + np.abs(g[pressed]) @ np.abs(col_bound)) + slack
     return least - most - slack > proof * max(terms, np.finfo(float).tiny)
+
+
+def _abs_sums(A) -> tuple[np.ndarray, np.ndarray]:
+    """Sums of |A| along the rows and along the columns, dense or sparse alike."""
+    size = abs(A) if sp.issparse(A) else np.abs(A)
+    return np.asarray(size.sum(axis=1)).ravel(), np.asarray(size.sum(axis=0)).ravel()
+
+
+def proves_unbounded(form: StandardForm, ray: np.ndarray, proof: float = CERTIFICATE_PROOF) -> bool:
+    """True when `ray` is, in the units of `form`, a direction along which no row or
+    bound is crossed and the cost falls, by more than `proof` relative to the terms.
+
+    A row with an upper bound may rise, and one with a lower bound fall, by at most
+    `proof` x its terms sum |a_ij ray_j| plus a few ulps of its entries (rounding); a
+    variable counts as moving when its share of the ray's weight (|ray_j| x the size of
+    its column and cost) is above `proof`, and then must not move towards a finite bound
+    in its way; c·ray must be below -`proof` x sum |c_j ray_j|. With a feasible point,
+    such a ray shows the cost has no lower limit.
+    """
+    if ray is None or not np.all(np.isfinite(ray)) or not np.any(ray):
+        return False
+    d = ray / np.abs(ray).max()
+    A = form.A
+    row_sums, col_sums = _abs_sums(A)
+    change = np.asarray(A @ d).ravel()
+    terms = np.asarray(abs(A) @ np.abs(d) if sp.issparse(A) else np.abs(A) @ np.abs(d)).ravel()
+    room = proof * terms + RAY_ROUNDING_ULPS * np.finfo(float).eps * row_sums
+    if np.any(change[np.isfinite(form.row_upper)] > room[np.isfinite(form.row_upper)]):
+        return False
+    if np.any(change[np.isfinite(form.row_lower)] < -room[np.isfinite(form.row_lower)]):
+        return False
+    weight = np.abs(d) * (col_sums + np.abs(form.c))
+    moves = weight > proof * weight.sum()
+    if np.any(d[moves & np.isfinite(form.col_upper)] > 0) or np.any(d[moves & np.isfinite(form.col_lower)] < 0):
+        return False
+    return bool(form.c @ d < -proof * (np.abs(form.c) @ np.abs(d)))

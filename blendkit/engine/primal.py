@@ -12,7 +12,7 @@ from __future__ import annotations
 import numpy as np
 
 from blendkit.engine.pricing import StallWatch, entering_variable, prices_out, update_primal_weights
-from blendkit.engine.ratio_test import primal_ratio_test
+from blendkit.engine.ratio_test import negligible, primal_ratio_test
 from blendkit.engine.simplex_state import SimplexState, pivots_disagree
 
 
@@ -61,6 +61,11 @@ class _PrimalRun:
             delta = -direction * alpha
             step = primal_ratio_test(state, q, delta, self.bland)
             if step is None:
+                if state.factor.updates:
+                    # Judge unboundedness on fresh factors and reduced costs only: an
+                    # updated column may hide a blocker or a stale d[q] ask for a move.
+                    self.d = state.refresh(self.cost)
+                    continue
                 state.ray = self.ray(q, direction, delta)
                 return "unbounded"
             theta, r, hits_upper = step
@@ -90,9 +95,12 @@ class _PrimalRun:
         return prices_out(self.d, self.rise, self.fall, state.tol.dual_feasibility)
 
     def ray(self, q: int, direction: float, delta: np.ndarray) -> np.ndarray:
-        """The direction in z along which the objective falls without limit."""
-        ray = np.zeros_like(self.state.z)
-        ray[self.state.head] = delta
+        """The direction in z along which the objective falls without limit. Entries of
+        delta the ratio test took for zero are zero here too: they are rounding (a basic
+        variable at a bound, moved by 1e-12 of the largest entry, would cross it)."""
+        state = self.state
+        ray = np.zeros_like(state.z)
+        ray[state.head] = np.where(negligible(delta, state.tol.pivot), 0.0, delta)
         ray[q] = direction
         return ray
 

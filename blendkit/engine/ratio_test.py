@@ -15,6 +15,14 @@ import numpy as np
 from blendkit.engine.tolerances import BLAND_TIE_ABSOLUTE, BLAND_TIE_RELATIVE, FLIP_SORT_ALL, FLIP_WINDOW
 
 
+def negligible(delta: np.ndarray, pivot: float) -> np.ndarray:
+    """Where entries of the column `delta` are below the pivot tolerance, relative to its
+    largest entry (or absolute, when that is below 1): such an entry never blocks a
+    primal step, and an unbounded ray takes it for the zero it stands for."""
+    rate = np.abs(delta)
+    return rate <= pivot * max(1.0, rate.max(initial=0.0))
+
+
 def primal_ratio_test(state, q: int, delta: np.ndarray, bland: bool):
     """Step length and leaving position for entering variable q of a `SimplexState`.
 
@@ -30,7 +38,7 @@ def primal_ratio_test(state, q: int, delta: np.ndarray, bland: bool):
     rate = np.abs(delta)
     # Entries below the pivot tolerance, relative to the column's largest, never
     # block: pivoting on them would make the basis nearly singular.
-    blocking = rate > tol.pivot * max(1.0, rate.max(initial=0.0))
+    blocking = ~negligible(delta, tol.pivot)
     rising = delta > 0
     bound = np.where(rising, state.upper[head], state.lower[head])
     room = np.where(rising, bound - xb, xb - bound)

@@ -43,6 +43,7 @@ from dataclasses import dataclass
 import numpy as np
 
 from blendkit.engine.basis_factor import SingularBasis
+from blendkit.engine.certificate import proves_infeasible
 from blendkit.engine.dual import run_dual, start_dual
 from blendkit.engine.pricing import prices_out
 from blendkit.engine.primal import run_primal
@@ -179,7 +180,19 @@ def _phase_one(state: SimplexState) -> SimplexOutcome | None:
     scale = 1.0 + (np.abs(finite).max() if finite.size else 0.0)
     if infeasibility > state.tol.infeasibility * scale:
         return _infeasible(state, infeasibility)
+    if infeasibility > state.tol.primal_feasibility and _duals_prove_infeasible(state):
+        # Below that threshold (scaled by the largest bound of the whole LP, which may
+        # sit on an unrelated column) a real gap may still hide: the duals decide.
+        return _infeasible(state, infeasibility)
     return None
+
+
+def _duals_prove_infeasible(state: SimplexState) -> bool:
+    """True when phase one's duals prove, on the (scaled) problem itself, that no point exists."""
+    n, m = state.n, state.m
+    form = StandardForm(c=state.c_struct, A=state.A, row_lower=state.lower[n : n + m],
+                        row_upper=state.upper[n : n + m], col_lower=state.lower[:n], col_upper=state.upper[:n])
+    return proves_infeasible(form, state.y)
 
 
 def _end_phase_one(state: SimplexState) -> None:

@@ -7,7 +7,7 @@ from dataclasses import replace
 
 import numpy as np
 
-from blendkit.engine.certificate import certificate, proves_infeasible
+from blendkit.engine.certificate import certificate, proves_infeasible, proves_unbounded
 from blendkit.engine.result import Basis, LPResult
 from blendkit.engine.scaling import Scaling, find_scaling, scale_form
 from blendkit.engine.simplex import SimplexOutcome, run_simplex
@@ -111,25 +111,33 @@ def solve_form(
     result, trusted = _checked(form, scaling, outcome, tol)
     if trusted:
         return result
-    if scale:  # a phase one misled by the scaling: once more, unscaled
+    if scale:  # a phase one or a ray misled by the scaling: once more, unscaled
         return solve_form(form, basis=basis, tolerances=tolerances, max_iterations=max_iterations, scale=False,
                           algorithm=algorithm, ranging=ranging)
     if result.status == "infeasible":
         return replace(result, status="numerical_trouble", message=(
             f"{result.message}, but its certificate does not prove it (tolerance {CERTIFICATE_PROOF:g})"))
+    if result.status == "unbounded":
+        return replace(result, status="numerical_trouble", ray=None, message=(
+            f"{result.message}, but its ray does not prove it (tolerance {CERTIFICATE_PROOF:g})"))
     return result
 
 
 def _checked(form: StandardForm, scaling: Scaling, outcome: SimplexOutcome, tol: Tolerances) -> tuple[LPResult, bool]:
     """The result in original units, and whether it stands: False for an optimum whose
-    residuals broke the tolerance, or an infeasible verdict its certificate does not prove
-    (scaling can shrink a right-hand side until phase one's threshold swallows a real gap,
-    or hide near-dependent rows; the caller then solves once more unscaled)."""
+    residuals broke the tolerance, an infeasible verdict its certificate does not prove
+    (scaling can hide near-dependent rows), or an unbounded one whose ray crosses a bound
+    or does not lower the cost in the original units; the caller then solves once more
+    unscaled."""
     if outcome.status == "optimal":
         result = _with_solution(form, scaling, outcome, tol)
         return result, result.status == "optimal"
     result = _without_solution(form, scaling, outcome, tol)
-    return result, result.certificate is None or proves_infeasible(form, result.certificate.row_multipliers)
+    if result.certificate is not None:
+        return result, proves_infeasible(form, result.certificate.row_multipliers)
+    if result.status == "unbounded":
+        return result, proves_unbounded(form, result.ray)
+    return result, True
 
 
 def _without_solution(form: StandardForm, scaling: Scaling, outcome: SimplexOutcome, tol: Tolerances) -> LPResult:

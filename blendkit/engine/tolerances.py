@@ -21,7 +21,9 @@ DUAL_FEASIBILITY = 1e-9
 # column (or absolute, when that is below 1), are never chosen.
 PIVOT = 1e-9
 # Phase one reports "infeasible" when the sum of artificial variables stays above
-# this, relative to 1 + the largest finite bound or right-hand side.
+# this, relative to 1 + the largest finite bound or right-hand side; or, below that, above
+# PRIMAL_FEASIBILITY when its duals prove it (`certificate.proves_infeasible`), since a
+# large bound on one column would otherwise hide a small row's gap.
 INFEASIBILITY = 1e-8
 # After solving, residuals in the original problem above this (relative to
 # 1 + the size of the row's terms) turn "optimal" into "numerical_trouble".
@@ -59,6 +61,11 @@ class Tolerances:
 # a phase one that ends "infeasible" without such a proof is solved again unscaled, and
 # reported as numerical trouble if the proof is still missing.
 CERTIFICATE_PROOF = 1e-9
+# An unbounded verdict must likewise prove itself: its ray, in the original units, may move
+# a row the wrong way by CERTIFICATE_PROOF x the row's terms along it plus this many ulps of
+# the row's entries (the rounding of A·ray itself); see `certificate.proves_unbounded`.
+# A ray that does not prove itself is solved again unscaled, then reported as trouble.
+RAY_ROUNDING_ULPS = 4
 
 # ----- inside the simplex iterations ------------------------------------------------------
 
