@@ -650,3 +650,19 @@ def test_a_row_of_a_general_form_lp_is_named_as_such():
     worst, where = worst_violation(form, np.array([4.0, -0.5]))
     assert where == "equality row 0"
     assert worst == pytest.approx(0.4)
+
+
+def test_near_dependent_rows_loosened_by_scaling_are_solved_exactly():
+    # Shrunk from a long general-LP family draw in CI: two equality rows 2.5e-5 apart
+    # (250 x1 - 4250.10625 x2 = -1.00002656 and 250 x1 - 4250 x2 = -1) pin x2 = 0.00025.
+    # The scaled solve stopped on a point that broke a row by 7.8e-7 relative, inside the
+    # residual tolerance (1e-6) but not exact; above RESIDUAL_RETRY the LP is solved
+    # unscaled too. Reference: HiGHS through linprog on the same LP.
+    c = np.array([0.0, 0.0, 250.0])
+    A_eq = np.array([[0.0, 250.0, -4250.10625], [0.0, 250.0, -4250.0], [250.0, 0.0, 250.0]])
+    b_eq = np.array([-1.00002656, -1.0, 0.125])
+    ours = solve(c, A_eq=A_eq, b_eq=b_eq)
+    ref = highs(c, A_eq=A_eq, b_eq=b_eq)
+    assert ours.status == ref.status == "optimal"
+    assert ours.objective == pytest.approx(ref.objective, rel=1e-9)
+    np.testing.assert_allclose(A_eq @ ours.x, b_eq, rtol=1e-9, atol=1e-12)

@@ -12,7 +12,9 @@ from blendkit.engine.result import Basis, LPResult
 from blendkit.engine.scaling import Scaling, find_scaling, scale_form
 from blendkit.engine.simplex import SimplexOutcome, run_simplex
 from blendkit.engine.standard_form import StandardForm, to_standard_form
-from blendkit.engine.tolerances import CERTIFICATE_PROOF, ITERATION_LIMIT_MIN, ITERATION_LIMIT_PER_LINE, Tolerances
+from blendkit.engine.tolerances import (
+    CERTIFICATE_PROOF, ITERATION_LIMIT_MIN, ITERATION_LIMIT_PER_LINE, RESIDUAL_RETRY, Tolerances,
+)
 from blendkit.engine.verify import worst_violation
 
 # The engine's matrices are small: threaded BLAS only adds overhead, and on a busy
@@ -109,6 +111,11 @@ def solve_form(
     with one_blas_thread():
         outcome = run_simplex(scaled, tol, max_iterations, basis=start, allow_dual=algorithm == "auto", ranging=ranging)
     result, trusted = _checked(form, scaling, outcome, tol)
+    if trusted and scale and result.status == "optimal" and result.residual > RESIDUAL_RETRY:
+        # Near-dependent rows, loosened by the scaling: keep the more exact of the two.
+        plain = solve_form(form, basis=basis, tolerances=tolerances, max_iterations=max_iterations, scale=False,
+                           algorithm=algorithm, ranging=ranging)
+        return plain if plain.status == "optimal" and plain.residual < result.residual else result
     if trusted:
         return result
     if scale:  # a phase one or a ray misled by the scaling: once more, unscaled
