@@ -24,6 +24,7 @@ certificate are checked as proofs (tests/lp_checks.py).
 from __future__ import annotations
 
 import dataclasses
+import os
 import sys
 
 import numpy as np
@@ -48,6 +49,10 @@ RTOL = 1e-7
 # Hypothesis prints a failing LP with repr(): in full, so that it can be pasted and rerun.
 np.set_printoptions(threshold=sys.maxsize)
 SETTINGS = dict(deadline=None, suppress_health_check=[HealthCheck.too_slow, HealthCheck.data_too_large])
+# Under CI (`CI=true`, set by .ci/run) the long general-LP families draw the same LPs every
+# run, so that a landing cannot fail by the luck of the draw; run by hand they draw afresh
+# each time and keep searching (pass --hypothesis-seed to replay a run).
+LONG_SETTINGS = dict(derandomize=os.environ.get("CI") == "true", **SETTINGS)
 
 
 def quarters(low: int, high: int) -> st.SearchStrategy[float]:
@@ -188,6 +193,13 @@ def check_form_against_highs(form: StandardForm, algorithm: str = "auto", ours=N
         # unbounded (its zero-cost LP feasible at its 1e-7). Ours must then prove, in plain
         # arithmetic, that no point exists; a proof outweighs an answer without a point.
         assert_proves_infeasible(lp, ours.farkas)
+        return ours
+    if ref.status == ours.status == "optimal" and _loose(lp, ref.x, 1e-8) and not _loose(lp, ours.x):
+        # HiGHS's point breaks a row beyond 1e-8 (inside its 1e-7; seen: x3 = x5 asked
+        # exactly, HiGHS off by 7.8e-8, and a near-dependent row then lets its cost fall
+        # from 1/16 to 0). Ours keeps every row to 1e-9 and must prove its optimum by weak
+        # duality; the objectives may then differ.
+        assert_optimal_by_duality(lp, ours.x, ours.row_marginals, RTOL)
         return ours
     if ref.status == "infeasible" and ours.status == "numerical_trouble":
         return ours  # a known weakness on badly scaled LPs, never a wrong answer (check_infeasible)
@@ -342,21 +354,21 @@ def test_certificates_of_lps_made_infeasible(form):
 
 
 @pytest.mark.long
-@settings(max_examples=3000, **SETTINGS)
+@settings(max_examples=3000, **LONG_SETTINGS)
 @given(general_lps())
 def test_many_general_lps_agree_with_highs(form):
     check_form_against_highs(form)
 
 
 @pytest.mark.long
-@settings(max_examples=1500, **SETTINGS)
+@settings(max_examples=1500, **LONG_SETTINGS)
 @given(general_lps())
 def test_many_general_lps_two_phase_primal_agree_with_highs(form):
     check_form_against_highs(form, algorithm="primal")
 
 
 @pytest.mark.long
-@settings(max_examples=1000, **SETTINGS)
+@settings(max_examples=1000, **LONG_SETTINGS)
 @given(infeasible_lps())
 def test_many_certificates_of_lps_made_infeasible(form):
     check_infeasible(form)
