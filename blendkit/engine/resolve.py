@@ -34,9 +34,9 @@ from blendkit.engine.dual import run_dual
 from blendkit.engine.primal import run_primal
 from blendkit.engine.result import Basis, LPResult
 from blendkit.engine.scaling import Scaling, find_scaling, scale_form
-from blendkit.engine.simplex import _optimal
+from blendkit.engine.simplex import optimal_outcome
 from blendkit.engine.simplex_state import SimplexState
-from blendkit.engine.solve import _checked, one_blas_thread, solve_form
+from blendkit.engine.solve import checked_result, one_blas_thread, solve_form
 from blendkit.engine.standard_form import StandardForm, to_standard_form
 from blendkit.engine.tolerances import ITERATION_LIMIT_MIN, ITERATION_LIMIT_PER_LINE, Tolerances
 
@@ -175,8 +175,8 @@ class Resolver:
             status, algorithm = "numerical_trouble", ""
         if status != "optimal":
             return None
-        outcome = _optimal(state, phase_one=0, warm=True, algorithm=algorithm, ranging=ranging)
-        result, trusted = _checked(self._form, self._scaling, outcome, self._tol)
+        outcome = optimal_outcome(state, phase_one=0, warm=True, algorithm=algorithm, ranging=ranging)
+        result, trusted = checked_result(self._form, self._scaling, outcome, self._tol)
         if not trusted:
             return None
         self._basis = result.basis

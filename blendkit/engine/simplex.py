@@ -134,7 +134,7 @@ def _try_dual(state: SimplexState, basis, ranging: bool) -> SimplexOutcome | Non
         return _unbounded(state, phase_one=0)
     if status != "optimal":
         return None
-    return _optimal(state, phase_one=0, warm=basis is not None, algorithm="dual", ranging=ranging)
+    return optimal_outcome(state, phase_one=0, warm=basis is not None, algorithm="dual", ranging=ranging)
 
 
 def _dual_feasible(state: SimplexState) -> bool:
@@ -162,7 +162,7 @@ def _two_phase(state: SimplexState, warm: bool, ranging: bool) -> SimplexOutcome
     if status == "iteration_limit":
         return _stopped(state, status, f"iteration limit ({state.max_iterations}) reached in phase two",
                         phase_one=phase_one)
-    return _optimal(state, phase_one=phase_one, warm=warm, algorithm="primal", ranging=ranging)
+    return optimal_outcome(state, phase_one=phase_one, warm=warm, algorithm="primal", ranging=ranging)
 
 
 def _phase_one(state: SimplexState) -> SimplexOutcome | None:
@@ -235,7 +235,7 @@ def _drive_out_artificials(state: SimplexState) -> None:
 # ----- outcomes -----------------------------------------------------------------------
 
 
-def _optimal(state: SimplexState, *, phase_one: int, warm: bool, algorithm: str, ranging: bool) -> SimplexOutcome:
+def optimal_outcome(state: SimplexState, *, phase_one: int, warm: bool, algorithm: str, ranging: bool) -> SimplexOutcome:
     """The outcome at an optimal basis (duals and reduced costs already computed)."""
     n, m = state.n, state.m
     return SimplexOutcome(

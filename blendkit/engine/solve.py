@@ -110,7 +110,7 @@ def solve_form(
         start = (basis.head, basis.at_upper)
     with one_blas_thread():
         outcome = run_simplex(scaled, tol, max_iterations, basis=start, allow_dual=algorithm == "auto", ranging=ranging)
-    result, trusted = _checked(form, scaling, outcome, tol)
+    result, trusted = checked_result(form, scaling, outcome, tol)
     if trusted and scale and result.status == "optimal" and result.residual > RESIDUAL_RETRY:
         # Near-dependent rows, loosened by the scaling: keep the more exact of the two.
         plain = solve_form(form, basis=basis, tolerances=tolerances, max_iterations=max_iterations, scale=False,
@@ -130,7 +130,7 @@ def solve_form(
     return result
 
 
-def _checked(form: StandardForm, scaling: Scaling, outcome: SimplexOutcome, tol: Tolerances) -> tuple[LPResult, bool]:
+def checked_result(form: StandardForm, scaling: Scaling, outcome: SimplexOutcome, tol: Tolerances) -> tuple[LPResult, bool]:
     """The result in original units, and whether it stands: False for an optimum whose
     residuals broke the tolerance, an infeasible verdict its certificate does not prove
     (scaling can hide near-dependent rows), or an unbounded one whose ray crosses a bound
