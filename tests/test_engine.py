@@ -8,6 +8,7 @@ import importlib
 import numpy as np
 import pytest
 from hypothesis import HealthCheck, given, settings
+from scipy.optimize import linprog
 from hypothesis import strategies as st
 from hypothesis.extra.numpy import arrays
 
@@ -666,3 +667,23 @@ def test_near_dependent_rows_loosened_by_scaling_are_solved_exactly():
     assert ours.status == ref.status == "optimal"
     assert ours.objective == pytest.approx(ref.objective, rel=1e-9)
     np.testing.assert_allclose(A_eq @ ours.x, b_eq, rtol=1e-9, atol=1e-12)
+
+
+def test_near_dependent_rows_broken_by_a_hair_are_solved_exactly():
+    # Shrunk from the long two-phase primal general-LP family in CI: two equality rows
+    # whose x1 coefficients differ by 1.25e-4 pin x1 = x2 = 0.00025; a point that breaks
+    # one of them by only 7.8e-9 lets x1 fall to its lower limit 0.0075 / 40 and the cost
+    # from 0.1875 to 0.1406. The scaled solve stopped there; above RESIDUAL_RETRY (1e-9)
+    # the LP is solved unscaled too. Reference: HiGHS through linprog told a primal
+    # feasibility tolerance of 1e-10 (at its default 1e-7 it stops on the loose point).
+    c = np.array([750.0, 0.0, 0.0])
+    A_eq = np.array([[0.0, 5629640271701475 / 2**50, -10.0], [0.0, 5.0, -10.0], [-2.5, 0.0, 5.0]])
+    b_eq = np.array([-0.00124996875, -0.00125, 0.000625])
+    A_ub = np.array([[0.0, 40.0, 0.0], [0.0, -40.0, 0.0]])
+    b_ub = np.array([0.01, -0.0075])
+    ours = solve(c, A_ub=A_ub, b_ub=b_ub, A_eq=A_eq, b_eq=b_eq, algorithm="primal")
+    ref = linprog(c, A_ub=A_ub, b_ub=b_ub, A_eq=A_eq, b_eq=b_eq, method="highs",
+                  options={"primal_feasibility_tolerance": 1e-10})
+    assert ref.status == 0 and ours.status == "optimal"
+    assert ours.objective == pytest.approx(ref.fun, rel=1e-9)
+    np.testing.assert_allclose(A_eq @ ours.x, b_eq, rtol=1e-9, atol=1e-14)
