@@ -6,6 +6,11 @@ misread."""
 
 from __future__ import annotations
 
+import os
+import signal
+import subprocess
+import sys
+
 import numpy as np
 import pytest
 from scipy.optimize import Bounds, LinearConstraint, linprog, milp
@@ -120,3 +125,40 @@ def test_an_infeasible_mip_agrees_on_the_status():
                      bounds=Bounds([0, 0, 0.3, 0], form.col_upper), integrality=[0, 0, 2, 1])
     assert reference.status == 2
     assert ours.status == check.status == "infeasible" and check.agrees and check.cost is None
+
+
+def test_a_mip_cross_check_in_a_forked_worker_ends_after_one_in_the_parent():
+    # HiGHS's worker threads do not survive a fork: without blendkit.lp.highs stopping them
+    # before it, a forked worker's MIP waited forever for them (as `--jobs 2` after a run in
+    # this process did). A fresh interpreter runs it, so a regression fails by the timeout
+    # instead of hanging the suite; each answer is checked against scipy's milp (HiGHS).
+    script = (
+        "import numpy as np\n"
+        "from concurrent.futures import ProcessPoolExecutor\n"
+        "from scipy.optimize import Bounds, LinearConstraint, milp\n"
+        "from blendkit.lp.highs import solve_with_highs\n"
+        "rng = np.random.default_rng(1)\n"
+        "A, c = rng.uniform(0, 1, (12, 30)), rng.uniform(1, 2, 30)\n"
+        "def mip(_=None):\n"
+        "    answer = solve_with_highs(c, A, np.full(12, 3.0), np.full(12, np.inf), np.zeros(30), np.full(30, 10.0),\n"
+        "                              integrality=np.ones(30, dtype=int), time_limit=60)\n"
+        "    return answer.status, answer.cost\n"
+        "first = mip()\n"
+        "with ProcessPoolExecutor(2) as pool:\n"
+        "    answers = list(pool.map(mip, range(2)))\n"
+        "reference = milp(c, constraints=LinearConstraint(A, 3.0, np.inf), bounds=Bounds(0, 10), integrality=1)\n"
+        "assert reference.status == 0\n"
+        "for status, cost in [first, *answers]:\n"
+        "    assert status == 'optimal' and abs(cost - reference.fun) <= 1e-6 * max(1, abs(reference.fun)), (status, cost)\n"
+        "print('ended')\n"
+    )
+    child = subprocess.Popen([sys.executable, "-c", script], stdout=subprocess.PIPE, stderr=subprocess.PIPE,
+                             text=True, start_new_session=True)
+    try:
+        out, err = child.communicate(timeout=300)
+    except subprocess.TimeoutExpired:
+        os.killpg(child.pid, signal.SIGKILL)  # the child and its hung workers
+        child.communicate()
+        pytest.fail("a forked worker's HiGHS MIP never ended")
+    assert child.returncode == 0, err
+    assert out.strip() == "ended"

@@ -4,8 +4,9 @@ highspy is a dependency of blendkit. It is imported here when a cross-check runs
 with --no-cross-check), so a run without one does not pay for loading it. The LP is handed
 over as it is (row_lower <= A x <= row_upper, column bounds), HiGHS solves it with its
 default options and prints nothing; `solve_with_highs` returns HiGHS's status in the
-engine's words and its cost. `blendkit.bench` builds its highspy models with `highs_lp`
-and `silent_highs` too.
+engine's words and its cost. Before any fork (the worker processes of --jobs) HiGHS's
+threads are stopped, so that a worker's MIP cannot wait for threads it never had.
+`blendkit.bench` builds its highspy models with `highs_lp` and `silent_highs` too.
 """
 
 from __future__ import annotations
@@ -35,6 +36,8 @@ OTHER_STATUS = "numerical_trouble"
 # scipy.optimize.milp's integrality codes, which `solve_with_highs` takes: 0 continuous,
 # 1 integer, 2 semi-continuous (0, or between the column's bounds).
 _KINDS = ("kContinuous", "kInteger", "kSemiContinuous")
+# True once this process has made a HiGHS instance here (HiGHS prints its banner only once).
+_banner_out = False
 
 
 @dataclass(frozen=True)
@@ -84,8 +87,13 @@ def highs_lp(c, A, row_lower, row_upper, col_lower, col_upper, integrality=None)
 def silent_highs():
     """A HiGHS instance that prints nothing; the first one made in a process prints a
     banner from C, so that one is made with the process's stdout sent to /dev/null."""
+    global _banner_out
     import highspy
 
+    if _banner_out:
+        h = highspy.Highs()
+        h.setOptionValue("output_flag", False)
+        return h
     sys.stdout.flush()
     saved = os.dup(1)
     try:
@@ -99,8 +107,20 @@ def silent_highs():
     finally:
         os.dup2(saved, 1)
         os.close(saved)
+    _banner_out = True
     h.setOptionValue("output_flag", False)
     return h
+
+
+def _stop_highs_threads() -> None:
+    """Before a fork: a child inherits HiGHS's scheduler but not its worker threads, and its
+    next MIP waits for them forever; stopped now, HiGHS starts them afresh when next run."""
+    highspy = sys.modules.get("highspy")
+    if highspy is not None:
+        highspy.Highs.resetGlobalScheduler(True)
+
+
+os.register_at_fork(before=_stop_highs_threads)
 
 
 def solve_with_highs(c, A, row_lower, row_upper, col_lower, col_upper, *, integrality=None,
