@@ -88,7 +88,7 @@ def start_up_lines(rounds: int = _ROUNDS) -> Iterator[str]:
     yield f"{'all the imports':<70}{sum(medians):>7.3f}"
     for what, module, statement in NOT_IMPORTED:
         if importlib.util.find_spec(module) is None:
-            yield f"{what:<70}{'not installed':>14}"
+            yield f"{what:<70}{'-':>7}  (not installed)"
             continue
         other = [_child_times([*statements, statement])[-1] for _ in range(rounds)]
         yield f"{what:<70}{statistics.median(other):>7.3f}"
