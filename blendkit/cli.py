@@ -133,7 +133,7 @@ def solve(
     prices: Path = typer.Option(None, "--prices", metavar="PRICES", help="A workbook whose Ingredients sheet (Ingredient, Cost, nutrients, Stock) replaces those values in every BOOK before solving."),
     overview: Path = typer.Option(None, "--overview", metavar="FILE", help="Also write one workbook summarising every book and formula of the run."),
     jobs: int = typer.Option(None, "--jobs", min=1, metavar="N", help="Solve in N worker processes (default: one per CPU); the results are the same for any N."),
-    cross_check: bool = typer.Option(True, "--cross-check/--no-cross-check", help="Re-solve every LP with HiGHS (through scipy) and record the difference (default: on)."),
+    cross_check: bool = typer.Option(True, "--cross-check/--no-cross-check", help="Re-solve every LP with HiGHS (through highspy) and record the difference (default: on)."),
     max_cells: int = MAX_CELLS,
     max_unpacked_mb: float = MAX_UNPACKED_MB,
 ) -> None:

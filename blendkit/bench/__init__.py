@@ -3,8 +3,8 @@
 Run ``python -m blendkit.bench`` (``--quick`` for a fast look). This measures, it does not
 test: it prints the machine, then one section per benchmark family, each timing our
 `blendkit.engine` beside HiGHS on the same LPs and counting the answers that disagree.
-It needs highspy, which only the test extra installs (``pip install '.[test]'``); without
-it the command says so on one line and exits 2. Importing this package does not need it.
+It needs highspy (a dependency of blendkit, for its cross-check); an installation without
+it makes the command say so on one line and exit 2. Importing this package does not need it.
 
 One module per concern:
 
@@ -26,7 +26,7 @@ One module per concern:
     start_up.py   where the start-up of `blendkit solve` goes, import by import (CPU
                   seconds, each step in child processes), printed after the samples
     timing.py     shared by the families: timed, agreement, measure and its table
-    highs.py      highspy, imported only when needed, with the missing-extra message, and
+    highs.py      highspy, imported only when needed, with the missing-highspy message, and
                   linprog's arguments as a HighsLp for timing highspy directly
     machine.py    the machine lines: processor, cores, versions, load average
     options.py    Options, the settings of one run
@@ -38,7 +38,7 @@ listed in `blendkit.bench.report.FAMILIES`.
 
 from blendkit.bench.blends import BlendInstance, bound_sweep, infeasible_blend, make_blend, price_sweep
 from blendkit.bench.diagnosis import diagnosis_lines
-from blendkit.bench.highs import MissingTestExtra
+from blendkit.bench.highs import MissingHighspy
 from blendkit.bench.machine import machine_lines
 from blendkit.bench.netlib import NetlibRow, netlib_folder, netlib_lines, run_netlib, solve_netlib
 from blendkit.bench.options import Options
@@ -52,7 +52,7 @@ __all__ = [
     "OBJECTIVE_RTOL",
     "BlendInstance",
     "Measurement",
-    "MissingTestExtra",
+    "MissingHighspy",
     "NetlibRow",
     "Options",
     "agreement",

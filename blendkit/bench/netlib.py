@@ -93,7 +93,7 @@ def solve_netlib(path: Path, repeat: int, mps) -> NetlibRow:
 def run_netlib(folder: Path, repeat: int) -> tuple[list[NetlibRow], list[str]]:
     """Every *.mps in `folder`, by both solvers; and lines saying what was skipped and why.
 
-    Raises MissingTestExtra, before solving anything, when highspy is not installed.
+    Raises MissingHighspy, before solving anything, when highspy is not installed.
     """
     if not folder.is_dir():
         return [], [f"NETLIB skipped: no folder {folder}"]
@@ -101,7 +101,7 @@ def run_netlib(folder: Path, repeat: int) -> tuple[list[NetlibRow], list[str]]:
         from blendkit.engine import mps
     except Exception as error:  # should the MPS reader fail to import, say why
         return [], [f"NETLIB skipped: blendkit.engine.mps is not importable ({type(error).__name__}: {error})"]
-    highspy_module()  # a missing test extra ends the run with its message, not one failure per file
+    highspy_module()  # a missing highspy ends the run with its message, not one failure per file
     rows, notes = [], []
     paths = sorted(p for p in folder.iterdir() if p.suffix.lower() == ".mps")
     for path in paths:

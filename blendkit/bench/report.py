@@ -14,7 +14,7 @@ from collections.abc import Callable, Iterator, Sequence
 
 from blendkit.bench import blends, diagnosis, formula_set, mip, plant
 from blendkit.bench import netlib as netlib_problems
-from blendkit.bench.highs import MissingTestExtra, highspy_module
+from blendkit.bench.highs import MissingHighspy, highspy_module
 from blendkit.bench.machine import load_average, machine_lines
 from blendkit.bench.options import Options
 from blendkit.bench.timing import OBJECTIVE_RTOL
@@ -92,15 +92,15 @@ def _parser() -> argparse.ArgumentParser:
 def main(argv: list[str] | None = None) -> None:
     """`python -m blendkit.bench`: parse the options and run the benchmark.
 
-    Exits 2 with a one-line message when highspy (the test extra) is not installed.
+    Exits 2 with a one-line message when highspy is not installed.
     """
     parser = _parser()
     args = parser.parse_args(argv)
     if args.repeat is not None and args.repeat < 1:
         parser.error("--repeat must be at least 1")
     try:
-        highspy_module()  # checked first, so a missing extra does not cost the blend tables' minute
+        highspy_module()  # checked first, so a missing highspy does not cost the blend tables' minute
         run(args.sizes, args.seed, args.repeat, args.quick, args.netlib)
-    except MissingTestExtra as error:
+    except MissingHighspy as error:
         print(error, file=sys.stderr)
         raise SystemExit(2) from None

@@ -1,19 +1,23 @@
 """Where the start-up of `blendkit solve` goes: the libraries a plain solve imports, each
 timed in a fresh child process after the ones before it (what they share is counted once,
 at its first import), in CPU seconds (less disturbed by other processes than wall time),
-medians of several rounds. The last lines measure the alternative to scipy.optimize for
-the HiGHS cross-check, highspy (a test dependency only, not a runtime one), after the
-same steps without scipy.optimize.
+medians of several rounds. The last step is highspy, which the HiGHS cross-check imports
+when it first runs (not with --no-cross-check). The closing lines measure, after the same
+steps, what a plain solve no longer imports: scipy.optimize (the cross-check went through
+its linprog and milp before it called highspy directly) and pydantic (typer 0.27 and later
+load it for their argument checks; blendkit keeps typer below 0.27), each only when
+installed.
 
 This measures imports alone, not the work: the samples lines of `blendkit.bench.books`
 time the whole command. Python itself (the interpreter starting, no import) is the first
 line; numpy and openpyxl are what the openpyxl yardstick imports as well (openpyxl loads
-numpy when it is installed).
+numpy when it is installed). Run alone with ``python -m blendkit.bench.start_up``.
 """
 
 from __future__ import annotations
 
 import compileall
+import importlib.util
 import json
 import statistics
 import subprocess
@@ -24,14 +28,16 @@ from pathlib import Path
 # (what, the import statement), in the order a plain `blendkit solve` first needs them.
 STEPS = (
     ("typer (the command line)", "import typer"),
-    ("pydantic, through typer's argument checks", "import typer._adapters"),
     ("numpy and openpyxl (the yardstick imports both)", "import numpy, openpyxl"),
     ("scipy.sparse and scipy.linalg (the engine)", "import scipy.sparse, scipy.linalg, scipy.sparse.linalg"),
     ("blendkit's own modules", "import blendkit.cli, blendkit.run, blendkit.write.console, blendkit.write.progress"),
-    ("scipy.optimize (the HiGHS cross-check)", "import scipy.optimize"),
+    ("highspy (the HiGHS cross-check)", "import highspy"),
 )
-# Instead of the last step: the HiGHS solver through its own Python package.
-ALTERNATIVE = ("highspy instead of scipy.optimize (not a runtime dependency)", "import highspy")
+# What a plain solve no longer imports, each timed after all of STEPS: (what, module, statement).
+NOT_IMPORTED = (
+    ("scipy.optimize (the cross-check's former way to HiGHS), not imported", "scipy.optimize", "import scipy.optimize"),
+    ("pydantic (typer >= 0.27 loads it; typer < 0.27 kept), not imported", "pydantic", "import pydantic"),
+)
 
 # A child: the given steps in turn, printing each one's CPU seconds as JSON.
 _CHILD = """
@@ -62,23 +68,33 @@ def _child_times(statements: list[str]) -> list[float]:
 
 
 def _python_itself() -> float:
-    """CPU seconds of a child that imports nothing (start and exit of the interpreter)."""
-    code = "import os; print(sum(os.times()[:2]))"
+    """CPU seconds of a child that imports nothing but `resource` (start and exit of the
+    interpreter; getrusage counts microseconds where os.times counts clock ticks)."""
+    code = "import resource; r = resource.getrusage(resource.RUSAGE_SELF); print(r.ru_utime + r.ru_stime)"
     return float(subprocess.run([sys.executable, "-c", code], capture_output=True, text=True, check=True).stdout)
 
 
 def start_up_lines(rounds: int = _ROUNDS) -> Iterator[str]:
     """One line per import step with its CPU seconds (median of `rounds` children), the
-    total, and the highspy alternative."""
+    total, and what a plain solve no longer imports (when installed)."""
     statements = [statement for _, statement in STEPS]
-    alternative = [*statements[:-1], ALTERNATIVE[1]]
     runs = [_child_times(statements) for _ in range(rounds)]
-    other = [_child_times(alternative)[-1] for _ in range(rounds)]
     python = statistics.median(_python_itself() for _ in range(rounds))
     medians = [statistics.median(run[k] for run in runs) for k in range(len(STEPS))]
-    yield f"{'start-up step (CPU s, median of ' + str(rounds) + ')':<66}{'CPU s':>7}"
-    yield f"{'python itself (user + system time of an empty process)':<66}{python:>7.3f}"
+    yield f"{'start-up step (CPU s, median of ' + str(rounds) + ')':<70}{'CPU s':>7}"
+    yield f"{'python itself (user + system time of an empty process)':<70}{python:>7.3f}"
     for (what, _), seconds in zip(STEPS, medians):
-        yield f"{what:<66}{seconds:>7.3f}"
-    yield f"{'all the imports':<66}{sum(medians):>7.3f}"
-    yield f"{ALTERNATIVE[0]:<66}{statistics.median(other):>7.3f}"
+        yield f"{what:<70}{seconds:>7.3f}"
+    yield f"{'all the imports':<70}{sum(medians):>7.3f}"
+    for what, module, statement in NOT_IMPORTED:
+        if importlib.util.find_spec(module) is None:
+            yield f"{what:<70}{'-':>7}  (not installed)"
+            continue
+        other = [_child_times([*statements, statement])[-1] for _ in range(rounds)]
+        yield f"{what:<70}{statistics.median(other):>7.3f}"
+
+
+if __name__ == "__main__":
+    compile_blendkit()
+    for line in start_up_lines():
+        print(line)
