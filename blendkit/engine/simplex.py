@@ -123,9 +123,7 @@ def _try_dual(state: SimplexState, basis, ranging: bool) -> SimplexOutcome | Non
     if not start_dual(state, basis):
         return None
     cost = np.concatenate([state.c_struct, np.zeros(state.m)])
-    status = run_dual(state, cost, perturb=True)
-    if status == "optimal":
-        state.d = state.fresh_duals(cost)  # the true costs back, if perturbed (see `perturbation`)
+    status = run_dual(state, cost, perturb=True)  # ends with the true costs' duals
     if status == "optimal" and not _dual_feasible(state):
         # A primal pass from this primal feasible basis removes the dual
         # infeasibility left by the perturbation and by rounding.
