@@ -173,7 +173,7 @@ class Resolver:
         """The re-solve from the basis held, or None to solve from scratch."""
         state, moved = self._state, self._moved
         self._load()
-        if moved and np.any(state.lower > state.upper):
+        if moved and (state.lower > state.upper).any():
             return None
         state.iterations = 0
         state.max_iterations = self._max_iterations

@@ -23,32 +23,36 @@ def worst_violation(sf: StandardForm, x: np.ndarray) -> tuple[float, str]:
     worst, where = 0.0, ""
     activity = sf.A @ x
     row_over = np.maximum(sf.row_lower - activity, activity - sf.row_upper)
-    col_over = np.maximum(sf.col_lower - x, x - sf.col_upper)
     if row_over.max(initial=0.0) > 0:
-        rows = np.flatnonzero(row_over > 0)
+        rows = (row_over > 0).nonzero()[0]
         A = sf.A[rows]
         if sp.issparse(A):
             terms = np.asarray(abs(A.multiply(x[None, :])).max(axis=1).todense()).ravel()
         else:
             terms = np.abs(A * x).max(axis=1, initial=0.0)
-        size = 1.0 + np.maximum(terms, _bound_size(sf.row_lower[rows], sf.row_upper[rows]))
+        size = _with_bounds(terms, sf.row_lower[rows], sf.row_upper[rows])
         row_violation = row_over[rows] / size
         k = int(row_violation.argmax())
         worst, where = float(row_violation[k]), _row_name(sf, int(rows[k]))
+    col_over = np.maximum(sf.col_lower - x, x - sf.col_upper)
     if col_over.max(initial=0.0) > 0:
-        cols = np.flatnonzero(col_over > 0)
-        col_violation = col_over[cols] / (1.0 + _bound_size(sf.col_lower[cols], sf.col_upper[cols]))
+        cols = (col_over > 0).nonzero()[0]
+        size = _with_bounds(np.zeros(cols.size), sf.col_lower[cols], sf.col_upper[cols])
+        col_violation = col_over[cols] / size
         k = int(col_violation.argmax())
         if col_violation[k] > worst:
             worst, where = float(col_violation[k]), f"bound of variable {int(cols[k])}"
     return worst, where
 
 
-def _bound_size(lower: np.ndarray, upper: np.ndarray) -> np.ndarray:
-    """max(|lower|, |upper|) with an infinite bound counted 0 (it never scales a violation)."""
-    sizes = np.abs(np.stack([lower, upper]))
-    sizes[sizes == np.inf] = 0.0
-    return sizes.max(axis=0)
+def _with_bounds(size: np.ndarray, lower: np.ndarray, upper: np.ndarray) -> np.ndarray:
+    """1 + max(size, |lower|, |upper|), an infinite bound left out (it never scales a
+    violation); `size` is overwritten. In place, step by step: called on every re-solve."""
+    for bound in (lower, upper):
+        magnitude = np.abs(bound)
+        np.maximum(size, magnitude, out=size, where=magnitude < np.inf)
+    size += 1.0
+    return size
 
 
 def _row_name(sf: StandardForm, i: int) -> str:
