@@ -29,7 +29,7 @@ from __future__ import annotations
 
 import numpy as np
 import scipy.sparse as sp
-from scipy.linalg import lapack
+from scipy.linalg import blas, lapack
 from scipy.sparse.linalg import splu
 
 from blendkit.engine.tolerances import ETA_LOOP_MAX, REORDER_EVERY, REORDER_FILL, SINGULAR_PIVOT
@@ -137,6 +137,12 @@ class BasisFactor:
             _scatter_add(w, rows[:k], u, self._repeats)
         return self._solve(w, True)
 
+    def unit_btran(self, r: int) -> np.ndarray:
+        """B^-T e_r (the pivot row's multipliers)."""
+        e_r = np.zeros(self._m)
+        e_r[r] = 1.0
+        return self.btran(e_r)
+
     def update(self, r: int, alpha: np.ndarray) -> None:
         """Record that column r of the basis was replaced; alpha = B_old^{-1} a_new."""
         k = self._k
@@ -152,6 +158,68 @@ class BasisFactor:
             self._tri[k, k] = alpha[r]
             self._repeats = self._repeats or bool(earlier.any())
         rows[k] = r
+        self._k = k + 1
+
+
+class InverseBasisFactor(BasisFactor):
+    """A dense basis held as LU factors and as its explicit inverse, for mid-sized bases.
+
+    Right after a factorisation (no updates yet) every solve uses the LU factors, exactly
+    as `BasisFactor` does, so the values and duals a refactorisation recomputes (and every
+    answer ends on) are the same. Between factorisations the inverse is kept up to date
+    by one rank-one update per column replacement (BLAS dger, in place):
+
+        B_new^-1 = B^-1 - (alpha - e_r) (e_r^T B^-1) / alpha_r
+
+    so that an ftran is one matrix-vector product and the pivot row's btran of e_r is a
+    row of the inverse, each a fixed cost whatever the number of updates; the etas'
+    Python loop of `BasisFactor` grows with them. The inverse costs one more LAPACK call
+    (dgetri) per factorisation.
+    """
+
+    def __init__(self, refactor_every: int):
+        super().__init__(refactor_every)
+        self._batched = False  # the etas are never applied: no triangular system kept
+        self._inverse = None  # B^-1 (Fortran order, updated in place)
+
+    def factor(self, B: np.ndarray) -> None:
+        """Factorise B afresh (LU, checked as in `BasisFactor`), then invert it."""
+        super().factor(B)
+        if self._m:
+            inverse, info = lapack.dgetri(self._lu, self._piv)
+            if info > 0:
+                raise SingularBasis(f"basis matrix is singular (zero pivot at position {info})")
+            self._inverse = np.asfortranarray(inverse)
+
+    def ftran(self, a: np.ndarray) -> np.ndarray:
+        """Solve B z = a: by the LU factors right after a factorisation, else B^-1 a."""
+        if not self._k or self._m == 0:
+            return super().ftran(a)
+        return self._inverse @ a
+
+    def btran(self, c: np.ndarray) -> np.ndarray:
+        """Solve B^T y = c: by the LU factors right after a factorisation, else c^T B^-1."""
+        if not self._k or self._m == 0:
+            return super().btran(c)
+        return c @ self._inverse
+
+    def unit_btran(self, r: int) -> np.ndarray:
+        """B^-T e_r, row r of B^-1 (by the LU factors right after a factorisation)."""
+        if not self._k:
+            e_r = np.zeros(self._m)
+            e_r[r] = 1.0
+            return super().btran(e_r)
+        return self._inverse[r].copy()
+
+    def update(self, r: int, alpha: np.ndarray) -> None:
+        """Record that column r of the basis was replaced (alpha = B_old^-1 a_new): the
+        inverse takes the rank-one update of the class docstring."""
+        k = self._k
+        if k == self.refactor_every:
+            raise RuntimeError("the update file is full: refactorise first")
+        row = self._inverse[r] / alpha[r]
+        self._inverse = blas.dger(-1.0, alpha, row, a=self._inverse, overwrite_a=1)  # in place (Fortran order)
+        self._inverse[r] = row
         self._k = k + 1
 
 

@@ -20,13 +20,15 @@ from __future__ import annotations
 import numpy as np
 import scipy.sparse as sp
 
-from blendkit.engine.basis_factor import BasisFactor, SingularBasis, SparseBasisFactor
+from blendkit.engine.basis_factor import BasisFactor, InverseBasisFactor, SingularBasis, SparseBasisFactor
 from blendkit.engine.row_product import RowProduct, gather
 from blendkit.engine.standard_form import StandardForm
 from blendkit.engine.tolerances import (
     DENSE_REFACTOR_MAX,
     DENSE_REFACTOR_MIN,
     DENSE_REFACTOR_DIVISOR,
+    INVERSE_REFACTOR_EVERY,
+    INVERSE_ROWS,
     PIVOT_AGREEMENT,
     SPARSE_DENSITY,
     SPARSE_REFACTOR_EVERY,
@@ -61,7 +63,6 @@ class SimplexState:
         self.art_sign = np.zeros(0)
         self.iterations = 0
         self.y = self.d = self.ray = self.rho = None
-        self._unit = np.zeros(self.m)  # e_r, for the pivot row
         nonzeros = self.A.nnz if sp.issparse(self.A) else np.count_nonzero(self.A)
         density = nonzeros / max(1, self.m * self.n)
         self.sparse = self.m >= SPARSE_ROWS and density <= SPARSE_DENSITY
@@ -71,7 +72,10 @@ class SimplexState:
             self.products = RowProduct(self.M)  # y^T M, for the pivot row and the duals
         else:
             every = np.clip(self.m**1.5 / DENSE_REFACTOR_DIVISOR, DENSE_REFACTOR_MIN, DENSE_REFACTOR_MAX)
-            self.factor = BasisFactor(refactor_every=int(every))
+            if self.m >= INVERSE_ROWS:
+                self.factor = InverseBasisFactor(refactor_every=INVERSE_REFACTOR_EVERY)
+            else:
+                self.factor = BasisFactor(refactor_every=int(every))
             dense = self.A.toarray() if sp.issparse(self.A) else self.A
             self.M = np.hstack([dense, -np.eye(self.m)])
             self.MT = np.ascontiguousarray(self.M[:, : self.n].T)  # A^T by rows: y^T A reads it in order
@@ -234,10 +238,7 @@ class SimplexState:
 
     def pivot_row(self, r: int) -> np.ndarray:
         """Row r of B^-1 M (alpha_r): how basic position r changes with each variable."""
-        e_r = self._unit
-        e_r[r] = 1.0
-        rho = self.factor.btran(e_r)
-        e_r[r] = 0.0
+        rho = self.factor.unit_btran(r)
         if self.sparse and self.products.focused:
             self._clear_logical_rows(rho, r)
         self.rho = rho  # B^-T e_r, kept for the dual simplex's edge weights

@@ -159,6 +159,10 @@ REORDER_FILL = 1.3
 DENSE_REFACTOR_DIVISOR = 128.0
 DENSE_REFACTOR_MIN = 4
 DENSE_REFACTOR_MAX = 64
+# A dense basis of at least this many rows is also held as its explicit inverse between
+# factorisations (`basis_factor.InverseBasisFactor`).
+INVERSE_ROWS = 60
+INVERSE_REFACTOR_EVERY = 64
 
 # ----- limits of one solve -------------------------------------------------------------------
 
