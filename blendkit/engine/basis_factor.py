@@ -27,12 +27,14 @@ a sparse basis less than two solves.
 
 from __future__ import annotations
 
+from collections.abc import Callable
+
 import numpy as np
 import scipy.sparse as sp
 from scipy.linalg import blas, lapack
 from scipy.sparse.linalg import splu
 
-from blendkit.engine.tolerances import ETA_LOOP_MAX, REORDER_EVERY, REORDER_FILL, SINGULAR_PIVOT
+from blendkit.engine.tolerances import ETA_LOOP_MAX, INVERSE_DRIFT, REORDER_EVERY, REORDER_FILL, SINGULAR_PIVOT
 
 
 class SingularBasis(Exception):
@@ -175,15 +177,30 @@ class InverseBasisFactor(BasisFactor):
     row of the inverse, each a fixed cost whatever the number of updates; the etas'
     Python loop of `BasisFactor` grows with them. The inverse costs one more LAPACK call
     (dgetri) per factorisation.
+
+    The pivot row and the entering column now come from the same inverse, so their
+    agreement (`simplex_state.pivots_disagree`) no longer shows rounding built up. Instead
+    each update checks the inverse against one column of the basis, position by position
+    in turn (`basis_column`, given by the simplex state): B^-1 b_j must be e_j within
+    INVERSE_DRIFT, else the factors are `due` for refactorisation at once.
     """
 
-    def __init__(self, refactor_every: int):
+    def __init__(self, refactor_every: int, basis_column: Callable[[int], np.ndarray]):
         super().__init__(refactor_every)
         self._batched = False  # the etas are never applied: no triangular system kept
         self._inverse = None  # B^-1 (Fortran order, updated in place)
+        self._basis_column = basis_column  # column j of the current basis B
+        self._checked = 0  # the next basis position the drift check reads
+        self._drifted = False
+
+    @property
+    def due(self) -> bool:
+        """True when the update file is full or the inverse has drifted."""
+        return self._drifted or self._k >= self.refactor_every
 
     def factor(self, B: np.ndarray) -> None:
         """Factorise B afresh (LU, checked as in `BasisFactor`), then invert it."""
+        self._drifted = False
         super().factor(B)
         if self._m:
             inverse, info = lapack.dgetri(self._lu, self._piv)
@@ -221,6 +238,11 @@ class InverseBasisFactor(BasisFactor):
         self._inverse = blas.dger(-1.0, alpha, row, a=self._inverse, overwrite_a=1)  # in place (Fortran order)
         self._inverse[r] = row
         self._k = k + 1
+        j = self._checked % self._m
+        self._checked = j + 1
+        check = self._inverse @ self._basis_column(j)
+        check[j] -= 1.0
+        self._drifted = bool(np.abs(check).max() > INVERSE_DRIFT)
 
 
 def _scatter_add(v: np.ndarray, rows: np.ndarray, values: np.ndarray, repeats: bool) -> None:

@@ -73,7 +73,7 @@ class SimplexState:
         else:
             every = np.clip(self.m**1.5 / DENSE_REFACTOR_DIVISOR, DENSE_REFACTOR_MIN, DENSE_REFACTOR_MAX)
             if self.m >= INVERSE_ROWS:
-                self.factor = InverseBasisFactor(refactor_every=INVERSE_REFACTOR_EVERY)
+                self.factor = InverseBasisFactor(INVERSE_REFACTOR_EVERY, lambda j: self.M[:, self.head[j]])
             else:
                 self.factor = BasisFactor(refactor_every=int(every))
             dense = self.A.toarray() if sp.issparse(self.A) else self.A

@@ -160,9 +160,15 @@ DENSE_REFACTOR_DIVISOR = 128.0
 DENSE_REFACTOR_MIN = 4
 DENSE_REFACTOR_MAX = 64
 # A dense basis of at least this many rows is also held as its explicit inverse between
-# factorisations (`basis_factor.InverseBasisFactor`).
+# factorisations (`basis_factor.InverseBasisFactor`), refactorised after
+# INVERSE_REFACTOR_EVERY updates (an update costs the same however many came before it),
+# or at once when the inverse maps a column of the basis to e_j with an entry off by more
+# than INVERSE_DRIFT (one column checked per update, in turn). On the blends of the
+# benchmark (84 to 247 rows) this took a fifth to a quarter off a cold solve; below 60
+# rows LAPACK's solves and a few etas cost less than the inverse.
 INVERSE_ROWS = 60
 INVERSE_REFACTOR_EVERY = 64
+INVERSE_DRIFT = 1e-9
 
 # ----- limits of one solve -------------------------------------------------------------------
 
