@@ -30,7 +30,7 @@ def test_inverse_factor_solves_like_numpy_across_updates():
     M = _matrix(m, n, seed=3)
     rng = np.random.default_rng(3)
     head = np.arange(n, n + m)  # the logicals
-    factor = InverseBasisFactor(40, lambda j: M[:, head[j]])
+    factor = InverseBasisFactor(40, lambda j: M[:, head[j]], lambda: head)
     factor.factor(M[:, head])
     for _ in range(30):
         q = int(rng.integers(n))
@@ -57,7 +57,7 @@ def test_a_drifted_inverse_is_due_for_refactorisation():
     m, n = 70, 90
     M = _matrix(m, n, seed=5)
     head = np.arange(n, n + m)
-    factor = InverseBasisFactor(64, lambda j: M[:, head[j]])
+    factor = InverseBasisFactor(64, lambda j: M[:, head[j]], lambda: head)
     factor.factor(M[:, head])
     alpha = factor.ftran(M[:, 0])
     r = int(np.argmax(np.abs(alpha)))

@@ -176,7 +176,10 @@ class InverseBasisFactor(BasisFactor):
     so that an ftran is one matrix-vector product and the pivot row's btran of e_r is a
     row of the inverse, each a fixed cost whatever the number of updates; the etas'
     Python loop of `BasisFactor` grows with them. The inverse costs one more LAPACK call
-    (dgetri) per factorisation.
+    (dgetri), made at the first update after a factorisation that had to drop it: a
+    refactorisation of the basis the inverse already stands for (each solve ends on one)
+    keeps it, so a re-solve goes on with it; it is computed afresh once INVERSE_REFACTOR_EVERY
+    updates old, or drifted.
 
     The pivot row and the entering column now come from the same inverse, so their
     agreement (`simplex_state.pivots_disagree`) no longer shows rounding built up. Instead
@@ -185,28 +188,39 @@ class InverseBasisFactor(BasisFactor):
     INVERSE_DRIFT, else the factors are `due` for refactorisation at once.
     """
 
-    def __init__(self, refactor_every: int, basis_column: Callable[[int], np.ndarray]):
+    def __init__(self, refactor_every: int, basis_column: Callable[[int], np.ndarray],
+                 basis_head: Callable[[], np.ndarray]):
         super().__init__(refactor_every)
         self._batched = False  # the etas are never applied: no triangular system kept
         self._inverse = None  # B^-1 (Fortran order, updated in place)
         self._basis_column = basis_column  # column j of the current basis B
+        self._basis_head = basis_head  # the variables of the current basis, by position
+        self._head = None  # the basis the inverse stands for (after its last update)
+        self._age = 0  # updates the inverse took since it was computed
         self._checked = 0  # the next basis position the drift check reads
         self._drifted = False
 
     @property
     def due(self) -> bool:
-        """True when the update file is full or the inverse has drifted."""
-        return self._drifted or self._k >= self.refactor_every
+        """True when the update file is full, the inverse is as old, or it has drifted."""
+        return self._drifted or max(self._k, self._age) >= self.refactor_every
 
     def factor(self, B: np.ndarray) -> None:
-        """Factorise B afresh (LU, checked as in `BasisFactor`), then invert it."""
-        self._drifted = False
+        """Factorise B afresh (LU, checked as in `BasisFactor`). The inverse is kept when it
+        stands for this same basis (a refactorisation before stopping, or a re-solve's next
+        start), young and undrifted; else it is computed at the next update."""
+        keep = (self._inverse is not None and not self._drifted and self._age < self.refactor_every
+                and np.array_equal(self._head, self._basis_head()))
         super().factor(B)
-        if self._m:
-            inverse, info = lapack.dgetri(self._lu, self._piv)
-            if info > 0:
-                raise SingularBasis(f"basis matrix is singular (zero pivot at position {info})")
-            self._inverse = np.asfortranarray(inverse)
+        if not keep:
+            self._inverse, self._drifted = None, False
+
+    def _invert(self) -> np.ndarray:
+        """B0^-1 from the LU factors (LAPACK dgetri), in Fortran order for BLAS's dger."""
+        inverse, info = lapack.dgetri(self._lu, self._piv)
+        if info > 0:
+            raise SingularBasis(f"basis matrix is singular (zero pivot at position {info})")
+        return np.asfortranarray(inverse)
 
     def ftran(self, a: np.ndarray) -> np.ndarray:
         """Solve B z = a: by the LU factors right after a factorisation, else B^-1 a."""
@@ -234,10 +248,13 @@ class InverseBasisFactor(BasisFactor):
         k = self._k
         if k == self.refactor_every:
             raise RuntimeError("the update file is full: refactorise first")
+        if self._inverse is None:
+            self._inverse, self._age = self._invert(), 0
         row = self._inverse[r] / alpha[r]
         self._inverse = blas.dger(-1.0, alpha, row, a=self._inverse, overwrite_a=1)  # in place (Fortran order)
         self._inverse[r] = row
-        self._k = k + 1
+        self._k, self._age = k + 1, self._age + 1
+        self._head = self._basis_head().copy()
         j = self._checked % self._m
         self._checked = j + 1
         check = self._inverse @ self._basis_column(j)

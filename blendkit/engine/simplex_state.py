@@ -73,7 +73,8 @@ class SimplexState:
         else:
             every = np.clip(self.m**1.5 / DENSE_REFACTOR_DIVISOR, DENSE_REFACTOR_MIN, DENSE_REFACTOR_MAX)
             if self.m >= INVERSE_ROWS:
-                self.factor = InverseBasisFactor(INVERSE_REFACTOR_EVERY, lambda j: self.M[:, self.head[j]])
+                self.factor = InverseBasisFactor(INVERSE_REFACTOR_EVERY, lambda j: self.M[:, self.head[j]],
+                                                 lambda: self.head)
             else:
                 self.factor = BasisFactor(refactor_every=int(every))
             dense = self.A.toarray() if sp.issparse(self.A) else self.A
