@@ -164,9 +164,10 @@ DENSE_REFACTOR_MAX = 64
 # INVERSE_REFACTOR_EVERY updates (an update costs the same however many came before it),
 # or at once when the inverse maps a column of the basis to e_j with an entry off by more
 # than INVERSE_DRIFT (one column checked per update, in turn). On the blends of the
-# benchmark (84 to 247 rows) this took a fifth to a quarter off a cold solve; below 60
-# rows LAPACK's solves and a few etas cost less than the inverse.
-INVERSE_ROWS = 60
+# benchmark (40 to 247 rows) this took a tenth to a quarter off a cold solve, and every
+# NETLIB problem of 27 rows or more got faster; on a basis of a dozen rows LAPACK's solves
+# and a few etas cost less.
+INVERSE_ROWS = 25
 INVERSE_REFACTOR_EVERY = 64
 INVERSE_DRIFT = 1e-9
 
