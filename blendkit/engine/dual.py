@@ -100,7 +100,7 @@ class _DualRun:
         # Free nonbasic variables (both ways) take the slower two-sided search below.
         self.way = rise_f - fall_f
         self.back = -self.way
-        self.two_way = bool(np.any(self.rise & self.fall))
+        self.two_way = bool((self.rise & self.fall).any())
         self.span = state.upper - state.lower
         self.weights = np.ones(state.m)
         # Steepest-edge weights (exact, 1, for the basis of logicals) on large problems,

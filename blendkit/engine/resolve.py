@@ -25,8 +25,6 @@ Notation as in `blendkit.engine.simplex`.
 
 from __future__ import annotations
 
-from dataclasses import replace
-
 import numpy as np
 
 from blendkit.engine.basis_factor import SingularBasis
@@ -82,7 +80,10 @@ class Resolver:
     def form(self) -> StandardForm:
         """The problem as it stands now, in original units."""
         if self._pending:  # one rebuild for all the changes since the last (a frozen record)
-            self._form = replace(self._form, **self._pending)
+            form, now = self._form, self._now
+            self._form = StandardForm(c=now("c"), A=form.A, row_lower=now("row_lower"), row_upper=now("row_upper"),
+                                      col_lower=now("col_lower"), col_upper=now("col_upper"), n_ub=form.n_ub,
+                                      from_linprog=form.from_linprog)
             self._pending = {}
         return self._form
 
