@@ -13,7 +13,7 @@ import pytest
 from scipy.optimize import linprog
 
 from blendkit.bench.blends import make_blend
-from blendkit.engine import simplex_state, solve
+from blendkit.engine import basis_factor, simplex_state, solve
 from blendkit.engine.basis_factor import InverseBasisFactor
 
 
@@ -51,27 +51,32 @@ def test_inverse_factor_solves_like_numpy_across_updates():
 
 
 def test_a_drifted_inverse_is_due_for_refactorisation():
-    # The drift check reads one basis column per update against e_j. An inverse spoilt by
-    # 1e-6 in every entry (numpy.linalg.solve shows the solves are then wrong) must be due
-    # at the next update, long before the update file is full.
+    # The drift check reads one basis column against e_j every INVERSE_CHECK_EVERY
+    # updates. An inverse spoilt by 1e-6 in every entry (numpy.linalg.solve shows the
+    # solves are then wrong) must be due within that many updates, long before the update
+    # file is full.
     m, n = 70, 90
     M = _matrix(m, n, seed=5)
     head = np.arange(n, n + m)
     factor = InverseBasisFactor(64, lambda j: M[:, head[j]], lambda: head)
     factor.factor(M[:, head])
-    alpha = factor.ftran(M[:, 0])
-    r = int(np.argmax(np.abs(alpha)))
-    head[r] = 0
-    factor.update(r, alpha)
+
+    def enter(q: int) -> None:
+        alpha = factor.ftran(M[:, q])
+        r = int(np.argmax(np.abs(alpha)))
+        head[r] = q
+        factor.update(r, alpha)
+
+    enter(0)
     assert not factor.due
     factor._inverse += 1e-6  # rounding built up, far beyond INVERSE_DRIFT
     a = np.ones(m)
     assert np.abs(factor.ftran(a) - np.linalg.solve(M[:, head], a)).max() > 1e-6
-    alpha = factor.ftran(M[:, 1])
-    r = int(np.argmax(np.abs(alpha)))
-    head[r] = 1
-    factor.update(r, alpha)
-    assert factor.due
+    for q in range(1, 1 + basis_factor.INVERSE_CHECK_EVERY):
+        enter(q)
+        if factor.due:
+            break
+    assert factor.due and factor.updates <= 1 + basis_factor.INVERSE_CHECK_EVERY
     factor.factor(M[:, head])  # a fresh factorisation clears it
     assert not factor.due
 

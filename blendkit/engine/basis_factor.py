@@ -34,7 +34,7 @@ import scipy.sparse as sp
 from scipy.linalg import blas, lapack
 from scipy.sparse.linalg import splu
 
-from blendkit.engine.tolerances import ETA_LOOP_MAX, INVERSE_DRIFT, REORDER_EVERY, REORDER_FILL, SINGULAR_PIVOT
+from blendkit.engine.tolerances import ETA_LOOP_MAX, INVERSE_CHECK_EVERY, INVERSE_DRIFT, REORDER_EVERY, REORDER_FILL, SINGULAR_PIVOT
 
 
 class SingularBasis(Exception):
@@ -183,9 +183,10 @@ class InverseBasisFactor(BasisFactor):
 
     The pivot row and the entering column now come from the same inverse, so their
     agreement (`simplex_state.pivots_disagree`) no longer shows rounding built up. Instead
-    each update checks the inverse against one column of the basis, position by position
-    in turn (`basis_column`, given by the simplex state): B^-1 b_j must be e_j within
-    INVERSE_DRIFT, else the factors are `due` for refactorisation at once.
+    every INVERSE_CHECK_EVERY-th update checks the inverse against one column of the
+    basis, position by position in turn (`basis_column`, given by the simplex state):
+    B^-1 b_j must be e_j within INVERSE_DRIFT, else the factors are `due` for
+    refactorisation at once.
     """
 
     def __init__(self, refactor_every: int, basis_column: Callable[[int], np.ndarray],
@@ -255,11 +256,12 @@ class InverseBasisFactor(BasisFactor):
         self._inverse[r] = row
         self._k, self._age = k + 1, self._age + 1
         self._head = self._basis_head().copy()
-        j = self._checked % self._m
-        self._checked = j + 1
-        check = self._inverse @ self._basis_column(j)
-        check[j] -= 1.0
-        self._drifted = bool(np.abs(check).max() > INVERSE_DRIFT)
+        if self._age % INVERSE_CHECK_EVERY == 0:
+            j = self._checked % self._m
+            self._checked = j + 1
+            check = self._inverse @ self._basis_column(j)
+            check[j] -= 1.0
+            self._drifted = bool(np.abs(check).max() > INVERSE_DRIFT)
 
 
 def _scatter_add(v: np.ndarray, rows: np.ndarray, values: np.ndarray, repeats: bool) -> None:
