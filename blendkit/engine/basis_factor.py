@@ -34,7 +34,7 @@ import scipy.sparse as sp
 from scipy.linalg import blas, lapack
 from scipy.sparse.linalg import splu
 
-from blendkit.engine.tolerances import ETA_LOOP_MAX, INVERSE_CHECK_EVERY, INVERSE_DRIFT, REORDER_EVERY, REORDER_FILL, SINGULAR_PIVOT
+from blendkit.engine.tolerances import ETA_LOOP_MAX, INVERSE_AFTER, INVERSE_AFTER_DIVISOR, INVERSE_CHECK_EVERY, INVERSE_DRIFT, REORDER_EVERY, REORDER_FILL, SINGULAR_PIVOT
 
 
 class SingularBasis(Exception):
@@ -176,7 +176,12 @@ class InverseBasisFactor(BasisFactor):
     so that an ftran is one matrix-vector product and the pivot row's btran of e_r is a
     row of the inverse, each a fixed cost whatever the number of updates; the etas'
     Python loop of `BasisFactor` grows with them. The inverse costs one more LAPACK call
-    (dgetri), made at the first update after a factorisation that had to drop it: a
+    (dgetri, twice a factorisation's work), so updates are kept as etas, as in
+    `BasisFactor`, until the factors hold INVERSE_AFTER of them, and with `patient` (a warm
+    start, expected to be short) until the run has made rows / INVERSE_AFTER_DIVISOR too:
+    a cold solve or a series of re-solves pays for the inverse early and gains, a warm
+    start of a few iterations never pays. It is built from the LU factors and the etas so
+    far. A
     refactorisation of the basis the inverse already stands for (each solve ends on one)
     keeps it, so a re-solve goes on with it; it is computed afresh once INVERSE_REFACTOR_EVERY
     updates old, or drifted.
@@ -190,10 +195,11 @@ class InverseBasisFactor(BasisFactor):
     """
 
     def __init__(self, refactor_every: int, basis_column: Callable[[int], np.ndarray],
-                 basis_head: Callable[[], np.ndarray]):
+                 basis_head: Callable[[], np.ndarray], patient: bool = False):
         super().__init__(refactor_every)
-        self._batched = False  # the etas are never applied: no triangular system kept
-        self._inverse = None  # B^-1 (Fortran order, updated in place)
+        self._updates_run = 0  # updates since this factor was made (a whole run, or re-solves)
+        self._patient = patient  # wait for rows / INVERSE_AFTER_DIVISOR updates before inverting
+        self._inverse = None  # B^-1 (Fortran order, updated in place); None: etas meanwhile
         self._basis_column = basis_column  # column j of the current basis B
         self._basis_head = basis_head  # the variables of the current basis, by position
         self._head = None  # the basis the inverse stands for (after its last update)
@@ -214,7 +220,7 @@ class InverseBasisFactor(BasisFactor):
                 and np.array_equal(self._head, self._basis_head()))
         super().factor(B)
         if not keep:
-            self._inverse, self._drifted = None, False
+            self._inverse, self._drifted, self._age = None, False, 0
 
     def _invert(self) -> np.ndarray:
         """B0^-1 from the LU factors (LAPACK dgetri), in Fortran order for BLAS's dger."""
@@ -224,36 +230,43 @@ class InverseBasisFactor(BasisFactor):
         return np.asfortranarray(inverse)
 
     def ftran(self, a: np.ndarray) -> np.ndarray:
-        """Solve B z = a: by the LU factors right after a factorisation, else B^-1 a."""
-        if not self._k or self._m == 0:
+        """Solve B z = a: by the LU factors (and etas, as `BasisFactor`) until the inverse
+        is built, right after a factorisation too; else B^-1 a."""
+        if self._inverse is None or not self._k:
             return super().ftran(a)
         return self._inverse @ a
 
     def btran(self, c: np.ndarray) -> np.ndarray:
-        """Solve B^T y = c: by the LU factors right after a factorisation, else c^T B^-1."""
-        if not self._k or self._m == 0:
+        """Solve B^T y = c: as `ftran`, by the LU factors or c^T B^-1."""
+        if self._inverse is None or not self._k:
             return super().btran(c)
         return c @ self._inverse
 
     def unit_btran(self, r: int) -> np.ndarray:
-        """B^-T e_r, row r of B^-1 (by the LU factors right after a factorisation)."""
-        if not self._k:
-            e_r = np.zeros(self._m)
-            e_r[r] = 1.0
-            return super().btran(e_r)
+        """B^-T e_r: row r of B^-1 once the inverse is in use."""
+        if self._inverse is None or not self._k:
+            return super().unit_btran(r)
         return self._inverse[r].copy()
 
     def update(self, r: int, alpha: np.ndarray) -> None:
-        """Record that column r of the basis was replaced (alpha = B_old^-1 a_new): the
-        inverse takes the rank-one update of the class docstring."""
+        """Record that column r of the basis was replaced (alpha = B_old^-1 a_new): as an
+        eta of `BasisFactor` for the first INVERSE_AFTER updates, after which the inverse
+        is built from the LU factors and those etas; then as the rank-one update of the
+        class docstring, the inverse checked for drift every INVERSE_CHECK_EVERY updates."""
+        if self._inverse is None:
+            super().update(r, alpha)
+            self._updates_run += 1
+            if self._k >= INVERSE_AFTER and (not self._patient or self._updates_run >= self._m / INVERSE_AFTER_DIVISOR):
+                self._inverse = self._invert()
+                for i in range(self._k):
+                    self._rank_one(int(self._rows[i]), self._etas[:, i])
+                self._age = self._k
+                self._head = self._basis_head().copy()
+            return
         k = self._k
         if k == self.refactor_every:
             raise RuntimeError("the update file is full: refactorise first")
-        if self._inverse is None:
-            self._inverse, self._age = self._invert(), 0
-        row = self._inverse[r] / alpha[r]
-        self._inverse = blas.dger(-1.0, alpha, row, a=self._inverse, overwrite_a=1)  # in place (Fortran order)
-        self._inverse[r] = row
+        self._rank_one(r, alpha)
         self._k, self._age = k + 1, self._age + 1
         self._head = self._basis_head().copy()
         if self._age % INVERSE_CHECK_EVERY == 0:
@@ -262,6 +275,12 @@ class InverseBasisFactor(BasisFactor):
             check = self._inverse @ self._basis_column(j)
             check[j] -= 1.0
             self._drifted = bool(np.abs(check).max() > INVERSE_DRIFT)
+
+    def _rank_one(self, r: int, alpha: np.ndarray) -> None:
+        """B^-1 -= (alpha - e_r) (e_r^T B^-1) / alpha_r, in place (BLAS dger, Fortran order)."""
+        row = self._inverse[r] / alpha[r]
+        self._inverse = blas.dger(-1.0, alpha, row, a=self._inverse, overwrite_a=1)
+        self._inverse[r] = row
 
 
 def _scatter_add(v: np.ndarray, rows: np.ndarray, values: np.ndarray, repeats: bool) -> None:

@@ -88,7 +88,7 @@ def run_simplex(
     two-phase primal method; `ranging=True` adds the cost and bound ranges to an optimal
     outcome.
     """
-    state = SimplexState(sf, tol, max_iterations)
+    state = SimplexState(sf, tol, max_iterations, short_run=basis is not None)
     crossed = _crossed_bounds(state)
     if crossed:
         return _stopped(state, "infeasible", f"{crossed} has a lower bound above its upper bound")

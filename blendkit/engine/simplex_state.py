@@ -17,6 +17,8 @@ the NETLIB set) are held as dense arrays and factorised by LAPACK.
 
 from __future__ import annotations
 
+import weakref
+
 import numpy as np
 import scipy.sparse as sp
 
@@ -51,7 +53,7 @@ class SimplexState:
     duals and reduced costs computed, `ray` the direction found when unbounded.
     """
 
-    def __init__(self, sf: StandardForm, tol: Tolerances, max_iterations: int):
+    def __init__(self, sf: StandardForm, tol: Tolerances, max_iterations: int, short_run: bool = False):
         self.tol = tol
         self.max_iterations = max_iterations
         self.A = sf.A
@@ -71,15 +73,23 @@ class SimplexState:
             self.M = sp.hstack([sp.csc_matrix(self.A), -sp.identity(self.m, format="csc")], format="csc")
             self.products = RowProduct(self.M)  # y^T M, for the pivot row and the duals
         else:
-            every = np.clip(self.m**1.5 / DENSE_REFACTOR_DIVISOR, DENSE_REFACTOR_MIN, DENSE_REFACTOR_MAX)
-            if self.m >= INVERSE_ROWS:
-                self.factor = InverseBasisFactor(INVERSE_REFACTOR_EVERY, lambda j: self.M[:, self.head[j]],
-                                                 lambda: self.head)
-            else:
-                self.factor = BasisFactor(refactor_every=int(every))
+            self.factor = self._dense_factor(short_run)
             dense = self.A.toarray() if sp.issparse(self.A) else self.A
             self.M = np.hstack([dense, -np.eye(self.m)])
             self.MT = np.ascontiguousarray(self.M[:, : self.n].T)  # A^T by rows: y^T A reads it in order
+
+    def _dense_factor(self, short_run: bool) -> BasisFactor:
+        """The factors of a dense basis: LU with etas, or from INVERSE_ROWS rows also the
+        explicit inverse, which a `short_run` (a warm start: few iterations expected) builds
+        only once it has made rows / INVERSE_AFTER_DIVISOR updates (`InverseBasisFactor`)."""
+        if self.m < INVERSE_ROWS:
+            every = np.clip(self.m**1.5 / DENSE_REFACTOR_DIVISOR, DENSE_REFACTOR_MIN, DENSE_REFACTOR_MAX)
+            return BasisFactor(refactor_every=int(every))
+        # Through a weak proxy: no reference cycle, so a finished solve's arrays are freed
+        # at once rather than by the garbage collector.
+        state = weakref.proxy(self)
+        return InverseBasisFactor(INVERSE_REFACTOR_EVERY, lambda j: state.M[:, state.head[j]], lambda: state.head,
+                                  patient=short_run)
 
     # ----- the matrix M = [A, -I, artificial columns] -------------------------------
 

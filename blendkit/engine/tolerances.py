@@ -173,6 +173,13 @@ INVERSE_ROWS = 25
 INVERSE_REFACTOR_EVERY = 64
 INVERSE_DRIFT = 1e-9
 INVERSE_CHECK_EVERY = 4
+# Updates are kept as etas until the factors hold INVERSE_AFTER of them; in a warm start
+# (a basis given: few iterations expected) also until the run has made rows /
+# INVERSE_AFTER_DIVISOR in all. The inverse costs twice a factorisation (at 153 rows 0.5 ms,
+# as much as about 25 iterations save): a cold solve or a series of re-solves pays it early
+# and gains, a warm start of a few iterations never pays it.
+INVERSE_AFTER = 8
+INVERSE_AFTER_DIVISOR = 6.0
 
 # ----- limits of one solve -------------------------------------------------------------------
 
