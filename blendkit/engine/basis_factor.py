@@ -23,6 +23,11 @@ one by one, which on small bases (the NETLIB set) costs less than the triangular
 a basis refactorised that often keeps no T at all. `ftran` also takes two right-hand
 sides at once (the dual simplex's entering column and its bound flips' move), which costs
 a sparse basis less than two solves.
+
+A dense basis of INVERSE_ROWS rows or more (`InverseBasisFactor`) is also held, once a run
+has made a few updates, as its explicit inverse, updated by one rank-one product per
+column replacement and checked for drift against the basis's own columns; its solves then
+cost one matrix-vector product each, however many updates came before.
 """
 
 from __future__ import annotations
@@ -181,10 +186,9 @@ class InverseBasisFactor(BasisFactor):
     start, expected to be short) until the run has made rows / INVERSE_AFTER_DIVISOR too:
     a cold solve or a series of re-solves pays for the inverse early and gains, a warm
     start of a few iterations never pays. It is built from the LU factors and the etas so
-    far. A
-    refactorisation of the basis the inverse already stands for (each solve ends on one)
-    keeps it, so a re-solve goes on with it; it is computed afresh once INVERSE_REFACTOR_EVERY
-    updates old, or drifted.
+    far. A refactorisation of the basis the inverse already stands for (each solve ends on
+    one) keeps it, so a re-solve goes on with it; it is built afresh once
+    INVERSE_REFACTOR_EVERY updates old, or drifted.
 
     The pivot row and the entering column now come from the same inverse, so their
     agreement (`simplex_state.pivots_disagree`) no longer shows rounding built up. Instead

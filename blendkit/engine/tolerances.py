@@ -166,9 +166,8 @@ DENSE_REFACTOR_MAX = 64
 # than INVERSE_DRIFT (one column checked every INVERSE_CHECK_EVERY updates, in turn: a
 # check costs a matrix-vector product; checking at every update cost 7 % of a cold solve
 # of a 300 x 120 blend). On the blends of the benchmark (40 to 247 rows) the inverse took
-# a tenth to a quarter off a cold solve, and every
-# NETLIB problem of 27 rows or more got faster; on a basis of a dozen rows LAPACK's solves
-# and a few etas cost less.
+# a tenth to a quarter off a cold solve, and no NETLIB problem got slower (most a fifth to
+# a quarter faster); on a basis of a dozen rows LAPACK's solves and a few etas cost less.
 INVERSE_ROWS = 25
 INVERSE_REFACTOR_EVERY = 64
 INVERSE_DRIFT = 1e-9
