@@ -23,16 +23,23 @@ one by one, which on small bases (the NETLIB set) costs less than the triangular
 a basis refactorised that often keeps no T at all. `ftran` also takes two right-hand
 sides at once (the dual simplex's entering column and its bound flips' move), which costs
 a sparse basis less than two solves.
+
+A dense basis of INVERSE_ROWS rows or more (`InverseBasisFactor`) is also held, once a run
+has made a few updates, as its explicit inverse, updated by one rank-one product per
+column replacement and checked for drift against the basis's own columns; its solves then
+cost one matrix-vector product each, however many updates came before.
 """
 
 from __future__ import annotations
 
+from collections.abc import Callable
+
 import numpy as np
 import scipy.sparse as sp
-from scipy.linalg import lapack
+from scipy.linalg import blas, lapack
 from scipy.sparse.linalg import splu
 
-from blendkit.engine.tolerances import ETA_LOOP_MAX, REORDER_EVERY, REORDER_FILL, SINGULAR_PIVOT
+from blendkit.engine.tolerances import ETA_LOOP_MAX, INVERSE_AFTER, INVERSE_AFTER_DIVISOR, INVERSE_CHECK_EVERY, INVERSE_DRIFT, REORDER_EVERY, REORDER_FILL, SINGULAR_PIVOT
 
 
 class SingularBasis(Exception):
@@ -137,6 +144,12 @@ class BasisFactor:
             _scatter_add(w, rows[:k], u, self._repeats)
         return self._solve(w, True)
 
+    def unit_btran(self, r: int) -> np.ndarray:
+        """B^-T e_r (the pivot row's multipliers)."""
+        e_r = np.zeros(self._m)
+        e_r[r] = 1.0
+        return self.btran(e_r)
+
     def update(self, r: int, alpha: np.ndarray) -> None:
         """Record that column r of the basis was replaced; alpha = B_old^{-1} a_new."""
         k = self._k
@@ -153,6 +166,125 @@ class BasisFactor:
             self._repeats = self._repeats or bool(earlier.any())
         rows[k] = r
         self._k = k + 1
+
+
+class InverseBasisFactor(BasisFactor):
+    """A dense basis held as LU factors and as its explicit inverse, for mid-sized bases.
+
+    Right after a factorisation (no updates yet) every solve uses the LU factors, exactly
+    as `BasisFactor` does, so the values and duals a refactorisation recomputes (and every
+    answer ends on) are the same. Between factorisations the inverse is kept up to date
+    by one rank-one update per column replacement (BLAS dger, in place):
+
+        B_new^-1 = B^-1 - (alpha - e_r) (e_r^T B^-1) / alpha_r
+
+    so that an ftran is one matrix-vector product and the pivot row's btran of e_r is a
+    row of the inverse, each a fixed cost whatever the number of updates; the etas'
+    Python loop of `BasisFactor` grows with them. The inverse costs one more LAPACK call
+    (dgetri, twice a factorisation's work), so updates are kept as etas, as in
+    `BasisFactor`, until the factors hold INVERSE_AFTER of them, and with `patient` (a warm
+    start, expected to be short) until the run has made rows / INVERSE_AFTER_DIVISOR too:
+    a cold solve or a series of re-solves pays for the inverse early and gains, a warm
+    start of a few iterations never pays. It is built from the LU factors and the etas so
+    far. A refactorisation of the basis the inverse already stands for (each solve ends on
+    one) keeps it, so a re-solve goes on with it; it is built afresh once
+    INVERSE_REFACTOR_EVERY updates old, or drifted.
+
+    The pivot row and the entering column now come from the same inverse, so their
+    agreement (`simplex_state.pivots_disagree`) no longer shows rounding built up. Instead
+    every INVERSE_CHECK_EVERY-th update checks the inverse against one column of the
+    basis, position by position in turn (`basis_column`, given by the simplex state):
+    B^-1 b_j must be e_j within INVERSE_DRIFT, else the factors are `due` for
+    refactorisation at once.
+    """
+
+    def __init__(self, refactor_every: int, basis_column: Callable[[int], np.ndarray],
+                 basis_head: Callable[[], np.ndarray], patient: bool = False):
+        super().__init__(refactor_every)
+        self._updates_run = 0  # updates since this factor was made (a whole run, or re-solves)
+        self._patient = patient  # wait for rows / INVERSE_AFTER_DIVISOR updates before inverting
+        self._inverse = None  # B^-1 (Fortran order, updated in place); None: etas meanwhile
+        self._basis_column = basis_column  # column j of the current basis B
+        self._basis_head = basis_head  # the variables of the current basis, by position
+        self._head = None  # the basis the inverse stands for (after its last update)
+        self._age = 0  # updates the inverse took since it was computed
+        self._checked = 0  # the next basis position the drift check reads
+        self._drifted = False
+
+    @property
+    def due(self) -> bool:
+        """True when the update file is full, the inverse is as old, or it has drifted."""
+        return self._drifted or max(self._k, self._age) >= self.refactor_every
+
+    def factor(self, B: np.ndarray) -> None:
+        """Factorise B afresh (LU, checked as in `BasisFactor`). The inverse is kept when it
+        stands for this same basis (a refactorisation before stopping, or a re-solve's next
+        start), young and undrifted; else it is computed at the next update."""
+        keep = (self._inverse is not None and not self._drifted and self._age < self.refactor_every
+                and np.array_equal(self._head, self._basis_head()))
+        super().factor(B)
+        if not keep:
+            self._inverse, self._drifted, self._age = None, False, 0
+
+    def _invert(self) -> np.ndarray:
+        """B0^-1 from the LU factors (LAPACK dgetri), in Fortran order for BLAS's dger."""
+        inverse, info = lapack.dgetri(self._lu, self._piv)
+        if info > 0:
+            raise SingularBasis(f"basis matrix is singular (zero pivot at position {info})")
+        return np.asfortranarray(inverse)
+
+    def ftran(self, a: np.ndarray) -> np.ndarray:
+        """Solve B z = a: by the LU factors (and etas, as `BasisFactor`) until the inverse
+        is built, right after a factorisation too; else B^-1 a."""
+        if self._inverse is None or not self._k:
+            return super().ftran(a)
+        return self._inverse @ a
+
+    def btran(self, c: np.ndarray) -> np.ndarray:
+        """Solve B^T y = c: as `ftran`, by the LU factors or c^T B^-1."""
+        if self._inverse is None or not self._k:
+            return super().btran(c)
+        return c @ self._inverse
+
+    def unit_btran(self, r: int) -> np.ndarray:
+        """B^-T e_r: row r of B^-1 once the inverse is in use."""
+        if self._inverse is None or not self._k:
+            return super().unit_btran(r)
+        return self._inverse[r].copy()
+
+    def update(self, r: int, alpha: np.ndarray) -> None:
+        """Record that column r of the basis was replaced (alpha = B_old^-1 a_new): as an
+        eta of `BasisFactor` for the first INVERSE_AFTER updates, after which the inverse
+        is built from the LU factors and those etas; then as the rank-one update of the
+        class docstring, the inverse checked for drift every INVERSE_CHECK_EVERY updates."""
+        if self._inverse is None:
+            super().update(r, alpha)
+            self._updates_run += 1
+            if self._k >= INVERSE_AFTER and (not self._patient or self._updates_run >= self._m / INVERSE_AFTER_DIVISOR):
+                self._inverse = self._invert()
+                for i in range(self._k):
+                    self._rank_one(int(self._rows[i]), self._etas[:, i])
+                self._age = self._k
+                self._head = self._basis_head().copy()
+            return
+        k = self._k
+        if k == self.refactor_every:
+            raise RuntimeError("the update file is full: refactorise first")
+        self._rank_one(r, alpha)
+        self._k, self._age = k + 1, self._age + 1
+        self._head = self._basis_head().copy()
+        if self._age % INVERSE_CHECK_EVERY == 0:
+            j = self._checked % self._m
+            self._checked = j + 1
+            check = self._inverse @ self._basis_column(j)
+            check[j] -= 1.0
+            self._drifted = bool(np.abs(check).max() > INVERSE_DRIFT)
+
+    def _rank_one(self, r: int, alpha: np.ndarray) -> None:
+        """B^-1 -= (alpha - e_r) (e_r^T B^-1) / alpha_r, in place (BLAS dger, Fortran order)."""
+        row = self._inverse[r] / alpha[r]
+        self._inverse = blas.dger(-1.0, alpha, row, a=self._inverse, overwrite_a=1)
+        self._inverse[r] = row
 
 
 def _scatter_add(v: np.ndarray, rows: np.ndarray, values: np.ndarray, repeats: bool) -> None:

@@ -57,17 +57,24 @@ def start_dual(state: SimplexState, basis=None) -> bool:
     return True
 
 
-def run_dual(state: SimplexState, cost: np.ndarray, perturb: bool = False) -> str:
+def run_dual(state: SimplexState, cost: np.ndarray, perturb: bool = False, d: np.ndarray | None = None) -> str:
     """Dual simplex iterations until primal feasible ("optimal"), or a reason to stop.
 
     Returns "optimal", "infeasible" (no entering variable: the dual is unbounded),
     "stalled" or "iteration_limit". With `perturb`, a run that takes PERTURB_AFTER
-    degenerate iterations in a row goes on with perturbed costs (`perturbation`): `state.d`
-    and `state.y` are then those of the perturbed costs, and the caller puts the true
-    costs back.
+    degenerate iterations in a row goes on with perturbed costs (`perturbation`); an
+    optimal run then ends with the true costs put back (`state.y` and `state.d` computed
+    afresh from the final basis), so `state.d` and `state.y` are always those of `cost`
+    and the final factors (a run ends on fresh factors: `confirm_feasible`). `d`: the
+    reduced costs of `cost` at this basis when the caller holds them fresh (a re-solve),
+    else they are computed here.
     """
     with np.errstate(divide="ignore", invalid="ignore", over="ignore"):  # infinite bounds
-        return _DualRun(state, cost, perturb).run()
+        run = _DualRun(state, cost, perturb, d)
+        status = run.run()
+        if status == "optimal" and run.cost is not cost:
+            state.d = state.fresh_duals(cost)  # the true costs back (see `perturbation`)
+        return status
 
 
 class _DualRun:
@@ -81,19 +88,19 @@ class _DualRun:
     __slots__ = ("state", "cost", "d", "rise", "fall", "way", "back", "two_way", "span", "weights",
                  "primal_tol", "dual_tol", "pivot_tol", "stall", "xb", "lb", "ub", "slack", "perturb", "steepest")
 
-    def __init__(self, state: SimplexState, cost: np.ndarray, perturb: bool = False):
+    def __init__(self, state: SimplexState, cost: np.ndarray, perturb: bool = False, d: np.ndarray | None = None):
         tol = state.tol
         self.state = state
         self.cost = cost
         self.perturb = perturb  # still allowed to perturb the costs (once)
-        self.d = state.fresh_duals(cost)
+        self.d = state.fresh_duals(cost) if d is None else d.copy()
         rise_f, fall_f = state.mobility()
         self.rise, self.fall = rise_f > 0, fall_f > 0
         # The one way each nonbasic variable may move: +1 up, -1 down, 0 not at all.
         # Free nonbasic variables (both ways) take the slower two-sided search below.
         self.way = rise_f - fall_f
         self.back = -self.way
-        self.two_way = bool(np.any(self.rise & self.fall))
+        self.two_way = bool((self.rise & self.fall).any())
         self.span = state.upper - state.lower
         self.weights = np.ones(state.m)
         # Steepest-edge weights (exact, 1, for the basis of logicals) on large problems,

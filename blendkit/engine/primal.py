@@ -16,14 +16,15 @@ from blendkit.engine.ratio_test import negligible, primal_ratio_test
 from blendkit.engine.simplex_state import SimplexState, pivots_disagree
 
 
-def run_primal(state: SimplexState, cost: np.ndarray) -> str:
+def run_primal(state: SimplexState, cost: np.ndarray, d: np.ndarray | None = None) -> str:
     """Iterate with objective `cost` until optimal, unbounded or out of iterations.
 
     Returns "optimal" (`state.d` then holds the reduced costs), "unbounded" (`state.ray`
-    holds the direction) or "iteration_limit".
+    holds the direction) or "iteration_limit". `d`: the reduced costs of `cost` at this
+    basis when the caller has just computed them afresh, else they are computed here.
     """
     with np.errstate(divide="ignore", invalid="ignore", over="ignore"):  # infinite bounds
-        return _PrimalRun(state, cost).run()
+        return _PrimalRun(state, cost, d).run()
 
 
 class _PrimalRun:
@@ -32,11 +33,11 @@ class _PrimalRun:
 
     __slots__ = ("state", "cost", "d", "stall", "weights", "rise", "fall", "bland")
 
-    def __init__(self, state: SimplexState, cost: np.ndarray):
+    def __init__(self, state: SimplexState, cost: np.ndarray, d: np.ndarray | None = None):
         self.state = state
         self.cost = cost
         state.ray = None
-        self.d = state.fresh_duals(cost)
+        self.d = state.fresh_duals(cost) if d is None else d.copy()
         self.stall = StallWatch(float(cost @ state.z))
         self.weights = np.ones_like(self.d)
         self.rise, self.fall = state.mobility()

@@ -19,7 +19,11 @@ def negligible(delta: np.ndarray, pivot: float) -> np.ndarray:
     """Where entries of the column `delta` are below the pivot tolerance, relative to its
     largest entry (or absolute, when that is below 1): such an entry never blocks a
     primal step, and an unbounded ray takes it for the zero it stands for."""
-    rate = np.abs(delta)
+    return _negligible_rate(np.abs(delta), pivot)
+
+
+def _negligible_rate(rate: np.ndarray, pivot: float) -> np.ndarray:
+    """`negligible` of |delta| already at hand (the primal ratio test has it)."""
     return rate <= pivot * max(1.0, rate.max(initial=0.0))
 
 
@@ -38,7 +42,7 @@ def primal_ratio_test(state, q: int, delta: np.ndarray, bland: bool):
     rate = np.abs(delta)
     # Entries below the pivot tolerance, relative to the column's largest, never
     # block: pivoting on them would make the basis nearly singular.
-    blocking = ~negligible(delta, tol.pivot)
+    blocking = ~_negligible_rate(rate, tol.pivot)
     rising = delta > 0
     bound = np.where(rising, state.upper[head], state.lower[head])
     room = np.where(rising, bound - xb, xb - bound)

@@ -25,8 +25,6 @@ Notation as in `blendkit.engine.simplex`.
 
 from __future__ import annotations
 
-from dataclasses import replace
-
 import numpy as np
 
 from blendkit.engine.basis_factor import SingularBasis
@@ -67,6 +65,7 @@ class Resolver:
         """Shared by both constructors: keep the form, find the scaling once."""
         m, n = form.shape
         self._form = form
+        self._pending: dict[str, np.ndarray] = {}  # fields changed since `_form` was last rebuilt
         self._tol = tolerances or Tolerances()
         self._max_iterations = max_iterations or max(ITERATION_LIMIT_MIN, ITERATION_LIMIT_PER_LINE * (m + n))
         self._scale = scale
@@ -80,7 +79,17 @@ class Resolver:
     @property
     def form(self) -> StandardForm:
         """The problem as it stands now, in original units."""
+        if self._pending:  # one rebuild for all the changes since the last (a frozen record)
+            form, now = self._form, self._now
+            self._form = StandardForm(c=now("c"), A=form.A, row_lower=now("row_lower"), row_upper=now("row_upper"),
+                                      col_lower=now("col_lower"), col_upper=now("col_upper"), n_ub=form.n_ub,
+                                      from_linprog=form.from_linprog)
+            self._pending = {}
         return self._form
+
+    def _now(self, name: str) -> np.ndarray:
+        """The field `name` of the form as it stands, changes included."""
+        return self._pending.get(name, getattr(self._form, name))
 
     @property
     def basis(self) -> Basis | None:
@@ -89,42 +98,42 @@ class Resolver:
 
     def change_costs(self, costs, index=None) -> None:
         """New costs: for every column, or for the columns `index` only."""
-        c = _changed(self._form.c, costs, index, "costs")
-        if not np.all(np.isfinite(c)):
+        c = _changed(self._now("c"), costs, index, "costs")
+        if not np.isfinite(c).all():
             raise ValueError("costs must be finite numbers")
-        self._form = replace(self._form, c=c)
+        self._pending["c"] = c
         self._repriced = True
 
     def change_col_bounds(self, lower, upper, index=None) -> None:
         """New column bounds (-inf / inf for none): for every column, or the columns `index`."""
-        lo = _changed(self._form.col_lower, lower, index, "lower")
-        up = _changed(self._form.col_upper, upper, index, "upper")
+        lo = _changed(self._now("col_lower"), lower, index, "lower")
+        up = _changed(self._now("col_upper"), upper, index, "upper")
         _check_bounds(lo, up, "column")
-        self._form = replace(self._form, col_lower=lo, col_upper=up)
+        self._pending.update(col_lower=lo, col_upper=up)
         self._moved = True
 
     def change_row_bounds(self, lower, upper, index=None) -> None:
         """New row bounds (row_lower <= A x <= row_upper; -inf / inf for none): for every
         row, or the rows `index`. A linprog-built problem has A_ub's rows first."""
-        lo = _changed(self._form.row_lower, lower, index, "lower")
-        up = _changed(self._form.row_upper, upper, index, "upper")
+        lo = _changed(self._now("row_lower"), lower, index, "lower")
+        up = _changed(self._now("row_upper"), upper, index, "upper")
         _check_bounds(lo, up, "row")
-        self._form = replace(self._form, row_lower=lo, row_upper=up)
+        self._pending.update(row_lower=lo, row_upper=up)
         self._moved = True
 
     def change_rhs(self, b_ub=None, b_eq=None) -> None:
         """New right-hand sides of a problem built from linprog's arguments (None: as it was)."""
         k = self._form.n_ub
-        lo, up = self._form.row_lower, self._form.row_upper.copy()
+        lo, up = self._now("row_lower"), self._now("row_upper").copy()
         if b_ub is not None:
             up[:k] = _changed(up[:k], b_ub, None, "b_ub")
         if b_eq is not None:
             lo = lo.copy()
             lo[k:] = up[k:] = _changed(up[k:], b_eq, None, "b_eq")
-            if not np.all(np.isfinite(up[k:])):
+            if not np.isfinite(up[k:]).all():
                 raise ValueError("b_eq must contain only finite numbers")
         _check_bounds(lo, up, "row")
-        self._form = replace(self._form, row_lower=lo, row_upper=up)
+        self._pending.update(row_lower=lo, row_upper=up)
         self._moved = True
 
     # ----- solving -----------------------------------------------------------------------
@@ -144,7 +153,7 @@ class Resolver:
     def _cold(self, ranging: bool) -> LPResult:
         """A solve from scratch (from the last basis, as `solve_form` takes it); its
         optimal basis is then factorised and held for the next re-solve."""
-        result = solve_form(self._form, basis=self._basis, tolerances=self._tol, max_iterations=self._max_iterations,
+        result = solve_form(self.form, basis=self._basis, tolerances=self._tol, max_iterations=self._max_iterations,
                             scale=self._scale, ranging=ranging)
         self._state = None
         if result.status == "optimal":
@@ -155,7 +164,7 @@ class Resolver:
     def _hold(self, basis: Basis) -> None:
         """Build the state of the scaled problem at `basis`, factors and all (None when the
         basis does not fit it, as when an artificial stayed basic on a redundant row)."""
-        state = SimplexState(scale_form(self._form, self._scaling), self._tol, self._max_iterations)
+        state = SimplexState(scale_form(self.form, self._scaling), self._tol, self._max_iterations)
         with one_blas_thread():
             if state.start_from(basis.head, basis.at_upper):
                 self._state = state
@@ -165,7 +174,7 @@ class Resolver:
         """The re-solve from the basis held, or None to solve from scratch."""
         state, moved = self._state, self._moved
         self._load()
-        if moved and np.any(state.lower > state.upper):
+        if moved and (state.lower > state.upper).any():
             return None
         state.iterations = 0
         state.max_iterations = self._max_iterations
@@ -176,7 +185,7 @@ class Resolver:
         if status != "optimal":
             return None
         outcome = optimal_outcome(state, phase_one=0, warm=True, algorithm=algorithm, ranging=ranging)
-        result, trusted = checked_result(self._form, self._scaling, outcome, self._tol)
+        result, trusted = checked_result(self.form, self._scaling, outcome, self._tol)
         if not trusted:
             return None
         self._basis = result.basis
@@ -185,15 +194,16 @@ class Resolver:
     def _load(self) -> None:
         """Write the costs (into `_cost` too, over the structurals and logicals) and bounds
         changed since the last solve, scaled, into the state."""
-        state, form, rows, cols = self._state, self._form, self._scaling.rows, self._scaling.cols
+        state, form, rows, cols = self._state, self.form, self._scaling.rows, self._scaling.cols
         n = state.n
         if self._repriced:
             state.c_struct = form.c * cols
             self._cost[:n] = state.c_struct
-        if self._moved:
-            with np.errstate(invalid="ignore"):
-                state.lower[:n], state.upper[:n] = form.col_lower / cols, form.col_upper / cols
-            state.lower[n:], state.upper[n:] = form.row_lower * rows, form.row_upper * rows
+        if self._moved:  # the factors are powers of two: an infinite bound stays infinite
+            np.divide(form.col_lower, cols, out=state.lower[:n])
+            np.divide(form.col_upper, cols, out=state.upper[:n])
+            np.multiply(form.row_lower, rows, out=state.lower[n:])
+            np.multiply(form.row_upper, rows, out=state.upper[n:])
 
 
 def _iterate(state: SimplexState, cost: np.ndarray, moved: bool, repriced: bool) -> tuple[str, str]:
@@ -212,14 +222,12 @@ def _iterate(state: SimplexState, cost: np.ndarray, moved: bool, repriced: bool)
     if not moved or _primal_feasible(state):
         if _dual_feasible(state):
             return "optimal", "primal"
-        return run_primal(state, cost), "primal"
+        return run_primal(state, cost, d=state.d), "primal"
     if not _place_for_dual(state):
         return "no_start", ""
-    status = run_dual(state, cost, perturb=True)
-    if status == "optimal":
-        state.d = state.fresh_duals(cost)  # the true costs back, if perturbed (see `perturbation`)
-        if not _dual_feasible(state):
-            status = run_primal(state, cost)  # rounding or the perturbation left a reduced cost astray
+    status = run_dual(state, cost, perturb=True, d=state.d)  # ends with the true costs' duals
+    if status == "optimal" and not _dual_feasible(state):
+        status = run_primal(state, cost, d=state.d)  # rounding or the perturbation left a reduced cost astray
     return status, "dual"
 
 
@@ -260,13 +268,12 @@ def _place_for_dual(state: SimplexState) -> bool:
 
 def _changed(values: np.ndarray, new, index, name: str) -> np.ndarray:
     """A copy of `values` with `new` in every place, or in the places `index`."""
-    out = np.array(values, dtype=float, copy=True)
     new = np.asarray(new, dtype=float).reshape(-1)
     if index is None:
-        if new.size != out.size:
-            raise ValueError(f"{name} must have {out.size} entries, got {new.size}")
-        out[:] = new
-        return out
+        if new.size != values.size:
+            raise ValueError(f"{name} must have {values.size} entries, got {new.size}")
+        return new.copy()
+    out = np.array(values, dtype=float, copy=True)
     index = np.asarray(index, dtype=int).reshape(-1)
     if new.size not in (1, index.size) or np.any(index < -out.size) or np.any(index >= out.size):
         raise ValueError(f"{name}: {new.size} values for {index.size} places among {out.size}")
@@ -277,8 +284,8 @@ def _changed(values: np.ndarray, new, index, name: str) -> np.ndarray:
 def _check_bounds(lower: np.ndarray, upper: np.ndarray, what: str) -> None:
     """Raise ValueError for a NaN bound, a lower bound of +inf or an upper bound of -inf
     (a NaN fails both comparisons of the first test, so it alone passes good bounds)."""
-    if np.all((lower < np.inf) & (upper > -np.inf)):
+    if ((lower < np.inf) & (upper > -np.inf)).all():
         return
-    if np.any(np.isnan(lower)) or np.any(np.isnan(upper)):
+    if np.isnan(lower).any() or np.isnan(upper).any():
         raise ValueError(f"{what} bounds must not be NaN")
     raise ValueError(f"a {what} lower bound of +inf or upper bound of -inf admits no value")

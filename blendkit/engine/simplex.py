@@ -88,7 +88,7 @@ def run_simplex(
     two-phase primal method; `ranging=True` adds the cost and bound ranges to an optimal
     outcome.
     """
-    state = SimplexState(sf, tol, max_iterations)
+    state = SimplexState(sf, tol, max_iterations, short_run=basis is not None)
     crossed = _crossed_bounds(state)
     if crossed:
         return _stopped(state, "infeasible", f"{crossed} has a lower bound above its upper bound")
@@ -123,9 +123,7 @@ def _try_dual(state: SimplexState, basis, ranging: bool) -> SimplexOutcome | Non
     if not start_dual(state, basis):
         return None
     cost = np.concatenate([state.c_struct, np.zeros(state.m)])
-    status = run_dual(state, cost, perturb=True)
-    if status == "optimal":
-        state.d = state.fresh_duals(cost)  # the true costs back, if perturbed (see `perturbation`)
+    status = run_dual(state, cost, perturb=True)  # ends with the true costs' duals
     if status == "optimal" and not _dual_feasible(state):
         # A primal pass from this primal feasible basis removes the dual
         # infeasibility left by the perturbation and by rounding.

@@ -17,16 +17,20 @@ the NETLIB set) are held as dense arrays and factorised by LAPACK.
 
 from __future__ import annotations
 
+import weakref
+
 import numpy as np
 import scipy.sparse as sp
 
-from blendkit.engine.basis_factor import BasisFactor, SingularBasis, SparseBasisFactor
+from blendkit.engine.basis_factor import BasisFactor, InverseBasisFactor, SingularBasis, SparseBasisFactor
 from blendkit.engine.row_product import RowProduct, gather
 from blendkit.engine.standard_form import StandardForm
 from blendkit.engine.tolerances import (
     DENSE_REFACTOR_MAX,
     DENSE_REFACTOR_MIN,
     DENSE_REFACTOR_DIVISOR,
+    INVERSE_REFACTOR_EVERY,
+    INVERSE_ROWS,
     PIVOT_AGREEMENT,
     SPARSE_DENSITY,
     SPARSE_REFACTOR_EVERY,
@@ -49,7 +53,7 @@ class SimplexState:
     duals and reduced costs computed, `ray` the direction found when unbounded.
     """
 
-    def __init__(self, sf: StandardForm, tol: Tolerances, max_iterations: int):
+    def __init__(self, sf: StandardForm, tol: Tolerances, max_iterations: int, short_run: bool = False):
         self.tol = tol
         self.max_iterations = max_iterations
         self.A = sf.A
@@ -61,7 +65,6 @@ class SimplexState:
         self.art_sign = np.zeros(0)
         self.iterations = 0
         self.y = self.d = self.ray = self.rho = None
-        self._unit = np.zeros(self.m)  # e_r, for the pivot row
         nonzeros = self.A.nnz if sp.issparse(self.A) else np.count_nonzero(self.A)
         density = nonzeros / max(1, self.m * self.n)
         self.sparse = self.m >= SPARSE_ROWS and density <= SPARSE_DENSITY
@@ -70,11 +73,23 @@ class SimplexState:
             self.M = sp.hstack([sp.csc_matrix(self.A), -sp.identity(self.m, format="csc")], format="csc")
             self.products = RowProduct(self.M)  # y^T M, for the pivot row and the duals
         else:
-            every = np.clip(self.m**1.5 / DENSE_REFACTOR_DIVISOR, DENSE_REFACTOR_MIN, DENSE_REFACTOR_MAX)
-            self.factor = BasisFactor(refactor_every=int(every))
+            self.factor = self._dense_factor(short_run)
             dense = self.A.toarray() if sp.issparse(self.A) else self.A
             self.M = np.hstack([dense, -np.eye(self.m)])
             self.MT = np.ascontiguousarray(self.M[:, : self.n].T)  # A^T by rows: y^T A reads it in order
+
+    def _dense_factor(self, short_run: bool) -> BasisFactor:
+        """The factors of a dense basis: LU with etas, or from INVERSE_ROWS rows also the
+        explicit inverse, which a `short_run` (a warm start: few iterations expected) builds
+        only once it has made rows / INVERSE_AFTER_DIVISOR updates (`InverseBasisFactor`)."""
+        if self.m < INVERSE_ROWS:
+            every = np.clip(self.m**1.5 / DENSE_REFACTOR_DIVISOR, DENSE_REFACTOR_MIN, DENSE_REFACTOR_MAX)
+            return BasisFactor(refactor_every=int(every))
+        # Through a weak proxy: no reference cycle, so a finished solve's arrays are freed
+        # at once rather than by the garbage collector.
+        state = weakref.proxy(self)
+        return InverseBasisFactor(INVERSE_REFACTOR_EVERY, lambda j: state.M[:, state.head[j]], lambda: state.head,
+                                  patient=short_run)
 
     # ----- the matrix M = [A, -I, artificial columns] -------------------------------
 
@@ -234,10 +249,7 @@ class SimplexState:
 
     def pivot_row(self, r: int) -> np.ndarray:
         """Row r of B^-1 M (alpha_r): how basic position r changes with each variable."""
-        e_r = self._unit
-        e_r[r] = 1.0
-        rho = self.factor.btran(e_r)
-        e_r[r] = 0.0
+        rho = self.factor.unit_btran(r)
         if self.sparse and self.products.focused:
             self._clear_logical_rows(rho, r)
         self.rho = rho  # B^-T e_r, kept for the dual simplex's edge weights

@@ -2,7 +2,6 @@
 
 from __future__ import annotations
 
-from contextlib import contextmanager
 from dataclasses import replace
 
 import numpy as np
@@ -23,26 +22,33 @@ from blendkit.engine.verify import worst_violation
 _blas = None
 
 
-@contextmanager
-def one_blas_thread():
+class one_blas_thread:  # noqa: N801 - used as a function: `with one_blas_thread():`
     """Hold every loaded BLAS library to one thread for the duration (threadpoolctl).
 
     The libraries are found once; each solve then only sets and restores their thread
-    counts, which costs microseconds rather than a fresh survey of the process.
+    counts, which costs microseconds rather than a fresh survey of the process. A plain
+    class rather than a generator: a re-solve enters it every call.
     """
-    global _blas
-    if _blas is None:
-        from threadpoolctl import ThreadpoolController
 
-        _blas = [lib for lib in ThreadpoolController().lib_controllers if lib.user_api == "blas"]
-    before = [lib.get_num_threads() for lib in _blas]
-    for lib in _blas:
-        lib.set_num_threads(1)
-    try:
-        yield
-    finally:
-        for lib, threads in zip(_blas, before):
-            lib.set_num_threads(threads)
+    __slots__ = ("before",)
+
+    def __enter__(self) -> None:
+        """Set each library to one thread, remembering its count."""
+        global _blas
+        if _blas is None:
+            from threadpoolctl import ThreadpoolController
+
+            _blas = [lib for lib in ThreadpoolController().lib_controllers if lib.user_api == "blas"]
+        self.before = [lib.get_num_threads() for lib in _blas]
+        for lib, threads in zip(_blas, self.before):
+            if threads != 1:
+                lib.set_num_threads(1)
+
+    def __exit__(self, *exc) -> None:
+        """Give each library its thread count back."""
+        for lib, threads in zip(_blas, self.before):
+            if threads != 1:
+                lib.set_num_threads(threads)
 
 
 def solve(

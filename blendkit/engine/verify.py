@@ -17,36 +17,42 @@ def worst_violation(sf: StandardForm, x: np.ndarray) -> tuple[float, str]:
 
     A row's violation is divided by 1 + the largest of |bound| and |a_ij x_j| in that
     row; a column's by 1 + |bound|. Returns (0.0, "") when x is feasible. Those sizes are
-    at least 1, so only the rows and columns that break a bound at all are sized.
+    at least 1, so only the rows and columns that break a bound at all are sized (a
+    re-solve calls this every time: the feasible case costs a few whole-array steps).
     """
     worst, where = 0.0, ""
     activity = sf.A @ x
-    rows = np.flatnonzero(np.maximum(sf.row_lower - activity, activity - sf.row_upper) > 0)
-    cols = np.flatnonzero(np.maximum(sf.col_lower - x, x - sf.col_upper) > 0)
-    if rows.size:
+    row_over = np.maximum(sf.row_lower - activity, activity - sf.row_upper)
+    if row_over.max(initial=0.0) > 0:
+        rows = (row_over > 0).nonzero()[0]
         A = sf.A[rows]
         if sp.issparse(A):
             terms = np.asarray(abs(A.multiply(x[None, :])).max(axis=1).todense()).ravel()
         else:
             terms = np.abs(A * x).max(axis=1, initial=0.0)
-        lower, upper, act = sf.row_lower[rows], sf.row_upper[rows], activity[rows]
-        size = 1.0 + np.maximum(terms, np.maximum(_finite_size(lower), _finite_size(upper)))
-        row_violation = np.maximum(lower - act, act - upper) / size
-        k = int(np.argmax(row_violation))
+        size = _with_bounds(terms, sf.row_lower[rows], sf.row_upper[rows])
+        row_violation = row_over[rows] / size
+        k = int(row_violation.argmax())
         worst, where = float(row_violation[k]), _row_name(sf, int(rows[k]))
-    if cols.size:
-        lower, upper, values = sf.col_lower[cols], sf.col_upper[cols], x[cols]
-        col_violation = np.maximum(lower - values, values - upper) / (
-            1.0 + np.maximum(_finite_size(lower), _finite_size(upper)))
-        k = int(np.argmax(col_violation))
+    col_over = np.maximum(sf.col_lower - x, x - sf.col_upper)
+    if col_over.max(initial=0.0) > 0:
+        cols = (col_over > 0).nonzero()[0]
+        size = _with_bounds(np.zeros(cols.size), sf.col_lower[cols], sf.col_upper[cols])
+        col_violation = col_over[cols] / size
+        k = int(col_violation.argmax())
         if col_violation[k] > worst:
             worst, where = float(col_violation[k]), f"bound of variable {int(cols[k])}"
     return worst, where
 
 
-def _finite_size(bounds: np.ndarray) -> np.ndarray:
-    """|bound|, 0 for an infinite one (it never scales a violation)."""
-    return np.abs(np.where(np.isfinite(bounds), bounds, 0.0))
+def _with_bounds(size: np.ndarray, lower: np.ndarray, upper: np.ndarray) -> np.ndarray:
+    """1 + max(size, |lower|, |upper|), an infinite bound left out (it never scales a
+    violation); `size` is overwritten. In place, step by step: called on every re-solve."""
+    for bound in (lower, upper):
+        magnitude = np.abs(bound)
+        np.maximum(size, magnitude, out=size, where=magnitude < np.inf)
+    size += 1.0
+    return size
 
 
 def _row_name(sf: StandardForm, i: int) -> str:
