@@ -35,10 +35,9 @@ from __future__ import annotations
 from collections.abc import Callable
 
 import numpy as np
-import scipy.sparse as sp
-from scipy.linalg import blas, lapack
-from scipy.sparse.linalg import splu
 
+from blendkit.engine.lapack import blas, lapack
+from blendkit.engine.sparse import sparse, splu
 from blendkit.engine.tolerances import ETA_LOOP_MAX, INVERSE_AFTER, INVERSE_AFTER_DIVISOR, INVERSE_CHECK_EVERY, INVERSE_DRIFT, REORDER_EVERY, REORDER_FILL, SINGULAR_PIVOT
 
 
@@ -321,7 +320,7 @@ class SparseBasisFactor(BasisFactor):
         """Factorise the sparse basis B afresh and clear the update file."""
         if not self._clear(B):
             return
-        B = sp.csc_matrix(B)
+        B = sparse().csc_matrix(B)
         order = self._order
         try:
             if order is not None and order.size == self._m and self._reused < REORDER_EVERY:

@@ -12,10 +12,10 @@ from __future__ import annotations
 from typing import TYPE_CHECKING
 
 import numpy as np
-import scipy.sparse as sp
 
 from blendkit.engine.result import Certificate, ConflictPart
 from blendkit.engine.scaling import Scaling
+from blendkit.engine.sparse import is_sparse
 from blendkit.engine.standard_form import StandardForm
 from blendkit.engine.tolerances import CERTIFICATE_PROOF, RAY_ROUNDING_ULPS, Tolerances
 
@@ -84,7 +84,7 @@ def proves_infeasible(form: StandardForm, y: np.ndarray, proof: float = CERTIFIC
         return False
     A = form.A
     g = np.asarray(A.T @ y).ravel()
-    column_size = np.asarray(abs(A).sum(axis=0)).ravel() if sp.issparse(A) else np.abs(A).sum(axis=0)
+    column_size = np.asarray(abs(A).sum(axis=0)).ravel() if is_sparse(A) else np.abs(A).sum(axis=0)
     noise = proof * size * column_size
     g = np.where(np.abs(g) > noise, g, 0.0)
     pressed = g != 0
@@ -101,7 +101,7 @@ def proves_infeasible(form: StandardForm, y: np.ndarray, proof: float = CERTIFIC
 
 def _abs_sums(A) -> tuple[np.ndarray, np.ndarray]:
     """Sums of |A| along the rows and along the columns, dense or sparse alike."""
-    size = abs(A) if sp.issparse(A) else np.abs(A)
+    size = abs(A) if is_sparse(A) else np.abs(A)
     return np.asarray(size.sum(axis=1)).ravel(), np.asarray(size.sum(axis=0)).ravel()
 
 
@@ -122,7 +122,7 @@ def proves_unbounded(form: StandardForm, ray: np.ndarray, proof: float = CERTIFI
     A = form.A
     row_sums, col_sums = _abs_sums(A)
     change = np.asarray(A @ d).ravel()
-    terms = np.asarray(abs(A) @ np.abs(d) if sp.issparse(A) else np.abs(A) @ np.abs(d)).ravel()
+    terms = np.asarray(abs(A) @ np.abs(d) if is_sparse(A) else np.abs(A) @ np.abs(d)).ravel()
     room = proof * terms + RAY_ROUNDING_ULPS * np.finfo(float).eps * row_sums
     if np.any(change[np.isfinite(form.row_upper)] > room[np.isfinite(form.row_upper)]):
         return False

@@ -19,9 +19,9 @@ from __future__ import annotations
 import math
 
 import numpy as np
-import scipy.sparse as sp
 
 from blendkit.engine.mip_problem import MIPProblem
+from blendkit.engine.sparse import sparse
 from blendkit.engine.tolerances import GRID_DECIMALS, GRID_WHOLE
 
 
@@ -30,7 +30,7 @@ def column_steps(problem: MIPProblem) -> np.ndarray:
     integer column by a row x_j - k n_j = 0, 0 for a column on no grid."""
     form = problem.form
     steps = np.where(problem.integer, 1.0, 0.0)
-    A = sp.csr_matrix(form.A)
+    A = sparse().csr_matrix(form.A)
     equal = (form.row_lower == form.row_upper) & (form.row_upper == 0)
     for i in np.flatnonzero(equal & (np.diff(A.indptr) == 2)):
         (j, k), (a, b) = A.indices[A.indptr[i] : A.indptr[i + 1]], A.data[A.indptr[i] : A.indptr[i + 1]]

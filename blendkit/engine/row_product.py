@@ -19,11 +19,14 @@ Each way gives the exact product; only the work differs.
 from __future__ import annotations
 
 from collections.abc import Callable
+from typing import TYPE_CHECKING
 
 import numpy as np
-import scipy.sparse as sp
 
 from blendkit.engine.tolerances import FOCUS_MIN_NONZEROS, FOCUS_SHARE, HYPERSPARSE_SHARE, REFOCUS_AFTER
+
+if TYPE_CHECKING:  # annotations only: this module works on a matrix scipy.sparse already made
+    import scipy.sparse as sp
 
 
 def gather(indptr: np.ndarray, indices: np.ndarray, data: np.ndarray, which: np.ndarray, weights: np.ndarray,

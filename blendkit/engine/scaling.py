@@ -14,8 +14,8 @@ from __future__ import annotations
 from dataclasses import dataclass
 
 import numpy as np
-import scipy.sparse as sp
 
+from blendkit.engine.sparse import is_sparse, sparse
 from blendkit.engine.standard_form import StandardForm
 from blendkit.engine.tolerances import GEOMETRIC_PASSES
 
@@ -30,7 +30,7 @@ class Scaling:
 
 def _entries(A) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
     """Row indices, column indices and log2 magnitudes of the nonzeros of A."""
-    if sp.issparse(A):
+    if is_sparse(A):
         coo = A.tocoo()
         rows, cols, values = coo.row, coo.col, coo.data
     else:
@@ -79,7 +79,7 @@ def _midpoints(high: np.ndarray, low: np.ndarray) -> np.ndarray:
 
 def find_scaling(A) -> Scaling:
     """Scale factors that bring the nonzeros of A near 1."""
-    if not sp.issparse(A):
+    if not is_sparse(A):
         return _dense_scaling(np.asarray(A, dtype=float))
     m, n = A.shape
     rows, cols, logs = _entries(A)
@@ -101,7 +101,7 @@ def scale_form(form: StandardForm, scaling: Scaling) -> StandardForm:
     R, C = scaling.rows, scaling.cols
     return StandardForm(
         c=form.c * C,
-        A=(sp.diags(R) @ form.A @ sp.diags(C)).tocsr() if sp.issparse(form.A) else form.A * R[:, None] * C[None, :],
+        A=(sparse().diags(R) @ form.A @ sparse().diags(C)).tocsr() if is_sparse(form.A) else form.A * R[:, None] * C[None, :],
         row_lower=form.row_lower * R,
         row_upper=form.row_upper * R,
         col_lower=form.col_lower / C,

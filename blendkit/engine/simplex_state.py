@@ -20,10 +20,10 @@ from __future__ import annotations
 import weakref
 
 import numpy as np
-import scipy.sparse as sp
 
 from blendkit.engine.basis_factor import BasisFactor, InverseBasisFactor, SingularBasis, SparseBasisFactor
 from blendkit.engine.row_product import RowProduct, gather
+from blendkit.engine.sparse import is_sparse, sparse
 from blendkit.engine.standard_form import StandardForm
 from blendkit.engine.tolerances import (
     DENSE_REFACTOR_MAX,
@@ -65,16 +65,17 @@ class SimplexState:
         self.art_sign = np.zeros(0)
         self.iterations = 0
         self.y = self.d = self.ray = self.rho = None
-        nonzeros = self.A.nnz if sp.issparse(self.A) else np.count_nonzero(self.A)
+        nonzeros = self.A.nnz if is_sparse(self.A) else np.count_nonzero(self.A)
         density = nonzeros / max(1, self.m * self.n)
         self.sparse = self.m >= SPARSE_ROWS and density <= SPARSE_DENSITY
         if self.sparse:
             self.factor = SparseBasisFactor(refactor_every=SPARSE_REFACTOR_EVERY)
+            sp = sparse()
             self.M = sp.hstack([sp.csc_matrix(self.A), -sp.identity(self.m, format="csc")], format="csc")
             self.products = RowProduct(self.M)  # y^T M, for the pivot row and the duals
         else:
             self.factor = self._dense_factor(short_run)
-            dense = self.A.toarray() if sp.issparse(self.A) else self.A
+            dense = self.A.toarray() if is_sparse(self.A) else self.A
             self.M = np.hstack([dense, -np.eye(self.m)])
             self.MT = np.ascontiguousarray(self.M[:, : self.n].T)  # A^T by rows: y^T A reads it in order
 
@@ -142,6 +143,7 @@ class SimplexState:
         if rows.size == 0 and self.M.shape[1] == self.n + self.m:
             return  # nothing to add or remove
         if self.sparse:
+            sp = sparse()
             columns = sp.csc_matrix((signs, (rows, np.arange(rows.size))), shape=(self.m, rows.size))
             self.M = sp.hstack([self.M[:, : self.n + self.m], columns], format="csc")
             self.products = RowProduct(self.M)

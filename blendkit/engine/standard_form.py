@@ -14,7 +14,8 @@ from __future__ import annotations
 from dataclasses import dataclass
 
 import numpy as np
-import scipy.sparse as sp
+
+from blendkit.engine.sparse import is_sparse, sparse
 
 
 @dataclass(frozen=True)
@@ -40,8 +41,8 @@ def _matrix(name: str, A, n: int):
     """A float copy of A (m x n; a sparse matrix stays sparse), or a (0 x n) matrix for None."""
     if A is None:
         return np.zeros((0, n))
-    if sp.issparse(A):
-        A = sp.csr_matrix(A, dtype=float, copy=True)
+    if is_sparse(A):
+        A = sparse().csr_matrix(A, dtype=float, copy=True)
         if A.ndim != 2 or A.shape[1] != n:
             raise ValueError(f"{name} must be a 2-D array with {n} columns, got shape {A.shape}")
         if not np.all(np.isfinite(A.data)):
@@ -142,7 +143,7 @@ def to_standard_form(c, A_ub=None, b_ub=None, A_eq=None, b_eq=None, bounds=None)
     col_lower, col_upper = _bounds(bounds, n)
     return StandardForm(
         c=c,
-        A=sp.vstack([A_ub, A_eq], format="csr") if sp.issparse(A_ub) or sp.issparse(A_eq) else np.vstack([A_ub, A_eq]),
+        A=sparse().vstack([A_ub, A_eq], format="csr") if is_sparse(A_ub) or is_sparse(A_eq) else np.vstack([A_ub, A_eq]),
         row_lower=np.concatenate([np.full(A_ub.shape[0], -np.inf), b_eq]),
         row_upper=np.concatenate([b_ub, b_eq]),
         col_lower=col_lower,

@@ -21,9 +21,9 @@ indicators to 0 once K of them are 1.
 from __future__ import annotations
 
 import numpy as np
-import scipy.sparse as sp
 
 from blendkit.engine.mip_problem import MIPProblem, settle
+from blendkit.engine.sparse import sparse
 from blendkit.engine.tolerances import PROPAGATION_ROUNDS, PROPAGATION_SLACK, Tolerances
 
 
@@ -52,7 +52,7 @@ class Propagator:
 
     def __init__(self, problem: MIPProblem, tol: Tolerances):
         form = problem.form
-        A = sp.csc_matrix(form.A)
+        A = sparse().csc_matrix(form.A)
         A.eliminate_zeros()
         A.sort_indices()
         m, n = A.shape

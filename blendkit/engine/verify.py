@@ -7,8 +7,8 @@ original units so that rounding trouble shows up as a status, not as a wrong ans
 from __future__ import annotations
 
 import numpy as np
-import scipy.sparse as sp
 
+from blendkit.engine.sparse import is_sparse
 from blendkit.engine.standard_form import StandardForm
 
 
@@ -26,7 +26,7 @@ def worst_violation(sf: StandardForm, x: np.ndarray) -> tuple[float, str]:
     if row_over.max(initial=0.0) > 0:
         rows = (row_over > 0).nonzero()[0]
         A = sf.A[rows]
-        if sp.issparse(A):
+        if is_sparse(A):
             terms = np.asarray(abs(A.multiply(x[None, :])).max(axis=1).todense()).ravel()
         else:
             terms = np.abs(A * x).max(axis=1, initial=0.0)

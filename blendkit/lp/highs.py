@@ -17,7 +17,8 @@ import sys
 from dataclasses import dataclass
 
 import numpy as np
-import scipy.sparse as sp
+
+from blendkit.engine.sparse import is_sparse, sparse
 
 # HiGHS's model statuses (by name) in the engine's words, as scipy's linprog and milp read
 # them; any other status (an error, an interrupt) is numerical trouble. An empty model
@@ -52,7 +53,7 @@ class HighsAnswer:
 def refusal(c, A, row_lower, row_upper, col_lower, col_upper) -> str | None:
     """Why the LP cannot be handed to HiGHS as it is, or None: HiGHS would read a NaN cost or
     coefficient as a number and solve something else, so these are refused here."""
-    values = A.data if sp.issparse(A) else np.asarray(A)
+    values = A.data if is_sparse(A) else np.asarray(A)
     if not np.all(np.isfinite(c)):
         return "a cost that is not a finite number"
     if not np.all(np.isfinite(values)):
@@ -69,19 +70,35 @@ def highs_lp(c, A, row_lower, row_upper, col_lower, col_upper, integrality=None)
     ``c x``, as a highspy.HighsLp (A dense or sparse; `integrality` in milp's codes)."""
     import highspy
 
-    A = sp.csc_matrix(A, dtype=float)
+    start, index, value, (rows, columns) = _by_columns(A)
     lp = highspy.HighsLp()
-    lp.num_col_, lp.num_row_ = A.shape[1], A.shape[0]
+    lp.num_col_, lp.num_row_ = columns, rows
     lp.col_cost_ = np.asarray(c, dtype=float)
     lp.col_lower_, lp.col_upper_ = np.asarray(col_lower, dtype=float), np.asarray(col_upper, dtype=float)
     lp.row_lower_, lp.row_upper_ = np.asarray(row_lower, dtype=float), np.asarray(row_upper, dtype=float)
     lp.a_matrix_.format_ = highspy.MatrixFormat.kColwise
-    lp.a_matrix_.start_ = A.indptr
-    lp.a_matrix_.index_ = A.indices
-    lp.a_matrix_.value_ = A.data
+    lp.a_matrix_.start_ = start
+    lp.a_matrix_.index_ = index
+    lp.a_matrix_.value_ = value
     if integrality is not None and np.any(integrality):
         lp.integrality_ = [getattr(highspy.HighsVarType, _KINDS[int(kind)]) for kind in integrality]
     return lp
+
+
+def _by_columns(A) -> tuple[np.ndarray, np.ndarray, np.ndarray, tuple[int, int]]:
+    """A's non-zeros by columns (CSC: starts, row indices, values) and its shape; a dense A
+    by numpy alone, the same arrays scipy.sparse.csc_matrix gives, so that a plain solve's
+    cross-check does not import scipy (blendkit.engine.sparse)."""
+    if is_sparse(A):
+        A = sparse().csc_matrix(A, dtype=float)
+        return A.indptr, A.indices, A.data, A.shape
+    A = np.asarray(A, dtype=float)
+    if A.ndim != 2:
+        A = np.atleast_2d(A)
+    columns, rows = np.nonzero(A.T)  # by column, then row, as CSC holds them
+    counts = np.bincount(columns, minlength=A.shape[1])
+    start = np.concatenate([[0], np.cumsum(counts)]).astype(np.int32)
+    return start, rows.astype(np.int32), A.T[columns, rows], A.shape
 
 
 def silent_highs():

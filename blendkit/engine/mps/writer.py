@@ -28,12 +28,16 @@ from __future__ import annotations
 import math
 from dataclasses import dataclass, replace
 from pathlib import Path
+from typing import TYPE_CHECKING
 
 import numpy as np
-import scipy.sparse as sp
 
 from blendkit.engine.mps.model import FIXED_NAME_WIDTH, FIXED_NUMBER_WIDTH, INFINITY, MPSModel
+from blendkit.engine.sparse import is_sparse, sparse
 from blendkit.engine.standard_form import StandardForm
+
+if TYPE_CHECKING:  # annotations only: scipy.sparse is imported when the writer runs
+    import scipy.sparse as sp
 
 
 def write(
@@ -114,7 +118,7 @@ def _content(form: StandardForm, maximise: bool, objective_name: str, *, name, r
     rows = _names(row_names, m, "R", "row_names")
     columns = _names(column_names, n, "C", "column_names")
     row_kinds, rhs, ranges = _row_records(row_lower, row_upper)
-    A = sp.csc_matrix(A, copy=True)  # a copy: eliminate_zeros works in place
+    A = sparse().csc_matrix(A, copy=True)  # a copy: eliminate_zeros works in place
     A.eliminate_zeros()
     A.sort_indices()
     return _Content(
@@ -245,8 +249,8 @@ def _checked(form: StandardForm):
     """
     c = np.asarray(form.c, dtype=float).reshape(-1)
     n = c.shape[0]
-    if sp.issparse(form.A):
-        A = sp.csc_matrix(form.A, dtype=float, copy=True)
+    if is_sparse(form.A):
+        A = sparse().csc_matrix(form.A, dtype=float, copy=True)
         entries = A.data
     else:
         A = np.asarray(form.A, dtype=float)

@@ -1,0 +1,65 @@
+"""A plain `blendkit solve` of each sample workbook imports no scipy at all (issue 14, fast
+start): the engine loads only scipy's compiled LAPACK and BLAS wrappers
+(blendkit.engine.lapack) and imports scipy.sparse only for a sparse matrix
+(blendkit.engine.sparse). A behaviour test, not a timed one: each solve runs in a fresh
+child process, as the console script does, and reports its modules and its JSON answer.
+"""
+
+from __future__ import annotations
+
+import json
+import subprocess
+import sys
+from pathlib import Path
+
+import pytest
+
+from tests.test_examples import OPTIMUM
+
+ROOT = Path(__file__).resolve().parents[1]
+SAMPLES = ROOT / "sample_workbooks"
+# Each sample by the example name test_examples pins its HiGHS optimum under.
+SAMPLE_EXAMPLE = {
+    "broiler_starter": "broiler",
+    "layer_feed": "layer",
+    "day_menu": "diet",
+    "npk_15_15_15": "fertilizer",
+    "pig_feed_plant": "plant",
+}
+# The console script's entry point, then the scipy modules the process holds, on stderr.
+_SOLVE = """
+import json, sys
+sys.argv = ["blendkit", "solve", *{args!r}]
+from blendkit.start import main
+try:
+    main()
+finally:
+    held = sorted(name for name in sys.modules if name.split(".")[0] == "scipy")
+    print(json.dumps(held), file=sys.stderr)
+"""
+
+
+def _solve(book: Path, output: Path, *extra: str) -> tuple[dict, list[str]]:
+    """`blendkit solve BOOK -o OUTPUT --json` in a fresh child: its JSON and its scipy modules."""
+    args = [str(book), "-o", str(output), "--json", *extra]
+    done = subprocess.run([sys.executable, "-c", _SOLVE.format(args=args)], capture_output=True, text=True, cwd=ROOT)
+    assert done.returncode == 0, done.stderr
+    return json.loads(done.stdout), json.loads(done.stderr.strip().splitlines()[-1])
+
+
+@pytest.mark.parametrize("sample", sorted(SAMPLE_EXAMPLE))
+def test_a_sample_solve_imports_no_scipy_and_finds_the_highs_optimum(sample, tmp_path):
+    answer, held = _solve(SAMPLES / f"{sample}.xlsx", tmp_path / "out.xlsx")
+    assert "scipy" not in held  # the scipy package never ran
+    assert set(held) <= {"scipy.linalg._flapack", "scipy.linalg._fblas"}  # the compiled wrappers only
+    assert answer["status"] == "optimal"
+    cost = answer.get("cost", answer.get("total_cost"))
+    # Reference: each sample's optimum by scipy.optimize.linprog (HiGHS), pinned in test_examples.
+    assert cost == pytest.approx(OPTIMUM[SAMPLE_EXAMPLE[sample]], rel=1e-6)
+    assert answer["cross_check"]  # the HiGHS cross-check ran (through highspy, no scipy)
+
+
+def test_a_solve_without_cross_check_imports_no_scipy(tmp_path):
+    answer, held = _solve(SAMPLES / "layer_feed.xlsx", tmp_path / "out.xlsx", "--no-cross-check")
+    assert "scipy" not in held
+    assert answer["cost"] == pytest.approx(OPTIMUM["layer"], rel=1e-6)  # Reference: as above
