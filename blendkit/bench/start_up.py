@@ -1,12 +1,15 @@
 """Where the start-up of `blendkit solve` goes: the libraries a plain solve imports, each
 timed in a fresh child process after the ones before it (what they share is counted once,
 at its first import), in CPU seconds (less disturbed by other processes than wall time),
-medians of several rounds. The last step is highspy, which the HiGHS cross-check imports
-when it first runs (not with --no-cross-check). The closing lines measure, after the same
-steps, what a plain solve no longer imports: scipy.optimize (the cross-check went through
-its linprog and milp before it called highspy directly) and pydantic (typer 0.27 and later
-load it for their argument checks; blendkit keeps typer below 0.27), each only when
-installed.
+medians of several rounds. The engine's step is `blendkit.engine.lapack` run on its own:
+it loads scipy's compiled LAPACK and BLAS wrappers without importing scipy itself. The
+last step is highspy, which the HiGHS cross-check imports when it first runs (not with
+--no-cross-check). The closing lines measure, after the same steps, what a plain solve no
+longer imports: scipy.sparse, scipy.linalg and scipy.sparse.linalg (the engine imported
+them at start-up; now only a sparse matrix does, `blendkit.engine.sparse`), scipy.optimize
+(the cross-check went through its linprog and milp before it called highspy directly) and
+pydantic (typer 0.27 and later load it for their argument checks; blendkit keeps typer
+below 0.27), each only when installed.
 
 This measures imports alone, not the work: the samples lines of `blendkit.bench.books`
 time the whole command. Python itself (the interpreter starting, no import) is the first
@@ -25,16 +28,24 @@ import sys
 from collections.abc import Iterator
 from pathlib import Path
 
+BLENDKIT = Path(__file__).resolve().parents[1]
+# blendkit.engine.lapack run alone (not through blendkit.engine, which imports the engine).
+_LAPACK = (
+    "import importlib.util as u; s = u.spec_from_file_location('lapack_step', {path!r}); "
+    "s.loader.exec_module(u.module_from_spec(s))"
+).format(path=str(BLENDKIT / "engine" / "lapack.py"))
 # (what, the import statement), in the order a plain `blendkit solve` first needs them.
 STEPS = (
     ("typer (the command line)", "import typer"),
     ("numpy and openpyxl (the yardstick imports both)", "import numpy, openpyxl"),
-    ("scipy.sparse and scipy.linalg (the engine)", "import scipy.sparse, scipy.linalg, scipy.sparse.linalg"),
+    ("scipy's LAPACK and BLAS wrappers alone (the engine; no scipy package)", _LAPACK),
     ("blendkit's own modules", "import blendkit.cli, blendkit.run, blendkit.write.console, blendkit.write.progress"),
     ("highspy (the HiGHS cross-check)", "import highspy"),
 )
 # What a plain solve no longer imports, each timed after all of STEPS: (what, module, statement).
 NOT_IMPORTED = (
+    ("scipy.sparse and scipy.linalg (now only for a sparse matrix), not imported", "scipy",
+     "import scipy.sparse, scipy.linalg, scipy.sparse.linalg"),
     ("scipy.optimize (the cross-check's former way to HiGHS), not imported", "scipy.optimize", "import scipy.optimize"),
     ("pydantic (typer >= 0.27 loads it; typer < 0.27 kept), not imported", "pydantic", "import pydantic"),
 )
@@ -50,7 +61,6 @@ for statement in {statements!r}:
 print(json.dumps(times))
 """
 _ROUNDS = 5
-BLENDKIT = Path(__file__).resolve().parents[1]
 
 
 def compile_blendkit() -> None:
