@@ -8,12 +8,14 @@ child process, as the console script does, and reports its modules and its JSON 
 from __future__ import annotations
 
 import json
+import os
 import subprocess
 import sys
 from pathlib import Path
 
 import pytest
 
+from blendkit.start import BLAS_THREAD_VARIABLES
 from tests.test_examples import OPTIMUM
 
 ROOT = Path(__file__).resolve().parents[1]
@@ -26,7 +28,8 @@ SAMPLE_EXAMPLE = {
     "npk_15_15_15": "fertilizer",
     "pig_feed_plant": "plant",
 }
-# The console script's entry point, then the scipy modules the process holds, on stderr.
+# The console script's entry point, then the scipy modules the process holds and each
+# BLAS library's thread count (threadpoolctl, after the solve), on stderr.
 _SOLVE = """
 import json, sys
 sys.argv = ["blendkit", "solve", *{args!r}]
@@ -35,21 +38,28 @@ try:
     main()
 finally:
     held = sorted(name for name in sys.modules if name.split(".")[0] == "scipy")
-    print(json.dumps(held), file=sys.stderr)
+    from threadpoolctl import threadpool_info
+    threads = [info["num_threads"] for info in threadpool_info() if info["user_api"] == "blas"]
+    print(json.dumps([held, threads]), file=sys.stderr)
 """
 
 
-def _solve(book: Path, output: Path, *extra: str) -> tuple[dict, list[str]]:
-    """`blendkit solve BOOK -o OUTPUT --json` in a fresh child: its JSON and its scipy modules."""
+def _solve(book: Path, output: Path, *extra: str, env: dict | None = None) -> tuple[dict, list[str], list[int]]:
+    """`blendkit solve BOOK -o OUTPUT --json` in a fresh child (`env` added to this process's
+    environment, without any BLAS thread variable): its JSON, its scipy modules and its BLAS
+    libraries' thread counts."""
     args = [str(book), "-o", str(output), "--json", *extra]
-    done = subprocess.run([sys.executable, "-c", _SOLVE.format(args=args)], capture_output=True, text=True, cwd=ROOT)
+    child_env = {name: value for name, value in os.environ.items() if name not in BLAS_THREAD_VARIABLES}
+    done = subprocess.run([sys.executable, "-c", _SOLVE.format(args=args)], capture_output=True, text=True,
+                          cwd=ROOT, env={**child_env, **(env or {})})
     assert done.returncode == 0, done.stderr
-    return json.loads(done.stdout), json.loads(done.stderr.strip().splitlines()[-1])
+    held, threads = json.loads(done.stderr.strip().splitlines()[-1])
+    return json.loads(done.stdout), held, threads
 
 
 @pytest.mark.parametrize("sample", sorted(SAMPLE_EXAMPLE))
 def test_a_sample_solve_imports_no_scipy_and_finds_the_highs_optimum(sample, tmp_path):
-    answer, held = _solve(SAMPLES / f"{sample}.xlsx", tmp_path / "out.xlsx")
+    answer, held, _ = _solve(SAMPLES / f"{sample}.xlsx", tmp_path / "out.xlsx")
     assert "scipy" not in held  # the scipy package never ran
     assert set(held) <= {"scipy.linalg._flapack", "scipy.linalg._fblas"}  # the compiled wrappers only
     assert answer["status"] == "optimal"
@@ -60,6 +70,14 @@ def test_a_sample_solve_imports_no_scipy_and_finds_the_highs_optimum(sample, tmp
 
 
 def test_a_solve_without_cross_check_imports_no_scipy(tmp_path):
-    answer, held = _solve(SAMPLES / "layer_feed.xlsx", tmp_path / "out.xlsx", "--no-cross-check")
+    answer, held, threads = _solve(SAMPLES / "layer_feed.xlsx", tmp_path / "out.xlsx", "--no-cross-check")
     assert "scipy" not in held
     assert answer["cost"] == pytest.approx(OPTIMUM["layer"], rel=1e-6)  # Reference: as above
+    assert len(threads) == 2 and set(threads) == {1}  # numpy's and scipy's OpenBLAS, loaded with one thread
+
+
+@pytest.mark.skipif((os.cpu_count() or 1) < 2, reason="OpenBLAS caps its threads at the cores: 1 either way")
+def test_a_blas_thread_count_chosen_by_the_user_is_kept(tmp_path):
+    answer, _, threads = _solve(SAMPLES / "layer_feed.xlsx", tmp_path / "out.xlsx", env={"OMP_NUM_THREADS": "2"})
+    assert answer["cost"] == pytest.approx(OPTIMUM["layer"], rel=1e-6)  # Reference: as above
+    assert len(threads) == 2 and set(threads) == {2}  # OpenBLAS reads OMP_NUM_THREADS when no other is set

@@ -11,6 +11,12 @@ them at start-up; now only a sparse matrix does, `blendkit.engine.sparse`), scip
 pydantic (typer 0.27 and later load it for their argument checks; blendkit keeps typer
 below 0.27), each only when installed.
 
+Each child's environment is the command's: OpenBLAS loads with one thread unless a thread
+count is set (`blendkit.start.one_blas_thread_at_load`), else its spinning workers would
+add about 0.05 s of CPU to whichever step comes after numpy's or scipy's OpenBLAS loads
+(the openpyxl yardstick's process, which leaves OpenBLAS a thread per core, pays that with
+numpy).
+
 This measures imports alone, not the work: the samples lines of `blendkit.bench.books`
 time the whole command. Python itself (the interpreter starting, no import) is the first
 line; numpy and openpyxl are what the openpyxl yardstick imports as well (openpyxl loads
@@ -22,11 +28,14 @@ from __future__ import annotations
 import compileall
 import importlib.util
 import json
+import os
 import statistics
 import subprocess
 import sys
 from collections.abc import Iterator
 from pathlib import Path
+
+from blendkit.start import BLAS_THREAD_VARIABLES
 
 BLENDKIT = Path(__file__).resolve().parents[1]
 # blendkit.engine.lapack run alone (not through blendkit.engine, which imports the engine).
@@ -73,8 +82,17 @@ def compile_blendkit() -> None:
 def _child_times(statements: list[str]) -> list[float]:
     """The CPU seconds of each statement in one fresh child process."""
     code = _CHILD.format(statements=statements)
-    done = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True, check=True)
+    done = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True, check=True, env=_command_env())
     return json.loads(done.stdout.strip().splitlines()[-1])
+
+
+def _command_env() -> dict[str, str]:
+    """This process's environment as `blendkit.start.main` leaves it: OPENBLAS_NUM_THREADS=1
+    unless a BLAS thread count is set."""
+    env = dict(os.environ)
+    if not any(name in env for name in BLAS_THREAD_VARIABLES):
+        env["OPENBLAS_NUM_THREADS"] = "1"
+    return env
 
 
 def _python_itself() -> float:
