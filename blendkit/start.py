@@ -55,12 +55,12 @@ def main() -> None:
     """Entry point of the `blendkit` console script and of `python -m blendkit`."""
     signal.signal(signal.SIGINT, _interrupt)
     signal.signal(signal.SIGTERM, _terminate)
-    one_blas_thread_at_load()
     # The imports make a few hundred thousand objects and no garbage worth collecting, and
     # the collector's passes over them cost about 8% of the imports' time: it is off
     # until the command has its modules (`imported`), and on again however main ends.
     gc.disable()
     try:
+        one_blas_thread_at_load()
         from blendkit.cli import app
 
         app()
