@@ -453,6 +453,33 @@ def test_a_dry_matter_spec_without_dry_matter_is_refused(tmp_path):
     assert json.loads(solved.stdout)["problems"][0]["where"] == "Specs!D5"
 
 
+def _refuse_constant(name: str):
+    """json.loads hook: NaN or Infinity in the output is not JSON."""
+    raise ValueError(f"{name} in the JSON output")
+
+
+@pytest.mark.parametrize("rules", [False, True])
+def test_a_way_out_that_leaves_a_dry_matter_spec_without_dry_matter_is_not_offered(tmp_path, rules):
+    # Found by the random workbooks of test_no_traceback: the only ingredient has Use = no
+    # and dry matter 0, the spec is on dry matter. The way out (use it) leads to a blend
+    # with no dry matter, where the spec has no value (a dry-matter level divides by the
+    # blend's dry matter: common practice), so no new bound can be stated. Before, the
+    # relaxed blend carried a NaN bound and, with weighing rules, ended in a traceback.
+    # Reference: with Use = no nothing may go in, so no blend sums to 100 % (HiGHS, as the
+    # cross-check in the JSON, agrees: infeasible).
+    extra = ["Min if used", "Scale step"] if rules else []
+    ingredients = [["Ingredient", "Cost", "Use", "Protein (%)", "Dry matter (%)", *extra],
+                   ["Feed 0", 0.0, "no", 1.0, 0.0, *([0.5, 0.5] if rules else [])]]
+    specs = [["Nutrient", "Min", "Max", "Basis"], ["Protein", None, 0.0, "dry matter"]]
+    path = make_workbook(tmp_path, ingredients, specs, [["Setting", "Value"], ["Time limit", 0.5]])
+    solved = run("solve", path, "--json")
+    assert solved.exit_code == 3, solved.output
+    doc = json.loads(solved.stdout, parse_constant=_refuse_constant)
+    assert doc["status"] == "infeasible"
+    assert doc["cross_check"]["status"] == "infeasible"
+    assert doc["relaxation"] is None
+
+
 # --- 4. nothing dropped silently --------------------------------------------------------------
 
 

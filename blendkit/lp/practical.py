@@ -52,7 +52,7 @@ def practical_formula(blend: Blend, lp: BlendLP, lp_result: LPResult) -> tuple[F
 
 def _formula(blend: Blend, lp: BlendLP, lp_result: LPResult, mip: WeighMIP, result: MIPResult) -> Formula:
     """The Formula of the search's outcome."""
-    if result.x is None:
+    if result.x is None or not np.isfinite(result.x).all():
         return _without_formula(blend, lp, lp_result, result)
     fixed_lp = dataclasses.replace(lp, form=fixed_form(lp, mip, result.x))
     fixed = solve_form(fixed_lp.form, ranging=True)

@@ -139,6 +139,10 @@ def least_cost_relaxation(blend: Blend, lp: BlendLP, members: list[Member]) -> t
         if x[column] <= CHANGED * (1 + abs(member.bound)):
             continue
         level = _level(lp, member, x[:n], base)
+        if not np.isfinite(level):
+            # The spec has no value in the blend the relaxation leads to (its ratio's
+            # divisor or its dry matter is 0 there): no new bound can be stated.
+            return ()
         changes.append(Change(member, outward(level, member.side)))
     return tuple(changes)
 
