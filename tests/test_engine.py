@@ -687,3 +687,20 @@ def test_near_dependent_rows_broken_by_a_hair_are_solved_exactly():
     assert ref.status == 0 and ours.status == "optimal"
     assert ours.objective == pytest.approx(ref.fun, rel=1e-9)
     np.testing.assert_allclose(A_eq @ ours.x, b_eq, rtol=1e-9, atol=1e-14)
+
+
+@pytest.mark.parametrize("where", ["c", "A", "row_upper"])
+def test_a_nan_in_a_general_form_is_refused(where):
+    # A NaN compares false, so the checks after a solve cannot see it: an LP holding one
+    # came back "optimal" with a NaN point. Reference: scipy's linprog (HiGHS) refuses a
+    # NaN in c, A or b with a ValueError too.
+    from blendkit.engine import StandardForm, solve_form
+
+    parts = {"c": np.array([1.0, 1.0]), "A": np.array([[1.0, 1.0]]), "row_upper": np.array([1.0])}
+    parts[where] = parts[where].copy()
+    parts[where].flat[0] = np.nan
+    with pytest.raises(ValueError):
+        linprog(parts["c"], A_ub=parts["A"], b_ub=parts["row_upper"], method="highs")
+    form = StandardForm(parts["c"], parts["A"], np.array([-np.inf]), parts["row_upper"], np.zeros(2), np.full(2, np.inf))
+    with pytest.raises(ValueError, match="finite|NaN"):
+        solve_form(form)

@@ -10,6 +10,7 @@ from blendkit.engine.certificate import certificate, proves_infeasible, proves_u
 from blendkit.engine.result import Basis, LPResult
 from blendkit.engine.scaling import Scaling, find_scaling, scale_form
 from blendkit.engine.simplex import SimplexOutcome, run_simplex
+from blendkit.engine.sparse import is_sparse
 from blendkit.engine.standard_form import StandardForm, to_standard_form
 from blendkit.engine.tolerances import (
     CERTIFICATE_PROOF, ITERATION_LIMIT_MIN, ITERATION_LIMIT_PER_LINE, RESIDUAL_RETRY, Tolerances,
@@ -105,6 +106,7 @@ def solve_form(
     """
     if algorithm not in ("auto", "primal"):
         raise ValueError(f'algorithm must be "auto" or "primal", not {algorithm!r}')
+    refuse_not_finite(form)
     tol = tolerances or Tolerances()
     m, n = form.shape
     if max_iterations is None:
@@ -134,6 +136,20 @@ def solve_form(
         return replace(result, status="numerical_trouble", ray=None, message=(
             f"{result.message}, but its ray does not prove it (tolerance {CERTIFICATE_PROOF:g})"))
     return result
+
+
+def refuse_not_finite(form: StandardForm) -> None:
+    """Raise ValueError for a cost or matrix entry that is not a finite number, or a bound
+    that is NaN (as `solve` refuses them): NaN compares false, so no check after the solve
+    would notice it."""
+    data = form.A.data if is_sparse(form.A) else form.A
+    if not np.isfinite(form.c).all():
+        raise ValueError("c must contain only finite numbers")
+    if not np.isfinite(data).all():
+        raise ValueError("A must contain only finite numbers")
+    for name in ("row_lower", "row_upper", "col_lower", "col_upper"):
+        if np.isnan(getattr(form, name)).any():
+            raise ValueError(f"{name} must not contain NaN")
 
 
 def checked_result(form: StandardForm, scaling: Scaling, outcome: SimplexOutcome, tol: Tolerances) -> tuple[LPResult, bool]:
