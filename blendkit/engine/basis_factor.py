@@ -38,7 +38,10 @@ import numpy as np
 
 from blendkit.engine.lapack import blas, lapack
 from blendkit.engine.sparse import sparse, splu
-from blendkit.engine.tolerances import ETA_LOOP_MAX, INVERSE_AFTER, INVERSE_AFTER_DIVISOR, INVERSE_CHECK_EVERY, INVERSE_DRIFT, REORDER_EVERY, REORDER_FILL, SINGULAR_PIVOT
+from blendkit.engine.tolerances import (
+    ETA_LOOP_MAX, INVERSE_AFTER, INVERSE_AFTER_DIVISOR, INVERSE_CHECK_EVERY, INVERSE_DRIFT, REORDER_EVERY, REORDER_FILL,
+    SINGULAR_PIVOT,
+)
 
 
 class SingularBasis(Exception):
