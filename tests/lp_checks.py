@@ -189,3 +189,20 @@ def assert_optimal_by_duality(lp: GeneralLP, x: np.ndarray, y: np.ndarray, rtol:
     bound = float(y @ row_bound + d @ col_bound)
     terms = float(np.abs(y) @ np.abs(row_bound) + np.abs(d) @ np.abs(col_bound) + np.abs(lp.c) @ np.abs(x))
     assert lp.c @ x == pytest.approx(bound, rel=rtol, abs=rtol * terms), "the duals leave a gap"
+
+
+def assert_matches_linprog(instance, rows_tol: float = 1e-7):
+    """Solve a linprog-shaped instance (c, A_ub, b_ub, A_eq, b_eq, bounds) with our engine and
+    with linprog(method="highs"), the outside reference: ours optimal at HiGHS's objective to
+    1e-7 relative, its inequality rows kept to `rows_tol` and its equality rows to 1e-7."""
+    from scipy.optimize import linprog
+
+    from blendkit.engine import solve
+
+    args = (instance.c, instance.A_ub, instance.b_ub, instance.A_eq, instance.b_eq, instance.bounds)
+    ours = solve(*args)
+    ref = linprog(*args, method="highs")
+    assert ours.status == "optimal", ours.message
+    assert ours.objective == pytest.approx(ref.fun, rel=1e-7)
+    assert np.all(instance.A_ub @ ours.x <= instance.b_ub + rows_tol * (1 + np.abs(instance.b_ub)))
+    np.testing.assert_allclose(instance.A_eq @ ours.x, instance.b_eq, rtol=1e-7)

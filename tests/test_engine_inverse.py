@@ -10,11 +10,11 @@ from __future__ import annotations
 
 import numpy as np
 import pytest
-from scipy.optimize import linprog
 
 from blendkit.bench.blends import make_blend
-from blendkit.engine import basis_factor, simplex_state, solve
+from blendkit.engine import basis_factor, simplex_state
 from blendkit.engine.basis_factor import InverseBasisFactor
+from tests.lp_checks import assert_matches_linprog
 
 
 def _matrix(m: int, n: int, seed: int) -> np.ndarray:
@@ -92,11 +92,4 @@ def test_blends_on_the_inverse_path_reach_highs_optimum(monkeypatch, size):
     # every size (INVERSE_ROWS 0): objective to 1e-7 relative, rows kept to 1e-7.
     monkeypatch.setattr(simplex_state, "INVERSE_ROWS", 0)
     for index in range(3):
-        lp = make_blend(*size, seed=20240611, index=index)
-        args = (lp.c, lp.A_ub, lp.b_ub, lp.A_eq, lp.b_eq, lp.bounds)
-        ours = solve(*args)
-        ref = linprog(*args, method="highs")
-        assert ours.status == "optimal", ours.message
-        assert ours.objective == pytest.approx(ref.fun, rel=1e-7)
-        assert np.all(lp.A_ub @ ours.x <= lp.b_ub + 1e-7 * (1 + np.abs(lp.b_ub)))
-        np.testing.assert_allclose(lp.A_eq @ ours.x, lp.b_eq, rtol=1e-7)
+        assert_matches_linprog(make_blend(*size, seed=20240611, index=index))
