@@ -114,21 +114,48 @@ def test_one_price_per_ingredient_for_a_plant_matches_highs_moving_every_product
     source = tmp_path / "pig_feed_plant.xlsx"
     shutil.copyfile(ROOT / "sample_workbooks" / "pig_feed_plant.xlsx", source)
     doc = json.loads(CliRunner().invoke(app, ["solve", str(source), "--json", "--no-cross-check"]).stdout)
+    ends = {name: (doc["prices"][name]["more_below"], doc["prices"][name]["less_above"])
+            for name in ("Barley", "Wheat", "Soybean meal 47", "Field peas")}
+    assert _ends_checked_by_highs(tmp_path, source, ends) >= 4
+
+
+def test_one_price_ranges_solved_in_blocks_match_highs(tmp_path, monkeypatch):
+    # The ranges of a plant's ingredients are found in blocks of RANGES_AT_ONCE price
+    # directions from one factorisation of the basis; with blocks of 3, ingredients of the
+    # first and of later blocks are checked against HiGHS re-solving just inside and just
+    # outside each end, as above (outside check: HiGHS).
+    from blendkit.lp import shared_prices
+    from blendkit.pipeline import formulate, prepare
+
+    monkeypatch.setattr(shared_prices, "RANGES_AT_ONCE", 3)
+    source = tmp_path / "pig_feed_plant.xlsx"
+    shutil.copyfile(ROOT / "sample_workbooks" / "pig_feed_plant.xlsx", source)
+    formula = formulate(prepare(source, tmp_path / "out.xlsx").blend, check=False)
+    lines = {line.name: line for line in formula.shared_prices}
+    assert len(lines) == 17
+    names = ("Wheat", "Maize", "Soybean meal 47", "Field peas", "Rapeseed oil", "Limestone")  # blocks 1, 1, 2, 3, 3, 4
+    ends = {name: (lines[name].more_below, lines[name].less_above) for name in names}
+    assert _ends_checked_by_highs(tmp_path, source, ends) >= 6
+
+
+def _ends_checked_by_highs(tmp_path: Path, source: Path, ends: dict) -> int:
+    """Check each finite end of each ingredient's one-price range against HiGHS: just
+    inside it the plan is the plan at today's price, just outside it is another; returns
+    how many ends were checked."""
     checked = 0
-    for name in ("Barley", "Wheat", "Soybean meal 47", "Field peas"):
-        entry = doc["prices"][name]
+    for name, (more_below, less_above) in ends.items():
         price = _plan_price(source, name)
-        for end, outward in ((entry["more_below"], -1), (entry["less_above"], +1)):
+        at_price = _plan_at_price(tmp_path, source, name, price)
+        for end, outward in ((more_below, -1), (less_above, +1)):
             if end is None:
                 continue
             gap = 1e-3 * max(1.0, abs(end))
             inside = _plan_at_price(tmp_path, source, name, end - outward * gap)
             outside = _plan_at_price(tmp_path, source, name, end + outward * gap)
-            at_price = _plan_at_price(tmp_path, source, name, price)
             assert inside == pytest.approx(at_price, abs=1e-6), (name, end)
             assert abs(outside - at_price).max() > 1e-6, (name, end)
             checked += 1
-    assert checked >= 4
+    return checked
 
 
 def _plan_price(source: Path, name: str) -> float:

@@ -17,21 +17,24 @@ from __future__ import annotations
 import numpy as np
 
 from blendkit.engine import LPResult
+from blendkit.engine.lapack import lapack
 from blendkit.lp.build import BlendLP
 from blendkit.model.blend import Blend
 from blendkit.lp.tolerances import DUAL_SIGN
 from blendkit.model.formula import SharedPrice
+
+# How many price directions one block of the batched solve takes (bounds its memory).
+RANGES_AT_ONCE = 256
 
 
 def shared_prices(blend: Blend, lp: BlendLP, result: LPResult) -> tuple[SharedPrice, ...]:
     """The one-price range of every ingredient of a jointly solved run."""
     if result.basis is None or result.status != "optimal":
         return ()
-    lines = []
-    for j, item in enumerate(blend.ingredients):
-        low, high = direction_range(lp, result, _direction(lp, j, lp.form.c.size + lp.form.A.shape[0]))
-        lines.append(_line((item.name, item.cost), low, high))
-    return tuple(lines)
+    size = lp.form.c.size + lp.form.A.shape[0]
+    directions = np.array([_direction(lp, j, size) for j in range(len(blend.ingredients))]).reshape(-1, size)
+    ranges = direction_ranges(lp, result, directions)
+    return tuple(_line((item.name, item.cost), low, high) for item, (low, high) in zip(blend.ingredients, ranges))
 
 
 def direction_range(lp: BlendLP, result: LPResult, direction: np.ndarray,
@@ -40,16 +43,38 @@ def direction_range(lp: BlendLP, result: LPResult, direction: np.ndarray,
     optimal basis of `result` optimal; `direction` covers the columns (and may cover the
     row activities, which cost nothing); `costs` are the column costs `result` was solved
     with (default: the LP's own)."""
+    return direction_ranges(lp, result, np.asarray(direction, dtype=float)[None, :], costs)[0]
+
+
+def direction_ranges(lp: BlendLP, result: LPResult, directions: np.ndarray,
+                     costs: np.ndarray | None = None) -> list[tuple[float, float]]:
+    """`direction_range` for each row of `directions`, from one factorisation of the basis
+    and one solve for all of them (a plant's basis has thousands of rows: a dense solve
+    per ingredient took seconds each)."""
     M, c = _full_form(lp, costs)
-    full = np.zeros(M.shape[1])
-    full[: direction.size] = direction
     head = np.asarray(result.basis.head)
-    B = M[:, head]
-    reduced = c - M.T @ np.linalg.solve(B.T, c[head])
-    change = full - M.T @ np.linalg.solve(B.T, full[head])
     nonbasic = np.setdiff1d(np.arange(M.shape[1]), head)
-    return _interval(reduced[nonbasic], change[nonbasic], np.asarray(result.basis.at_upper)[nonbasic],
-                     _fixed(lp, nonbasic))
+    at_upper, fixed = np.asarray(result.basis.at_upper)[nonbasic], _fixed(lp, nonbasic)
+    solve_transposed = _transposed_solver(M[:, head])
+    ranges = []
+    for start in range(0, directions.shape[0], RANGES_AT_ONCE):  # a bounded block of directions at a time
+        block = directions[start : start + RANGES_AT_ONCE]
+        part = np.zeros((M.shape[1], block.shape[0] + 1))  # the costs, then the block's directions
+        part[:, 0] = c
+        part[: directions.shape[1], 1:] = block.T
+        changes = part - M.T @ solve_transposed(part[head])
+        reduced = changes[nonbasic, 0]
+        ranges += [_interval(reduced, changes[nonbasic, k], at_upper, fixed) for k in range(1, part.shape[1])]
+    return ranges
+
+
+def _transposed_solver(B: np.ndarray):
+    """rhs -> B^-T rhs for the basis matrix B, from one LU factorisation (LAPACK) reused
+    for every right-hand side."""
+    lu, piv, info = lapack.dgetrf(np.asfortranarray(B, dtype=float))
+    if info > 0:
+        raise np.linalg.LinAlgError("the optimal basis is singular")
+    return lambda rhs: lapack.dgetrs(lu, piv, rhs, trans=1)[0]
 
 
 def _full_form(lp: BlendLP, costs: np.ndarray | None = None) -> tuple[np.ndarray, np.ndarray]:
@@ -81,18 +106,12 @@ def _fixed(lp: BlendLP, nonbasic: np.ndarray) -> np.ndarray:
 def _interval(reduced, change, at_upper, fixed) -> tuple[float, float]:
     """The t for which each nonbasic reduced cost keeps its sign: r + t·Δr >= 0 at a lower
     bound, <= 0 at an upper bound (fixed variables and zero changes set no limit)."""
-    low, high = -np.inf, np.inf
     sign = np.where(at_upper, -1.0, 1.0)
     r, dr = sign * reduced, sign * change
-    for value, rate, still in zip(r, dr, fixed):
-        if still or abs(rate) <= DUAL_SIGN:
-            continue
-        t = -max(value, 0.0) / rate
-        if rate > 0:
-            low = max(low, t)
-        else:
-            high = min(high, t)
-    return low, high
+    moves = ~fixed & (np.abs(dr) > DUAL_SIGN)
+    t = -np.maximum(r[moves], 0.0) / dr[moves]
+    rising = dr[moves] > 0
+    return float(t[rising].max(initial=-np.inf)), float(t[~rising].min(initial=np.inf))
 
 
 def _line(item: tuple[str, float], low: float, high: float) -> SharedPrice:
