@@ -109,3 +109,20 @@ def test_steepest_edge_weights_are_the_row_norms_of_the_new_inverse():
         B[:, r] = a
         inverse = np.linalg.inv(B)
         np.testing.assert_allclose(weights, np.einsum("ij,ij->i", inverse, inverse), rtol=1e-8)
+
+
+def test_a_plant_given_dense_is_scaled_as_given_sparse_and_solved_as_highs_solves_it():
+    # A workbook's plant LP is built as a dense array that is mostly zeros; it is scaled
+    # by its non-zeros alone, as the sparse form is. Reference: linprog(method="highs") on
+    # the dense arrays; and the scaling must equal the one of the sparse matrix.
+    from dataclasses import replace
+
+    from blendkit.engine.scaling import find_scaling
+
+    plant = make_plant(5, 60, 30, 20240611)
+    dense = replace(plant, A_ub=plant.A_ub.toarray(), A_eq=plant.A_eq.toarray())
+    both = sp.vstack([plant.A_ub, plant.A_eq], format="csr")
+    from_dense, from_sparse = find_scaling(both.toarray()), find_scaling(both)
+    np.testing.assert_array_equal(from_dense.rows, from_sparse.rows)
+    np.testing.assert_array_equal(from_dense.cols, from_sparse.cols)
+    assert_matches_linprog(dense, rows_tol=1e-6)

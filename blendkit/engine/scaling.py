@@ -17,7 +17,7 @@ import numpy as np
 
 from blendkit.engine.sparse import is_sparse, sparse
 from blendkit.engine.standard_form import StandardForm
-from blendkit.engine.tolerances import GEOMETRIC_PASSES
+from blendkit.engine.tolerances import GEOMETRIC_PASSES, SPARSE_DENSITY, SPARSE_ROWS
 
 
 @dataclass(frozen=True)
@@ -80,9 +80,11 @@ def _midpoints(high: np.ndarray, low: np.ndarray) -> np.ndarray:
 def find_scaling(A) -> Scaling:
     """Scale factors that bring the nonzeros of A near 1."""
     if not is_sparse(A):
-        return _dense_scaling(np.asarray(A, dtype=float))
+        A = np.asarray(A, dtype=float)
+        if not _mostly_zeros(A):
+            return _dense_scaling(A)
     m, n = A.shape
-    rows, cols, logs = _entries(A)
+    rows, cols, logs = _entries(A)  # the non-zeros of a sparse A, or of a dense one mostly zeros
     log_r, log_c = np.zeros(m), np.zeros(n)
     if logs.size == 0:
         return Scaling(np.ones(m), np.ones(n))
@@ -94,6 +96,13 @@ def find_scaling(A) -> Scaling:
     np.maximum.at(high, cols, logs + log_r[rows] + log_c[cols])
     log_c -= np.where(np.isfinite(high), high, 0.0)
     return Scaling(rows=np.exp2(np.round(log_r)), cols=np.exp2(np.round(log_c)))
+
+
+def _mostly_zeros(A: np.ndarray) -> bool:
+    """True for a dense A the engine will hold sparse (SPARSE_ROWS, SPARSE_DENSITY): its
+    non-zeros alone are scaled, as a sparse A's are (a 40-product plant built dense has
+    ten million entries, nine in ten of them zero)."""
+    return A.shape[0] >= SPARSE_ROWS and np.count_nonzero(A) <= SPARSE_DENSITY * A.size
 
 
 def scale_form(form: StandardForm, scaling: Scaling) -> StandardForm:

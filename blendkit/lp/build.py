@@ -275,16 +275,20 @@ def build_lp(blend: Blend) -> BlendLP:
 
 def _drop_tiny(A: np.ndarray) -> tuple[np.ndarray, list[tuple[int, int]]]:
     """A with entries below DROP_RELATIVE of their row's or column's largest set to 0,
-    and the (row, column) of each entry so dropped."""
-    size = np.abs(A)
-    if size.size == 0:
+    and the (row, column) of each entry so dropped. Only the non-zeros are compared (a
+    plant's matrix is mostly zeros), and A is copied only when an entry is dropped."""
+    if A.size == 0:
         return A, []
-    largest = np.maximum(size.max(axis=1, keepdims=True), size.max(axis=0, keepdims=True))
-    tiny = (size > 0) & (size < DROP_RELATIVE * largest)
+    size = np.abs(A)
+    row_largest, col_largest = size.max(axis=1), size.max(axis=0)
+    rows, cols = np.nonzero(A)
+    tiny = size[rows, cols] < DROP_RELATIVE * np.maximum(row_largest[rows], col_largest[cols])
     if not tiny.any():
         return A, []
-    A = np.where(tiny, 0.0, A)
-    return A, [(int(i), int(k)) for i, k in zip(*np.nonzero(tiny))]
+    rows, cols = rows[tiny], cols[tiny]
+    A = A.copy()
+    A[rows, cols] = 0.0
+    return A, [(int(i), int(k)) for i, k in zip(rows, cols)]
 
 
 def _dropped_notes(blend: Blend, meaning: list[LPRow], dropped, J: int) -> tuple[str, ...]:
