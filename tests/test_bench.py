@@ -323,3 +323,21 @@ def test_growth_exponent_recovers_a_power_law():
 
     sizes = [25, 50, 100, 200, 400]
     assert abs(growth_exponent(sizes, [3 * s**1.7 for s in sizes]) - 1.7) < 1e-9
+
+
+def test_the_plant_workbook_is_the_plant_lp_and_solves_to_the_highs_optimum(tmp_path):
+    # Outside references: HiGHS on the LP written from the workbook's cells alone
+    # (tests.test_examples.formulate_with_highs), and linprog(method="highs") on the plant
+    # family's own LP of the same numbers (total cost = the LP's objective, amounts in t).
+    from blendkit.bench.plant import make_plant, plant_workbook
+    from blendkit.pipeline import solve_workbook
+    from tests.test_examples import formulate_with_highs
+
+    path = plant_workbook(tmp_path / "plant.xlsx", 4, 15, 8, SEED)
+    reference = formulate_with_highs(path)
+    assert reference.result.status == 0, reference.result.message
+    family = linprog(*_args(make_plant(4, 15, 8, SEED)), method="highs")
+    assert reference.result.fun == pytest.approx(family.fun, rel=1e-9)
+    formula = solve_workbook(path, tmp_path / "out.xlsx", check=False).formula
+    assert formula.status == "optimal" and len(formula.products) == 4
+    assert formula.cost == pytest.approx(reference.result.fun, rel=1e-7)

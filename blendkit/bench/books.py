@@ -14,6 +14,11 @@ as JSON; the parent reads the child's peak resident memory from the operating sy
   HiGHS cross-check) and `finish` (the output workbook), each timed;
 * the ratio solve / openpyxl load+save, and each child's peak memory.
 
+Plant workbooks (`plant.plant_workbook`: the plant family's numbers as Ingredients with
+stocks, Specs per product and Products) are timed part by part in one child: read, the
+engine's solve (with ranging), the rest of the LP step and the write, with the part that
+took longest named, so that a plant run shows where a user's time goes.
+
 For each sample workbook, ``blendkit solve`` as a user runs it (a new process: start,
 imports, read, solve, write) beside a child process that imports openpyxl, loads and saves
 the same file, with blendkit's bytecode written first as installing it does
@@ -43,6 +48,9 @@ from blendkit.bench.start_up import compile_blendkit, start_up_lines
 # The sizes measured by default, and in a quick run.
 BOOK_SIZES = ((500, 60), (2000, 200))
 QUICK_BOOK_SIZES = ((500, 60),)
+# Plant workbooks (products, ingredients, nutrients; `plant.plant_workbook`) timed part by part.
+PLANT_BOOKS = ((20, 60, 30), (40, 80, 40))
+QUICK_PLANT_BOOKS = ((5, 60, 30),)
 SAMPLES = Path(__file__).resolve().parents[2] / "sample_workbooks"
 SEED = 20240611
 
@@ -101,6 +109,24 @@ formula = formulate(prepared.blend)
 solved = time.perf_counter()
 finish(prepared, formula)
 print(json.dumps({{"read": read - started, "lp": solved - read, "write": time.perf_counter() - solved}}))
+""",
+    "plant": """
+import json, time
+from blendkit.engine import solve_form
+from blendkit.lp.build import build_lp
+from blendkit.pipeline import finish, formulate, prepare
+started = time.perf_counter()
+prepared = prepare({path!r}, {out!r})
+read = time.perf_counter()
+form = build_lp(prepared.blend).form
+built = time.perf_counter()
+solve_form(form, ranging=True)
+engine = time.perf_counter()
+formula = formulate(prepared.blend)
+solved = time.perf_counter()
+finish(prepared, formula)
+print(json.dumps({{"read": read - started, "engine": engine - built, "lp": solved - engine,
+                  "write": time.perf_counter() - solved}}))
 """,
 }
 
@@ -204,6 +230,34 @@ BOOK_HEAD = (f"{'size':<14}{'MB':>7}{'o.load':>8}{'o.save':>8}{'o.both':>8}{'che
              f"{'LP':>7}{'write':>8}{'solve':>8}{'ratio':>8}{'o.peak':>9}{'c.peak':>8}{'s.peak':>8}")
 
 
+PLANT_HEAD = (f"{'plant':<14}{'MB':>6}{'o.both':>8}{'read':>7}{'engine':>8}{'rest':>7}{'write':>7}{'solve':>8}"
+              f"{'s.peak':>8}  largest part")
+
+
+def _plant_book_lines(folder: Path, plants: Sequence[tuple[int, int, int]], repeat: int) -> Iterator[str]:
+    """Each plant workbook: openpyxl's load and save beside `blendkit solve`'s parts in one
+    child (read; the engine's solve with ranging; the rest of the LP step, measured as the
+    whole step less the engine's time: building the LP, the analysis and the HiGHS
+    cross-check; write), medians of `repeat` rounds, and which part took longest."""
+    from blendkit.bench.plant import plant_workbook
+
+    yield PLANT_HEAD
+    yield "-" * len(PLANT_HEAD)
+    for products, ingredients, nutrients in plants:
+        book = plant_workbook(folder / f"plant_{products}x{ingredients}x{nutrients}.xlsx", products, ingredients,
+                              nutrients, SEED)
+        rounds = [[measured(kind, book, folder / f"{kind}.xlsx") for kind in ("openpyxl", "plant")]
+                  for _ in range(repeat)]
+        yardstick, solve = (_median_run(list(runs)) for runs in zip(*rounds))
+        base = yardstick.times["load"] + yardstick.times["save"]
+        t = solve.times
+        parts = {"read": t["read"], "engine": t["engine"], "rest": t["lp"] - t["engine"], "write": t["write"]}
+        total = t["read"] + t["lp"] + t["write"]
+        yield (f"{f'{products}x{ingredients}x{nutrients}':<14}{book.stat().st_size / 1e6:>6.2f}{base:>8.2f}"
+               f"{parts['read']:>7.2f}{parts['engine']:>8.2f}{parts['rest']:>7.2f}{parts['write']:>7.2f}{total:>8.2f}"
+               f"{solve.peak_mb:>8.0f}  {max(parts, key=parts.get)}")
+
+
 def _sample_lines(folder: Path, repeat: int = 1) -> Iterator[str]:
     """Each sample: `blendkit solve` end to end (with the default HiGHS cross-check, and
     with --no-cross-check) beside openpyxl's load and save, each a whole child process
@@ -247,6 +301,10 @@ def section(options: Options, sizes: Sequence[tuple[int, int]] | None = None) ->
         folder = Path(name)
         for ingredients, nutrients in sizes:
             yield from _book_lines(folder, ingredients, nutrients, repeat)
+        yield ""
+        yield ("Plant workbooks (products x ingredients x nutrients): `blendkit solve`'s parts, seconds; engine = "
+               "the LP solve with ranging, rest = building the LP, analysis, HiGHS cross-check")
+        yield from _plant_book_lines(folder, QUICK_PLANT_BOOKS if options.quick else PLANT_BOOKS, repeat)
         yield ""
         yield "Samples: `blendkit solve` end to end beside a process that imports openpyxl, loads and saves"
         compile_blendkit()  # as installed: see compile_blendkit

@@ -85,30 +85,82 @@ def _mixture(upper: np.ndarray, rng: np.random.Generator) -> np.ndarray:
     return x
 
 
-def make_plant(products: int, n_ingredients: int, n_nutrients: int, seed: int) -> PlantInstance:
-    """A feasible plant LP of the given size, the same for the same arguments."""
+@dataclass(frozen=True)
+class PlantData:
+    """What a plant is made of: contents (nutrients x ingredients), inclusion caps, prices,
+    each product's amount and spec sides (minimum, maximum per nutrient), and the stocks."""
+
+    contents: np.ndarray
+    upper: np.ndarray
+    prices: np.ndarray
+    amounts: np.ndarray
+    minimums: list[np.ndarray]
+    maximums: list[np.ndarray]
+    stock: np.ndarray
+
+
+def plant_data(products: int, n_ingredients: int, n_nutrients: int, seed: int) -> PlantData:
+    """The numbers of a feasible plant of the given size, the same for the same arguments."""
     rng = np.random.default_rng([seed, products, n_ingredients, n_nutrients, 31])
     contents, upper, prices = _ingredients(n_ingredients, n_nutrients, rng)
     amounts = rng.uniform(*AMOUNT_RANGE, products)
-    blocks, rhs, use = [], [], np.zeros(n_ingredients)
+    minimums, maximums, use = [], [], np.zeros(n_ingredients)
     for p in range(products):
         x0 = _mixture(upper, rng)
-        rows, sides = _product_specs(contents, contents @ x0 / TOTAL, rng)
-        blocks.append(sp.csr_matrix(rows))
-        rhs.append(sides)
+        _, sides = _product_specs(contents, contents @ x0 / TOTAL, rng)
+        minimums.append(-sides[:n_nutrients])
+        maximums.append(sides[n_nutrients:])
         use += amounts[p] * x0 / TOTAL
     stock = use * (1 + rng.uniform(*STOCK_ABOVE_USE, n_ingredients))
-    stock_rows = sp.hstack([sp.identity(n_ingredients) * (a / TOTAL) for a in amounts], format="csr")
-    bounds = [(0.0, None if np.isinf(hi) else float(hi)) for hi in upper] * products
+    return PlantData(contents, upper, prices, amounts, minimums, maximums, stock)
+
+
+def make_plant(products: int, n_ingredients: int, n_nutrients: int, seed: int) -> PlantInstance:
+    """A feasible plant LP of the given size, the same for the same arguments."""
+    data = plant_data(products, n_ingredients, n_nutrients, seed)
+    block = sp.csr_matrix(np.vstack([-data.contents / TOTAL, data.contents / TOTAL]))
+    stock_rows = sp.hstack([sp.identity(n_ingredients) * (a / TOTAL) for a in data.amounts], format="csr")
+    bounds = [(0.0, None if np.isinf(hi) else float(hi)) for hi in data.upper] * products
     return PlantInstance(
         name=f"plant {products}x{n_ingredients}x{n_nutrients}",
-        c=np.concatenate([prices * a / TOTAL for a in amounts]),
-        A_ub=sp.vstack([sp.block_diag(blocks), stock_rows], format="csr"),
-        b_ub=np.concatenate([*rhs, stock]),
+        c=np.concatenate([data.prices * a / TOTAL for a in data.amounts]),
+        A_ub=sp.vstack([sp.block_diag([block] * products), stock_rows], format="csr"),
+        b_ub=np.concatenate([*(np.concatenate([-lo, hi]) for lo, hi in zip(data.minimums, data.maximums)),
+                             data.stock]),
         A_eq=sp.kron(sp.identity(products), np.ones((1, n_ingredients)), format="csr"),
         b_eq=np.full(products, TOTAL),
         bounds=bounds,
     )
+
+
+def plant_workbook(path, products: int, n_ingredients: int, n_nutrients: int, seed: int):
+    """The same plant as a workbook at `path` (Ingredients with a Stock column, Specs per
+    product, Products with amounts in t), for the workbook family (`books`)."""
+    import openpyxl
+
+    data = plant_data(products, n_ingredients, n_nutrients, seed)
+    book = openpyxl.Workbook()
+    sheet = book.active
+    sheet.title = "Ingredients"
+    sheet.append(["Ingredient", "Cost", "Min (%)", "Max (%)", "Stock (t)", *(f"N{i + 1} (%)" for i in range(n_nutrients))])
+    for j in range(n_ingredients):
+        cap = None if np.isinf(data.upper[j]) else float(data.upper[j])
+        sheet.append([f"Ingredient {j + 1}", float(data.prices[j]), None, cap, float(data.stock[j]),
+                      *(float(v) for v in data.contents[:, j])])
+    specs = book.create_sheet("Specs")
+    specs.append(["Nutrient", "Min", "Max", "Product"])
+    for p, (low, high) in enumerate(zip(data.minimums, data.maximums)):
+        for i in range(n_nutrients):
+            specs.append([f"N{i + 1}", float(low[i]), float(high[i]), f"Product {p + 1}"])
+    listed = book.create_sheet("Products")
+    listed.append(["Product", "Amount (t)"])
+    for p in range(products):
+        listed.append([f"Product {p + 1}", float(data.amounts[p])])
+    settings = book.create_sheet("Settings")
+    settings.append(["Setting", "Value"])
+    settings.append(["Mass unit", "t"])
+    book.save(path)
+    return path
 
 
 def section(options: Options) -> Iterator[str]:
