@@ -163,8 +163,9 @@ def form_with(lp: BlendLP, members: list[Member], active, c: np.ndarray | None =
 
 
 def feasible(form: StandardForm) -> bool:
-    """True when the form has a feasible point (the objective is ignored)."""
-    return solve_form(dataclasses.replace(form, c=np.zeros_like(form.c))).status == "optimal"
+    """True when the form has a feasible point (the objective is ignored): phase one alone,
+    as the primal method runs it (with every cost zero the dual simplex only stalls)."""
+    return solve_form(dataclasses.replace(form, c=np.zeros_like(form.c)), algorithm="primal").status == "optimal"
 
 
 def row_vector(form: StandardForm, i: int) -> np.ndarray:
