@@ -116,6 +116,7 @@ def formulate_lp(blend: Blend, *, explain: bool = True, check: bool = True) -> F
         formula,
         conflicts=conflict_lines(diagnosis),
         conflicts_complete=diagnosis.complete,
+        conflicts_cut_short=diagnosis.cut_short,
         relaxation=Relaxation(change_lines(diagnosis), relaxed) if diagnosis.changes else None,
     )
 

@@ -182,8 +182,9 @@ def test_cli_reports_conflicts_exit_3_and_json(tmp_path):
     assert entry == {
         "kind": "nutrient", "name": "Crude protein", "product": None, "side": "min", "bound": 30.0,
         "cell": "Specs!B2", "relax_to": pytest.approx(0.25 * 46 + 0.20 * 15.5 + 0.55 * 11.0), "conflict": 1,
-        "fixes_alone": True,
+        "fixes_alone": True, "worked_out": True,
     }
+    assert doc["conflicts_cut_short"] is False
     assert doc["relaxation"]["changes"]
     assert doc["relaxation"]["cost"] > 0
 
@@ -281,3 +282,71 @@ def test_overlapping_conflicts_and_which_limit_alone_fixes_everything(tmp_path):
         dropped.save(copy)
         feasible = formulate_with_highs(copy).result.status == 0
         assert feasible == item["fixes_alone"], item
+
+
+class _Clock:
+    """A monotonic clock that moves on one second at every reading."""
+
+    def __init__(self):
+        self.now = 0.0
+
+    def monotonic(self) -> float:
+        self.now += 1.0
+        return self.now
+
+
+def _stock_conflict(tmp_path):
+    """The stock workbook of test_a_stock_against_product_amounts."""
+    feeds = [row[:] for row in FEEDS]
+    feeds[2][7] = 500
+    specs = [["Nutrient", "Min", "Max"], ["Calcium", 0.8, None]]
+    products = [["Product", "Amount"], ["Layer mash", 30000], ["Pullet mash", 10000]]
+    return make_workbook(tmp_path, [HEADER, *feeds], specs, sheets={"Products": products})
+
+
+def test_a_search_stopped_by_its_time_limit_reports_a_conflicting_set_and_says_so(tmp_path, monkeypatch):
+    # An infeasible plant can take minutes per conflict (each check a phase one), so the
+    # search has time limits. With a clock that runs fast, the deletion filter stops after
+    # one step: the set it reports must still conflict (HiGHS: infeasible), the moves are
+    # not worked out, and every output says so; the least-cost way out is still given.
+    from blendkit.lp import diagnose as module
+
+    monkeypatch.setattr(module, "time", _Clock())
+    monkeypatch.setattr(module, "SEARCH_SECONDS", 2.5)
+    monkeypatch.setattr(module, "MOVES_SECONDS", 0.5)
+    blend = read_workbook(_stock_conflict(tmp_path))
+    diagnosis = diagnose(blend, build_lp(blend))
+    assert diagnosis.cut_short and not diagnosis.complete
+    lp = build_lp(blend)
+    members = members_of(blend, lp)
+    reported = diagnosis.conflicts[0]
+    chosen = np.array([m in reported.members for m in members])
+    assert not feasible_in_highs(form_with(lp, members, chosen))
+    # A sum-to-100 row cannot move: it needs no working out; every other member was not reached.
+    assert not any(done for m, done in zip(reported.members, reported.worked_out) if m.kind != "total")
+    assert not any(reported.fixes_alone)
+    assert diagnosis.changes  # the least-cost way out does not depend on the search
+
+    for folder in ("again", "text"):
+        (tmp_path / folder).mkdir()
+    result = runner.invoke(app, ["solve", str(_stock_conflict(tmp_path / "again")), "--json", "--jobs", "1"])
+    doc = json.loads(result.stdout)
+    assert doc["conflicts_cut_short"] is True
+    assert {entry["worked_out"] for entry in doc["conflicts"] if entry["kind"] != "total"} == {False}
+    text = runner.invoke(app, ["solve", str(_stock_conflict(tmp_path / "text")), "--jobs", "1"]).stdout
+    assert "not worked out (time limit)" in text and "stopped at its time limit" in text
+    import openpyxl
+
+    sheet = openpyxl.load_workbook(tmp_path / "text" / "blend.result.xlsx")["Conflicts"]
+    written = {str(cell.value) for row in sheet.iter_rows() for cell in row if cell.value is not None}
+    assert "not worked out (time limit)" in written and "not checked" in written
+    assert any("stopped at its time limit" in value for value in written)
+
+
+def test_a_search_within_its_time_limits_is_not_cut_short(tmp_path):
+    # The same workbook with the real limits: a minimal set (HiGHS), every move worked out.
+    blend = read_workbook(_stock_conflict(tmp_path))
+    diagnosis = diagnose(blend, build_lp(blend))
+    assert not diagnosis.cut_short
+    assert all(all(conflict.worked_out) for conflict in diagnosis.conflicts)
+    check_irreducible(blend, diagnosis)

@@ -126,6 +126,7 @@ def test_not_optimal_has_null_cost_and_empty_tables():
         "cross_check": None,
         "conflicts": [],
         "conflicts_complete": True,
+        "conflicts_cut_short": False,
         "relaxation": None,
     }
     # Even if a cost were left on the formula, it means nothing unless optimal.

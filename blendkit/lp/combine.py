@@ -36,6 +36,7 @@ def combine(blend: Blend, parts: list[Formula], notes: tuple[str, ...] = ()) -> 
         stocks=tuple(line for part in parts for line in part.stocks),
         conflicts=_renumbered(parts),
         conflicts_complete=all(part.conflicts_complete for part in parts),
+        conflicts_cut_short=any(part.conflicts_cut_short for part in parts),
         parts=tuple(parts),
         cross_check=combined([part.cross_check for part in parts]),
         shared_prices=intersect([part.shared_prices for part in parts]) if solved else (),

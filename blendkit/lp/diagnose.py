@@ -50,9 +50,14 @@ from blendkit.model.blend import Blend
 from blendkit.model.formula import ConflictLine
 
 # The search for conflicting sets stops after this many sets, or after this many seconds
-# (then the report says that more conflicts may remain).
+# (then the report says that more conflicts may remain); a set whose deletion filter is
+# still running then is reported as found so far (it conflicts, but may hold members that
+# take no part). Each member's move alone and its fixes-alone check then get MOVES_SECONDS
+# more; members not reached by then are reported as not worked out. (An infeasible plant
+# of 20 products took 24 minutes before these limits: each check is a phase one of seconds.)
 MOST_CONFLICTS = 8
 SEARCH_SECONDS = 10.0
+MOVES_SECONDS = 10.0
 
 
 @dataclass(frozen=True)
@@ -61,12 +66,14 @@ class Conflict:
 
     `relax_to[k]` is the value member k's bound would have to move to (None where no
     move of that bound alone is enough, as for a total); `fixes_alone[k]` is True when
-    dropping member k alone makes the whole workbook feasible.
+    dropping member k alone makes the whole workbook feasible; `worked_out[k]` is False
+    when the time limit came before both were worked out (both then say nothing).
     """
 
     members: tuple[Member, ...]
     relax_to: tuple[float | None, ...]
     fixes_alone: tuple[bool, ...] = ()
+    worked_out: tuple[bool, ...] = ()
 
 
 @dataclass(frozen=True)
@@ -85,6 +92,7 @@ class Diagnosis:
     changes: tuple[Change, ...]
     complete: bool
     relaxed_blend: Blend | None
+    cut_short: bool = False  # the time limits stopped a set's filter or the members' moves
 
 
 # ----- the conflicting sets ---------------------------------------------------------------
@@ -111,17 +119,21 @@ def _seed(lp: BlendLP, members: list[Member], active: np.ndarray) -> np.ndarray:
     return seed
 
 
-def _deletion_filter(lp: BlendLP, members: list[Member], candidates: np.ndarray) -> np.ndarray:
-    """An irreducible infeasible subset of `candidates` (Chinneck & Dravnieks, 1991)."""
+def _deletion_filter(lp: BlendLP, members: list[Member], candidates: np.ndarray,
+                     deadline: float) -> tuple[np.ndarray, bool]:
+    """An irreducible infeasible subset of `candidates` (Chinneck & Dravnieks, 1991), and
+    True; or, once past `deadline`, the infeasible subset reached so far and False."""
     keep = candidates.copy()
     # Try to drop the members most likely to be incidental first: the sum-to-100 rows
     # and stocks last, so conflicts are told in specs and limits where possible.
     order = sorted(np.flatnonzero(candidates), key=lambda k: members[k].kind in ("total", "stock"))
     for k in order:
+        if time.monotonic() > deadline:
+            return keep, False
         keep[k] = False
         if feasible(form_with(lp, members, keep)):
             keep[k] = True
-    return keep
+    return keep, True
 
 
 # ----- the whole diagnosis -----------------------------------------------------------------
@@ -132,34 +144,41 @@ def diagnose(blend: Blend, lp: BlendLP) -> Diagnosis:
     members = members_of(blend, lp)
     totals = np.array([member.kind == "total" for member in members])
     deadline = time.monotonic() + SEARCH_SECONDS
-    found, stopped = _disjoint_conflicts(lp, members, totals, deadline)
-    found, stopped_again = _overlapping_conflicts(lp, members, totals, found, deadline)
-    fixes = _fixes_alone(lp, members, found)
-    conflicts = [_with_moves(lp, members, totals, found, conflict, fixes) for conflict in found]
+    found, stopped, whole = _disjoint_conflicts(lp, members, totals, deadline)
+    if whole:
+        found, stopped_again = _overlapping_conflicts(lp, members, totals, found, deadline)
+        stopped = stopped or stopped_again
+    deadline = time.monotonic() + MOVES_SECONDS
+    fixes = _fixes_alone(lp, members, found, deadline)
+    conflicts = [_with_moves(lp, members, totals, found, conflict, fixes, deadline) for conflict in found]
     proven = len(found) == 1 and all(fixes[k] for k in np.flatnonzero(found[0]) if not totals[k])
     changes = least_cost_relaxation(blend, lp, members)
     return Diagnosis(
         conflicts=tuple(conflicts),
         changes=changes,
-        complete=proven and not stopped and not stopped_again,
+        complete=whole and proven and not stopped,
         relaxed_blend=relaxed_blend(blend, changes) if changes else None,
+        cut_short=not whole or not all(all(conflict.worked_out) for conflict in conflicts),
     )
 
 
-def _disjoint_conflicts(lp, members, totals, deadline) -> tuple[list[np.ndarray], bool]:
+def _disjoint_conflicts(lp, members, totals, deadline) -> tuple[list[np.ndarray], bool, bool]:
     """Conflicting sets found by setting each one aside and looking again, until the rest
-    is feasible; True when the search stopped at its limits first."""
+    is feasible; True when the search stopped at its limits first; and False when the
+    last set's filter was stopped by the deadline (that set is not minimal)."""
     everything = np.ones(len(members), dtype=bool)
     set_aside = np.zeros(len(members), dtype=bool)
     found: list[np.ndarray] = []
     while True:
         active = everything & ~set_aside
         if feasible(form_with(lp, members, active)):
-            return found, False
+            return found, False, True
         if len(found) == MOST_CONFLICTS or time.monotonic() > deadline:
-            return found, True
-        conflict = _deletion_filter(lp, members, _seed(lp, members, active))
+            return found, True, True
+        conflict, whole = _deletion_filter(lp, members, _seed(lp, members, active), deadline)
         found.append(conflict)
+        if not whole:
+            return found, True, False
         # Sum-to-100 rows can be part of several conflicts; they stay on.
         set_aside |= conflict & ~totals
 
@@ -180,47 +199,56 @@ def _overlapping_conflicts(lp, members, totals, found, deadline) -> tuple[list[n
         active[k] = False
         if feasible(form_with(lp, members, active)):
             continue
-        conflict = _deletion_filter(lp, members, _seed(lp, members, active))
+        conflict, whole = _deletion_filter(lp, members, _seed(lp, members, active), deadline)
+        if not whole:
+            return found, True  # a set not yet minimal is not reported beside minimal ones
         if not any((conflict == other).all() for other in found):
             found.append(conflict)
             queue.extend(j for j in np.flatnonzero(conflict) if not totals[j])
     return found, False
 
 
-def _fixes_alone(lp, members, found) -> dict[int, bool]:
+def _fixes_alone(lp, members, found, deadline: float) -> dict[int, bool | None]:
     """For each member of a conflicting set: does dropping it alone make the whole
-    workbook feasible?"""
+    workbook feasible? None for the members the deadline came before."""
     fixes = {}
     for k in sorted({int(k) for conflict in found for k in np.flatnonzero(conflict)}):
+        if members[k].kind == "total" or time.monotonic() > deadline:
+            fixes[k] = False if members[k].kind == "total" else None
+            continue
         active = np.ones(len(members), dtype=bool)
         active[k] = False
-        fixes[k] = members[k].kind != "total" and feasible(form_with(lp, members, active))
+        fixes[k] = feasible(form_with(lp, members, active))
     return fixes
 
 
-def _with_moves(lp, members, totals, found, conflict, fixes) -> Conflict:
+def _with_moves(lp, members, totals, found, conflict, fixes, deadline: float) -> Conflict:
     """A conflicting set with each member's least move alone (the other sets set aside,
     except for members this set shares with them) and whether dropping it alone fixes
-    the whole workbook."""
+    the whole workbook; a member the deadline came before is not worked out."""
     others = np.zeros(len(members), dtype=bool)
     for other in found:
         if other is not conflict:
             others |= other & ~totals & ~conflict
-    moves = []
-    for k in np.flatnonzero(conflict):
+    indices = np.flatnonzero(conflict)
+    moves, worked_out = [], []
+    for k in indices:
+        done = fixes[int(k)] is not None and (totals[k] or time.monotonic() <= deadline)
         active = ~others
         active[k] = False
-        moves.append(outward(best_level(lp, members, active, members[k]), members[k].side))
-    indices = np.flatnonzero(conflict)
-    return Conflict(tuple(members[k] for k in indices), tuple(moves), tuple(fixes[int(k)] for k in indices))
+        moves.append(outward(best_level(lp, members, active, members[k]), members[k].side) if done else None)
+        worked_out.append(bool(done))
+    fixes_alone = tuple(bool(fixes[int(k)]) and done for k, done in zip(indices, worked_out))
+    return Conflict(tuple(members[k] for k in indices), tuple(moves), fixes_alone, tuple(worked_out))
 
 
 def conflict_lines(diagnosis: Diagnosis) -> tuple[ConflictLine, ...]:
     """The conflicting sets as report lines, numbered from 1."""
     lines = []
     for number, conflict in enumerate(diagnosis.conflicts, start=1):
-        for member, relax_to, fixes in zip(conflict.members, conflict.relax_to, conflict.fixes_alone):
-            lines.append(_line(number, member, relax_to, fixes))
+        for member, relax_to, fixes, done in zip(conflict.members, conflict.relax_to, conflict.fixes_alone,
+                                                 conflict.worked_out):
+            lines.append(_line(number, member, relax_to, fixes, done))
     return tuple(lines)
 
 
@@ -229,10 +257,11 @@ def change_lines(diagnosis: Diagnosis) -> tuple[ConflictLine, ...]:
     return tuple(_line(0, change.member, change.relax_to) for change in diagnosis.changes)
 
 
-def _line(number: int, member: Member, relax_to: float | None, fixes_alone: bool = False) -> ConflictLine:
+def _line(number: int, member: Member, relax_to: float | None, fixes_alone: bool = False,
+          worked_out: bool = True) -> ConflictLine:
     """One report line for a member: its bound and the value it would have to move to as
     written in its cell (a spec with a Margin: the target less or plus the margin)."""
     return ConflictLine(conflict=number, kind=member.kind, name=member.name, product=member.product,
                         side=member.side, bound=member.written(member.bound), cell=member.cell,
                         relax_to=member.written(relax_to),
-                        text=member.describe(), fixes_alone=fixes_alone)
+                        text=member.describe(), fixes_alone=fixes_alone, worked_out=worked_out)

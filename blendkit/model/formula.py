@@ -24,6 +24,10 @@ SOFT_LIMIT_NOTE = "Soft spec not met:"
 SOFT_SPECS_NOT_MET = "Soft specs not met"
 # What an infeasible run's suggested bound moves are called, wherever they are shown.
 WAY_OUT = "Least-cost way out"
+# Said beside the conflicts when the search's time limits stopped it (`lp.diagnose`).
+CUT_SHORT = ("The search for conflicts stopped at its time limit: a conflict may list limits that "
+             "take no part in it, and limits marked \"not worked out\" were not examined. The "
+             "least-cost way out does not depend on this search.")
 
 # Statuses a formula can have; the engine's statuses pass through unchanged.
 OPTIMAL = "optimal"
@@ -317,6 +321,7 @@ class Formula:
     stocks: tuple[StockLine, ...] = ()
     conflicts: tuple[ConflictLine, ...] = ()  # when infeasible: the conflicting limits
     conflicts_complete: bool = True  # False when more conflicts may remain unreported
+    conflicts_cut_short: bool = False  # the search's time limit stopped a set's filter or the moves
     relaxation: Relaxation | None = None  # when infeasible: the least-cost way out
     # When the products were solved as several LPs (see `blendkit.lp.split`): each LP's
     # own Formula, in Products-sheet order of their first product. Empty otherwise.
@@ -436,7 +441,9 @@ class ConflictLine:
     the workbook to become feasible (None where no move of it alone is enough).
     `text` reads like "Specs!C5  Crude protein  min 24". `fixes_alone` is True when
     dropping this limit alone makes the whole workbook feasible (every conflicting set
-    contains it).
+    contains it). `worked_out` is False when the search's time limit came before this
+    limit's move and fixes-alone check were worked out (`relax_to` and `fixes_alone` then
+    say nothing).
     """
 
     conflict: int
@@ -449,6 +456,7 @@ class ConflictLine:
     relax_to: float | None
     text: str
     fixes_alone: bool = False
+    worked_out: bool = True
 
 
 @dataclass(frozen=True)

@@ -24,6 +24,7 @@ from blendkit.model.formula import (
     SOFT_SPECS_NOT_MET,
     THIS_PRODUCT_ALONE,
     WAY_OUT,
+    CUT_SHORT,
     WEIGHING_RULES,
     basis_label,
 )
@@ -234,6 +235,8 @@ def _conflicts(formula: Formula) -> list[str]:
         lines.append("* dropping this limit alone makes the whole workbook feasible.")
     if not formula.conflicts_complete:
         lines.append("More conflicts may remain after these are fixed: solve again to see them.")
+    if formula.conflicts_cut_short:
+        lines.append(CUT_SHORT)
     return lines
 
 
@@ -241,6 +244,8 @@ def _alone(line: ConflictLine) -> str:
     """The one-bound move of a conflict member, in words."""
     if line.kind == "total":
         return "cannot move"
+    if not line.worked_out:
+        return "not worked out (time limit)"
     if line.relax_to is None:
         return "no single move"
     if line.kind == "use":

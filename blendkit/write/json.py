@@ -86,13 +86,19 @@ numbers added; a part may be another combined nutrient, not expanded). Its level
 When the status is "infeasible" two more keys follow "notes"::
 
     "conflicts": [{"kind", "name", "product", "side", "bound", "cell", "relax_to",
-                   "conflict"}],
+                   "conflict", "fixes_alone", "worked_out"}],
+    "conflicts_complete": bool, "conflicts_cut_short": bool,
     "relaxation": {"changes": [{"kind", "name", "product", "side", "bound", "cell",
                                 "relax_to"}], "cost": float | null} | null
 
 Each conflicts entry is one member of an irreducible conflicting set (`conflict`
 numbers the sets); `relax_to` is the value that bound alone would have to move to (null
-where no move of it alone is enough). `kind` there may also be "use" (a Use = no) or
+where no move of it alone is enough); `fixes_alone` is true when dropping it alone makes
+the whole workbook feasible; `worked_out` is false when the search's time limit came
+before those two were worked out (both then say nothing). `conflicts_complete` is false
+when more conflicts may remain; `conflicts_cut_short` is true when the time limit stopped
+the search (a set may then hold limits that take no part, `worked_out` tells which moves
+were not worked out). `kind` there may also be "use" (a Use = no) or
 "total" (a sum-to-100 row). `relaxation` is the least-cost way out: the bounds to move
 and the blend's cost (total cost with products) once they are moved.
 
@@ -323,9 +329,11 @@ def _conflicts(formula: Formula, data: dict[str, Any]) -> dict[str, Any]:
     """`data` with the conflicts and relaxation keys added, for an infeasible formula."""
     if formula.status != "infeasible":
         return data
-    data["conflicts"] = [dict(_member(line), conflict=line.conflict, fixes_alone=bool(line.fixes_alone))
+    data["conflicts"] = [dict(_member(line), conflict=line.conflict, fixes_alone=bool(line.fixes_alone),
+                              worked_out=bool(line.worked_out))
                          for line in formula.conflicts]
     data["conflicts_complete"] = bool(formula.conflicts_complete)
+    data["conflicts_cut_short"] = bool(formula.conflicts_cut_short)
     data["relaxation"] = _relaxation(formula)
     return data
 

@@ -14,7 +14,7 @@ from openpyxl.workbook.workbook import Workbook
 from openpyxl.worksheet.worksheet import Worksheet
 
 from blendkit.model.blend import Blend
-from blendkit.model.formula import WAY_OUT, ConflictLine, Formula, RunInfo
+from blendkit.model.formula import CUT_SHORT, WAY_OUT, ConflictLine, Formula, RunInfo
 from blendkit.model.units import ingredient_word, kind_word, run_cost_unit
 from blendkit.write.workbook.cells import (
     ALERT_TEXT,
@@ -98,6 +98,9 @@ def _write_explanation(sheet: Worksheet, formula: Formula, row: int) -> int:
                                      "then solve again to see the rest.", _COLUMNS, _WIDTH)
         cell.font = ALERT_TEXT
         row += 1
+    if formula.conflicts_cut_short:
+        paragraph(sheet, row, CUT_SHORT, _COLUMNS, _WIDTH).font = ALERT_TEXT
+        row += 1
     return row + 1
 
 
@@ -116,9 +119,11 @@ def _write_conflict_sets(sheet: Worksheet, formula: Formula, row: int) -> int:
         for offset, line in enumerate(members, start=2):
             number_format = _conflict_format(line)
             _write_member(sheet, row + offset, line, formula.blend, number_format)
-            put(sheet, row + offset, 8, "yes" if line.fixes_alone else "no")
+            put(sheet, row + offset, 8, ("yes" if line.fixes_alone else "no") if line.worked_out else "not checked")
             if line.kind == "total":
                 put(sheet, row + offset, 7, "cannot move: inclusions sum to 100 %")
+            elif not line.worked_out:
+                put(sheet, row + offset, 7, "not worked out (time limit)")
             elif line.relax_to is None:
                 put(sheet, row + offset, 7, "no single move")
             else:
