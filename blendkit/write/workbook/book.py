@@ -67,6 +67,7 @@ from blendkit.write.workbook import (
     run_info,
     shadow_prices,
 )
+from blendkit.write.workbook.in_memory import workbook_bytes
 from blendkit.write.workbook.replaced import mark_replaced
 from blendkit.write.workbook.save import same_file, save_atomically
 from blendkit.write.workbook.saved_results import saved_results, with_saved_results
@@ -142,17 +143,14 @@ def _saved(workbook: Workbook, data: bytes, original_titles: dict, touched: set[
     (`copied_sheets`), and the titles of those sheets; saved again with every cell written
     by openpyxl should the copy not fit the package openpyxl wrote."""
     held = copied_sheets.hold_back(workbook, data, original_titles, touched)
-    buffer = io.BytesIO()
     try:
-        workbook.save(buffer)
+        saved = workbook_bytes(workbook)
     finally:
         held.restore()
-    content = copied_sheets.put_back(buffer.getvalue(), held)
+    content = copied_sheets.put_back(saved, held)
     if content is not None:
         return content, held.titles()
-    buffer = io.BytesIO()
-    workbook.save(buffer)
-    return buffer.getvalue(), set()
+    return workbook_bytes(workbook), set()
 
 
 def _read_source(source: Path, output: Path, run: RunInfo) -> bytes:
