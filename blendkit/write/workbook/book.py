@@ -29,8 +29,9 @@ Every sheet, the input sheets too, then gets the same print layout (`printing`):
 wide, with the title, the page, the run time and the input's SHA-256 on every page. An
 input sheet's cells are never changed, only its print settings.
 
-The save is atomic (`save`): a temporary file in the output's folder is moved into place,
-so a failed run leaves no half-written output. The source file is only ever read; the
+The package is built in memory (`in_memory`: openpyxl's save, without a temporary file
+per worksheet), and the save is atomic (`save`): a temporary file in the output's folder
+is moved into place, so a failed run leaves no half-written output. The source file is only ever read; the
 results saved with its formula cells are put back into the output (`saved_results`). A big
 input sheet's cells are not written again: its cell table is copied from the input byte
 for byte (`copied_sheets`).
