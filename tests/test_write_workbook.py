@@ -15,6 +15,7 @@ from pathlib import Path
 import pytest
 from openpyxl import load_workbook
 from openpyxl.workbook.workbook import Workbook
+from openpyxl.writer.excel import ExcelWriter
 
 import blendkit.write.workbook.save
 from blendkit import CAUTION
@@ -472,10 +473,11 @@ def test_refuses_to_overwrite_the_source(source: Path, tmp_path: Path, monkeypat
 
 
 def test_failed_save_leaves_no_file(source: Path, tmp_path: Path, monkeypatch):
-    def broken_save(self, filename):
+    def broken_save(self):
         raise OSError("disk full")
 
-    monkeypatch.setattr(Workbook, "save", broken_save)
+    # openpyxl's package writer, which every save of the writer goes through.
+    monkeypatch.setattr(ExcelWriter, "save", broken_save)
     with pytest.raises(OSError, match="disk full"):
         write(formulas.optimal_formula(), source, tmp_path / "out.xlsx")
     assert list(tmp_path.iterdir()) == [source]
@@ -497,10 +499,10 @@ def test_failed_save_keeps_the_previous_output(source: Path, tmp_path: Path, mon
     output = write(formulas.optimal_formula(), source, tmp_path / "out.xlsx")
     before = output.read_bytes()
 
-    def broken_save(self, filename):
+    def broken_save(self):
         raise OSError("disk full")
 
-    monkeypatch.setattr(Workbook, "save", broken_save)
+    monkeypatch.setattr(ExcelWriter, "save", broken_save)
     with pytest.raises(OSError):
         write(formulas.infeasible_formula(), source, output)
     assert output.read_bytes() == before

@@ -33,7 +33,7 @@ def start_dual(state: SimplexState, basis=None) -> bool:
     state.add_artificials(np.zeros(0, dtype=int), np.zeros(0))
     if basis is not None:
         head, at_upper = (np.asarray(b) for b in basis)
-        if head.shape != (m,) or np.any(head >= n + m) or np.unique(head).size != m:
+        if head.shape != (m,) or np.any(head >= n + m) or len(set(head.tolist())) != m:
             return False
     else:
         head, at_upper = n + np.arange(m), np.zeros(n + m, dtype=bool)

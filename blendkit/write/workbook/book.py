@@ -29,8 +29,9 @@ Every sheet, the input sheets too, then gets the same print layout (`printing`):
 wide, with the title, the page, the run time and the input's SHA-256 on every page. An
 input sheet's cells are never changed, only its print settings.
 
-The save is atomic (`save`): a temporary file in the output's folder is moved into place,
-so a failed run leaves no half-written output. The source file is only ever read; the
+The package is built in memory (`in_memory`: openpyxl's save, without a temporary file
+per worksheet), and the save is atomic (`save`): a temporary file in the output's folder
+is moved into place, so a failed run leaves no half-written output. The source file is only ever read; the
 results saved with its formula cells are put back into the output (`saved_results`). A big
 input sheet's cells are not written again: its cell table is copied from the input byte
 for byte (`copied_sheets`).
@@ -67,6 +68,7 @@ from blendkit.write.workbook import (
     run_info,
     shadow_prices,
 )
+from blendkit.write.workbook.in_memory import workbook_bytes
 from blendkit.write.workbook.replaced import mark_replaced
 from blendkit.write.workbook.save import same_file, save_atomically
 from blendkit.write.workbook.saved_results import saved_results, with_saved_results
@@ -142,17 +144,14 @@ def _saved(workbook: Workbook, data: bytes, original_titles: dict, touched: set[
     (`copied_sheets`), and the titles of those sheets; saved again with every cell written
     by openpyxl should the copy not fit the package openpyxl wrote."""
     held = copied_sheets.hold_back(workbook, data, original_titles, touched)
-    buffer = io.BytesIO()
     try:
-        workbook.save(buffer)
+        saved = workbook_bytes(workbook)
     finally:
         held.restore()
-    content = copied_sheets.put_back(buffer.getvalue(), held)
+    content = copied_sheets.put_back(saved, held)
     if content is not None:
         return content, held.titles()
-    buffer = io.BytesIO()
-    workbook.save(buffer)
-    return buffer.getvalue(), set()
+    return workbook_bytes(workbook), set()
 
 
 def _read_source(source: Path, output: Path, run: RunInfo) -> bytes:

@@ -29,17 +29,44 @@ LINE_HEIGHT = 15
 def size_columns(sheet: Worksheet) -> None:
     """Set every used column's width from its content, then wrap what is still too long."""
     merged = _merged_cells(sheet)
+    looks = _Looks()
+    # The stored cells, row by row: iter_rows would first make every empty cell of the
+    # sheet's rectangle exist (thousands on a plant's Result), only to skip them.
+    filled = [cell for _, cell in sorted(sheet._cells.items()) if cell.value is not None]
     widths: dict[int, float] = {}
-    for row in sheet.iter_rows():
-        for cell in row:
-            if cell.value is None or cell.coordinate in merged:
-                continue
-            need = _header_need(cell) if _is_header(cell) else _text_length(cell)
-            if need <= MOST_WIDTH:
-                widths[cell.column] = max(widths.get(cell.column, LEAST_WIDTH), need + 1)
+    for cell in filled:
+        if cell.coordinate in merged:
+            continue
+        need = _header_need(cell) if looks.header(cell) else _text_length(cell, looks)
+        if need <= MOST_WIDTH:
+            widths[cell.column] = max(widths.get(cell.column, LEAST_WIDTH), need + 1)
     for column, width in widths.items():
         sheet.column_dimensions[get_column_letter(column)].width = width
-    _wrap_long_text(sheet, merged)
+    _wrap_long_text(sheet, filled, merged, looks)
+
+
+class _Looks:
+    """Whether a cell is a header label, and whether it is bold, worked out once per
+    distinct style: reading a cell's font or border builds a style object each time."""
+
+    def __init__(self) -> None:
+        """No style seen yet."""
+        self.headers: dict[tuple, bool] = {}
+        self.bolds: dict[tuple, bool] = {}
+
+    def header(self, cell: Cell) -> bool:
+        """`_is_header` of the cell, by its style."""
+        key = tuple(cell._style or ())  # None: no style set yet
+        if key not in self.headers:
+            self.headers[key] = _is_header(cell)
+        return self.headers[key]
+
+    def bold(self, cell: Cell) -> bool:
+        """The cell's font is bold, by its style."""
+        key = tuple(cell._style or ())  # None: no style set yet
+        if key not in self.bolds:
+            self.bolds[key] = bool(cell.font.b)
+        return self.bolds[key]
 
 
 def _merged_cells(sheet: Worksheet) -> dict[str, int]:
@@ -61,37 +88,45 @@ def _header_need(cell: Cell) -> float:
     return max(longest_word, math.ceil(len(text) / HEADER_LINES))
 
 
-def _text_length(cell: Cell) -> float:
+def _text_length(cell: Cell, looks: _Looks) -> float:
     """Characters a cell shows: a formula counts as a number; bold text runs wider."""
     value = cell.value
     if isinstance(value, str) and value.startswith("="):
         return FORMULA_WIDTH
     if isinstance(value, (int, float)):
         return len(f"{value:,.2f}") + 2
-    return len(str(value)) * (1.1 if cell.font.b else 1.0)
+    return len(str(value)) * (1.1 if looks.bold(cell) else 1.0)
 
 
-def _wrap_long_text(sheet: Worksheet, merged: dict[str, int]) -> None:
+def _wrap_long_text(sheet: Worksheet, filled: list[Cell], merged: dict[str, int], looks: _Looks) -> None:
     """Wrap text wider than its cell (or merged cells) and make its row tall enough;
-    header rows get the height of their tallest label."""
+    header rows get the height of their tallest label. `filled`: the cells with a value,
+    row by row."""
     heights: dict[int, int] = {}
-    for row in sheet.iter_rows():
-        for cell in row:
-            if not isinstance(cell.value, str) or cell.value.startswith("="):
-                continue
-            span = merged.get(cell.coordinate, 1)
-            width = sum(_width(sheet, cell.column + extra) for extra in range(span))
-            length = _text_length(cell)
-            if length <= width and not _is_header(cell):
-                continue
-            if span == 1 and not _is_header(cell):
-                span = _spread(sheet, cell)
-                width = sum(_width(sheet, cell.column + extra) for extra in range(span))
-            lines = max(1, math.ceil(length / max(width - 1, 1)))
-            if lines > 1 and not _is_header(cell):
-                cell.alignment = Alignment(wrap_text=True, vertical="top",
-                                           horizontal=cell.alignment.horizontal)
-            heights[cell.row] = max(heights.get(cell.row, 1), lines)
+    widths: dict[int, float] = {}
+
+    def width_of(column: int) -> float:  # a column's width does not change here: look it up once
+        if column not in widths:
+            widths[column] = _width(sheet, column)
+        return widths[column]
+
+    for cell in filled:
+        if not isinstance(cell.value, str) or cell.value.startswith("="):
+            continue
+        span = merged.get(cell.coordinate, 1)
+        width = sum(width_of(cell.column + extra) for extra in range(span))
+        length = _text_length(cell, looks)
+        header = looks.header(cell)
+        if length <= width and not header:
+            continue
+        if span == 1 and not header:
+            span = _spread(sheet, cell)
+            width = sum(width_of(cell.column + extra) for extra in range(span))
+        lines = max(1, math.ceil(length / max(width - 1, 1)))
+        if lines > 1 and not header:
+            cell.alignment = Alignment(wrap_text=True, vertical="top",
+                                       horizontal=cell.alignment.horizontal)
+        heights[cell.row] = max(heights.get(cell.row, 1), lines)
     for row, lines in heights.items():
         if lines > 1 or sheet.row_dimensions[row].height:
             sheet.row_dimensions[row].height = LINE_HEIGHT * lines + 4

@@ -82,12 +82,12 @@ def fit_column_widths(sheet: Worksheet, first_row: int, least: float, most: floa
     most `most` characters), so no text runs into the next cell; a cell longer than `most`
     should wrap."""
     longest: dict[int, float] = {}
-    for row in sheet.iter_rows(min_row=first_row):
-        for cell in row:
-            if cell.value is None:
-                continue
-            size = _shown_length(cell.value, cell.number_format)
-            longest[cell.column] = max(longest.get(cell.column, 0.0), size)
+    # The stored cells, row by row: iter_rows would first make every empty cell exist.
+    for (row, column), cell in sorted(sheet._cells.items()):
+        if row < first_row or cell.value is None:
+            continue
+        size = _shown_length(cell.value, cell.number_format)
+        longest[column] = max(longest.get(column, 0.0), size)
     for column, size in longest.items():
         # Bold headers and a spreadsheet's own padding need a little more than the text.
         width = min(max(size * 1.1 + 2, least), most)

@@ -32,6 +32,7 @@ from blendkit.write.workbook.cells import (
     format_by_size,
     header,
     new_sheet,
+    styled,
     number,
     put,
 )
@@ -144,15 +145,26 @@ def _size_columns(sheet: Worksheet) -> None:
     unit = sheet.column_dimensions[get_column_letter(_UNIT_COLUMN)]
     unit.width = min(unit.width + 1, _UNIT_WIDTH)
     # Text after a column of numbers starts one space in, clear of the number before it.
-    aligned = {long: Alignment(horizontal="left", indent=1, wrap_text=long) for long in (False, True)}
     for column in _TEXT_AFTER_NUMBERS:
         for (cell,) in sheet.iter_rows(min_row=_HEADER_ROW + 1, min_col=column, max_col=column):
             long = column == _UNIT_COLUMN and len(str(cell.value or "")) + 3 > unit.width
-            cell.alignment = aligned[long]  # two shared styles, not one per cell
+            styled(cell, f"after numbers {long}", _AFTER_NUMBERS[long])  # two shared looks
             if long:
                 lines = math.ceil((len(str(cell.value)) + 3) / unit.width)
                 sheet.row_dimensions[cell.row].height = 15 * lines + 2
     _wrap_words(sheet)
+
+
+def _after_numbers(long: bool):
+    """Text after a column of numbers: one space in, wrapped when `long`."""
+    alignment = Alignment(horizontal="left", indent=1, wrap_text=long)
+
+    def apply(cell) -> None:
+        cell.alignment = alignment
+    return apply
+
+
+_AFTER_NUMBERS = {long: _after_numbers(long) for long in (False, True)}
 
 
 def _wrap_words(sheet: Worksheet) -> None:
