@@ -350,3 +350,24 @@ def test_a_search_within_its_time_limits_is_not_cut_short(tmp_path):
     assert not diagnosis.cut_short
     assert all(all(conflict.worked_out) for conflict in diagnosis.conflicts)
     check_irreducible(blend, diagnosis)
+
+
+@pytest.mark.parametrize("groups", [2, 3])
+def test_a_filter_in_blocks_still_finds_irreducible_sets(tmp_path, monkeypatch, groups):
+    # Large seeds are thinned in blocks (GROUP_FROM, GROUPS); forced on these small
+    # workbooks, every set reported must still be irreducible (HiGHS: infeasible, and
+    # feasible without any one member) and hold the limits the one-by-one filter names.
+    from blendkit.lp import diagnose as module
+
+    monkeypatch.setattr(module, "GROUP_FROM", 0)
+    monkeypatch.setattr(module, "GROUPS", groups)
+    blend = read_workbook(_stock_conflict(tmp_path))
+    diagnosis = diagnose(blend, build_lp(blend))
+    assert "stock" in {member.kind for member in diagnosis.conflicts[0].members}
+    check_irreducible(blend, diagnosis)
+    feeds = [row[:] for row in FEEDS]
+    specs = [["Nutrient", "Min", "Max"], ["Crude protein", 30, None], ["Phosphorus", None, 0.1]]
+    (tmp_path / "two").mkdir()
+    blend, diagnosis = diagnosis_of(tmp_path / "two", [HEADER, *feeds], specs)
+    assert len(diagnosis.conflicts) >= 2
+    check_irreducible(blend, diagnosis)

@@ -57,6 +57,9 @@ from blendkit.model.formula import ConflictLine
 # of 20 products took 24 minutes before these limits: each check is a phase one of seconds.)
 MOST_CONFLICTS = 8
 SEARCH_SECONDS = 10.0
+# A deletion filter over more than GROUP_FROM members tries them in GROUPS blocks first.
+GROUP_FROM = 40
+GROUPS = 8
 MOVES_SECONDS = 10.0
 
 
@@ -122,17 +125,28 @@ def _seed(lp: BlendLP, members: list[Member], active: np.ndarray) -> np.ndarray:
 def _deletion_filter(lp: BlendLP, members: list[Member], candidates: np.ndarray,
                      deadline: float) -> tuple[np.ndarray, bool]:
     """An irreducible infeasible subset of `candidates` (Chinneck & Dravnieks, 1991), and
-    True; or, once past `deadline`, the infeasible subset reached so far and False."""
+    True; or, once past `deadline`, the infeasible subset reached so far and False.
+
+    Members are tried for dropping in blocks: a block whose dropping leaves the rest
+    infeasible goes at once, one that does not is halved and its halves tried, down to
+    single members (a seed of hundreds of members of which a few dozen conflict, as on a
+    plant, is thinned in few checks). Seeds of up to GROUP_FROM members are tried one by
+    one, as blocks would only add checks when most members take part."""
     keep = candidates.copy()
     # Try to drop the members most likely to be incidental first: the sum-to-100 rows
     # and stocks last, so conflicts are told in specs and limits where possible.
     order = sorted(np.flatnonzero(candidates), key=lambda k: members[k].kind in ("total", "stock"))
-    for k in order:
+    size = 1 if len(order) <= GROUP_FROM else max(1, len(order) // GROUPS)
+    blocks = [order[start : start + size] for start in range(0, len(order), size)]
+    while blocks:
         if time.monotonic() > deadline:
             return keep, False
-        keep[k] = False
+        block = blocks.pop(0)
+        keep[block] = False
         if feasible(form_with(lp, members, keep)):
-            keep[k] = True
+            keep[block] = True
+            if len(block) > 1:  # some member of it takes part: try each half
+                blocks[:0] = [block[: len(block) // 2], block[len(block) // 2 :]]
     return keep, True
 
 
