@@ -79,20 +79,23 @@ class SimplexOutcome:
 
 def run_simplex(
     sf: StandardForm, tol: Tolerances, max_iterations: int, basis=None, allow_dual: bool = True,
-    ranging: bool = False,
+    ranging: bool = False, dual_only: bool = False,
 ) -> SimplexOutcome:
     """Solve the internal-form LP `sf`; see the module docstring.
 
     `basis` is an optional (head, at_upper) pair from an earlier outcome to start from;
     when it is primal feasible here, phase one is skipped. `allow_dual=False` keeps to the
-    two-phase primal method; `ranging=True` adds the cost and bound ranges to an optimal
-    outcome.
+    two-phase primal method; `dual_only=True` runs the dual simplex from `basis` and
+    nothing else (`_dual_only`); `ranging=True` adds the cost and bound ranges to an
+    optimal outcome.
     """
     state = SimplexState(sf, tol, max_iterations, short_run=basis is not None)
     crossed = _crossed_bounds(state)
     if crossed:
         return _stopped(state, "infeasible", f"{crossed} has a lower bound above its upper bound")
     try:
+        if dual_only:
+            return _dual_only(state, basis, ranging)
         warm = basis is not None and state.start_from(*basis)
         if not warm and allow_dual:
             outcome = _try_dual(state, basis, ranging)
@@ -133,6 +136,49 @@ def _try_dual(state: SimplexState, basis, ranging: bool) -> SimplexOutcome | Non
     if status != "optimal":
         return None
     return optimal_outcome(state, phase_one=0, warm=basis is not None, algorithm="dual", ranging=ranging)
+
+
+def _dual_only(state: SimplexState, basis, ranging: bool) -> SimplexOutcome:
+    """The dual simplex from `basis`, with no two-phase method after it: for a re-solve
+    after one bound moved (`lp.one_sided`), where a move past what the other limits allow
+    must not cost a phase one from scratch. It ends optimal, unbounded, infeasible only
+    when the pivot row it stopped on proves it (`_ray_farkas`), or in numerical trouble
+    (no dual feasible start at this basis, a stall, an unproven verdict)."""
+    if not start_dual(state, basis):
+        return _stopped(state, "numerical_trouble", "no dual feasible start at the given basis")
+    cost = np.concatenate([state.c_struct, np.zeros(state.m)])
+    status = run_dual(state, cost, perturb=True)
+    if status == "optimal" and not _dual_feasible(state):
+        status = run_primal(state, cost)
+    if status == "optimal":
+        return optimal_outcome(state, phase_one=0, warm=basis is not None, algorithm="dual", ranging=ranging)
+    if status == "unbounded":
+        return _unbounded(state, phase_one=0)
+    y = _ray_farkas(state) if status == "infeasible" else None
+    if y is None:
+        return _stopped(state, "numerical_trouble", f"the dual simplex alone ended {status}, unproven")
+    n, m = state.n, state.m
+    head = state.head
+    outside = np.maximum(state.lower[head] - state.z[head], state.z[head] - state.upper[head])
+    return SimplexOutcome(
+        status="infeasible", message="no point meets every constraint: the dual simplex's last pivot row proves it",
+        x=None, y=None, d=None, iterations=state.iterations, phase_one_iterations=0, farkas=y,
+        farkas_d=-np.asarray(state.A.T @ y).ravel(), farkas_at_upper=state.at_upper[: n + m].copy(),
+        infeasibility=float(outside.max(initial=0.0)), algorithm="dual",
+    )
+
+
+def _ray_farkas(state: SimplexState) -> np.ndarray | None:
+    """Row multipliers from the dual simplex's last pivot row rho = B^-T e_r, with the
+    sign that proves (Farkas, `certificate.proves_infeasible`) that no point meets every
+    row and bound of the scaled problem; None when neither sign does."""
+    n, m = state.n, state.m
+    form = StandardForm(c=state.c_struct, A=state.A, row_lower=state.lower[n : n + m], row_upper=state.upper[n : n + m],
+                        col_lower=state.lower[:n], col_upper=state.upper[:n])
+    for y in (state.rho, -state.rho):
+        if y is not None and proves_infeasible(form, y):
+            return y.copy()
+    return None
 
 
 def _dual_feasible(state: SimplexState) -> bool:

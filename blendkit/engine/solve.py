@@ -98,14 +98,17 @@ def solve_form(
     The general form behind `solve`, with ranged rows; MPS models come in this form.
     `row_marginals` of the result holds d(objective)/d(active row bound) for every row.
     `algorithm` is "auto" (the dual simplex when a dual feasible basis is at hand, else
-    the two-phase primal method) or "primal" (always the two-phase primal method).
+    the two-phase primal method), "primal" (always the two-phase primal method) or "dual"
+    (the dual simplex from `basis` alone, for a re-solve after a bound moved: never a
+    phase one; infeasible only with the Farkas proof of its last pivot row, numerical
+    trouble when it cannot finish).
     `ranging=True` adds `cost_ranges` to an optimal result: for each variable, the
     interval of its cost over which the optimal basis stays optimal; and `bound_ranges`:
     for each variable and then each row, how far its active bound may move down and up
     with the same basis, so that the marginals and reduced costs still hold.
     """
-    if algorithm not in ("auto", "primal"):
-        raise ValueError(f'algorithm must be "auto" or "primal", not {algorithm!r}')
+    if algorithm not in ("auto", "primal", "dual"):
+        raise ValueError(f'algorithm must be "auto", "primal" or "dual", not {algorithm!r}')
     refuse_not_finite(form)
     tol = tolerances or Tolerances()
     m, n = form.shape
@@ -117,7 +120,8 @@ def solve_form(
     if basis is not None and tuple(basis.shape) == (m, n):
         start = (basis.head, basis.at_upper)
     with one_blas_thread():
-        outcome = run_simplex(scaled, tol, max_iterations, basis=start, allow_dual=algorithm == "auto", ranging=ranging)
+        outcome = run_simplex(scaled, tol, max_iterations, basis=start, allow_dual=algorithm != "primal",
+                              ranging=ranging, dual_only=algorithm == "dual")
     result, trusted = checked_result(form, scaling, outcome, tol)
     if trusted and scale and result.status == "optimal" and result.residual > RESIDUAL_RETRY:
         # Near-dependent rows, loosened by the scaling: keep the more exact of the two.

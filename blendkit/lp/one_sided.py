@@ -9,7 +9,8 @@ in each bound, so it can change at different rates up and down. With the optimal
   degenerate basis) cannot move a min up or a max down with it, whatever its range says;
 - otherwise the LP is solved again with the bound raised by a small step (warm-started
   from the optimal basis, so a few dual simplex iterations), and the rate up is the new
-  basis's shadow price, which holds from the bound up to the next breakpoint;
+  basis's shadow price, which holds from the bound up to the next breakpoint (the dual
+  simplex alone: a move the other limits do not allow is proven infeasible, rate None);
 
 and the same downwards. Ratio and dry-matter bounds sit in the LP's coefficients, not in a
 right-hand side: their one-sided values are not computed (None).
@@ -62,7 +63,12 @@ def _rate(form, result, k, side, bound, direction, price, price_of) -> float | N
         if room > AT_BOUND * (1 + abs(bound)):
             return price
     step = ONE_SIDED_STEP * (1 + abs(bound))
-    moved = solve_form(_moved(form, k, side, bound + direction * step), basis=result.basis)
+    # The dual simplex alone: a move past what the other limits allow is infeasible, and
+    # its proof must not cost a phase one from scratch (minutes on a large plant).
+    moved_form = _moved(form, k, side, bound + direction * step)
+    moved = solve_form(moved_form, basis=result.basis, algorithm="dual")
+    if moved.status == "numerical_trouble":  # the dual simplex alone could not finish: the whole method
+        moved = solve_form(moved_form, basis=result.basis)
     if moved.status != "optimal":
         return None
     return float(price_of(moved))
