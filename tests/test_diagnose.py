@@ -352,6 +352,31 @@ def test_a_search_within_its_time_limits_is_not_cut_short(tmp_path):
     check_irreducible(blend, diagnosis)
 
 
+def test_with_one_set_found_no_single_move_is_the_workbook_still_infeasible_without_it(tmp_path, monkeypatch):
+    # The stock workbook holds two sets sharing the stock. With the search stopped after
+    # the first (as its time limit can), a member whose dropping leaves the other set is
+    # "no single move" — told from its fixes-alone check, not solved again. Reference:
+    # HiGHS on the workbook without that limit (infeasible exactly where no move is given).
+    from blendkit.lp import diagnose as module
+
+    monkeypatch.setattr(module, "_overlapping_conflicts", lambda lp, members, totals, found, deadline: (found, True))
+    blend = read_workbook(_stock_conflict(tmp_path))
+    diagnosis = diagnose(blend, build_lp(blend))
+    assert len(diagnosis.conflicts) == 1
+    lp = build_lp(blend)
+    members = members_of(blend, lp)
+    conflict = diagnosis.conflicts[0]
+    moves = []
+    for member, relax_to in zip(conflict.members, conflict.relax_to):
+        if member.kind == "total":
+            continue
+        without = np.ones(len(members), dtype=bool)
+        without[members.index(member)] = False
+        assert (relax_to is None) == (not feasible_in_highs(form_with(lp, members, without))), member.describe()
+        moves.append(relax_to)
+    assert None in moves and any(move is not None for move in moves)
+
+
 @pytest.mark.parametrize("groups", [2, 3])
 def test_a_filter_in_blocks_still_finds_irreducible_sets(tmp_path, monkeypatch, groups):
     # Large seeds are thinned in blocks (GROUP_FROM, GROUPS); forced on these small

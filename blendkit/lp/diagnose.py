@@ -248,9 +248,14 @@ def _with_moves(lp, members, totals, found, conflict, fixes, deadline: float) ->
     moves, worked_out = [], []
     for k in indices:
         done = fixes[int(k)] is not None and (totals[k] or time.monotonic() <= deadline)
-        active = ~others
-        active[k] = False
-        moves.append(outward(best_level(lp, members, active, members[k]), members[k].side) if done else None)
+        if done and not others.any() and fixes[int(k)] is False:
+            # The LP of this move is the one `fixes` found infeasible (no other set is
+            # set aside): no move of this bound alone is enough, without solving it again.
+            moves.append(None)
+        else:
+            active = ~others
+            active[k] = False
+            moves.append(outward(best_level(lp, members, active, members[k]), members[k].side) if done else None)
         worked_out.append(bool(done))
     fixes_alone = tuple(bool(fixes[int(k)]) and done for k, done in zip(indices, worked_out))
     return Conflict(tuple(members[k] for k in indices), tuple(moves), fixes_alone, tuple(worked_out))
