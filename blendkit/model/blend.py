@@ -236,6 +236,20 @@ class Blend:
         """Ingredients by name, built once: writers look them up per line."""
         return {item.name: item for item in self.ingredients}
 
+    def stepped_specs(self, nutrient: str) -> tuple[Spec, ...]:
+        """The spec rows on `nutrient` that give a Step, in sheet order."""
+        return self._stepped.get(nutrient, ())
+
+    @cached_property
+    def _stepped(self) -> dict[str, tuple[Spec, ...]]:
+        """Spec rows with a Step by nutrient, built once: every limit of every product
+        asks (a set of 200 formulas scanned 5,400 spec rows for each of 35,000 limits)."""
+        found: dict[str, list[Spec]] = {}
+        for spec in self.specs:
+            if spec.step:
+                found.setdefault(spec.nutrient, []).append(spec)
+        return {name: tuple(rows) for name, rows in found.items()}
+
 
 # --- The output sheets: blendkit's own, and a user's sheet of the same name --------------------
 

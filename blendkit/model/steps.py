@@ -66,9 +66,8 @@ def spec_step(blend: Blend, limit: Limit) -> float | None:
     before a row for every product)."""
     if limit.kind not in ("nutrient", "ratio"):
         return None
-    rows = [spec for spec in blend.specs if spec.nutrient == limit.name and spec.step
-            and (limit.kind == "ratio" or spec.basis == limit.basis)
-            and spec.product in (limit.product, None)]
+    rows = [spec for spec in blend.stepped_specs(limit.name)
+            if (limit.kind == "ratio" or spec.basis == limit.basis) and spec.product in (limit.product, None)]
     rows.sort(key=lambda spec: spec.product is None)
     return rows[0].step if rows else None
 
