@@ -51,20 +51,23 @@ def direction_ranges(lp: BlendLP, result: LPResult, directions: np.ndarray,
     """`direction_range` for each row of `directions`, from one factorisation of the basis
     and one solve for all of them (a plant's basis has thousands of rows: a dense solve
     per ingredient took seconds each)."""
-    M, c = _full_form(lp, costs)
+    A = lp.form.A.toarray() if hasattr(lp.form.A, "toarray") else np.asarray(lp.form.A, dtype=float)
+    m, n = A.shape
+    c = np.concatenate([lp.form.c if costs is None else costs, np.zeros(m)])  # the row activities cost nothing
     head = np.asarray(result.basis.head)
-    outside = np.ones(M.shape[1], dtype=bool)
+    outside = np.ones(n + m, dtype=bool)
     outside[head] = False
     nonbasic = np.flatnonzero(outside)  # not np.setdiff1d: its np.unique imports numpy.ma (15 ms)
     at_upper, fixed = np.asarray(result.basis.at_upper)[nonbasic], _fixed(lp, nonbasic)
-    solve_transposed = _transposed_solver(M[:, head])
+    solve_transposed = _transposed_solver(_basis_matrix(A, head))
     ranges = []
     for start in range(0, directions.shape[0], RANGES_AT_ONCE):  # a bounded block of directions at a time
         block = directions[start : start + RANGES_AT_ONCE]
-        part = np.zeros((M.shape[1], block.shape[0] + 1))  # the costs, then the block's directions
+        part = np.zeros((n + m, block.shape[0] + 1))  # the costs, then the block's directions
         part[:, 0] = c
         part[: directions.shape[1], 1:] = block.T
-        changes = part - M.T @ solve_transposed(part[head])
+        y = solve_transposed(part[head])
+        changes = part - np.vstack([A.T @ y, -y])  # M^T y for M = [A, -I], without forming M
         reduced = changes[nonbasic, 0]
         ranges += [_interval(reduced, changes[nonbasic, k], at_upper, fixed) for k in range(1, part.shape[1])]
     return ranges
@@ -79,12 +82,16 @@ def _transposed_solver(B: np.ndarray):
     return lambda rhs: lapack.dgetrs(lu, piv, rhs, trans=1)[0]
 
 
-def _full_form(lp: BlendLP, costs: np.ndarray | None = None) -> tuple[np.ndarray, np.ndarray]:
-    """M = [A, -I] and the costs of x (`costs`, or the LP's) and of the row activities (0)."""
-    form = lp.form
-    A = form.A.toarray() if hasattr(form.A, "toarray") else np.asarray(form.A, dtype=float)
-    m = A.shape[0]
-    return np.hstack([A, -np.eye(m)]), np.concatenate([form.c if costs is None else costs, np.zeros(m)])
+def _basis_matrix(A: np.ndarray, head: np.ndarray) -> np.ndarray:
+    """The basis columns of M = [A, -I]: column k of A for a structural in the head, -e_i
+    for the activity of row i (M itself, twice the size of A, is never formed)."""
+    m, n = A.shape
+    B = np.zeros((m, head.size))
+    structural = head < n
+    B[:, structural] = A[:, head[structural]]
+    logical = np.flatnonzero(~structural)
+    B[head[logical] - n, logical] = -1.0
+    return B
 
 
 def _direction(lp: BlendLP, j: int, size: int) -> np.ndarray:
