@@ -125,17 +125,24 @@ def _try_dual(state: SimplexState, basis, ranging: bool) -> SimplexOutcome | Non
     """
     if not start_dual(state, basis):
         return None
+    status = _dual_run(state)
+    if status == "unbounded":
+        return _unbounded(state, phase_one=0)
+    if status != "optimal":
+        return None
+    return optimal_outcome(state, phase_one=0, warm=basis is not None, algorithm="dual", ranging=ranging)
+
+
+def _dual_run(state: SimplexState) -> str:
+    """The dual simplex's iterations from the dual feasible start set up, with the true
+    costs; the status of `run_dual`, or of the primal pass after it."""
     cost = np.concatenate([state.c_struct, np.zeros(state.m)])
     status = run_dual(state, cost, perturb=True)  # ends with the true costs' duals
     if status == "optimal" and not _dual_feasible(state):
         # A primal pass from this primal feasible basis removes the dual
         # infeasibility left by the perturbation and by rounding.
         status = run_primal(state, cost)
-    if status == "unbounded":
-        return _unbounded(state, phase_one=0)
-    if status != "optimal":
-        return None
-    return optimal_outcome(state, phase_one=0, warm=basis is not None, algorithm="dual", ranging=ranging)
+    return status
 
 
 def _dual_only(state: SimplexState, basis, ranging: bool) -> SimplexOutcome:
@@ -146,10 +153,7 @@ def _dual_only(state: SimplexState, basis, ranging: bool) -> SimplexOutcome:
     (no dual feasible start at this basis, a stall, an unproven verdict)."""
     if not start_dual(state, basis):
         return _stopped(state, "numerical_trouble", "no dual feasible start at the given basis")
-    cost = np.concatenate([state.c_struct, np.zeros(state.m)])
-    status = run_dual(state, cost, perturb=True)
-    if status == "optimal" and not _dual_feasible(state):
-        status = run_primal(state, cost)
+    status = _dual_run(state)
     if status == "optimal":
         return optimal_outcome(state, phase_one=0, warm=basis is not None, algorithm="dual", ranging=ranging)
     if status == "unbounded":
