@@ -15,9 +15,9 @@ from dataclasses import dataclass
 
 import numpy as np
 
-from blendkit.engine.sparse import is_sparse, sparse
+from blendkit.engine.sparse import held_sparse, is_sparse, sparse
 from blendkit.engine.standard_form import StandardForm
-from blendkit.engine.tolerances import GEOMETRIC_PASSES, SPARSE_DENSITY, SPARSE_ROWS
+from blendkit.engine.tolerances import GEOMETRIC_PASSES
 
 
 @dataclass(frozen=True)
@@ -99,10 +99,10 @@ def find_scaling(A) -> Scaling:
 
 
 def _mostly_zeros(A: np.ndarray) -> bool:
-    """True for a dense A the engine will hold sparse (SPARSE_ROWS, SPARSE_DENSITY): its
-    non-zeros alone are scaled, as a sparse A's are (a 40-product plant built dense has
-    ten million entries, nine in ten of them zero)."""
-    return A.shape[0] >= SPARSE_ROWS and np.count_nonzero(A) <= SPARSE_DENSITY * A.size
+    """True for a dense A the engine will hold sparse (`sparse.held_sparse`): its non-zeros
+    alone are scaled, as a sparse A's are (a 40-product plant built dense has ten million
+    entries, nine in ten of them zero)."""
+    return held_sparse(*A.shape, int(np.count_nonzero(A)))
 
 
 def scale_form(form: StandardForm, scaling: Scaling) -> StandardForm:

@@ -23,7 +23,7 @@ import numpy as np
 
 from blendkit.engine.basis_factor import BasisFactor, InverseBasisFactor, SingularBasis, SparseBasisFactor
 from blendkit.engine.row_product import RowProduct, gather
-from blendkit.engine.sparse import is_sparse, sparse
+from blendkit.engine.sparse import held_sparse, is_sparse, sparse
 from blendkit.engine.standard_form import StandardForm
 from blendkit.engine.tolerances import (
     DENSE_REFACTOR_MAX,
@@ -32,9 +32,7 @@ from blendkit.engine.tolerances import (
     INVERSE_REFACTOR_EVERY,
     INVERSE_ROWS,
     PIVOT_AGREEMENT,
-    SPARSE_DENSITY,
     SPARSE_REFACTOR_EVERY,
-    SPARSE_ROWS,
     Tolerances,
 )
 
@@ -66,8 +64,7 @@ class SimplexState:
         self.iterations = 0
         self.y = self.d = self.ray = self.rho = None
         nonzeros = self.A.nnz if is_sparse(self.A) else np.count_nonzero(self.A)
-        density = nonzeros / max(1, self.m * self.n)
-        self.sparse = self.m >= SPARSE_ROWS and density <= SPARSE_DENSITY
+        self.sparse = held_sparse(self.m, self.n, nonzeros)
         if self.sparse:
             self.factor = SparseBasisFactor(refactor_every=SPARSE_REFACTOR_EVERY)
             sp = sparse()

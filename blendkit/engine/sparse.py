@@ -12,12 +12,20 @@ from __future__ import annotations
 import sys
 from types import ModuleType
 
+from blendkit.engine.tolerances import SPARSE_DENSITY, SPARSE_ROWS
+
 
 def is_sparse(A) -> bool:
     """True when A is a scipy.sparse matrix or array (scipy.sparse.issparse), without
     importing scipy."""
     module = sys.modules.get("scipy.sparse")
     return module is not None and module.issparse(A)
+
+
+def held_sparse(rows: int, columns: int, nonzeros: int) -> bool:
+    """True for a problem the engine holds sparse: at least SPARSE_ROWS rows and at most
+    SPARSE_DENSITY of its matrix non-zero (a plant; blends and the NETLIB set stay dense)."""
+    return rows >= SPARSE_ROWS and nonzeros <= SPARSE_DENSITY * max(1, rows * columns)
 
 
 def sparse() -> ModuleType:
