@@ -126,3 +126,19 @@ def test_a_plant_given_dense_is_scaled_as_given_sparse_and_solved_as_highs_solve
     np.testing.assert_array_equal(from_dense.rows, from_sparse.rows)
     np.testing.assert_array_equal(from_dense.cols, from_sparse.cols)
     assert_matches_linprog(dense, rows_tol=1e-6)
+
+
+@pytest.mark.long
+def test_a_plant_with_long_degenerate_stretches_is_finished_by_the_dual_simplex_alone():
+    # Reference: linprog(method="highs") on the same plant LP. This 40 x 80 x 40 plant
+    # (3,320 rows) takes up to 498 perturbed dual steps in a row that move its objective
+    # by less than the progress tolerance; with a stall limit that did not grow with the
+    # rows, the dual simplex handed over to the two-phase primal method from scratch after
+    # 2,672 iterations (11,881 in all). Now the dual simplex finishes it, without phase one.
+    from blendkit.engine import solve
+
+    plant = make_plant(40, 80, 40, 0)
+    ours = solve(plant.c, plant.A_ub, plant.b_ub, plant.A_eq, plant.b_eq, plant.bounds)
+    assert ours.algorithm == "dual" and ours.phase_one_iterations == 0
+    assert ours.iterations < 9000
+    assert_matches_linprog(plant, rows_tol=1e-6)

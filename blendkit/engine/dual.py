@@ -107,7 +107,7 @@ class _DualRun:
         # Devex reference weights on small ones (see `pricing`).
         self.steepest = state.m >= STEEPEST_EDGE_ROWS
         self.primal_tol, self.dual_tol, self.pivot_tol = tol.primal_feasibility, tol.dual_feasibility, tol.pivot
-        self.stall = StallWatch(float(cost @ state.z))
+        self.stall = StallWatch(float(cost @ state.z), rows=state.m)
         self.load_positions()
 
     def run(self) -> str:

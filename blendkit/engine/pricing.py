@@ -101,10 +101,11 @@ class StallWatch:
 
     __slots__ = ("objective", "count", "limit")
 
-    def __init__(self, objective: float):
+    def __init__(self, objective: float, rows: int = 0):
         self.objective = objective
         self.count = 0
-        self.limit = tolerances.STALL_LIMIT  # read per run, not at import: a test lowers it
+        # Read per run, not at import: a test lowers it. `rows` (the dual simplex's) widens it.
+        self.limit = tolerances.STALL_LIMIT * max(1.0, rows / tolerances.DUAL_STALL_ROWS)
 
     def record(self, change: float) -> bool:
         """Add one iteration's change of the objective; True while the run is stalled

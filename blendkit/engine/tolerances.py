@@ -97,6 +97,13 @@ PROGRESS = 1e-12
 # it waits for a long stall: on the NETLIB set a limit of 30 cost four times the iterations
 # of a limit of 200. (The simplex reads it at the start of each run, so a test may lower it.)
 STALL_LIMIT = 250
+# The dual simplex's stall limit grows with the rows beyond this many: STALL_LIMIT x
+# rows / DUAL_STALL_ROWS. Its perturbed steps on a plant move a large objective by less
+# than PROGRESS, so they count as degenerate: 40- and 60-product plants (3,320 and 3,720
+# rows) took up to 498 such steps in a row and still finished, and at a limit of 250 a
+# 40 x 80 x 40 plant handed over to the primal method from scratch after 2,672
+# iterations (11,881 in all, 7.6 s; 7,043 and 4.9 s with the limit grown).
+DUAL_STALL_ROWS = 500
 # After this many degenerate iterations in a row the dual simplex perturbs the nonbasic
 # costs by about PERTURBATION_BASE, relative to 1 + |cost| (1-2 times it; see
 # `perturbation`), so that degenerate ties are rare. Perturbing from the start cost the
