@@ -57,7 +57,8 @@ def start_dual(state: SimplexState, basis=None) -> bool:
     return True
 
 
-def run_dual(state: SimplexState, cost: np.ndarray, perturb: bool = False, d: np.ndarray | None = None) -> str:
+def run_dual(state: SimplexState, cost: np.ndarray, perturb: bool = False, d: np.ndarray | None = None,
+             refactor_at_end: bool = True) -> str:
     """Dual simplex iterations until primal feasible ("optimal"), or a reason to stop.
 
     Returns "optimal", "infeasible" (no entering variable: the dual is unbounded),
@@ -67,10 +68,12 @@ def run_dual(state: SimplexState, cost: np.ndarray, perturb: bool = False, d: np
     afresh from the final basis), so `state.d` and `state.y` are always those of `cost`
     and the final factors (a run ends on fresh factors: `confirm_feasible`). `d`: the
     reduced costs of `cost` at this basis when the caller holds them fresh (a re-solve),
-    else they are computed here.
+    else they are computed here. Without `refactor_at_end` (a re-solve, which checks its
+    answer in original units and solves afresh when it fails) the run ends on the factors
+    it holds, updates and all, the values and duals recomputed from them.
     """
     with np.errstate(divide="ignore", invalid="ignore", over="ignore"):  # infinite bounds
-        run = _DualRun(state, cost, perturb, d)
+        run = _DualRun(state, cost, perturb, d, refactor_at_end)
         status = run.run()
         if status == "optimal" and run.cost is not cost:
             state.d = state.fresh_duals(cost)  # the true costs back (see `perturbation`)
@@ -86,10 +89,14 @@ class _DualRun:
     """
 
     __slots__ = ("state", "cost", "d", "rise", "fall", "way", "back", "two_way", "span", "weights",
-                 "primal_tol", "dual_tol", "pivot_tol", "stall", "xb", "lb", "ub", "slack", "perturb", "steepest")
+                 "primal_tol", "dual_tol", "pivot_tol", "stall", "xb", "lb", "ub", "slack", "perturb", "steepest",
+                 "refactor_at_end", "first_iteration")
 
-    def __init__(self, state: SimplexState, cost: np.ndarray, perturb: bool = False, d: np.ndarray | None = None):
+    def __init__(self, state: SimplexState, cost: np.ndarray, perturb: bool = False, d: np.ndarray | None = None,
+                 refactor_at_end: bool = True):
         tol = state.tol
+        self.refactor_at_end = refactor_at_end
+        self.first_iteration = state.iterations  # none made since: the values are as given
         self.state = state
         self.cost = cost
         self.perturb = perturb  # still allowed to perturb the costs (once)
@@ -185,11 +192,19 @@ class _DualRun:
 
     def confirm_feasible(self) -> bool:
         """True when every basic value is within its bounds on a fresh factorisation
-        (refactorising first when updates are pending); the values end in the state."""
-        if not self.state.factor.updates:
+        (refactorising first when updates are pending), or without `refactor_at_end` on
+        the values and duals recomputed from the factors held; the values end in the state."""
+        state = self.state
+        if not state.factor.updates or (not self.refactor_at_end and state.iterations == self.first_iteration):
             self.store_positions()
             return True
-        self.refresh()
+        if self.refactor_at_end:
+            self.refresh()
+        else:  # the refresh without the factorisation: its LU costs a short re-solve most
+            self.store_positions()
+            state.basic_values()
+            self.d = state.fresh_duals(self.cost)
+            self.load_positions()
         return not np.any(np.maximum(self.lb - self.xb, self.xb - self.ub) > self.slack)
 
     # ----- one iteration ------------------------------------------------------------

@@ -16,25 +16,32 @@ from blendkit.engine.ratio_test import negligible, primal_ratio_test
 from blendkit.engine.simplex_state import SimplexState, pivots_disagree
 
 
-def run_primal(state: SimplexState, cost: np.ndarray, d: np.ndarray | None = None) -> str:
+def run_primal(state: SimplexState, cost: np.ndarray, d: np.ndarray | None = None,
+               refactor_at_end: bool = True) -> str:
     """Iterate with objective `cost` until optimal, unbounded or out of iterations.
 
     Returns "optimal" (`state.d` then holds the reduced costs), "unbounded" (`state.ray`
     holds the direction) or "iteration_limit". `d`: the reduced costs of `cost` at this
     basis when the caller has just computed them afresh, else they are computed here.
+    Without `refactor_at_end` (a re-solve, as in `dual.run_dual`) the run ends on the
+    factors it holds, the values and reduced costs recomputed from them.
     """
     with np.errstate(divide="ignore", invalid="ignore", over="ignore"):  # infinite bounds
-        return _PrimalRun(state, cost, d).run()
+        return _PrimalRun(state, cost, d, refactor_at_end).run()
 
 
 class _PrimalRun:
     """One run of primal iterations: the reduced costs, Devex weights and each
     variable's freedom to rise or fall (1.0 / 0.0), kept up to date between iterations."""
 
-    __slots__ = ("state", "cost", "d", "stall", "weights", "rise", "fall", "bland")
+    __slots__ = ("state", "cost", "d", "stall", "weights", "rise", "fall", "bland", "refactor_at_end",
+                 "first_iteration")
 
-    def __init__(self, state: SimplexState, cost: np.ndarray, d: np.ndarray | None = None):
+    def __init__(self, state: SimplexState, cost: np.ndarray, d: np.ndarray | None = None,
+                 refactor_at_end: bool = True):
         self.state = state
+        self.refactor_at_end = refactor_at_end
+        self.first_iteration = state.iterations  # none made since: d is as given
         self.cost = cost
         state.ray = None
         self.d = state.fresh_duals(cost) if d is None else d.copy()
@@ -88,11 +95,18 @@ class _PrimalRun:
 
     def confirm_optimal(self) -> bool:
         """True when no reduced cost asks a variable to move on a fresh factorisation
-        (refactorising first when updates are pending)."""
+        (refactorising first when updates are pending), or without `refactor_at_end` on
+        the values and reduced costs recomputed from the factors held."""
         state = self.state
         if not state.factor.updates:
             return True
-        self.d = state.refresh(self.cost)
+        if self.refactor_at_end:
+            self.d = state.refresh(self.cost)
+        elif state.iterations == self.first_iteration:
+            return True
+        else:
+            state.basic_values()
+            self.d = state.fresh_duals(self.cost)
         return prices_out(self.d, self.rise, self.fall, state.tol.dual_feasibility)
 
     def ray(self, q: int, direction: float, delta: np.ndarray) -> np.ndarray:

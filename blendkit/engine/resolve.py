@@ -222,12 +222,13 @@ def _iterate(state: SimplexState, cost: np.ndarray, moved: bool, repriced: bool)
     if not moved or _primal_feasible(state):
         if _dual_feasible(state):
             return "optimal", "primal"
-        return run_primal(state, cost, d=state.d), "primal"
+        return run_primal(state, cost, d=state.d, refactor_at_end=False), "primal"
     if not _place_for_dual(state):
         return "no_start", ""
-    status = run_dual(state, cost, perturb=True, d=state.d)  # ends with the true costs' duals
+    status = run_dual(state, cost, perturb=True, d=state.d, refactor_at_end=False)  # the true costs' duals
     if status == "optimal" and not _dual_feasible(state):
-        status = run_primal(state, cost, d=state.d)  # rounding or the perturbation left a reduced cost astray
+        # rounding or the perturbation left a reduced cost astray
+        status = run_primal(state, cost, d=state.d, refactor_at_end=False)
     return status, "dual"
 
 
