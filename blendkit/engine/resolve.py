@@ -34,7 +34,7 @@ from blendkit.engine.result import Basis, LPResult
 from blendkit.engine.scaling import Scaling, find_scaling, scale_form
 from blendkit.engine.simplex import optimal_outcome
 from blendkit.engine.simplex_state import SimplexState
-from blendkit.engine.solve import checked_result, one_blas_thread, solve_form
+from blendkit.engine.solve import blas_threads_idle, checked_result, one_blas_thread, solve_form
 from blendkit.engine.standard_form import StandardForm, to_standard_form
 from blendkit.engine.tolerances import ITERATION_LIMIT_MIN, ITERATION_LIMIT_PER_LINE, Tolerances
 
@@ -142,7 +142,9 @@ class Resolver:
         """The LP as it stands, from the basis held when there is one; see the module
         docstring. `ranging` adds the cost and bound ranges, as in `solve_form`."""
         result = None
-        if self._state is not None:
+        if self._state is not None and not ranging and not self._state.sparse and blas_threads_idle(*self._form.shape):
+            result = self._warm(ranging)  # no BLAS call this small uses threads: no need to hold them
+        elif self._state is not None:
             with one_blas_thread():
                 result = self._warm(ranging)
         if result is None:
@@ -169,17 +171,21 @@ class Resolver:
             if state.start_from(basis.head, basis.at_upper):
                 self._state = state
                 self._cost = np.concatenate([state.c_struct, np.zeros(state.m)])
+                self._bounds = _Bounds(state)
+                state.d = state.fresh_duals(self._cost)  # a re-solve then starts with them
 
     def _warm(self, ranging: bool) -> LPResult | None:
         """The re-solve from the basis held, or None to solve from scratch."""
         state, moved = self._state, self._moved
         self._load()
-        if moved and (state.lower > state.upper).any():
-            return None
+        if moved:
+            if (state.lower > state.upper).any():
+                return None
+            self._bounds = _Bounds(state)
         state.iterations = 0
         state.max_iterations = self._max_iterations
         try:
-            status, algorithm = _iterate(state, self._cost, moved, self._repriced or state.d is None)
+            status, algorithm = _iterate(state, self._bounds, self._cost, moved, self._repriced or state.d is None)
         except SingularBasis:
             status, algorithm = "numerical_trouble", ""
         if status != "optimal":
@@ -206,62 +212,84 @@ class Resolver:
             np.multiply(form.row_upper, rows, out=state.upper[n:])
 
 
-def _iterate(state: SimplexState, cost: np.ndarray, moved: bool, repriced: bool) -> tuple[str, str]:
+class _Bounds:
+    """What the checks of a re-solve read of the state's bounds, found once per change of
+    them rather than at every check: which variables are not fixed (`movable`), which are
+    free (`free`, indices), and each bound relaxed by the primal feasibility tolerance
+    (`low`, `high`: outside them a value breaks its bound, as in `SimplexState.start_from`)."""
+
+    __slots__ = ("movable", "free", "low", "high")
+
+    def __init__(self, state: SimplexState):
+        lower, upper, tp = state.lower, state.upper, state.tol.primal_feasibility
+        self.movable = lower != upper
+        self.free = ((lower == -np.inf) & (upper == np.inf)).nonzero()[0]
+        self.low = lower - tp * (1 + np.abs(lower))
+        self.high = upper + tp * (1 + np.abs(upper))
+
+
+def _iterate(state: SimplexState, bounds: _Bounds, cost: np.ndarray, moved: bool, repriced: bool) -> tuple[str, str]:
     """(status, algorithm) of the iterations from the basis held: none when it is still
     optimal, the primal simplex when it is primal feasible, else the dual simplex when the
     boxed nonbasics can be placed so that it is dual feasible ("no_start" when not).
 
     The state ended its last solve optimal, with fresh values and reduced costs: only a
     move of bounds (`moved`) needs the values again, only new costs (`repriced`) the duals.
+    Both runs end on the factors they hold (`run_dual`'s `refactor_at_end`): the residual
+    check in original units, and a solve from scratch when it fails, guard the answer.
     """
     if moved:
         state.place_nonbasics(state.at_upper)
         state.basic_values()
     if repriced:
         state.d = state.fresh_duals(cost)
-    if not moved or _primal_feasible(state):
-        if _dual_feasible(state):
+    if not moved or _primal_feasible(state, bounds):
+        if not _asks(state, bounds).any():
             return "optimal", "primal"
         return run_primal(state, cost, d=state.d, refactor_at_end=False), "primal"
-    if not _place_for_dual(state):
+    if not _place_for_dual(state, bounds):
         return "no_start", ""
     status = run_dual(state, cost, perturb=True, d=state.d, refactor_at_end=False)  # the true costs' duals
-    if status == "optimal" and not _dual_feasible(state):
+    if status == "optimal" and _asks(state, bounds).any():
         # rounding or the perturbation left a reduced cost astray
         status = run_primal(state, cost, d=state.d, refactor_at_end=False)
     return status, "dual"
 
 
-def _primal_feasible(state: SimplexState) -> bool:
+def _primal_feasible(state: SimplexState, bounds: _Bounds) -> bool:
     """True when every basic value lies within its bounds (primal feasibility tolerance, as
     in `SimplexState.start_from`)."""
-    tp, head = state.tol.primal_feasibility, state.head
-    xb, lb, ub = state.z[head], state.lower[head], state.upper[head]
-    return not ((lb - xb > tp * (1 + np.abs(lb))) | (xb - ub > tp * (1 + np.abs(ub)))).any()
+    head = state.head
+    xb = state.z[head]
+    return not ((xb < bounds.low[head]) | (xb > bounds.high[head])).any()
 
 
-def _dual_feasible(state: SimplexState) -> bool:
-    """True when no nonbasic variable's reduced cost (`state.d`) asks it to move: one at its
-    lower bound with d < 0, at its upper bound with d > 0, free with d != 0 (beyond the
-    dual feasibility tolerance); basic and fixed variables never ask (`pricing.prices_out`)."""
-    d, td, lower, upper = state.d, state.tol.dual_feasibility, state.lower, state.upper
+def _asks(state: SimplexState, bounds: _Bounds) -> np.ndarray:
+    """Where a nonbasic variable's reduced cost (`state.d`) asks it to move: at its lower
+    bound with d < 0, at its upper bound with d > 0, free with d != 0 (beyond the dual
+    feasibility tolerance); basic and fixed variables never ask (`pricing.prices_out`).
+    None ask when the basis is dual feasible."""
+    d, td = state.d, state.tol.dual_feasibility
     asks = np.where(state.at_upper, d > td, d < -td)
-    free = (lower == -np.inf) & (upper == np.inf)
-    if free.any():
-        asks |= free & (np.abs(d) > td)
-    return not (asks & ~state.basic & (lower != upper)).any()
+    free = bounds.free
+    if free.size:
+        asks[free] = np.abs(d[free]) > td
+    asks &= bounds.movable
+    asks[state.head] = False
+    return asks
 
 
-def _place_for_dual(state: SimplexState) -> bool:
+def _place_for_dual(state: SimplexState, bounds: _Bounds) -> bool:
     """Put each boxed nonbasic at the bound its reduced cost favours and recompute the basic
     values; True when the basis is then dual feasible (as in `dual.start_dual`). The
-    nonbasics were just placed by `at_upper`: when no bound changes, nothing is redone."""
-    td, d = state.tol.dual_feasibility, state.d
-    at_upper = np.where(d < -td, True, np.where(d > td, False, state.at_upper))
-    if np.array_equal(at_upper, state.at_upper):
-        return _dual_feasible(state)
-    state.place_nonbasics(at_upper)
-    if not _dual_feasible(state):
+    nonbasics were just placed by `at_upper`: when none asks to move, nothing is redone."""
+    asks = _asks(state, bounds)
+    if not asks.any():
+        return True
+    if bounds.free.size and asks[bounds.free].any():
+        return False  # a free variable sits at zero whatever its reduced cost
+    state.place_nonbasics(state.at_upper ^ asks)  # a bound it asks for may be infinite: checked next
+    if _asks(state, bounds).any():
         return False
     state.basic_values()
     return True

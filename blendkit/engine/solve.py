@@ -52,6 +52,22 @@ class one_blas_thread:  # noqa: N801 - used as a function: `with one_blas_thread
                 lib.set_num_threads(threads)
 
 
+# OpenBLAS runs an operation on a matrix this small in the calling thread whatever its
+# thread count: each BLAS and LAPACK call a dense re-solve makes (LU and its solves, the
+# matrix-vector products with B^-1 and M, the inverse's rank-one update) took the same
+# time with one thread and with two up to an 80 x 230 M on the 2-core development
+# machine (load 0.4; at 120 x 420 the rank-one update took 7 times longer with two).
+# A re-solve of a problem within both limits skips `one_blas_thread`.
+ONE_THREAD_ROWS = 64
+ONE_THREAD_ENTRIES = 16_384
+
+
+def blas_threads_idle(m: int, n: int) -> bool:
+    """True when BLAS stays in one thread on a problem of m rows and n columns anyway (held
+    dense: m rows of M = [A, -I]), so that a re-solve need not hold it to one."""
+    return m <= ONE_THREAD_ROWS and m * (n + m) <= ONE_THREAD_ENTRIES
+
+
 def solve(
     c,
     A_ub=None,
