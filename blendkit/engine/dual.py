@@ -132,8 +132,9 @@ class _DualRun:
                     state.d = self.d
                     return "optimal"
                 continue
-            rises = xb[r] < lb[r]  # the leaving variable moves up to its lower bound
-            target = lb[r] if rises else ub[r]
+            value, low = xb.item(r), lb.item(r)
+            rises = value < low  # the leaving variable moves up to its lower bound
+            target = low if rises else ub.item(r)
             row = state.pivot_row(r)
             choice = self.entering(r, rises, target, row)
             if choice is None:
@@ -170,7 +171,12 @@ class _DualRun:
         head = state.head
         self.lb, self.ub = state.lower[head], state.upper[head]
         self.slack = self.primal_tol * (1 + np.minimum(np.abs(self.lb), np.abs(self.ub)))
-        self.xb = state.z[head].copy()
+        self.xb = state.z[head]  # a copy: indexed by an array
+
+    def reload_values(self) -> None:
+        """The basic values alone, after a refresh: the basis, hence the bounds and slack by
+        position, stayed as they were."""
+        self.xb = self.state.z[self.state.head]
 
     def store_positions(self) -> None:
         """Write the basic values back into the state's z."""
@@ -180,7 +186,7 @@ class _DualRun:
         """`SimplexState.refresh`, with the position arrays written back and reloaded."""
         self.store_positions()
         self.d = self.state.refresh(self.cost)
-        self.load_positions()
+        self.reload_values()
 
     def perturb_costs(self) -> None:
         """Go on with perturbed costs (once): the reduced costs move away from zero, in
@@ -204,15 +210,15 @@ class _DualRun:
             self.store_positions()
             state.basic_values()
             self.d = state.fresh_duals(self.cost)
-            self.load_positions()
-        return not np.any(np.maximum(self.lb - self.xb, self.xb - self.ub) > self.slack)
+            self.reload_values()
+        return not (np.maximum(self.lb - self.xb, self.xb - self.ub) > self.slack).any()
 
     # ----- one iteration ------------------------------------------------------------
 
     def entering(self, r: int, rises: bool, target: float, row: np.ndarray):
         """(q, flipped) from the dual ratio test over pivot row `row`, or None when no
         variable can enter (the problem is infeasible)."""
-        smallest = self.pivot_tol * max(1.0, row.max(initial=0.0), -row.min(initial=0.0))
+        smallest = self.pivot_tol * max(1.0, np.maximum.reduce(np.abs(row)))  # the row is never empty
         d = self.d
         if self.two_way:
             # Change of the leaving variable per unit rise of each nonbasic variable.
@@ -231,7 +237,7 @@ class _DualRun:
             size = signed[order]
         if not order.size:
             return None
-        infeasible_by = abs(self.xb[r] - target)
+        infeasible_by = abs(self.xb.item(r) - target)
         return dual_ratio_test(order, room, size, self.span, infeasible_by, self.dual_tol)
 
     def solve_columns(self, q: int, flipped: np.ndarray):
@@ -278,25 +284,26 @@ class _DualRun:
         state, xb, d, rise, fall, way, back = self.state, self.xb, self.d, self.rise, self.fall, self.way, self.back
         head, lb, ub = state.head, self.lb, self.ub
         p = int(head[r])
-        pivot = alpha[r]
-        step = (xb[r] - target) / pivot  # how far q moves
+        pivot = alpha.item(r)  # Python floats: the same arithmetic, without numpy's scalars
+        step = (xb.item(r) - target) / pivot  # how far q moves
         xb -= step * alpha
-        xb[r] = state.z[q] + step  # q takes p's position
+        xb[r] = state.z.item(q) + step  # q takes p's position
         state.z[p] = target
-        theta_d = d[q] / row[q]
+        theta_d = d.item(q) / row.item(q)
         d -= theta_d * row
         d[q] = 0.0
         state.at_upper[p] = not rises
         state.basic[p] = False
         state.basic[q] = True
         head[r] = q
-        lb[r], ub[r] = state.lower[q], state.upper[q]
-        self.slack[r] = self.primal_tol * (1 + min(abs(lb[r]), abs(ub[r])))
-        movable = self.span[p] != 0
+        low, high = state.lower.item(q), state.upper.item(q)
+        lb[r], ub[r] = low, high
+        self.slack[r] = self.primal_tol * (1 + min(abs(low), abs(high)))
+        movable = self.span.item(p) != 0
         rise[p] = movable and rises
         fall[p] = movable and not rises
         rise[q] = fall[q] = False
-        way[p] = (1.0 if rises else -1.0) if movable else 0.0
-        back[p] = -way[p]
+        way_p = (1.0 if rises else -1.0) if movable else 0.0
+        way[p], back[p] = way_p, -way_p
         way[q] = back[q] = 0.0
         return abs(theta_d * step * pivot)

@@ -86,10 +86,10 @@ def dual_ratio_test(order: np.ndarray, room: np.ndarray, size: np.ndarray, span:
     """
     exact = room / size
     first = int(exact.argmin())
-    if size[first] * span[order[first]] >= infeasible_by:
+    if size.item(first) * span.item(order.item(first)) >= infeasible_by:
         # The first breakpoint already blocks (the usual case): Harris's two-pass
         # choice among the candidates, no bound flips.
-        relaxed = ((room + dual_feasibility) / size).min()
+        relaxed = np.minimum.reduce((room + dual_feasibility) / size)
         pick = (exact <= relaxed).nonzero()[0]
         return int(order[pick[size[pick].argmax()]]), order[:0]
     return _bound_flipping(order, room, size, exact, span, infeasible_by, dual_feasibility)

@@ -126,7 +126,8 @@ class SimplexState:
             out = np.empty(self.M.shape[1])
             np.dot(self.MT, y, out=out[:n])
             np.negative(y, out=out[n : n + m])
-            out[n + m :] = self.art_sign * y[self.art_row]
+            if self.art_row.size:
+                out[n + m :] = self.art_sign * y[self.art_row]
             return out
         return self.products.combine(y, self._focus_rows)
 
