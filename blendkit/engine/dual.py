@@ -101,13 +101,7 @@ class _DualRun:
         self.cost = cost
         self.perturb = perturb  # still allowed to perturb the costs (once)
         self.d = state.fresh_duals(cost) if d is None else d.copy()
-        rise_f, fall_f = state.mobility()
-        self.rise, self.fall = rise_f > 0, fall_f > 0
-        # The one way each nonbasic variable may move: +1 up, -1 down, 0 not at all.
-        # Free nonbasic variables (both ways) take the slower two-sided search below.
-        self.way = rise_f - fall_f
-        self.back = -self.way
-        self.two_way = bool((self.rise & self.fall).any())
+        self.moving_ways(state)
         self.span = state.upper - state.lower
         self.weights = np.ones(state.m)
         # Steepest-edge weights (exact, 1, for the basis of logicals) on large problems,
@@ -116,6 +110,26 @@ class _DualRun:
         self.primal_tol, self.dual_tol, self.pivot_tol = tol.primal_feasibility, tol.dual_feasibility, tol.pivot
         self.stall = StallWatch(float(cost @ state.z), rows=state.m)
         self.load_positions()
+
+    def moving_ways(self, state: SimplexState) -> None:
+        """The one way each nonbasic variable may move (`way`: +1 up, -1 down, 0 not at all;
+        `back` = -way). Free nonbasic variables (both ways) take the slower two-sided
+        search of `entering`, which reads `rise` and `fall` (True where a variable may
+        move that way, `SimplexState.mobility`); only then are they kept (else None)."""
+        lower, upper = state.lower, state.upper
+        movable = lower != upper
+        movable &= ~state.basic
+        free = (lower == -np.inf) & (upper == np.inf)
+        self.two_way = bool((free & movable & ~state.at_upper).any())
+        if self.two_way:
+            rise_f, fall_f = state.mobility()
+            self.rise, self.fall = rise_f > 0, fall_f > 0
+            self.way = rise_f - fall_f
+        else:  # no variable may move both ways: +1 at a lower bound, -1 at an upper one
+            self.rise = self.fall = None
+            self.way = np.where(state.at_upper, -1.0, 1.0)
+            self.way *= movable
+        self.back = -self.way
 
     def run(self) -> str:
         """The iterations; see `run_dual`."""
@@ -142,8 +156,8 @@ class _DualRun:
                 return "infeasible"
             q, flipped = choice
             alpha, change, moved, tau = self.solve_columns(q, flipped)
-            pivot = alpha[r]
-            if pivots_disagree(row[q], pivot):
+            pivot = alpha.item(r)
+            if pivots_disagree(row.item(q), pivot):
                 self.refresh()
                 continue
             state.iterations += 1
@@ -246,6 +260,8 @@ class _DualRun:
         change (None, None without flips); with steepest-edge pricing tau = B^-1 rho_r
         (else None). A sparse basis solves them in one call."""
         state, factor = self.state, self.state.factor
+        if not flipped.size and not self.steepest:  # the usual case, without the lists below
+            return factor.ftran(state.column(q)), None, None, None
         columns = [state.column(q)]
         change = None
         if flipped.size:
@@ -272,7 +288,8 @@ class _DualRun:
         at_upper = state.at_upper
         state.z[flipped] += change
         at_upper[flipped] = ~at_upper[flipped]
-        self.rise[flipped], self.fall[flipped] = self.fall[flipped], self.rise[flipped]
+        if self.two_way:
+            self.rise[flipped], self.fall[flipped] = self.fall[flipped], self.rise[flipped]
         self.way[flipped] = -self.way[flipped]
         self.back[flipped] = -self.back[flipped]
         self.xb -= moved
@@ -300,9 +317,10 @@ class _DualRun:
         lb[r], ub[r] = low, high
         self.slack[r] = self.primal_tol * (1 + min(abs(low), abs(high)))
         movable = self.span.item(p) != 0
-        rise[p] = movable and rises
-        fall[p] = movable and not rises
-        rise[q] = fall[q] = False
+        if self.two_way:
+            rise[p] = movable and rises
+            fall[p] = movable and not rises
+            rise[q] = fall[q] = False
         way_p = (1.0 if rises else -1.0) if movable else 0.0
         way[p], back[p] = way_p, -way_p
         way[q] = back[q] = 0.0

@@ -68,9 +68,11 @@ def update_primal_weights(weights: np.ndarray, row: np.ndarray, pivot: float, p:
 def update_dual_weights(weights: np.ndarray, alpha: np.ndarray, pivot: float, r: int) -> None:
     """Dual Devex weights of the basis positions after position r changed variable:
     w_i >= (alpha_i / pivot)^2 w_r."""
-    weight_r = max(weights[r], 1.0)
-    np.maximum(weights, (alpha * alpha) * (weight_r / (pivot * pivot)), out=weights)
-    weights[r] = max(weight_r / (pivot * pivot), 1.0)
+    grown = max(weights.item(r), 1.0) / (pivot * pivot)
+    bound = alpha * alpha
+    bound *= grown
+    np.maximum(weights, bound, out=weights)
+    weights[r] = max(grown, 1.0)
     _reset_when_large(weights, r)
 
 
