@@ -183,6 +183,36 @@ def test_a_cost_change_keeps_the_basis_and_refactorises_nothing():
     assert abs(result.objective - ref.fun) <= OBJECTIVE_RTOL * abs(ref.fun)
 
 
+@pytest.mark.parametrize("size", [(20, 10), (60, 30), (150, 60)])
+def test_a_long_series_resolved_on_the_factors_held_stays_at_highs_optima(size):
+    # Outside reference: linprog(method="highs") on each LP of the series, solved cold
+    # (_assert_matches_highs: status, objective to 1e-9, rows to 1e-7, unique points and
+    # prices). A re-solve ends on the factors it holds, updates pending, without a final
+    # refactorisation; over 60 alternating price and limit steps (the benchmark's sweeps,
+    # 30 of each) those updates pile up from one re-solve to the next, and the dual runs
+    # take up to 17 iterations at 150 x 60.
+    first = make_blend(*size, seed=20240611)
+    resolver = Resolver(first.c, first.A_ub, first.b_ub, first.A_eq, first.b_eq, first.bounds)
+    resolver.solve()
+    lower = np.array([lo for lo, _ in first.bounds])
+    pending, dual_iterations = 0, []
+    for price, limit in zip(price_sweep(first, 30, 3), bound_sweep(first, 30, 3)):
+        for change in ("costs", "limits"):
+            if change == "costs":
+                resolver.change_costs(price.c)
+            else:
+                resolver.change_col_bounds(lower, [np.inf if hi is None else hi for _, hi in limit.bounds])
+                resolver.change_rhs(b_ub=limit.b_ub)
+            result = resolver.solve()
+            _assert_matches_highs(resolver, result)
+            assert result.warm_start, result.message  # from the basis held, never the cold fallback
+            pending += resolver._state.factor.updates > 0
+            if result.algorithm == "dual":
+                dual_iterations.append(result.iterations)
+    assert pending >= 40  # most re-solves ended with updates pending: the path under test
+    assert max(dual_iterations) >= {(20, 10): 2, (60, 30): 8, (150, 60): 15}[size]
+
+
 def test_an_infeasible_change_is_reported_and_the_next_one_recovers():
     # Outside reference: linprog(method="highs") on each LP.
     first = make_blend(20, 10, seed=20240611)
