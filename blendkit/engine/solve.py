@@ -54,12 +54,13 @@ class one_blas_thread:  # noqa: N801 - used as a function: `with one_blas_thread
 
 # OpenBLAS runs an operation on a matrix this small in the calling thread whatever its
 # thread count: each BLAS and LAPACK call a dense re-solve makes (LU and its solves, the
-# matrix-vector products with B^-1 and M, the inverse's rank-one update) took the same
-# time with one thread and with two up to an 80 x 230 M on the 2-core development
-# machine (load 0.4; at 120 x 420 the rank-one update took 7 times longer with two).
-# A re-solve of a problem within both limits skips `one_blas_thread`.
-ONE_THREAD_ROWS = 64
-ONE_THREAD_ENTRIES = 16_384
+# matrix-vector products with B^-1, M and A^T, the inverse's rank-one update) took the
+# same time with one thread and with two up to a 90 x 250 M (22,500 entries) on the
+# 2-core development machine (load 0.4-1.6); from 96 rows the rank-one update took 7
+# times longer with two, from about 30,000 entries the product with A^T 1.5 times.
+# A re-solve of a problem within both limits (a little inside them) skips `one_blas_thread`.
+ONE_THREAD_ROWS = 88
+ONE_THREAD_ENTRIES = 20_000
 
 
 def blas_threads_idle(m: int, n: int) -> bool:
