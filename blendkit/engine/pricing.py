@@ -32,7 +32,7 @@ def entering_variable(d: np.ndarray, rise: np.ndarray, fall: np.ndarray, weights
         eligible = np.flatnonzero(gain)
         q = int(eligible[0]) if eligible.size else 0
     else:
-        q = int(np.argmax(gain * gain / weights))
+        q = int((gain * gain / weights).argmax())
     return -1 if gain[q] == 0.0 else q
 
 

@@ -24,7 +24,7 @@ def negligible(delta: np.ndarray, pivot: float) -> np.ndarray:
 
 def _negligible_rate(rate: np.ndarray, pivot: float) -> np.ndarray:
     """`negligible` of |delta| already at hand (the primal ratio test has it)."""
-    return rate <= pivot * max(1.0, rate.max(initial=0.0))
+    return rate <= pivot * max(1.0, np.maximum.reduce(rate) if rate.size else 0.0)  # ufunc: no Python wrapper
 
 
 def primal_ratio_test(state, q: int, delta: np.ndarray, bland: bool):
@@ -56,7 +56,7 @@ def primal_ratio_test(state, q: int, delta: np.ndarray, bland: bool):
         # basic variable already sits beyond its relaxed bound through rounding.
         relaxed = np.divide(room + tol.primal_feasibility * (1 + np.abs(bound)), rate,
                             out=np.full(m, np.inf), where=blocking)
-        theta_max = max(relaxed.min(initial=np.inf), 0.0)
+        theta_max = max(np.minimum.reduce(relaxed) if relaxed.size else np.inf, 0.0)
     span = state.upper[q] - state.lower[q]
     if theta_max == np.inf:
         if span < np.inf:
@@ -69,7 +69,7 @@ def primal_ratio_test(state, q: int, delta: np.ndarray, bland: bool):
         r = int(ties[np.argmin(head[ties])])
     else:
         # Harris pass two: among rows blocking within theta_max, the largest pivot.
-        r = int(np.argmax(np.where(exact <= theta_max, rate, -1.0)))
+        r = int(np.where(exact <= theta_max, rate, -1.0).argmax())
     return float(exact[r]), r, bool(rising[r])
 
 
