@@ -120,7 +120,7 @@ class _DualRun:
         movable = lower != upper
         movable &= ~state.basic
         free = (lower == -np.inf) & (upper == np.inf)
-        self.two_way = bool((free & movable & ~state.at_upper).any())
+        self.two_way = bool(free.any() and (free & movable & ~state.at_upper).any())
         if self.two_way:
             rise_f, fall_f = state.mobility()
             self.rise, self.fall = rise_f > 0, fall_f > 0
