@@ -23,6 +23,7 @@ from scipy.optimize import linprog
 
 from blendkit.bench.blends import bound_sweep, make_blend, price_sweep
 from blendkit.bench.highs import highs_lp
+from blendkit.bench.plant import make_plant
 from blendkit.engine.resolve import Resolver
 from tests.lp_checks import assert_rows_hold, assert_within_bounds, from_form
 from tests.reference import highs_form
@@ -211,6 +212,30 @@ def test_a_long_series_resolved_on_the_factors_held_stays_at_highs_optima(size):
                 dual_iterations.append(result.iterations)
     assert pending >= 40  # most re-solves ended with updates pending: the path under test
     assert max(dual_iterations) >= {(20, 10): 2, (60, 30): 8, (150, 60): 15}[size]
+
+
+def test_a_sparse_plant_resolved_on_the_factors_held_stays_at_highs_optima():
+    # Outside reference: linprog(method="highs") on each LP, solved cold (_assert_matches_highs).
+    # A plant of 340 rows is held sparse (SuperLU factors, updates as etas): its re-solves
+    # too end on the factors they hold, and the next one goes on with them.
+    plant = make_plant(10, 30, 15, seed=7)
+    resolver = Resolver(plant.c, plant.A_ub, plant.b_ub, plant.A_eq, plant.b_eq, plant.bounds)
+    resolver.solve()
+    assert resolver._state.sparse
+    rng = np.random.default_rng(2)
+    pending = 0
+    for step in range(12):
+        if step % 2 == 0:  # prices within -20 % .. +25 %
+            resolver.change_costs(plant.c * rng.uniform(0.8, 1.25, plant.c.size))
+        else:  # the stocks (the last 30 rows of A_ub) within -3 % .. +10 %
+            b_ub = plant.b_ub.copy()
+            b_ub[-30:] *= rng.uniform(0.97, 1.1, 30)
+            resolver.change_rhs(b_ub=b_ub)
+        result = resolver.solve()
+        _assert_matches_highs(resolver, result)
+        assert result.warm_start, result.message
+        pending += resolver._state.factor.updates > 0
+    assert pending >= 8
 
 
 def test_an_infeasible_change_is_reported_and_the_next_one_recovers():
