@@ -19,6 +19,14 @@ numbers; `solve` then goes on from the basis held:
   trouble, a residual check that fails) is solved by `solve_form` from scratch with the
   last basis, exactly as a cold call would, and the basis it finds is held again.
 
+A run from the basis held ends without the refactorisation a cold solve ends on: the
+values and duals are recomputed from the factors it holds, updates and all, and the next
+re-solve goes on with them (the factors' own limits still refactorise in a run). Only a
+dense basis of fewer than INVERSE_ROWS rows is refactorised at the end: its LU costs less
+than the etas would in each later solve. The residual check in original units, and the
+solve from scratch when it fails, guard the answer as before. A problem too small for
+BLAS to use threads (`solve.blas_threads_idle`) is re-solved without `one_blas_thread`.
+
 The result is the LPResult `solve_form` returns, with the residual check in original units.
 Notation as in `blendkit.engine.simplex`.
 """
@@ -36,7 +44,7 @@ from blendkit.engine.simplex import optimal_outcome
 from blendkit.engine.simplex_state import SimplexState
 from blendkit.engine.solve import blas_threads_idle, checked_result, one_blas_thread, solve_form
 from blendkit.engine.standard_form import StandardForm, to_standard_form
-from blendkit.engine.tolerances import ITERATION_LIMIT_MIN, ITERATION_LIMIT_PER_LINE, Tolerances
+from blendkit.engine.tolerances import INVERSE_ROWS, ITERATION_LIMIT_MIN, ITERATION_LIMIT_PER_LINE, Tolerances
 
 
 class Resolver:
@@ -173,6 +181,11 @@ class Resolver:
                 self._cost = np.concatenate([state.c_struct, np.zeros(state.m)])
                 self._bounds = _Bounds(state)
                 state.d = state.fresh_duals(self._cost)  # a re-solve then starts with them
+                # Whether a run ends on a refactorisation (`run_dual`): only on a small dense
+                # basis, whose LU costs less than the etas left pending would in every later
+                # solve (from INVERSE_ROWS rows a basis is soon held as its inverse, a sparse
+                # one applies its etas in one triangular system; see `basis_factor`).
+                self._refactor_at_end = state.m < INVERSE_ROWS and not state.sparse
 
     def _warm(self, ranging: bool) -> LPResult | None:
         """The re-solve from the basis held, or None to solve from scratch."""
@@ -185,7 +198,8 @@ class Resolver:
         state.iterations = 0
         state.max_iterations = self._max_iterations
         try:
-            status, algorithm = _iterate(state, self._bounds, self._cost, moved, self._repriced or state.d is None)
+            status, algorithm = _iterate(state, self._bounds, self._cost, moved, self._repriced or state.d is None,
+                                         self._refactor_at_end)
         except SingularBasis:
             status, algorithm = "numerical_trouble", ""
         if status != "optimal":
@@ -228,15 +242,16 @@ class _Bounds:
         self.high = upper + tp * (1 + np.abs(upper))
 
 
-def _iterate(state: SimplexState, bounds: _Bounds, cost: np.ndarray, moved: bool, repriced: bool) -> tuple[str, str]:
+def _iterate(state: SimplexState, bounds: _Bounds, cost: np.ndarray, moved: bool, repriced: bool,
+             refactor_at_end: bool) -> tuple[str, str]:
     """(status, algorithm) of the iterations from the basis held: none when it is still
     optimal, the primal simplex when it is primal feasible, else the dual simplex when the
     boxed nonbasics can be placed so that it is dual feasible ("no_start" when not).
 
     The state ended its last solve optimal, with fresh values and reduced costs: only a
     move of bounds (`moved`) needs the values again, only new costs (`repriced`) the duals.
-    Both runs end on the factors they hold (`run_dual`'s `refactor_at_end`): the residual
-    check in original units, and a solve from scratch when it fails, guard the answer.
+    Without `refactor_at_end` both runs end on the factors they hold (`run_dual`): the
+    residual check in original units, and a solve from scratch when it fails, guard the answer.
     """
     if moved:
         state.place_nonbasics(state.at_upper)
@@ -246,13 +261,14 @@ def _iterate(state: SimplexState, bounds: _Bounds, cost: np.ndarray, moved: bool
     if not moved or _primal_feasible(state, bounds):
         if not _asks(state, bounds).any():
             return "optimal", "primal"
-        return run_primal(state, cost, d=state.d, refactor_at_end=False), "primal"
+        return run_primal(state, cost, d=state.d, refactor_at_end=refactor_at_end), "primal"
     if not _place_for_dual(state, bounds):
         return "no_start", ""
-    status = run_dual(state, cost, perturb=True, d=state.d, refactor_at_end=False)  # the true costs' duals
+    # run_dual ends with the true costs' duals
+    status = run_dual(state, cost, perturb=True, d=state.d, refactor_at_end=refactor_at_end)
     if status == "optimal" and _asks(state, bounds).any():
         # rounding or the perturbation left a reduced cost astray
-        status = run_primal(state, cost, d=state.d, refactor_at_end=False)
+        status = run_primal(state, cost, d=state.d, refactor_at_end=refactor_at_end)
     return status, "dual"
 
 
