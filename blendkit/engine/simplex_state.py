@@ -21,7 +21,8 @@ import weakref
 
 import numpy as np
 
-from blendkit.engine.basis_factor import BasisFactor, InverseBasisFactor, SingularBasis, SparseBasisFactor
+from blendkit.engine.basis_factor import BasisFactor, InverseBasisFactor, SingularBasis
+from blendkit.engine.kernel_factor import KernelBasisFactor
 from blendkit.engine.row_product import RowProduct, gather
 from blendkit.engine.sparse import held_sparse, is_sparse, sparse
 from blendkit.engine.standard_form import StandardForm
@@ -66,7 +67,7 @@ class SimplexState:
         nonzeros = self.A.nnz if is_sparse(self.A) else np.count_nonzero(self.A)
         self.sparse = held_sparse(self.m, self.n, nonzeros)
         if self.sparse:
-            self.factor = SparseBasisFactor(refactor_every=SPARSE_REFACTOR_EVERY)
+            self.factor = KernelBasisFactor(refactor_every=SPARSE_REFACTOR_EVERY)
             sp = sparse()
             self.M = sp.hstack([sp.csc_matrix(self.A), -sp.identity(self.m, format="csc")], format="csc")
             self.products = RowProduct(self.M)  # y^T M, for the pivot row and the duals
