@@ -119,15 +119,18 @@ def test_one_price_per_ingredient_for_a_plant_matches_highs_moving_every_product
     assert _ends_checked_by_highs(tmp_path, source, ends) >= 4
 
 
-def test_one_price_ranges_solved_in_blocks_match_highs(tmp_path, monkeypatch):
+@pytest.mark.parametrize("sparse_basis", [False, True])
+def test_one_price_ranges_solved_in_blocks_match_highs(tmp_path, monkeypatch, sparse_basis):
     # The ranges of a plant's ingredients are found in blocks of RANGES_AT_ONCE price
     # directions from one factorisation of the basis; with blocks of 3, ingredients of the
     # first and of later blocks are checked against HiGHS re-solving just inside and just
-    # outside each end, as above (outside check: HiGHS).
+    # outside each end, as above (outside check: HiGHS). With `sparse_basis` the basis is
+    # factorised by the engine's sparse factors, as a large plant's is.
     from blendkit.lp import shared_prices
     from blendkit.pipeline import formulate, prepare
 
     monkeypatch.setattr(shared_prices, "RANGES_AT_ONCE", 3)
+    monkeypatch.setattr(shared_prices, "held_sparse", lambda *shape: sparse_basis)
     source = tmp_path / "pig_feed_plant.xlsx"
     shutil.copyfile(ROOT / "sample_workbooks" / "pig_feed_plant.xlsx", source)
     formula = formulate(prepare(source, tmp_path / "out.xlsx").blend, check=False)

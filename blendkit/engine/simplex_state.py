@@ -102,6 +102,12 @@ class SimplexState:
             return col
         return self.M[:, j]
 
+    def columns(self, js: np.ndarray) -> np.ndarray:
+        """Columns js of M, as a dense m x len(js) array."""
+        if self.sparse:
+            return self.M[:, js].toarray()
+        return self.M[:, js]
+
     def times(self, z: np.ndarray) -> np.ndarray:
         """M z."""
         return self.M @ z

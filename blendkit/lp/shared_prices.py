@@ -17,7 +17,10 @@ from __future__ import annotations
 import numpy as np
 
 from blendkit.engine import LPResult
+from blendkit.engine.basis_factor import SingularBasis
+from blendkit.engine.kernel_factor import KernelBasisFactor
 from blendkit.engine.lapack import lapack
+from blendkit.engine.sparse import held_sparse
 from blendkit.lp.build import BlendLP
 from blendkit.model.blend import Blend
 from blendkit.lp.tolerances import DUAL_SIGN
@@ -74,8 +77,16 @@ def direction_ranges(lp: BlendLP, result: LPResult, directions: np.ndarray,
 
 
 def _transposed_solver(B: np.ndarray):
-    """rhs -> B^-T rhs for the basis matrix B, from one LU factorisation (LAPACK) reused
-    for every right-hand side."""
+    """rhs -> B^-T rhs for the basis matrix B, from one factorisation reused for every
+    right-hand side: the engine's sparse factors for a large, mostly empty basis such as
+    a plant's (a dense LU of its 1,720 rows took 0.28 s), else LAPACK's LU."""
+    if held_sparse(*B.shape, int(np.count_nonzero(B))):
+        factor = KernelBasisFactor(refactor_every=1)
+        try:
+            factor.factor(B)
+        except SingularBasis:
+            raise np.linalg.LinAlgError("the optimal basis is singular") from None
+        return factor.btran
     lu, piv, info = lapack.dgetrf(np.asfortranarray(B, dtype=float))
     if info > 0:
         raise np.linalg.LinAlgError("the optimal basis is singular")
