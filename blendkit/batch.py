@@ -48,6 +48,7 @@ def solve_books(
     progress: Progress | None = None,
     check: bool = True,
     limits: ReadLimits = ReadLimits(),
+    start: bool = True,
 ) -> list[BookResult]:
     """Solve every workbook in `books` (see the module docstring), in the order given.
 
@@ -56,7 +57,8 @@ def solve_books(
     any of them is raised at once. `output`, `mps_file` and `compare` apply to a single
     workbook only. `jobs` is the number of worker processes (default: one per CPU).
     `check` re-solves every LP with HiGHS as a cross-check. `limits` bound each
-    workbook's cells and unpacked size.
+    workbook's cells and unpacked size. With `start`, each workbook's LPs start from the
+    optimal basis of its earlier result (`blendkit.lp.start`).
     """
     if len(books) > 1 and (output is not None or mps_file is not None or compare is not None):
         raise OutputError("-o, --export-mps and --compare name one file, so they take one workbook only")
@@ -64,7 +66,7 @@ def solve_books(
     for book in books:
         try:
             prepared.append(prepare(book, output, mps_file=mps_file, in_place=in_place, price_list=price_list,
-                                    limits=limits, keep_loaded=len(books) == 1))
+                                    limits=limits, keep_loaded=len(books) == 1, compare=compare, start=start))
         except WorkbookError as error:
             prepared.append(error)
     prepared = [_without_loaded(item, jobs) for item in prepared]

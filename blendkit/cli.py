@@ -134,6 +134,7 @@ def solve(
     overview: Path = typer.Option(None, "--overview", metavar="FILE", help="Also write one workbook summarising every book and formula of the run."),
     jobs: int = typer.Option(None, "--jobs", min=1, metavar="N", help="Solve in N worker processes (default: one per CPU); the results are the same for any N."),
     cross_check: bool = typer.Option(True, "--cross-check/--no-cross-check", help="Re-solve every LP with HiGHS (through highspy) and record the difference (default: on)."),
+    from_scratch: bool = typer.Option(False, "--from-scratch", help="Solve from scratch, not from the optimal basis of the earlier result (the output being replaced, or --compare OLD)."),
     max_cells: int = MAX_CELLS,
     max_unpacked_mb: float = MAX_UNPACKED_MB,
 ) -> None:
@@ -146,7 +147,7 @@ def solve(
     with _reporting(as_json):
         results = solve_run(books, output=output, mps_file=export_mps, in_place=in_place, compare=compare,
                             prices=prices, overview=overview, jobs=jobs, progress=progress_bar(as_json),
-                            check=cross_check,
+                            check=cross_check, start=not from_scratch,
                             limits=ReadLimits(max_cells=max_cells, max_unpacked_mb=max_unpacked_mb))
     if len(results) == 1 and results[0].error is not None:
         with _reporting(as_json):

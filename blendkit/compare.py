@@ -66,6 +66,7 @@ def compare_with_earlier(
     *,
     compare: Path | None = None,
     output_data: bytes | None = None,
+    earlier: tuple[RunRecord | None, tuple[str, ...]] | None = None,
 ) -> Formula:
     """`formula` with `changes` against the earlier result, and notes on the comparison.
 
@@ -74,8 +75,9 @@ def compare_with_earlier(
     or not an output workbook. Otherwise the existing `output` workbook (or its bytes,
     `output_data`, when it is the input solved in place) is compared when it holds an
     earlier result of the same input; a missing output is the first run, with no note.
+    `earlier`: what `earlier_result` gave for these arguments, when already read.
     """
-    earlier, notes = _earlier(run, Path(output), compare, output_data)
+    earlier, notes = earlier if earlier is not None else earlier_result(run, Path(output), compare, output_data)
     if earlier is None:
         return _with_notes(formula, notes)
     from blendkit.lp.changes import compare_runs
@@ -84,10 +86,11 @@ def compare_with_earlier(
     return dataclasses.replace(_with_notes(formula, notes + compared), changes=changes)
 
 
-def _earlier(
+def earlier_result(
     run: RunInfo, output: Path, compare: Path | None, output_data: bytes | None
 ) -> tuple[RunRecord | None, tuple[str, ...]]:
-    """The earlier run to compare with (None when there is none to use) and notes."""
+    """The earlier run to compare with and to start from (None when there is none to
+    use), and notes; the arguments as `compare_with_earlier` takes them."""
     if compare is not None:
         earlier, notes = _read_compared(Path(compare))
         if earlier is not None and base_name(earlier.input_name) != base_name(run.input_name):

@@ -15,11 +15,12 @@ from datetime import UTC, datetime
 from pathlib import Path
 
 from blendkit import __version__
-from blendkit.compare import compare_with_earlier
+from blendkit.compare import compare_with_earlier, earlier_result
 from blendkit.lp.analyse import analyse
 from blendkit.lp.build import build_lp
 from blendkit.lp.cross_check import cross_check, cross_check_mip
 from blendkit.lp.cross_check import warning as cross_check_warning
+from blendkit.lp.start import basis_labels, start_basis
 from blendkit.engine import solve_form
 from blendkit.errors import OutputError
 from blendkit.model.formula import Formula, Relaxation, RunInfo
@@ -96,10 +97,11 @@ def formulate_lp(blend: Blend, *, explain: bool = True, check: bool = True) -> F
     """One LP's formula, with conflicts and the least-cost relaxation when infeasible, and
     (with `check`) the same LP re-solved with HiGHS as a cross-check."""
     lp = build_lp(blend)
-    result = solve_form(lp.form, ranging=True)
+    start = start_basis(blend, lp, blend.start) if blend.start else None
+    result = solve_form(lp.form, basis=start, ranging=True)
     if has_weigh_rules(blend) and result.status == "optimal":
-        return formulate_weighed(blend, lp, result, check=check)
-    formula = analyse(blend, lp, result)
+        return _with_basis(formulate_weighed(blend, lp, result, check=check), blend, lp, result)
+    formula = _with_basis(analyse(blend, lp, result), blend, lp, result)
     if check:
         formula = _with_cross_check(formula, cross_check(lp.form, result), result)
     if formula.status != "infeasible" or not explain:
@@ -109,7 +111,7 @@ def formulate_lp(blend: Blend, *, explain: bool = True, check: bool = True) -> F
     diagnosis = diagnose(blend, lp)
     relaxed = None
     if diagnosis.relaxed_blend is not None:
-        relaxed = formulate_lp(diagnosis.relaxed_blend, explain=False, check=False)
+        relaxed = formulate_lp(dataclasses.replace(diagnosis.relaxed_blend, start=()), explain=False, check=False)
         if not relaxed.solved:
             relaxed = None
     return dataclasses.replace(
@@ -119,6 +121,17 @@ def formulate_lp(blend: Blend, *, explain: bool = True, check: bool = True) -> F
         conflicts_cut_short=diagnosis.cut_short,
         relaxation=Relaxation(change_lines(diagnosis), relaxed) if diagnosis.changes else None,
     )
+
+
+def _with_basis(formula: Formula, blend: Blend, lp, result) -> Formula:
+    """`formula` with the LP's optimal basis for the next run to start from, and a note
+    saying whether this run started from the earlier result's (`blendkit.lp.start`)."""
+    notes = formula.notes
+    if blend.start:
+        notes += ((f"Started from the earlier result's optimal basis: {result.iterations} simplex iterations.",)
+                  if result.warm_start else
+                  ("The earlier result's optimal basis did not fit this LP; it was solved from scratch.",))
+    return dataclasses.replace(formula, basis=basis_labels(blend, lp, result), notes=notes)
 
 
 def formulate_weighed(blend: Blend, lp, lp_result, *, check: bool = True) -> Formula:
@@ -227,6 +240,9 @@ class Prepared:
     mps_file: Path | None = None
     in_place: bool = False
     loaded: object = field(default=None, repr=False, compare=False)
+    # The earlier result and notes on it (`compare.earlier_result`), read before solving so
+    # that the run can start from its basis; None when not read yet.
+    earlier: tuple | None = field(default=None, repr=False, compare=False)
 
 
 def prepare(
@@ -238,11 +254,15 @@ def prepare(
     price_list: PriceList | None = None,
     limits: ReadLimits = ReadLimits(),
     keep_loaded: bool = True,
+    compare: str | Path | None = None,
+    start: bool = True,
 ) -> Prepared:
     """Read `book` once (within `limits`), apply `price_list`, and check every output path
     before anything is solved; raises WorkbookError or OutputError. With `keep_loaded`,
     the loaded workbook is kept for the writer (`Prepared.loaded`); a batch of many
-    workbooks turns it off, so that it does not hold them all in memory at once."""
+    workbooks turns it off, so that it does not hold them all in memory at once. The
+    earlier result (`compare`, else the output about to be replaced) is read now; with
+    `start` its LPs start from that result's optimal basis (`blendkit.lp.start`)."""
     book = Path(book)
     started = datetime.now(UTC).strftime("%Y-%m-%dT%H:%M:%SZ")
     data = _input_bytes(book)
@@ -261,15 +281,18 @@ def prepare(
         price_list_name=price_list.file_name if price_list else "",
         price_list_sha256=price_list.sha256 if price_list else "",
     )
+    earlier = earlier_result(run, target, None if compare is None else Path(compare), data if in_place else None)
+    if start and earlier[0] is not None and earlier[0].basis:
+        blend = dataclasses.replace(blend, start=earlier[0].basis)
     return Prepared(book=book, data=data, blend=blend, target=target, run=run, mps_file=mps_path,
-                    in_place=in_place, loaded=loaded if keep_loaded else None)
+                    in_place=in_place, loaded=loaded if keep_loaded else None, earlier=earlier)
 
 
 def finish(prepared: Prepared, formula: Formula, *, compare: str | Path | None = None) -> Outcome:
     """Compare with the earlier result, write the output workbook (and the MPS file)."""
     target, data = prepared.target, prepared.data
     formula = compare_with_earlier(formula, prepared.run, target, compare=compare,
-                                   output_data=data if prepared.in_place else None)
+                                   output_data=data if prepared.in_place else None, earlier=prepared.earlier)
     try:
         if prepared.in_place:
             save_atomically(data, backup_path(prepared.book))
@@ -294,6 +317,7 @@ def solve_workbook(
     price_list: PriceList | None = None,
     check: bool = True,
     limits: ReadLimits = ReadLimits(),
+    start: bool = True,
 ) -> Outcome:
     """Read `book`, find the least-cost blend and write the output workbook.
 
@@ -304,14 +328,15 @@ def solve_workbook(
     about to be replaced when it holds a result of the same workbook. With `price_list`,
     its values replace the workbook's before solving (the file is never modified). With
     `check` (the default) every LP is also re-solved with HiGHS as a cross-check.
-    `limits` bound the workbook's cells and unpacked size (see `ReadLimits`).
+    `limits` bound the workbook's cells and unpacked size (see `ReadLimits`). With `start`
+    (the default) its LPs start from the earlier result's optimal basis, when there is one.
 
     Raises WorkbookError for problems in the workbook and OutputError when the output
     cannot be written; an infeasible blend is a status of the returned formula, and
     its output workbook is still written so the reviewer sees what was tried.
     """
     prepared = prepare(book, output, mps_file=mps_file, in_place=in_place, price_list=price_list,
-                       limits=limits)
+                       limits=limits, compare=compare, start=start)
     return finish(prepared, formulate(prepared.blend, check=check), compare=compare)
 
 

@@ -24,11 +24,13 @@ def solve_run(
     progress: Progress | None = None,
     check: bool = True,
     limits: ReadLimits = ReadLimits(),
+    start: bool = True,
 ) -> list[BookResult]:
     """Solve `books` with the price list `prices` (if any) and write the `overview`
     workbook (if asked), cross-checking every LP with HiGHS unless `check` is off; raises WorkbookError for a bad price list and OutputError for
     an output path that cannot be used. `limits` bound each workbook's cells and unpacked
-    size (and the price list's)."""
+    size (and the price list's). With `start` each LP starts from the optimal basis of
+    its workbook's earlier result."""
     books = [Path(book) for book in books]
     if overview is not None:
         _check_overview(Path(overview), books, prices)
@@ -38,7 +40,8 @@ def solve_run(
 
         price_list = read_price_list(prices, limits=limits)
     results = solve_books(books, output=output, mps_file=mps_file, in_place=in_place, compare=compare,
-                          price_list=price_list, jobs=jobs, progress=progress, check=check, limits=limits)
+                          price_list=price_list, jobs=jobs, progress=progress, check=check, limits=limits,
+                          start=start)
     if overview is not None:
         from blendkit.write.overview_book import write_overview  # only when asked
 

@@ -197,6 +197,9 @@ class Blend:
     # Combined nutrients (`blendkit.model.combined`), each after those it refers to; their
     # contents are already in every ingredient's `contents`.
     combined: tuple[Combined, ...] = ()
+    # The earlier result's optimal basis, to start this run's LPs from (`blendkit.lp.start`):
+    # (label, state) pairs read from its record; empty for a first run or a fresh start.
+    start: tuple[tuple[tuple[str, ...], int], ...] = field(default=(), repr=False)
 
     @classmethod
     def from_frames(

@@ -7,7 +7,7 @@ units printed beside the numbers are worded in `blendkit.model.units`.
 
 from __future__ import annotations
 
-from dataclasses import dataclass
+from dataclasses import dataclass, field
 from typing import TYPE_CHECKING
 
 from blendkit.model.blend import Blend
@@ -330,6 +330,10 @@ class Formula:
     # With several products: each ingredient's one price range for the whole run.
     shared_prices: tuple[SharedPrice, ...] = ()
     changes: Changes | None = None  # against an earlier result, when one was compared
+    # The LP's optimal basis in the workbook's words (`blendkit.lp.start`), which the record
+    # keeps for the next run to start from; empty without an optimum, and for several LPs
+    # (each part holds its own).
+    basis: tuple[tuple[tuple[str, ...], int], ...] = field(default=(), repr=False)
 
     @property
     def practical_totals(self) -> tuple[float, float | None] | None:

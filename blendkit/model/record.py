@@ -18,11 +18,17 @@ setting, else "blend"):
     binding    "kind name side"         the bound, for each limit that binds
 
 With several products, stocks (shared by all products) are not in any formula's rows.
+
+The run's optimal basis follows, for the next run to start from (`blendkit.lp.start`):
+rows with a blank Formula, What "basis", the variable's label as JSON text in Name (e.g.
+["ingredient", "Grower", "Maize"]) and its state in Value (1 basic, 2 at its upper
+bound). Versions that do not know these rows pass over them, as over any run row they do
+not know.
 """
 
 from __future__ import annotations
 
-from dataclasses import dataclass
+from dataclasses import dataclass, field
 
 from blendkit.model.formula import Formula, Limit, NutrientLine, RunInfo
 
@@ -43,6 +49,8 @@ RUN_ROWS = {
 }
 # The formula rows' What words.
 COST, INCLUSION, PRICE, NUTRIENT, BINDING = "cost", "inclusion", "price", "nutrient", "binding"
+# The What word of the basis rows (blank Formula).
+BASIS = "basis"
 # A single blend's formula key when the workbook has no Name.
 SINGLE_KEY = "blend"
 
@@ -75,6 +83,8 @@ class RunRecord:
     status: str
     formulas: tuple[RecordedFormula, ...]
     output: str = ""
+    # The optimal basis of the run's LPs: (label, state) pairs (`blendkit.lp.start`).
+    basis: tuple[tuple[tuple[str, ...], int], ...] = field(default=(), repr=False)
 
 
 def formula_key(formula: Formula, product_name: str | None) -> str:
@@ -121,6 +131,7 @@ def run_record(formula: Formula, run: RunInfo) -> RunRecord:
         mode=run_mode(formula),
         status=formula.status,
         formulas=formulas,
+        basis=tuple(pair for part in (formula.parts or (formula,)) for pair in part.basis),
     )
 
 

@@ -9,6 +9,7 @@ raises anything else for a bad file.
 from __future__ import annotations
 
 import io
+import json
 from pathlib import Path
 
 from openpyxl import load_workbook
@@ -83,10 +84,13 @@ def _parse(rows: list[tuple], output: str) -> RunRecord:
     _check_format(rows[1])
     run: dict[str, str] = {}
     formulas: dict[str, dict] = {}
+    basis: list[tuple[tuple[str, ...], int]] = []
     for number, (key, what, name, value) in enumerate(rows[2:], start=3):
         if key in (None, ""):
             if what in record.RUN_ROWS:
                 run[record.RUN_ROWS[what]] = "" if value is None else str(value)
+            elif what == record.BASIS:
+                basis += _basis_row(name, value)
             continue
         if what not in _ROW_KINDS:
             raise ValueError(f"row {number}: unknown item {what!r}")
@@ -96,7 +100,21 @@ def _parse(rows: list[tuple], output: str) -> RunRecord:
         raise ValueError(f"it does not say the run's {', '.join(missing)}")
     recorded = tuple(_formula(key, items) for key, items in formulas.items())
     return RunRecord(**{"input_sha256": "", "started_utc": "", "tool_version": "", **run},
-                     formulas=recorded, output=output)
+                     formulas=recorded, output=output, basis=tuple(basis))
+
+
+def _basis_row(name: object, value: object) -> list[tuple[tuple[str, ...], int]]:
+    """One basis row as [(label, state)], or [] when it is not one we wrote: the basis
+    only saves time, so a damaged row is passed over, never an error."""
+    if not isinstance(name, str) or value not in (1, 2):
+        return []
+    try:
+        label = json.loads(name)
+    except ValueError:
+        return []
+    if not isinstance(label, list) or not all(isinstance(part, str) for part in label):
+        return []
+    return [(tuple(label), int(value))]
 
 
 def _check_format(row: tuple) -> None:

@@ -8,6 +8,8 @@ the 16 significant digits the file keeps.
 
 from __future__ import annotations
 
+import json
+
 from openpyxl.workbook.workbook import Workbook
 
 from blendkit.model import record
@@ -34,12 +36,14 @@ def write(workbook: Workbook, formula: Formula, run: RunInfo, title: str) -> Non
 
 
 def _rows(formula: Formula, run: RunInfo) -> list[tuple]:
-    """The record's rows: the format mark, the run rows, then each formula's rows."""
+    """The record's rows: the format mark, the run rows, each formula's rows, then the
+    optimal basis."""
     this = run_record(formula, run)
     rows: list[tuple] = [(None, "record", record.RECORD_NAME, record.FORMAT)]
     rows += [(None, what, None, getattr(this, field)) for what, field in record.RUN_ROWS.items()]
     for recorded in this.formulas:
         rows += _formula_rows(recorded)
+    rows += [(None, record.BASIS, json.dumps(label, ensure_ascii=False), state) for label, state in this.basis]
     return rows
 
 

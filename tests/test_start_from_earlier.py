@@ -1,0 +1,133 @@
+"""The weekly run starts from last week's optimal basis (`blendkit.lp.start`): a plant
+solved again after its prices or specs changed takes far fewer simplex iterations, and
+every answer is still the optimum HiGHS finds for the workbook as it now stands (outside
+check: tests/test_examples.formulate_with_highs, an LP written from the workbook format
+alone and solved by HiGHS)."""
+
+from __future__ import annotations
+
+import json
+from pathlib import Path
+
+import numpy as np
+import openpyxl
+import pytest
+from typer.testing import CliRunner
+
+from blendkit.bench.plant import plant_workbook
+from blendkit.cli import app
+from blendkit.model import record
+from blendkit.pipeline import solve_workbook
+from blendkit.read.previous import read_run_record
+from tests.test_examples import formulate_with_highs
+
+STARTED = "Started from the earlier result's optimal basis"
+NOT_FITTED = "did not fit this LP"
+
+
+@pytest.fixture
+def plant(tmp_path: Path) -> Path:
+    """A 5-product plant (365 rows: the engine's sparse path) with shared stocks."""
+    return plant_workbook(tmp_path / "plant.xlsx", 5, 60, 30, 7)
+
+
+def _edit(path: Path, change) -> None:
+    """Apply `change(book)` to the workbook at `path` and save it."""
+    book = openpyxl.load_workbook(path)
+    change(book)
+    book.save(path)
+
+
+def _scale_prices(book, factors) -> None:
+    """Each ingredient's Cost cell times its factor (one price per ingredient, as a buyer's list has it)."""
+    for row, factor in zip(book["Ingredients"].iter_rows(min_row=2), factors):
+        row[1].value = float(row[1].value) * float(factor)
+
+
+def _assert_highs_optimum(path: Path, formula) -> None:
+    reference = formulate_with_highs(path)
+    assert reference.result.status == 0
+    assert formula.status == "optimal"
+    assert formula.cost == pytest.approx(reference.result.fun, rel=1e-7)
+
+
+def test_a_plant_solved_again_after_a_price_change_starts_from_the_last_basis(plant, tmp_path):
+    out = tmp_path / "plant.result.xlsx"
+    first = solve_workbook(plant, out, check=False).formula
+    assert first.status == "optimal" and first.iterations > 100
+    assert not any(STARTED in note for note in first.notes)
+    factors = np.random.default_rng(3).uniform(0.97, 1.03, 60)
+    _edit(plant, lambda book: _scale_prices(book, factors))
+    cold = solve_workbook(plant, tmp_path / "cold.xlsx", check=False, start=False).formula
+    warm = solve_workbook(plant, out, check=False).formula
+    assert any(STARTED in note for note in warm.notes)
+    assert warm.iterations < cold.iterations / 2
+    _assert_highs_optimum(plant, warm)
+    assert warm.cost == pytest.approx(cold.cost, rel=1e-9)
+
+
+def test_the_same_plant_solved_again_takes_no_iterations_and_gives_the_same_formula(plant, tmp_path):
+    out = tmp_path / "plant.result.xlsx"
+    first = solve_workbook(plant, out, check=False).formula
+    again = solve_workbook(plant, out, check=False).formula
+    assert again.iterations == 0
+    assert any(STARTED in note for note in again.notes)
+    for before, after in zip(first.products, again.products):
+        assert [line.inclusion for line in after.ingredients] == pytest.approx(
+            [line.inclusion for line in before.ingredients], abs=1e-9)
+    _assert_highs_optimum(plant, again)
+
+
+def _change_specs_and_ingredients(book) -> None:
+    """Drop one product's first spec row, raise another's minimum by 2 % and add a new,
+    cheap ingredient copied from the first one."""
+    specs = book["Specs"]
+    specs.delete_rows(2)
+    specs.cell(5, 2).value = float(specs.cell(5, 2).value) * 1.02
+    sheet = book["Ingredients"]
+    copied = [cell.value for cell in sheet[2]]
+    copied[0], copied[1] = "New ingredient", float(copied[1]) * 0.9
+    sheet.append(copied)
+
+
+def test_specs_and_ingredients_changed_since_still_solve_to_the_highs_optimum(plant, tmp_path):
+    out = tmp_path / "plant.result.xlsx"
+    solve_workbook(plant, out, check=False)
+    _edit(plant, _change_specs_and_ingredients)
+    changed = solve_workbook(plant, out, check=False).formula
+    assert any(STARTED in note or NOT_FITTED in note for note in changed.notes)
+    _assert_highs_optimum(plant, changed)
+
+
+def test_from_scratch_ignores_the_earlier_basis(plant, tmp_path):
+    out = tmp_path / "plant.result.xlsx"
+    runner = CliRunner()
+    first = json.loads(runner.invoke(app, ["solve", str(plant), "-o", str(out), "--json", "--jobs", "1",
+                                           "--no-cross-check"]).stdout)
+    again = json.loads(runner.invoke(app, ["solve", str(plant), "-o", str(out), "--json", "--jobs", "1",
+                                           "--no-cross-check", "--from-scratch"]).stdout)
+    assert not any(STARTED in note for note in again["notes"])
+    assert again["status"] == "optimal"
+    assert again["total_cost"] == pytest.approx(first["total_cost"], rel=1e-9)
+    assert again["total_cost"] == pytest.approx(formulate_with_highs(plant).result.fun, rel=1e-7)
+
+
+def test_the_record_keeps_the_basis_and_passes_over_damaged_rows(plant, tmp_path):
+    out = tmp_path / "plant.result.xlsx"
+    formula = solve_workbook(plant, out, check=False).formula
+    kept = read_run_record(out).basis
+    assert kept == tuple(pair for part in (formula.parts or (formula,)) for pair in part.basis)
+    # Every row of the LP has one basic variable: as many "1" rows as LP rows (5 x 31 + 60).
+    assert sum(state == 1 for _, state in kept) == 5 * 31 + 60
+
+    def damage(book):
+        sheet = book[record.SHEET]
+        sheet.append([None, record.BASIS, "not json [", 1])
+        sheet.append([None, record.BASIS, '["ingredient", "Product 1", "Ingredient 1"]', 7])
+        sheet.append([None, record.BASIS, "[1, 2]", 1])
+
+    _edit(out, damage)
+    assert read_run_record(out).basis == kept
+    again = solve_workbook(plant, out, check=False).formula
+    assert again.iterations == 0
+    _assert_highs_optimum(plant, again)
