@@ -128,7 +128,7 @@ def _with_basis(formula: Formula, blend: Blend, lp, result) -> Formula:
     saying whether this run started from the earlier result's (`blendkit.lp.start`)."""
     notes = formula.notes
     if blend.start:
-        notes += ((f"Started from the earlier result's optimal basis: {result.iterations} simplex iterations.",)
+        notes += (("Started from the earlier result's optimal basis (see the engine's iterations in Run info).",)
                   if result.warm_start else
                   ("The earlier result's optimal basis did not fit this LP; it was solved from scratch.",))
     return dataclasses.replace(formula, basis=basis_labels(blend, lp, result), notes=notes)
