@@ -162,3 +162,50 @@ def test_a_mip_cross_check_in_a_forked_worker_ends_after_one_in_the_parent():
         pytest.fail("a forked worker's HiGHS MIP never ended")
     assert child.returncode == 0, err
     assert out.strip() == "ended"
+
+
+def _plant_form(seed: int):
+    from blendkit.bench.plant import make_plant
+
+    plant = make_plant(5, 60, 30, seed)
+    return plant, to_standard_form(plant.c, plant.A_ub, plant.b_ub, plant.A_eq, plant.b_eq, plant.bounds)
+
+
+@pytest.mark.parametrize("start", ["ours", "slack", "other costs"])
+def test_highs_started_from_a_basis_still_finds_the_optimum(start):
+    # The cross-check starts HiGHS from our optimal basis. From a basis that is not optimal
+    # (all slacks; the optimum of other costs, feasible but not optimal here) HiGHS must
+    # still reach the optimum, so a wrong basis of ours would show as a cost difference.
+    # Outside reference: scipy's linprog(method="highs") solving from scratch.
+    from blendkit.engine.result import Basis
+
+    plant, form = _plant_form(11)
+    m, n = form.shape
+    if start == "ours":
+        basis = solve_form(form).basis
+    elif start == "slack":
+        basis = Basis(head=n + np.arange(m), at_upper=np.zeros(n + m, dtype=bool), shape=(m, n))
+    else:
+        other = StandardForm(form.c[::-1].copy(), form.A, form.row_lower, form.row_upper, form.col_lower,
+                             form.col_upper, form.n_ub, form.from_linprog)
+        basis = solve_form(other).basis
+    expected = linprog(plant.c, plant.A_ub, plant.b_ub, plant.A_eq, plant.b_eq, plant.bounds, method="highs").fun
+    answer = solve_with_highs(form.c, form.A, form.row_lower, form.row_upper, form.col_lower, form.col_upper,
+                              basis=basis)
+    assert answer.status == "optimal" and answer.cost == pytest.approx(expected, rel=1e-9)
+
+
+def test_the_cross_check_of_a_wrong_optimum_disagrees():
+    # Our result swapped for the optimum of other costs (its basis and cost): HiGHS, started
+    # from that basis, moves on to the true optimum and the check reports the difference.
+    plant, form = _plant_form(12)
+    other = StandardForm(form.c[::-1].copy(), form.A, form.row_lower, form.row_upper, form.col_lower,
+                         form.col_upper, form.n_ub, form.from_linprog)
+    wrong = solve_form(other)
+    from dataclasses import replace
+
+    wrong = replace(wrong, objective=float(form.c @ wrong.x))
+    check = cross_check(form, wrong)
+    expected = linprog(plant.c, plant.A_ub, plant.b_ub, plant.A_eq, plant.b_eq, plant.bounds, method="highs").fun
+    assert check.cost == pytest.approx(expected, rel=1e-9)  # outside reference: linprog
+    assert not check.agrees and warning(check, wrong.objective) is not None

@@ -141,9 +141,12 @@ os.register_at_fork(before=_stop_highs_threads)
 
 
 def solve_with_highs(c, A, row_lower, row_upper, col_lower, col_upper, *, integrality=None,
-                     time_limit: float | None = None) -> HighsAnswer:
+                     time_limit: float | None = None, basis=None) -> HighsAnswer:
     """Solve the LP (a MIP when `integrality` is given, within `time_limit` seconds when given)
-    with HiGHS, presolve and all on their defaults; ``refused: why`` for an LP it cannot take."""
+    with HiGHS, presolve and all on their defaults; ``refused: why`` for an LP it cannot take.
+    `basis` (an engine Basis of this LP) is where HiGHS's simplex starts: HiGHS checks it
+    in its own arithmetic and iterates on from it unless it is optimal there (a basis it
+    cannot use, it drops, and solves from scratch)."""
     why = refusal(c, A, row_lower, row_upper, col_lower, col_upper)
     if why is not None:
         return HighsAnswer(f"refused: {why}", None)
@@ -154,7 +157,29 @@ def solve_with_highs(c, A, row_lower, row_upper, col_lower, col_upper, *, integr
         h.setOptionValue("time_limit", float(time_limit))
     if h.passModel(highs_lp(c, A, row_lower, row_upper, col_lower, col_upper, integrality)) == highspy.HighsStatus.kError:
         return HighsAnswer("refused: HiGHS would not load the LP", None)
+    if basis is not None and integrality is None:
+        h.setBasis(highs_basis(basis, np.concatenate([col_lower, row_lower]), np.concatenate([col_upper, row_upper])))
     h.run()
     words = LP_STATUS if integrality is None else MIP_STATUS
     status = words.get(h.getModelStatus().name, OTHER_STATUS)
     return HighsAnswer(status, float(h.getInfo().objective_function_value) if status == "optimal" else None)
+
+
+def highs_basis(basis, lower: np.ndarray, upper: np.ndarray):
+    """An engine Basis (structurals, then the rows' activities) as a highspy.HighsBasis: a
+    basic variable is basic; a nonbasic one sits at the bound the engine had it at (its
+    upper bound only where that is finite), or at zero when it has no finite bound."""
+    import highspy
+
+    status = highspy.HighsBasisStatus
+    n = len(lower) - basis.shape[0]
+    basic = np.zeros(len(lower), dtype=bool)
+    basic[np.asarray(basis.head)] = True
+    at_upper = np.asarray(basis.at_upper, dtype=bool) & np.isfinite(upper)
+    codes = np.where(basic, 0, np.where(at_upper, 1, np.where(np.isfinite(lower), 2, np.where(np.isfinite(upper), 1, 3))))
+    words = (status.kBasic, status.kUpper, status.kLower, status.kZero)
+    states = [words[k] for k in codes.tolist()]
+    answer = highspy.HighsBasis()
+    answer.col_status, answer.row_status = states[:n], states[n:]
+    answer.valid = True
+    return answer
