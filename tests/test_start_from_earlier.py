@@ -131,3 +131,65 @@ def test_the_record_keeps_the_basis_and_passes_over_damaged_rows(plant, tmp_path
     again = solve_workbook(plant, out, check=False).formula
     assert again.iterations == 0
     _assert_highs_optimum(plant, again)
+
+
+# --- Random edits between two runs -------------------------------------------------------
+
+from hypothesis import HealthCheck, given, settings  # noqa: E402
+from hypothesis import strategies as st  # noqa: E402
+
+ROOT = Path(__file__).resolve().parents[1]
+
+
+def _random_edit(book, draw_prices, spec_scale, drop_spec, use_off, stock_scale) -> None:
+    """Prices moved per ingredient, one spec's bounds scaled, one spec row dropped, one
+    ingredient's Use set to no, stocks scaled (where the sheets have them)."""
+    sheet = book["Ingredients"]
+    header = [str(cell.value or "").lower() for cell in sheet[1]]
+    for row, factor in zip(sheet.iter_rows(min_row=2), draw_prices):
+        if isinstance(row[1].value, (int, float)):
+            row[1].value = float(row[1].value) * factor
+    if use_off is not None and "use" in header:
+        sheet.cell(2 + use_off % (sheet.max_row - 1), header.index("use") + 1).value = "no"
+    if "stock (t)" in header:
+        column = header.index("stock (t)") + 1
+        for row in range(2, sheet.max_row + 1):
+            value = sheet.cell(row, column).value
+            if isinstance(value, (int, float)):
+                sheet.cell(row, column).value = float(value) * stock_scale
+    specs = book["Specs"]
+    spec_header = [str(cell.value or "").lower() for cell in specs[1]]
+    row = 2 + spec_scale[0] % (specs.max_row - 1)
+    for side in ("min", "max"):
+        cell = specs.cell(row, spec_header.index(side) + 1)
+        if isinstance(cell.value, (int, float)):
+            cell.value = float(cell.value) * spec_scale[1]
+    if drop_spec is not None and specs.max_row > 3:
+        specs.delete_rows(2 + drop_spec % (specs.max_row - 1))
+
+
+@pytest.mark.parametrize("sample", ["pig_feed_plant", "layer_feed"])
+@settings(max_examples=6, deadline=None, derandomize=True, suppress_health_check=[HealthCheck.function_scoped_fixture])
+@given(prices=st.lists(st.floats(0.8, 1.25), min_size=20, max_size=20),
+       spec_scale=st.tuples(st.integers(0, 40), st.floats(0.9, 1.1)),
+       drop_spec=st.none() | st.integers(0, 40), use_off=st.none() | st.integers(0, 40),
+       stock_scale=st.floats(0.7, 1.5))
+def test_a_workbook_edited_at_random_solves_from_its_earlier_basis_to_the_highs_optimum(
+        sample, tmp_path, prices, spec_scale, drop_spec, use_off, stock_scale):
+    # Whatever changed between two runs, the run started from the earlier basis ends where
+    # HiGHS ends on the workbook as it now stands: the same status, the same least cost.
+    folder = tmp_path / f"run{abs(hash((tuple(prices), spec_scale, drop_spec, use_off, stock_scale)))}"
+    folder.mkdir()
+    book_path = folder / f"{sample}.xlsx"
+    book_path.write_bytes((ROOT / "sample_workbooks" / f"{sample}.xlsx").read_bytes())
+    out = folder / "out.xlsx"
+    solve_workbook(book_path, out, check=False)
+    _edit(book_path, lambda book: _random_edit(book, prices, spec_scale, drop_spec, use_off, stock_scale))
+    formula = solve_workbook(book_path, out, check=False).formula
+    reference = formulate_with_highs(book_path)
+    if reference.result.status == 2:  # HiGHS: infeasible
+        assert formula.status == "infeasible"
+        return
+    assert reference.result.status == 0
+    assert formula.status == "optimal"
+    assert formula.cost == pytest.approx(reference.result.fun, rel=1e-7)
