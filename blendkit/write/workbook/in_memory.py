@@ -20,8 +20,9 @@ from zipfile import ZIP_DEFLATED, ZipFile
 
 from openpyxl.drawing.spreadsheet_drawing import SpreadsheetDrawing
 from openpyxl.workbook.workbook import Workbook
-from openpyxl.worksheet._writer import WorksheetWriter
 from openpyxl.writer.excel import ExcelWriter
+
+from blendkit.write.workbook.sheet_rows import SheetRowsWriter
 
 
 class _InMemoryWriter(ExcelWriter):
@@ -36,7 +37,7 @@ class _InMemoryWriter(ExcelWriter):
         ws._drawing.charts = ws._charts
         ws._drawing.images = ws._images
         buffer = io.BytesIO()
-        writer = WorksheetWriter(ws, out=buffer)
+        writer = SheetRowsWriter(ws, out=buffer)
         writer.write()
         ws._rels = writer._rels
         self._archive.writestr(ws.path[1:], buffer.getvalue())
