@@ -61,9 +61,26 @@ class SheetRowsWriter(WorksheetWriter):
         else:
             rows = _RowText(self.ws, xf, write)
             with xf.element("sheetData"):
-                for row_idx, row in self.rows():
+                for row_idx, row in sorted_rows(self.ws):
                     rows.write(row, row_idx)
         self.xf.send(None)  # as openpyxl: control back to its element stream
+
+
+def sorted_rows(ws) -> list[tuple[int, list]]:
+    """`WorksheetWriter.rows`: each row's number and its cells by column, rows with
+    dimensions but no cells included, in order; grouped from the sorted cell keys
+    (a third of openpyxl's time, which sorts the cells themselves into a defaultdict)."""
+    cells = ws._cells
+    rows: dict[int, list] = {}
+    for key in sorted(cells):
+        found = rows.get(key[0])
+        if found is None:
+            rows[key[0]] = [cells[key]]
+        else:
+            found.append(cells[key])
+    for row in ws.row_dimensions.keys() - rows.keys():
+        rows[row] = []
+    return sorted(rows.items())
 
 
 def _text_path_fits() -> bool:
@@ -79,6 +96,7 @@ class _RowText:
         self.dims = ws.row_dimensions
         self.add_style = ws.parent._cell_styles.add
         self.letters: dict[int, str] = {}
+        self.style_ids: dict[bytes, int] = {}  # a look's bytes -> its index in the workbook
 
     def write(self, row: list, row_idx: int) -> None:
         """One ``<row>`` element and its cells, as `WorksheetWriter.write_row` writes them."""
@@ -122,11 +140,21 @@ class _RowText:
         letter = self.letters.get(column)
         if letter is None:
             letter = self.letters[column] = get_column_letter(column)
-        # The style index is looked up (and added) in cell order, as openpyxl's cell.style_id.
-        start = f'<c r="{letter}{row_text}" s="{self.add_style(style)}"' if styled else f'<c r="{letter}{row_text}"'
-        if inner == "":
-            return f"{start}{_TYPES[data_type]} />"
-        return f"{start}{_TYPES[data_type]}>{inner}</c>"
+        start = f'<c r="{letter}{row_text}" s="{self._style_id(style)}"' if styled else f'<c r="{letter}{row_text}"'
+        kind = _TYPES.get(data_type)
+        if kind is None:
+            kind = _type_attribute(data_type)
+        return f"{start}{kind} />" if inner == "" else f"{start}{kind}>{inner}</c>"
+
+    def _style_id(self, style) -> int:
+        """openpyxl's `cell.style_id`: the look's index, added to the workbook's looks the
+        first time it is met (so in cell order, as openpyxl adds them), remembered by its
+        bytes (equal arrays, equal bytes), which is quicker than the look's own hash."""
+        key = style.tobytes()
+        found = self.style_ids.get(key)
+        if found is None:
+            found = self.style_ids[key] = self.add_style(style)
+        return found
 
     def _openpyxl_cell(self, cell) -> None:
         """One cell exactly as `WorksheetWriter.write_row` treats it (comments recorded)."""
@@ -141,8 +169,8 @@ def _inner(value, data_type: str) -> str | None:
     """What goes inside ``<c>`` for the common cells ("" for none), or None when
     openpyxl's writer must write the cell."""
     kind = type(value)
-    if value is None:
-        return "" if data_type == "n" else None
+    if value is None:  # a date's type comes from its value: openpyxl's writer
+        return "" if data_type != "d" else None
     if data_type == "n":
         if kind is int or (kind is float and isfinite(value)):
             return f"<v>{'%.16g' % value}</v>"
@@ -162,6 +190,12 @@ def _inner(value, data_type: str) -> str | None:
     if data_type == "e":
         return f"<v>{_escape(value)}</v>" if value else None
     return None
+
+
+def _type_attribute(data_type: str) -> str:
+    """The type attribute of a data type not in `_TYPES` (the "inlineStr" of a cell read
+    from openpyxl's own empty text, say), as openpyxl writes it."""
+    return f' t="{_attribute(data_type)}"'
 
 
 def _escape(text: str) -> str:
