@@ -209,3 +209,11 @@ def test_with_another_cell_writer_openpyxls_rows_are_written(monkeypatch, text_r
     monkeypatch.setattr(worksheet_writer, "write_cell", wrapped)
     _same_as_openpyxls_save(_every_cell_kind)
     assert text_rows["rows"] == 0
+
+
+def test_without_et_xmlfiles_text_writer_openpyxls_rows_are_written(monkeypatch, text_rows):
+    # Should a later et_xmlfile keep its text writer elsewhere, openpyxl's own rows are
+    # written into the same element stream: the bytes are still those of its save.
+    monkeypatch.setattr(sheet_rows, "_text_writer", lambda xf: None)
+    _same_as_openpyxls_save(_every_cell_kind)
+    assert text_rows["rows"] == 0

@@ -53,14 +53,13 @@ class SheetRowsWriter(WorksheetWriter):
             super().write_rows()
             return
         xf = self.xf.send(True)
-        write = getattr(xf, "_file", None)
-        if not callable(write):  # another et_xmlfile: openpyxl's own row writer
-            with xf.element("sheetData"):
+        write = _text_writer(xf)
+        with xf.element("sheetData"):
+            if write is None:  # another et_xmlfile: openpyxl's own rows
                 for row_idx, row in self.rows():
                     self.write_row(xf, row, row_idx)
-        else:
-            rows = _RowText(self.ws, xf, write)
-            with xf.element("sheetData"):
+            else:
+                rows = _RowText(self.ws, xf, write)
                 for row_idx, row in sorted_rows(self.ws):
                     rows.write(row, row_idx)
         self.xf.send(None)  # as openpyxl: control back to its element stream
@@ -86,6 +85,13 @@ def sorted_rows(ws) -> list[tuple[int, list]]:
 def _text_path_fits() -> bool:
     """The text is what openpyxl writes only while its cell writer is ElementTree's."""
     return sheet_writer.write_cell is cell_writer.etree_write_cell
+
+
+def _text_writer(xf):
+    """The text writer behind et_xmlfile's element writer (its elements' text goes
+    through it), or None should et_xmlfile keep it elsewhere."""
+    write = getattr(xf, "_file", None)
+    return write if callable(write) else None
 
 
 class _RowText:
