@@ -2,9 +2,10 @@
 openpyxl 3.1 writes it.
 
 openpyxl's `WorksheetWriter` writes each cell as an ElementTree element that et_xmlfile
-serialises: about 25 us a cell, most of the save of an output with 200,000 cells. Here the
-common cells are formatted as strings, a row at a time, and handed to the same text
-writer that openpyxl's own elements go through (so encoding and order are unchanged):
+serialises: about 7 us a cell on the development machine, 1.4 s of the 3.1 s write of a
+40-product plant's output (200,000 cells). Here the common cells are formatted as strings,
+a row at a time, and handed to the same text writer that openpyxl's own elements go
+through (so encoding and order are unchanged), 1 us a cell:
 
 * a number (int or finite float): ``<c r="B2" s="3" t="n"><v>0.1</v></c>``, the value as
   openpyxl's ``safe_string`` gives it (``"%.16g"``);
@@ -19,9 +20,9 @@ writer that openpyxl's own elements go through (so encoding and order are unchan
 Every other cell (dates and times, rich text, array and data-table formulas, numbers of
 other types such as Decimal or numpy's, NaN and infinities, cells with a comment or a
 hyperlink, which openpyxl records while writing) goes to openpyxl's own cell writer, in
-its place in the row. The rows and their attributes (``ht``, ``customHeight``, ``hidden``,
-``outlineLevel``...) come from openpyxl's own `rows` and row dimensions. Text is escaped
-as ElementTree escapes it. tests/test_in_memory_save.py compares every part with
+its place in the row. The rows are those of openpyxl's `rows` (`sorted_rows`), their
+attributes (``ht``, ``customHeight``, ``hidden``, ``outlineLevel``...) those of its row
+dimensions. Text is escaped as ElementTree escapes it. tests/test_in_memory_save.py compares every part with
 `Workbook.save`'s.
 
 The text path is taken only with the writer this was made for (et_xmlfile's, whose write
