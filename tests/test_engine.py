@@ -453,6 +453,24 @@ def test_warm_start_after_a_bound_change_uses_the_dual_simplex():
         assert_optimal(result, ref.objective)
 
 
+@pytest.mark.parametrize("seed", range(6))
+def test_warm_start_after_prices_and_bounds_both_changed_reaches_the_optimum(seed):
+    # Prices and limits changed together: the old basis is (usually) neither primal nor
+    # dual feasible. The engine shifts the costs where the basis is not dual feasible, runs
+    # the dual simplex, puts the costs back and finishes by the primal simplex; the answer
+    # is the optimum HiGHS finds for the new LP (outside reference).
+    lp = _blend_lp(20 + seed)
+    first = solve(**lp)
+    rng = np.random.default_rng(seed)
+    changed = dict(lp, c=lp["c"] * rng.uniform(0.3, 3.0, lp["c"].size), b_ub=lp["b_ub"] * rng.uniform(1.05, 1.15, lp["b_ub"].size))
+    ref = highs(**changed)
+    result = solve(**changed, basis=first.basis)
+    assert result.status == ref.status
+    if ref.status == "optimal":
+        assert result.warm_start and result.phase_one_iterations == 0
+        assert_optimal(result, ref.objective)
+
+
 def test_a_basis_of_another_shape_is_ignored():
     first = solve(**_blend_lp(7))
     other = _blend_lp(8, n=20, k=6)

@@ -20,6 +20,37 @@ from blendkit.engine.simplex_state import SimplexState, pivots_disagree
 from blendkit.engine.tolerances import PERTURB_AFTER, STEEPEST_EDGE_ROWS
 
 
+def start_shifted(state: SimplexState, basis) -> np.ndarray | None:
+    """Set up the given `basis` for the dual simplex even where it is not dual feasible:
+    the costs of the nonbasic variables whose reduced cost asks them to move where they
+    cannot (past their only bound, or a free one anywhere) are shifted so that their
+    reduced cost is zero. Returns those shifted costs (the run's own, until the caller
+    puts the true ones back), or None when the basis does not fit or is singular."""
+    n, m, td = state.n, state.m, state.tol.dual_feasibility
+    head, at_upper = (np.asarray(b) for b in basis)
+    if head.shape != (m,) or np.any(head >= n + m) or len(set(head.tolist())) != m:
+        return None
+    state.add_artificials(np.zeros(0, dtype=int), np.zeros(0))
+    state.set_head(head)
+    cost = np.concatenate([state.c_struct, np.zeros(m)])
+    try:
+        state.factor.factor(state.M[:, state.head])
+    except SingularBasis:
+        return None
+    d = cost - state.times_transpose(state.factor.btran(cost[state.head]))
+    lo, up = state.lower[: n + m], state.upper[: n + m]
+    low_ok, up_ok = np.isfinite(lo), np.isfinite(up)
+    nonbasic = ~state.basic & (lo != up)
+    wants_upper, wants_lower = d < -td, d > td
+    stuck = nonbasic & ((wants_upper & ~up_ok) | (wants_lower & ~low_ok))
+    shifted = cost.copy()
+    shifted[stuck] -= d[stuck]
+    state.place_nonbasics(np.where(wants_upper & ~stuck, True, np.where(wants_lower & ~stuck, False,
+                                                                       np.asarray(at_upper, bool))))
+    state.basic_values()
+    return shifted
+
+
 def start_dual(state: SimplexState, basis=None) -> bool:
     """Set up a dual feasible basis without artificials; False when there is none at hand.
 

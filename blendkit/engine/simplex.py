@@ -44,7 +44,7 @@ import numpy as np
 
 from blendkit.engine.basis_factor import SingularBasis
 from blendkit.engine.certificate import proves_infeasible
-from blendkit.engine.dual import run_dual, start_dual
+from blendkit.engine.dual import run_dual, start_dual, start_shifted
 from blendkit.engine.pricing import prices_out
 from blendkit.engine.primal import run_primal
 from blendkit.engine.ranging import bound_ranges, cost_ranges
@@ -99,6 +99,8 @@ def run_simplex(
         warm = basis is not None and state.start_from(*basis)
         if not warm and allow_dual:
             outcome = _try_dual(state, basis, ranging)
+            if outcome is None and basis is not None:  # the given basis led nowhere: as from scratch
+                outcome = _try_dual(state, None, ranging)
             if outcome is not None:
                 return outcome
         return _two_phase(state, warm, ranging)
@@ -124,13 +126,36 @@ def _try_dual(state: SimplexState, basis, ranging: bool) -> SimplexOutcome | Non
     stalls or runs into trouble.
     """
     if not start_dual(state, basis):
-        return None
+        return None if basis is None else _try_shifted(state, basis, ranging)
     status = _dual_run(state)
     if status == "unbounded":
         return _unbounded(state, phase_one=0)
     if status != "optimal":
         return None
     return optimal_outcome(state, phase_one=0, warm=basis is not None, algorithm="dual", ranging=ranging)
+
+
+def _try_shifted(state: SimplexState, basis, ranging: bool) -> SimplexOutcome | None:
+    """From a given basis that is neither primal nor dual feasible (a workbook whose prices
+    and limits both changed since): the dual simplex with the costs shifted where the
+    basis is not dual feasible (`dual.start_shifted`) to a primal feasible basis, then the
+    true costs back and the primal simplex to the optimum. None hands over to the
+    two-phase method from scratch (so infeasibility is still proved by phase one)."""
+    shifted = start_shifted(state, basis)
+    if shifted is None:
+        return None
+    status = run_dual(state, shifted, perturb=True)
+    if status != "optimal":
+        return None
+    cost = np.concatenate([state.c_struct, np.zeros(state.m)])
+    state.d = state.fresh_duals(cost)
+    if not _dual_feasible(state):
+        status = run_primal(state, cost)
+    if status == "unbounded":
+        return _unbounded(state, phase_one=0)
+    if status != "optimal":
+        return None
+    return optimal_outcome(state, phase_one=0, warm=True, algorithm="dual", ranging=ranging)
 
 
 def _dual_run(state: SimplexState) -> str:
