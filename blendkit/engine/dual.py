@@ -17,7 +17,7 @@ from blendkit.engine.perturbation import perturbed_costs
 from blendkit.engine.pricing import StallWatch, leaving_position, update_dual_weights, update_steepest_weights
 from blendkit.engine.ratio_test import dual_ratio_test
 from blendkit.engine.simplex_state import SimplexState, pivots_disagree
-from blendkit.engine.tolerances import PERTURB_AFTER, STEEPEST_EDGE_ROWS
+from blendkit.engine.tolerances import PERTURB_AFTER, PIVOT_REFRESH_LIMIT, STEEPEST_EDGE_ROWS
 
 
 def start_dual(state: SimplexState, basis=None) -> bool:
@@ -62,7 +62,8 @@ def run_dual(state: SimplexState, cost: np.ndarray, perturb: bool = False, d: np
     """Dual simplex iterations until primal feasible ("optimal"), or a reason to stop.
 
     Returns "optimal", "infeasible" (no entering variable: the dual is unbounded),
-    "stalled" or "iteration_limit". With `perturb`, a run that takes PERTURB_AFTER
+    "stalled", "iteration_limit" or "numerical_trouble" (the pivot row and column still
+    disagree after PIVOT_REFRESH_LIMIT refactorisations in a row). With `perturb`, a run that takes PERTURB_AFTER
     degenerate iterations in a row goes on with perturbed costs (`perturbation`); an
     optimal run then ends with the true costs put back (`state.y` and `state.d` computed
     afresh from the final basis), so `state.d` and `state.y` are always those of `cost`
@@ -135,6 +136,7 @@ class _DualRun:
         """The iterations; see `run_dual`."""
         state = self.state
         factor, weights, stalled = state.factor, self.weights, self.stall.record
+        disagreements = 0  # refactorisations in a row for pivots that disagree
         while True:
             if state.iterations >= state.max_iterations:
                 self.store_positions()
@@ -158,8 +160,13 @@ class _DualRun:
             alpha, change, moved, tau = self.solve_columns(q, flipped)
             pivot = alpha.item(r)
             if pivots_disagree(row.item(q), pivot):
+                disagreements += 1
+                if disagreements > PIVOT_REFRESH_LIMIT:
+                    self.store_positions()
+                    return "numerical_trouble"
                 self.refresh()
                 continue
+            disagreements = 0
             state.iterations += 1
             if flipped.size:
                 self.flip(flipped, change, moved)

@@ -78,6 +78,11 @@ RAY_ROUNDING_ULPS = 4
 # The pivot element computed from the pivot row and from the entering column may differ by
 # this much (relative to 1 + |pivot|) before rounding counts as built up: then refactorise.
 PIVOT_AGREEMENT = 1e-7
+# Refactorisations in a row that such a disagreement may cause, with no iteration made in
+# between; one more and the run ends as "numerical_trouble" (the caller then solves
+# another way, as for any trouble). Fresh factors that still disagree would otherwise be
+# refactorised for ever: the same basis gives the same pivot.
+PIVOT_REFRESH_LIMIT = 3
 # A Devex reference weight above this starts a new reference framework (all weights 1).
 DEVEX_WEIGHT_LIMIT = 1e8
 # The dual simplex prices by exact steepest-edge weights (one more solve per iteration)
