@@ -87,8 +87,8 @@ class BasisFactor:
     @staticmethod
     def _check_pivots(diagonal: np.ndarray) -> None:
         """Raise SingularBasis when the smallest pivot of U is negligible (SINGULAR_PIVOT)."""
-        diag = np.abs(diagonal)
-        if diag.min() <= SINGULAR_PIVOT * max(1.0, diag.max()):
+        diag = np.abs(diagonal)  # argmin, argmax: cheaper than reductions
+        if diag.item(diag.argmin()) <= SINGULAR_PIVOT * max(1.0, diag.item(diag.argmax())):
             raise SingularBasis("basis matrix is singular to working precision")
 
     def factor(self, B: np.ndarray) -> None:
@@ -118,10 +118,14 @@ class BasisFactor:
         # right-hand sides when T is kept anyway.
         if k <= ETA_LOOP_MAX and not (wide and self._batched):
             for i in range(k):
-                r = rows[i]
+                r = rows.item(i)
                 alpha = etas[:, i]
-                zr = z[r] / alpha[r]
-                z -= np.multiply.outer(alpha, zr) if wide else zr * alpha
+                if wide:
+                    zr = z[r] / alpha[r]
+                    z -= np.multiply.outer(alpha, zr)
+                else:  # Python floats: the same arithmetic, without numpy's scalars
+                    zr = z.item(r) / alpha.item(r)
+                    z -= zr * alpha
                 z[r] = zr
         elif k:
             t, _ = lapack.dtrtrs(self._tri[:k, :k], z[rows[:k]], lower=1)
@@ -137,10 +141,11 @@ class BasisFactor:
         k, rows, etas = self._k, self._rows, self._etas
         if k <= ETA_LOOP_MAX:
             for i in range(k - 1, -1, -1):
-                r = rows[i]
+                r = rows.item(i)
                 alpha = etas[:, i]
-                # E^T w_new = w: only entry r changes.
-                w[r] = (w[r] - (alpha @ w - alpha[r] * w[r])) / alpha[r]
+                # E^T w_new = w: only entry r changes (in Python floats, the same arithmetic).
+                ar, wr = alpha.item(r), w.item(r)
+                w[r] = (wr - (alpha.dot(w) - ar * wr)) / ar
         elif k:
             u, _ = lapack.dtrtrs(self._tri[:k, :k], w[rows[:k]] - w @ etas[:, :k], lower=1, trans=1)
             _scatter_add(w, rows[:k], u, self._repeats)
@@ -165,7 +170,7 @@ class BasisFactor:
             earlier = rows[:k] == r
             self._tri[k, :k] = self._etas[r, :k] - earlier
             self._tri[k, k] = alpha[r]
-            self._repeats = self._repeats or bool(earlier.any())
+            self._repeats = self._repeats or bool(np.count_nonzero(earlier))
         rows[k] = r
         self._k = k + 1
 
