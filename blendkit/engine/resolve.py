@@ -42,7 +42,7 @@ from blendkit.engine.result import Basis, LPResult
 from blendkit.engine.scaling import Scaling, find_scaling, scale_form
 from blendkit.engine.simplex import optimal_outcome
 from blendkit.engine.simplex_state import SimplexState
-from blendkit.engine.solve import blas_threads_idle, checked_result, one_blas_thread, solve_form
+from blendkit.engine.solve import blas_threads_idle, checked_optimum, checked_result, one_blas_thread, solve_form
 from blendkit.engine.standard_form import StandardForm, to_standard_form
 from blendkit.engine.tolerances import INVERSE_ROWS, ITERATION_LIMIT_MIN, ITERATION_LIMIT_PER_LINE, Tolerances
 
@@ -192,7 +192,7 @@ class Resolver:
         state, moved = self._state, self._moved
         self._load()
         if moved:
-            if (state.lower > state.upper).any():
+            if np.count_nonzero(state.lower > state.upper):
                 return None
             self._bounds = _Bounds(state)
         state.iterations = 0
@@ -204,9 +204,16 @@ class Resolver:
             status, algorithm = "numerical_trouble", ""
         if status != "optimal":
             return None
-        outcome = optimal_outcome(state, phase_one=0, warm=True, algorithm=algorithm, ranging=ranging)
-        result, trusted = checked_result(self.form, self._scaling, outcome, self._tol)
-        if not trusted:
+        if ranging:
+            outcome = optimal_outcome(state, phase_one=0, warm=True, algorithm=algorithm, ranging=True)
+            result = checked_result(self.form, self._scaling, outcome, self._tol)[0]
+        else:  # the same result, from the state's arrays without an outcome record between
+            n, m = state.n, state.m
+            basis = Basis(head=state.head.copy(), at_upper=state.at_upper[: n + m].copy(), shape=(m, n))
+            result = checked_optimum(self.form, self._scaling, state.z[:n], state.y, state.d[:n], basis, self._tol,
+                                     iterations=state.iterations, phase_one_iterations=0, warm=True,
+                                     algorithm=algorithm)
+        if result.status != "optimal":  # the residual check failed
             return None
         self._basis = result.basis
         return result
@@ -259,14 +266,14 @@ def _iterate(state: SimplexState, bounds: _Bounds, cost: np.ndarray, moved: bool
     if repriced:
         state.d = state.fresh_duals(cost)
     if not moved or _primal_feasible(state, bounds):
-        if not _asks(state, bounds).any():
+        if not np.count_nonzero(_asks(state, bounds)):
             return "optimal", "primal"
         return run_primal(state, cost, d=state.d, refactor_at_end=refactor_at_end), "primal"
     if not _place_for_dual(state, bounds):
         return "no_start", ""
     # run_dual ends with the true costs' duals
     status = run_dual(state, cost, perturb=True, d=state.d, refactor_at_end=refactor_at_end)
-    if status == "optimal" and _asks(state, bounds).any():
+    if status == "optimal" and np.count_nonzero(_asks(state, bounds)):
         # rounding or the perturbation left a reduced cost astray
         status = run_primal(state, cost, d=state.d, refactor_at_end=refactor_at_end)
     return status, "dual"
@@ -277,7 +284,7 @@ def _primal_feasible(state: SimplexState, bounds: _Bounds) -> bool:
     in `SimplexState.start_from`)."""
     head = state.head
     xb = state.z[head]
-    return not ((xb < bounds.low[head]) | (xb > bounds.high[head])).any()
+    return not np.count_nonzero((xb < bounds.low[head]) | (xb > bounds.high[head]))
 
 
 def _asks(state: SimplexState, bounds: _Bounds) -> np.ndarray:
@@ -300,12 +307,12 @@ def _place_for_dual(state: SimplexState, bounds: _Bounds) -> bool:
     values; True when the basis is then dual feasible (as in `dual.start_dual`). The
     nonbasics were just placed by `at_upper`: when none asks to move, nothing is redone."""
     asks = _asks(state, bounds)
-    if not asks.any():
+    if not np.count_nonzero(asks):
         return True
-    if bounds.free.size and asks[bounds.free].any():
+    if bounds.free.size and np.count_nonzero(asks[bounds.free]):
         return False  # a free variable sits at zero whatever its reduced cost
     state.place_nonbasics(state.at_upper ^ asks)  # a bound it asks for may be infinite: checked next
-    if _asks(state, bounds).any():
+    if np.count_nonzero(_asks(state, bounds)):
         return False
     state.basic_values()
     return True
@@ -327,9 +334,10 @@ def _changed(values: np.ndarray, new, index, name: str) -> np.ndarray:
 
 
 def _check_bounds(lower: np.ndarray, upper: np.ndarray, what: str) -> None:
-    """Raise ValueError for a NaN bound, a lower bound of +inf or an upper bound of -inf
-    (a NaN fails both comparisons of the first test, so it alone passes good bounds)."""
-    if ((lower < np.inf) & (upper > -np.inf)).all():
+    """Raise ValueError for a NaN bound, a lower bound of +inf or an upper bound of -inf.
+    The first test reads the largest lower and the smallest upper bound (argmax and argmin
+    find a NaN first, and a NaN fails the comparison), so it alone passes good bounds."""
+    if not lower.size or (lower.item(lower.argmax()) < np.inf and upper.item(upper.argmin()) > -np.inf):
         return
     if np.isnan(lower).any() or np.isnan(upper).any():
         raise ValueError(f"{what} bounds must not be NaN")
