@@ -137,7 +137,10 @@ class BasisFactor:
         """Solve B^T y = c for the current basis."""
         if self._m == 0:
             return np.zeros(0)
-        w = np.array(c, dtype=float, copy=True)
+        return self._btran_own(np.array(c, dtype=float, copy=True))
+
+    def _btran_own(self, w: np.ndarray) -> np.ndarray:
+        """`btran` of a vector of our own, overwritten (unit_btran's needs no copy)."""
         k, rows, etas = self._k, self._rows, self._etas
         if k <= ETA_LOOP_MAX:
             for i in range(k - 1, -1, -1):
@@ -154,8 +157,10 @@ class BasisFactor:
     def unit_btran(self, r: int) -> np.ndarray:
         """B^-T e_r (the pivot row's multipliers)."""
         e_r = np.zeros(self._m)
+        if not self._m:
+            return e_r
         e_r[r] = 1.0
-        return self.btran(e_r)
+        return self._btran_own(e_r)
 
     def update(self, r: int, alpha: np.ndarray) -> None:
         """Record that column r of the basis was replaced; alpha = B_old^{-1} a_new."""
@@ -279,17 +284,20 @@ class InverseBasisFactor(BasisFactor):
             raise RuntimeError("the update file is full: refactorise first")
         self._rank_one(r, alpha)
         self._k, self._age = k + 1, self._age + 1
-        self._head = self._basis_head().copy()
+        # Each pivot changes the basis in position r alone, just before its update: the
+        # copy taken with the inverse stays the basis's own, entry by entry.
+        self._head[r] = self._basis_head()[r]
         if self._age % INVERSE_CHECK_EVERY == 0:
             j = self._checked % self._m
             self._checked = j + 1
             check = self._inverse @ self._basis_column(j)
             check[j] -= 1.0
-            self._drifted = bool(np.abs(check).max() > INVERSE_DRIFT)
+            np.abs(check, out=check)
+            self._drifted = check.item(check.argmax()) > INVERSE_DRIFT  # argmax: cheaper than a reduction
 
     def _rank_one(self, r: int, alpha: np.ndarray) -> None:
         """B^-1 -= (alpha - e_r) (e_r^T B^-1) / alpha_r, in place (BLAS dger, Fortran order)."""
-        row = self._inverse[r] / alpha[r]
+        row = self._inverse[r] / alpha.item(r)
         self._inverse = blas.dger(-1.0, alpha, row, a=self._inverse, overwrite_a=1)
         self._inverse[r] = row
 

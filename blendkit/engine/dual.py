@@ -255,7 +255,8 @@ class _DualRun:
             way = self.way
             signed = row * (self.back if rises else way)  # gain (as above) * way
             order = (signed > smallest).nonzero()[0]
-            room = np.maximum(d[order] * way[order], 0.0)
+            room = (d * way)[order]
+            np.maximum(room, 0.0, out=room)
             size = signed[order]
         if not order.size:
             return None

@@ -166,10 +166,13 @@ class SimplexState:
         goes to its lower bound, one with only an upper bound to that, a free one to zero.
         """
         low_ok, up_ok = np.isfinite(self.lower), np.isfinite(self.upper)
-        at_upper = (at_upper & up_ok) | (~low_ok & up_ok)
+        at_upper = at_upper | ~low_ok  # a new array: (at_upper & up_ok) | (~low_ok & up_ok)
+        at_upper &= up_ok
         at_upper[self.head] = False
         self.at_upper = at_upper
-        self.z = np.where(at_upper, self.upper, np.where(low_ok, self.lower, 0.0))
+        z = np.where(low_ok, self.lower, 0.0)
+        np.copyto(z, self.upper, where=at_upper)  # a re-solve places them every time: few steps
+        self.z = z
 
     def start_from(self, head: np.ndarray, at_upper: np.ndarray) -> bool:
         """Take a given basis; True when it is primal feasible, so phase one can be skipped.
@@ -231,7 +234,8 @@ class SimplexState:
 
     def basic_values(self) -> None:
         """Set the basic variables from the nonbasic ones: B z_B = -N z_N."""
-        nonbasic_z = np.where(self.basic, 0.0, self.z)
+        nonbasic_z = self.z.copy()  # np.where(basic, 0, z), in fewer steps
+        nonbasic_z[self.basic] = 0.0
         self.z[self.head] = self.factor.ftran(-self.times(nonbasic_z))
 
     def fresh_duals(self, cost: np.ndarray) -> np.ndarray:
