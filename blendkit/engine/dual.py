@@ -58,7 +58,7 @@ def start_dual(state: SimplexState, basis=None) -> bool:
 
 
 def run_dual(state: SimplexState, cost: np.ndarray, perturb: bool = False, d: np.ndarray | None = None,
-             refactor_at_end: bool = True) -> str:
+             refactor_at_end: bool = True, bounds=None) -> str:
     """Dual simplex iterations until primal feasible ("optimal"), or a reason to stop.
 
     Returns "optimal", "infeasible" (no entering variable: the dual is unbounded),
@@ -71,10 +71,13 @@ def run_dual(state: SimplexState, cost: np.ndarray, perturb: bool = False, d: np
     reduced costs of `cost` at this basis when the caller holds them fresh (a re-solve),
     else they are computed here. Without `refactor_at_end` (a re-solve, which checks its
     answer in original units and solves afresh when it fails) the run ends on the factors
-    it holds, updates and all, the values and duals recomputed from them.
+    it holds, updates and all, the values and duals recomputed from them. `bounds`: what
+    the caller already holds of the state's bounds (a re-solve's `resolve._Bounds`: `span`
+    = upper - lower, `movable` = lower != upper, `free` the free variables' indices), else
+    found here.
     """
     with np.errstate(divide="ignore", invalid="ignore", over="ignore"):  # infinite bounds
-        run = _DualRun(state, cost, perturb, d, refactor_at_end)
+        run = _DualRun(state, cost, perturb, d, refactor_at_end, bounds)
         status = run.run()
         if status == "optimal" and run.cost is not cost:
             state.d = state.fresh_duals(cost)  # the true costs back (see `perturbation`)
@@ -94,7 +97,7 @@ class _DualRun:
                  "refactor_at_end", "first_iteration")
 
     def __init__(self, state: SimplexState, cost: np.ndarray, perturb: bool = False, d: np.ndarray | None = None,
-                 refactor_at_end: bool = True):
+                 refactor_at_end: bool = True, bounds=None):
         tol = state.tol
         self.refactor_at_end = refactor_at_end
         self.first_iteration = state.iterations  # none made since: the values are as given
@@ -102,8 +105,8 @@ class _DualRun:
         self.cost = cost
         self.perturb = perturb  # still allowed to perturb the costs (once)
         self.d = state.fresh_duals(cost) if d is None else d.copy()
-        self.moving_ways(state)
-        self.span = state.upper - state.lower
+        self.moving_ways(state, bounds)
+        self.span = state.upper - state.lower if bounds is None else bounds.span
         self.weights = np.ones(state.m)
         # Steepest-edge weights (exact, 1, for the basis of logicals) on large problems,
         # Devex reference weights on small ones (see `pricing`).
@@ -112,16 +115,20 @@ class _DualRun:
         self.stall = StallWatch(float(cost @ state.z), rows=state.m)
         self.load_positions()
 
-    def moving_ways(self, state: SimplexState) -> None:
+    def moving_ways(self, state: SimplexState, bounds=None) -> None:
         """The one way each nonbasic variable may move (`way`: +1 up, -1 down, 0 not at all;
         `back` = -way). Free nonbasic variables (both ways) take the slower two-sided
         search of `entering`, which reads `rise` and `fall` (True where a variable may
-        move that way, `SimplexState.mobility`); only then are they kept (else None)."""
+        move that way, `SimplexState.mobility`); only then are they kept (else None).
+        `bounds` as in `run_dual`."""
         lower, upper = state.lower, state.upper
-        movable = lower != upper
-        movable &= ~state.basic
-        free = (lower == -np.inf) & (upper == np.inf)
-        self.two_way = bool(np.count_nonzero(free) and np.count_nonzero(free & movable & ~state.at_upper))
+        movable = ~state.basic
+        movable &= lower != upper if bounds is None else bounds.movable
+        if bounds is not None and not bounds.free.size:
+            self.two_way = False
+        else:
+            free = (lower == -np.inf) & (upper == np.inf)
+            self.two_way = bool(np.count_nonzero(free) and np.count_nonzero(free & movable & ~state.at_upper))
         if self.two_way:
             rise_f, fall_f = state.mobility()
             self.rise, self.fall = rise_f > 0, fall_f > 0
@@ -228,8 +235,7 @@ class _DualRun:
         if self.refactor_at_end:
             self.refresh()
         else:  # the refresh without the factorisation: its LU costs a short re-solve most
-            self.store_positions()
-            state.basic_values()
+            state.basic_values()  # from the nonbasic values alone: the basic ones need no storing
             self.d = state.fresh_duals(self.cost)
             self.reload_values()
         return not np.count_nonzero(np.maximum(self.lb - self.xb, self.xb - self.ub) > self.slack)

@@ -237,12 +237,14 @@ class _Bounds:
     """What the checks of a re-solve read of the state's bounds, found once per change of
     them rather than at every check: which variables are not fixed (`movable`), which are
     free (`free`, indices), and each bound relaxed by the primal feasibility tolerance
-    (`low`, `high`: outside them a value breaks its bound, as in `SimplexState.start_from`)."""
+    (`low`, `high`: outside them a value breaks its bound, as in `SimplexState.start_from`);
+    the dual simplex reads `span` (upper - lower), `movable` and `free` too (`run_dual`)."""
 
-    __slots__ = ("movable", "free", "low", "high")
+    __slots__ = ("movable", "free", "low", "high", "span")
 
     def __init__(self, state: SimplexState):
         lower, upper, tp = state.lower, state.upper, state.tol.primal_feasibility
+        self.span = upper - lower
         self.movable = lower != upper
         self.free = ((lower == -np.inf) & (upper == np.inf)).nonzero()[0]
         self.low = lower - tp * (1 + np.abs(lower))
@@ -272,7 +274,7 @@ def _iterate(state: SimplexState, bounds: _Bounds, cost: np.ndarray, moved: bool
     if not _place_for_dual(state, bounds):
         return "no_start", ""
     # run_dual ends with the true costs' duals
-    status = run_dual(state, cost, perturb=True, d=state.d, refactor_at_end=refactor_at_end)
+    status = run_dual(state, cost, perturb=True, d=state.d, refactor_at_end=refactor_at_end, bounds=bounds)
     if status == "optimal" and np.count_nonzero(_asks(state, bounds)):
         # rounding or the perturbation left a reduced cost astray
         status = run_primal(state, cost, d=state.d, refactor_at_end=refactor_at_end)
@@ -321,11 +323,11 @@ def _place_for_dual(state: SimplexState, bounds: _Bounds) -> bool:
 
 def _changed(values: np.ndarray, new, index, name: str) -> np.ndarray:
     """A copy of `values` with `new` in every place, or in the places `index`."""
-    new = np.asarray(new, dtype=float).reshape(-1)
+    new = np.array(new, dtype=float).reshape(-1)  # a copy of our own
     if index is None:
         if new.size != values.size:
             raise ValueError(f"{name} must have {values.size} entries, got {new.size}")
-        return new.copy()
+        return new
     out = np.array(values, dtype=float, copy=True)
     index = np.asarray(index, dtype=int).reshape(-1)
     if new.size not in (1, index.size) or np.any(index < -out.size) or np.any(index >= out.size):
