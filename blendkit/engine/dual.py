@@ -107,7 +107,8 @@ class _DualRun:
         self.d = state.fresh_duals(cost) if d is None else d.copy()
         self.moving_ways(state, bounds)
         self.span = state.upper - state.lower if bounds is None else bounds.span
-        self.weights = np.ones(state.m)
+        self.weights = np.empty(state.m)  # all 1 (np.ones is a Python function: slower)
+        self.weights.fill(1.0)
         # Steepest-edge weights (exact, 1, for the basis of logicals) on large problems,
         # Devex reference weights on small ones (see `pricing`).
         self.steepest = state.m >= STEEPEST_EDGE_ROWS
@@ -276,7 +277,7 @@ class _DualRun:
         (else None). A sparse basis solves them in one call."""
         state, factor = self.state, self.state.factor
         if not flipped.size and not self.steepest:  # the usual case, without the lists below
-            return factor.ftran(state.column(q)), None, None, None
+            return factor.ftran(state.M[:, q] if not state.sparse else state.column(q)), None, None, None
         columns = [state.column(q)]
         change = None
         if flipped.size:

@@ -134,7 +134,7 @@ class Resolver:
         k = self._form.n_ub
         lo, up = self._now("row_lower"), self._now("row_upper").copy()
         if b_ub is not None:
-            up[:k] = _changed(up[:k], b_ub, None, "b_ub")
+            up[:k] = _changed(up[:k], b_ub, None, "b_ub")  # checked, then copied in
         if b_eq is not None:
             lo = lo.copy()
             lo[k:] = up[k:] = _changed(up[k:], b_eq, None, "b_eq")
