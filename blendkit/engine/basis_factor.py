@@ -211,8 +211,9 @@ class InverseBasisFactor(BasisFactor):
     """
 
     def __init__(self, refactor_every: int, basis_column: Callable[[int], np.ndarray],
-                 basis_head: Callable[[], np.ndarray], patient: bool = False):
+                 basis_head: Callable[[], np.ndarray], patient: bool = False, invert_after: int = INVERSE_AFTER):
         super().__init__(refactor_every)
+        self._invert_after = invert_after  # updates kept as etas before the inverse is built
         self._updates_run = 0  # updates since this factor was made (a whole run, or re-solves)
         self._patient = patient  # wait for rows / INVERSE_AFTER_DIVISOR updates before inverting
         self._inverse = None  # B^-1 (Fortran order, updated in place); None: etas meanwhile
@@ -272,7 +273,7 @@ class InverseBasisFactor(BasisFactor):
         if self._inverse is None:
             super().update(r, alpha)
             self._updates_run += 1
-            if self._k >= INVERSE_AFTER and (not self._patient or self._updates_run >= self._m / INVERSE_AFTER_DIVISOR):
+            if self._k >= self._invert_after and (not self._patient or self._updates_run >= self._m / INVERSE_AFTER_DIVISOR):
                 self._inverse = self._invert()
                 for i in range(self._k):
                     self._rank_one(int(self._rows[i]), self._etas[:, i])

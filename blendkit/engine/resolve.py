@@ -174,7 +174,7 @@ class Resolver:
     def _hold(self, basis: Basis) -> None:
         """Build the state of the scaled problem at `basis`, factors and all (None when the
         basis does not fit it, as when an artificial stayed basic on a redundant row)."""
-        state = SimplexState(scale_form(self.form, self._scaling), self._tol, self._max_iterations)
+        state = SimplexState(scale_form(self.form, self._scaling), self._tol, self._max_iterations, held=True)
         with one_blas_thread():
             if state.start_from(basis.head, basis.at_upper):
                 self._state = state

@@ -30,6 +30,8 @@ from blendkit.engine.tolerances import (
     DENSE_REFACTOR_MAX,
     DENSE_REFACTOR_MIN,
     DENSE_REFACTOR_DIVISOR,
+    HELD_INVERSE_AFTER,
+    INVERSE_AFTER,
     INVERSE_REFACTOR_EVERY,
     INVERSE_ROWS,
     PIVOT_AGREEMENT,
@@ -52,7 +54,8 @@ class SimplexState:
     duals and reduced costs computed, `ray` the direction found when unbounded.
     """
 
-    def __init__(self, sf: StandardForm, tol: Tolerances, max_iterations: int, short_run: bool = False):
+    def __init__(self, sf: StandardForm, tol: Tolerances, max_iterations: int, short_run: bool = False,
+                 held: bool = False):
         self.tol = tol
         self.max_iterations = max_iterations
         self.A = sf.A
@@ -72,15 +75,16 @@ class SimplexState:
             self.M = sp.hstack([sp.csc_matrix(self.A), -sp.identity(self.m, format="csc")], format="csc")
             self.products = RowProduct(self.M)  # y^T M, for the pivot row and the duals
         else:
-            self.factor = self._dense_factor(short_run)
+            self.factor = self._dense_factor(short_run, held)
             dense = self.A.toarray() if is_sparse(self.A) else self.A
             self.M = np.hstack([dense, -np.eye(self.m)])
             self.MT = np.ascontiguousarray(self.M[:, : self.n].T)  # A^T by rows: y^T A reads it in order
 
-    def _dense_factor(self, short_run: bool) -> BasisFactor:
+    def _dense_factor(self, short_run: bool, held: bool) -> BasisFactor:
         """The factors of a dense basis: LU with etas, or from INVERSE_ROWS rows also the
         explicit inverse, which a `short_run` (a warm start: few iterations expected) builds
-        only once it has made rows / INVERSE_AFTER_DIVISOR updates (`InverseBasisFactor`)."""
+        only once it has made rows / INVERSE_AFTER_DIVISOR updates (`InverseBasisFactor`),
+        and a state `held` for a series of re-solves after HELD_INVERSE_AFTER updates."""
         if self.m < INVERSE_ROWS:
             every = np.clip(self.m**1.5 / DENSE_REFACTOR_DIVISOR, DENSE_REFACTOR_MIN, DENSE_REFACTOR_MAX)
             return BasisFactor(refactor_every=int(every))
@@ -88,7 +92,7 @@ class SimplexState:
         # at once rather than by the garbage collector.
         state = weakref.proxy(self)
         return InverseBasisFactor(INVERSE_REFACTOR_EVERY, lambda j: state.M[:, state.head[j]], lambda: state.head,
-                                  patient=short_run)
+                                  patient=short_run, invert_after=HELD_INVERSE_AFTER if held else INVERSE_AFTER)
 
     # ----- the matrix M = [A, -I, artificial columns] -------------------------------
 

@@ -193,6 +193,12 @@ INVERSE_CHECK_EVERY = 4
 # and gains, a warm start of a few iterations never pays it.
 INVERSE_AFTER = 8
 INVERSE_AFTER_DIVISOR = 6.0
+# The simplex state a `Resolver` holds for a series of re-solves builds the inverse once its
+# factors hold this many updates: the series pays for it soon. A price re-solve of a
+# 60 x 30 blend makes about one iteration, so with INVERSE_AFTER the median step of the
+# benchmark's series still applied its etas one by one: 231 -> 180 us (highspy 172 us),
+# 300 x 120 limit re-solves 1,250 -> 1,190 us (load 1.5-2.4, 2 cores).
+HELD_INVERSE_AFTER = 1
 
 # ----- limits of one solve -------------------------------------------------------------------
 
