@@ -136,7 +136,8 @@ class _DualRun:
             self.way = rise_f - fall_f
         else:  # no variable may move both ways: +1 at a lower bound, -1 at an upper one
             self.rise = self.fall = None
-            self.way = np.where(state.at_upper, -1.0, 1.0)
+            self.way = state.at_upper * -2.0  # np.where(at_upper, -1.0, 1.0), in cheaper steps
+            self.way += 1.0
             self.way *= movable
         self.back = -self.way
 

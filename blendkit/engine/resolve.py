@@ -87,10 +87,13 @@ class Resolver:
     @property
     def form(self) -> StandardForm:
         """The problem as it stands now, in original units."""
-        if self._pending:  # one rebuild for all the changes since the last (a frozen record)
-            form, now = self._form, self._now
-            self._form = StandardForm(c=now("c"), A=form.A, row_lower=now("row_lower"), row_upper=now("row_upper"),
-                                      col_lower=now("col_lower"), col_upper=now("col_upper"), n_ub=form.n_ub,
+        pending = self._pending
+        if pending:  # one rebuild for all the changes since the last (a frozen record)
+            form, now = self._form, pending.get
+            self._form = StandardForm(c=now("c", form.c), A=form.A, row_lower=now("row_lower", form.row_lower),
+                                      row_upper=now("row_upper", form.row_upper),
+                                      col_lower=now("col_lower", form.col_lower),
+                                      col_upper=now("col_upper", form.col_upper), n_ub=form.n_ub,
                                       from_linprog=form.from_linprog)
             self._pending = {}
         return self._form
@@ -247,8 +250,16 @@ class _Bounds:
         self.span = upper - lower
         self.movable = lower != upper
         self.free = ((lower == -np.inf) & (upper == np.inf)).nonzero()[0]
-        self.low = lower - tp * (1 + np.abs(lower))
-        self.high = upper + tp * (1 + np.abs(upper))
+        self.low = lower - _relaxation(lower, tp)
+        self.high = upper + _relaxation(upper, tp)
+
+
+def _relaxation(bound: np.ndarray, tp: float) -> np.ndarray:
+    """tp * (1 + |bound|), in place on one new array (every re-solve after a move needs it)."""
+    out = np.abs(bound)
+    out += 1
+    out *= tp
+    return out
 
 
 def _iterate(state: SimplexState, bounds: _Bounds, cost: np.ndarray, moved: bool, repriced: bool,

@@ -174,8 +174,9 @@ class SimplexState:
         at_upper &= up_ok
         at_upper[self.head] = False
         self.at_upper = at_upper
-        z = np.where(low_ok, self.lower, 0.0)
-        np.copyto(z, self.upper, where=at_upper)  # a re-solve places them every time: few steps
+        z = self.lower.copy()  # np.where(at_upper, upper, np.where(low_ok, lower, 0)) in fewer, cheaper
+        z[~low_ok] = 0.0  # steps (np.where with a scalar costs twice this): re-solves place them each time
+        np.copyto(z, self.upper, where=at_upper)
         self.z = z
 
     def start_from(self, head: np.ndarray, at_upper: np.ndarray) -> bool:
