@@ -200,7 +200,11 @@ class _DualRun:
         state = self.state
         head = state.head
         self.lb, self.ub = state.lower[head], state.upper[head]
-        self.slack = self.primal_tol * (1 + np.minimum(np.abs(self.lb), np.abs(self.ub)))
+        slack = np.abs(self.lb)  # primal_tol * (1 + min(|lb|, |ub|)), in place
+        np.minimum(slack, np.abs(self.ub), out=slack)
+        slack += 1
+        slack *= self.primal_tol
+        self.slack = slack
         self.xb = state.z[head]  # a copy: indexed by an array
 
     def reload_values(self) -> None:
