@@ -98,7 +98,7 @@ class BasisFactor:
         lu, piv, info = lapack.dgetrf(np.asfortranarray(B, dtype=float))
         if info > 0:
             raise SingularBasis(f"basis matrix is singular (zero pivot at position {info})")
-        self._check_pivots(np.diag(lu))
+        self._check_pivots(lu.diagonal())  # a view: np.diag is a Python function
         self._lu, self._piv = lu, piv
 
     def _solve(self, a: np.ndarray, transpose: bool) -> np.ndarray:

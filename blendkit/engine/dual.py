@@ -243,7 +243,7 @@ class _DualRun:
         else:  # the refresh without the factorisation: its LU costs a short re-solve most
             state.basic_values()  # from the nonbasic values alone: the basic ones need no storing
             self.d = state.fresh_duals(self.cost)
-            self.reload_values()
+            self.xb = state.z[state.head]  # `reload_values`
         return not np.count_nonzero(np.maximum(self.lb - self.xb, self.xb - self.ub) > self.slack)
 
     # ----- one iteration ------------------------------------------------------------

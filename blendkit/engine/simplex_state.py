@@ -78,7 +78,8 @@ class SimplexState:
             self.factor = self._dense_factor(short_run, held)
             dense = self.A.toarray() if is_sparse(self.A) else self.A
             self.M = np.hstack([dense, -np.eye(self.m)])
-            self.MT = np.ascontiguousarray(self.M[:, : self.n].T)  # A^T by rows: y^T A reads it in order
+            # [A, -I]^T by rows: M^T y in one product (the -I part costs m^2, less than two calls)
+            self.MT = np.ascontiguousarray(self.M.T)
 
     def _dense_factor(self, short_run: bool, held: bool) -> BasisFactor:
         """The factors of a dense basis: LU with etas, or from INVERSE_ROWS rows also the
@@ -106,10 +107,6 @@ class SimplexState:
             return col
         return self.M[:, j]
 
-    def times(self, z: np.ndarray) -> np.ndarray:
-        """M z."""
-        return self.M @ z
-
     def times_transpose(self, y: np.ndarray) -> np.ndarray:
         """M^T y."""
         return self.row_combination(y)
@@ -125,14 +122,14 @@ class SimplexState:
         """M^T y; when M is sparse, from the rows of M that y picks or lives on
         (`row_product`), which touches a small part of M."""
         if not self.sparse:
-            # [A, -I, artificials]^T y: A^T y from its transposed copy, then -y and
-            # the artificials' sign * y[row].
-            n, m = self.n, self.m
+            # [A, -I, artificials]^T y: [A, -I]^T y from its transposed copy, then the
+            # artificials' sign * y[row].
+            if not self.art_row.size:
+                return self.MT @ y
+            k = self.n + self.m
             out = np.empty(self.M.shape[1])
-            np.dot(self.MT, y, out=out[:n])
-            np.negative(y, out=out[n : n + m])
-            if self.art_row.size:
-                out[n + m :] = self.art_sign * y[self.art_row]
+            np.dot(self.MT, y, out=out[:k])
+            out[k:] = self.art_sign * y[self.art_row]
             return out
         return self.products.combine(y, self._focus_rows)
 
@@ -241,12 +238,12 @@ class SimplexState:
         """Set the basic variables from the nonbasic ones: B z_B = -N z_N."""
         nonbasic_z = self.z.copy()  # np.where(basic, 0, z), in fewer steps
         nonbasic_z[self.basic] = 0.0
-        self.z[self.head] = self.factor.ftran(-self.times(nonbasic_z))
+        self.z[self.head] = self.factor.ftran(-(self.M @ nonbasic_z))  # M z
 
     def fresh_duals(self, cost: np.ndarray) -> np.ndarray:
         """Recompute y and return d = cost - M^T y from the current factorisation."""
         self.y = self.factor.btran(cost[self.head])
-        return cost - self.times_transpose(self.y)
+        return cost - self.row_combination(self.y)  # M^T y, as `times_transpose`
 
     def refresh(self, cost: np.ndarray) -> np.ndarray:
         """Refactorise, then recompute the basic values, y and d = cost - M^T y.
