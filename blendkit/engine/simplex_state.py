@@ -236,9 +236,9 @@ class SimplexState:
 
     def basic_values(self) -> None:
         """Set the basic variables from the nonbasic ones: B z_B = -N z_N."""
-        nonbasic_z = self.z.copy()  # np.where(basic, 0, z), in fewer steps
-        nonbasic_z[self.basic] = 0.0
-        self.z[self.head] = self.factor.ftran(-(self.M @ nonbasic_z))  # M z
+        minus_nonbasic = -self.z  # -np.where(basic, 0, z) in fewer steps; M (-z) = -(M z) exactly
+        minus_nonbasic[self.basic] = 0.0
+        self.z[self.head] = self.factor.ftran(self.M @ minus_nonbasic)
 
     def fresh_duals(self, cost: np.ndarray) -> np.ndarray:
         """Recompute y and return d = cost - M^T y from the current factorisation."""
