@@ -78,6 +78,7 @@ class Resolver:
         self._max_iterations = max_iterations or max(ITERATION_LIMIT_MIN, ITERATION_LIMIT_PER_LINE * (m + n))
         self._scale = scale
         self._scaling = find_scaling(form.A) if scale else Scaling(np.ones(m), np.ones(n))
+        self._threads_idle = blas_threads_idle(m, n)  # the shape never changes
         self._state: SimplexState | None = None  # held after an optimal solve, factors and all
         self._basis: Basis | None = None  # the last optimal basis
         self._repriced = self._moved = False  # costs, bounds changed since the state last matched them
@@ -153,7 +154,7 @@ class Resolver:
         """The LP as it stands, from the basis held when there is one; see the module
         docstring. `ranging` adds the cost and bound ranges, as in `solve_form`."""
         result = None
-        if self._state is not None and not ranging and not self._state.sparse and blas_threads_idle(*self._form.shape):
+        if self._state is not None and not ranging and not self._state.sparse and self._threads_idle:
             result = self._warm(ranging)  # no BLAS call this small uses threads: no need to hold them
         elif self._state is not None:
             with one_blas_thread():
@@ -250,16 +251,14 @@ class _Bounds:
         self.span = upper - lower
         self.movable = lower != upper
         self.free = ((lower == -np.inf) & (upper == np.inf)).nonzero()[0]
-        self.low = lower - _relaxation(lower, tp)
-        self.high = upper + _relaxation(upper, tp)
-
-
-def _relaxation(bound: np.ndarray, tp: float) -> np.ndarray:
-    """tp * (1 + |bound|), in place on one new array (every re-solve after a move needs it)."""
-    out = np.abs(bound)
-    out += 1
-    out *= tp
-    return out
+        relax = np.abs(lower)  # tp * (1 + |bound|), in place (every re-solve after a move)
+        relax += 1
+        relax *= tp
+        self.low = lower - relax
+        relax = np.abs(upper)
+        relax += 1
+        relax *= tp
+        self.high = upper + relax
 
 
 def _iterate(state: SimplexState, bounds: _Bounds, cost: np.ndarray, moved: bool, repriced: bool,

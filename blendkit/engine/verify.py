@@ -47,7 +47,8 @@ def worst_violation(sf: StandardForm, x: np.ndarray) -> tuple[float, str]:
 def _worst_rows(sf: StandardForm, x: np.ndarray, rows: np.ndarray, over: np.ndarray) -> tuple[float, int]:
     """(relative violation, row) of the worst of the rows `rows`, which break a bound by
     `over`; apart so that a few rows take scalar steps and many whole-array ones."""
-    if rows.size <= FEW_VIOLATED and not is_sparse(sf.A):
+    dense = not is_sparse(sf.A)
+    if rows.size <= FEW_VIOLATED and dense:
         worst, where = -1.0, -1
         for i, amount, low, up in zip(rows.tolist(), over.tolist(), sf.row_lower[rows].tolist(),
                                       sf.row_upper[rows].tolist()):
@@ -61,7 +62,7 @@ def _worst_rows(sf: StandardForm, x: np.ndarray, rows: np.ndarray, over: np.ndar
                 worst, where = amount / (size + 1.0), i
         return worst, where
     A = sf.A[rows]
-    if is_sparse(A):
+    if not dense:
         terms = np.asarray(abs(A.multiply(x[None, :])).max(axis=1).todense()).ravel()
     else:  # in place, and the ufunc's own reduction: called on every re-solve
         terms = A * x
