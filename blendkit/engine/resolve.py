@@ -296,7 +296,8 @@ def _primal_feasible(state: SimplexState, bounds: _Bounds) -> bool:
     in `SimplexState.start_from`)."""
     head = state.head
     xb = state.z[head]
-    return not np.count_nonzero((xb < bounds.low[head]) | (xb > bounds.high[head]))
+    # the upper side only when the lower one holds (a move of limits usually breaks one)
+    return not (np.count_nonzero(xb < bounds.low[head]) or np.count_nonzero(xb > bounds.high[head]))
 
 
 def _asks(state: SimplexState, bounds: _Bounds) -> np.ndarray:
