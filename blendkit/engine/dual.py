@@ -121,13 +121,14 @@ class _DualRun:
         `back` = -way). Free nonbasic variables (both ways) take the slower two-sided
         search of `entering`, which reads `rise` and `fall` (True where a variable may
         move that way, `SimplexState.mobility`); only then are they kept (else None).
-        `bounds` as in `run_dual`."""
+        `bounds` as in `run_dual` (without free variables, the basic ones are simply set to 0)."""
         lower, upper = state.lower, state.upper
-        movable = ~state.basic
-        movable &= lower != upper if bounds is None else bounds.movable
-        if bounds is not None and not bounds.free.size:
-            self.two_way = False
+        basic_left_in = bounds is not None and not bounds.free.size
+        if basic_left_in:  # no free variable; the basic ones are set to 0 below
+            self.two_way, movable = False, bounds.movable
         else:
+            movable = ~state.basic
+            movable &= lower != upper if bounds is None else bounds.movable
             free = (lower == -np.inf) & (upper == np.inf)
             self.two_way = bool(np.count_nonzero(free) and np.count_nonzero(free & movable & ~state.at_upper))
         if self.two_way:
@@ -139,6 +140,8 @@ class _DualRun:
             self.way = state.at_upper * -2.0  # np.where(at_upper, -1.0, 1.0), in cheaper steps
             self.way += 1.0
             self.way *= movable
+            if basic_left_in:
+                self.way[state.head] = 0.0
         self.back = -self.way
 
     def run(self) -> str:
@@ -321,7 +324,7 @@ class _DualRun:
         mobility of p and q. Returns the rise of the objective."""
         state, xb, d, rise, fall, way, back = self.state, self.xb, self.d, self.rise, self.fall, self.way, self.back
         head, lb, ub = state.head, self.lb, self.ub
-        p = int(head[r])
+        p = head.item(r)
         pivot = alpha.item(r)  # Python floats: the same arithmetic, without numpy's scalars
         step = (xb.item(r) - target) / pivot  # how far q moves
         xb -= step * alpha
