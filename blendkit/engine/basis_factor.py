@@ -194,7 +194,8 @@ class InverseBasisFactor(BasisFactor):
     row of the inverse, each a fixed cost whatever the number of updates; the etas'
     Python loop of `BasisFactor` grows with them. The inverse costs one more LAPACK call
     (dgetri, twice a factorisation's work), so updates are kept as etas, as in
-    `BasisFactor`, until the factors hold INVERSE_AFTER of them, and with `patient` (a warm
+    `BasisFactor`, until the factors hold INVERSE_AFTER of them (`invert_after`; the state a
+    `Resolver` holds: HELD_INVERSE_AFTER), and with `patient` (a warm
     start, expected to be short) until the run has made rows / INVERSE_AFTER_DIVISOR too:
     a cold solve or a series of re-solves pays for the inverse early and gains, a warm
     start of a few iterations never pays. It is built from the LU factors and the etas so
