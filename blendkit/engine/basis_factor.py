@@ -87,8 +87,8 @@ class BasisFactor:
     @staticmethod
     def _check_pivots(diagonal: np.ndarray) -> None:
         """Raise SingularBasis when the smallest pivot of U is negligible (SINGULAR_PIVOT)."""
-        diag = np.abs(diagonal)
-        if diag.min() <= SINGULAR_PIVOT * max(1.0, diag.max()):
+        diag = np.abs(diagonal)  # argmin, argmax: cheaper than reductions
+        if diag.item(diag.argmin()) <= SINGULAR_PIVOT * max(1.0, diag.item(diag.argmax())):
             raise SingularBasis("basis matrix is singular to working precision")
 
     def factor(self, B: np.ndarray) -> None:
@@ -98,7 +98,7 @@ class BasisFactor:
         lu, piv, info = lapack.dgetrf(np.asfortranarray(B, dtype=float))
         if info > 0:
             raise SingularBasis(f"basis matrix is singular (zero pivot at position {info})")
-        self._check_pivots(np.diag(lu))
+        self._check_pivots(lu.diagonal())  # a view: np.diag is a Python function
         self._lu, self._piv = lu, piv
 
     def _solve(self, a: np.ndarray, transpose: bool) -> np.ndarray:
@@ -118,10 +118,14 @@ class BasisFactor:
         # right-hand sides when T is kept anyway.
         if k <= ETA_LOOP_MAX and not (wide and self._batched):
             for i in range(k):
-                r = rows[i]
+                r = rows.item(i)
                 alpha = etas[:, i]
-                zr = z[r] / alpha[r]
-                z -= np.multiply.outer(alpha, zr) if wide else zr * alpha
+                if wide:
+                    zr = z[r] / alpha[r]
+                    z -= np.multiply.outer(alpha, zr)
+                else:  # Python floats: the same arithmetic, without numpy's scalars
+                    zr = z.item(r) / alpha.item(r)
+                    z -= zr * alpha
                 z[r] = zr
         elif k:
             t, _ = lapack.dtrtrs(self._tri[:k, :k], z[rows[:k]], lower=1)
@@ -133,14 +137,18 @@ class BasisFactor:
         """Solve B^T y = c for the current basis."""
         if self._m == 0:
             return np.zeros(0)
-        w = np.array(c, dtype=float, copy=True)
+        return self._btran_own(np.array(c, dtype=float, copy=True))
+
+    def _btran_own(self, w: np.ndarray) -> np.ndarray:
+        """`btran` of a vector of our own, overwritten (unit_btran's needs no copy)."""
         k, rows, etas = self._k, self._rows, self._etas
         if k <= ETA_LOOP_MAX:
             for i in range(k - 1, -1, -1):
-                r = rows[i]
+                r = rows.item(i)
                 alpha = etas[:, i]
-                # E^T w_new = w: only entry r changes.
-                w[r] = (w[r] - (alpha @ w - alpha[r] * w[r])) / alpha[r]
+                # E^T w_new = w: only entry r changes (in Python floats, the same arithmetic).
+                ar, wr = alpha.item(r), w.item(r)
+                w[r] = (wr - (alpha.dot(w) - ar * wr)) / ar
         elif k:
             u, _ = lapack.dtrtrs(self._tri[:k, :k], w[rows[:k]] - w @ etas[:, :k], lower=1, trans=1)
             _scatter_add(w, rows[:k], u, self._repeats)
@@ -149,8 +157,10 @@ class BasisFactor:
     def unit_btran(self, r: int) -> np.ndarray:
         """B^-T e_r (the pivot row's multipliers)."""
         e_r = np.zeros(self._m)
+        if not self._m:
+            return e_r
         e_r[r] = 1.0
-        return self.btran(e_r)
+        return self._btran_own(e_r)
 
     def update(self, r: int, alpha: np.ndarray) -> None:
         """Record that column r of the basis was replaced; alpha = B_old^{-1} a_new."""
@@ -165,7 +175,7 @@ class BasisFactor:
             earlier = rows[:k] == r
             self._tri[k, :k] = self._etas[r, :k] - earlier
             self._tri[k, k] = alpha[r]
-            self._repeats = self._repeats or bool(earlier.any())
+            self._repeats = self._repeats or bool(np.count_nonzero(earlier))
         rows[k] = r
         self._k = k + 1
 
@@ -184,7 +194,8 @@ class InverseBasisFactor(BasisFactor):
     row of the inverse, each a fixed cost whatever the number of updates; the etas'
     Python loop of `BasisFactor` grows with them. The inverse costs one more LAPACK call
     (dgetri, twice a factorisation's work), so updates are kept as etas, as in
-    `BasisFactor`, until the factors hold INVERSE_AFTER of them, and with `patient` (a warm
+    `BasisFactor`, until the factors hold INVERSE_AFTER of them (`invert_after`; the state a
+    `Resolver` holds: HELD_INVERSE_AFTER), and with `patient` (a warm
     start, expected to be short) until the run has made rows / INVERSE_AFTER_DIVISOR too:
     a cold solve or a series of re-solves pays for the inverse early and gains, a warm
     start of a few iterations never pays. It is built from the LU factors and the etas so
@@ -201,8 +212,9 @@ class InverseBasisFactor(BasisFactor):
     """
 
     def __init__(self, refactor_every: int, basis_column: Callable[[int], np.ndarray],
-                 basis_head: Callable[[], np.ndarray], patient: bool = False):
+                 basis_head: Callable[[], np.ndarray], patient: bool = False, invert_after: int = INVERSE_AFTER):
         super().__init__(refactor_every)
+        self._invert_after = invert_after  # updates kept as etas before the inverse is built
         self._updates_run = 0  # updates since this factor was made (a whole run, or re-solves)
         self._patient = patient  # wait for rows / INVERSE_AFTER_DIVISOR updates before inverting
         self._inverse = None  # B^-1 (Fortran order, updated in place); None: etas meanwhile
@@ -262,7 +274,7 @@ class InverseBasisFactor(BasisFactor):
         if self._inverse is None:
             super().update(r, alpha)
             self._updates_run += 1
-            if self._k >= INVERSE_AFTER and (not self._patient or self._updates_run >= self._m / INVERSE_AFTER_DIVISOR):
+            if self._k >= self._invert_after and (not self._patient or self._updates_run >= self._m / INVERSE_AFTER_DIVISOR):
                 self._inverse = self._invert()
                 for i in range(self._k):
                     self._rank_one(int(self._rows[i]), self._etas[:, i])
@@ -274,17 +286,20 @@ class InverseBasisFactor(BasisFactor):
             raise RuntimeError("the update file is full: refactorise first")
         self._rank_one(r, alpha)
         self._k, self._age = k + 1, self._age + 1
-        self._head = self._basis_head().copy()
+        # Each pivot changes the basis in position r alone, just before its update: the
+        # copy taken with the inverse stays the basis's own, entry by entry.
+        self._head[r] = self._basis_head()[r]
         if self._age % INVERSE_CHECK_EVERY == 0:
             j = self._checked % self._m
             self._checked = j + 1
             check = self._inverse @ self._basis_column(j)
             check[j] -= 1.0
-            self._drifted = bool(np.abs(check).max() > INVERSE_DRIFT)
+            np.abs(check, out=check)
+            self._drifted = check.item(check.argmax()) > INVERSE_DRIFT  # argmax: cheaper than a reduction
 
     def _rank_one(self, r: int, alpha: np.ndarray) -> None:
         """B^-1 -= (alpha - e_r) (e_r^T B^-1) / alpha_r, in place (BLAS dger, Fortran order)."""
-        row = self._inverse[r] / alpha[r]
+        row = self._inverse[r] / alpha.item(r)
         self._inverse = blas.dger(-1.0, alpha, row, a=self._inverse, overwrite_a=1)
         self._inverse[r] = row
 

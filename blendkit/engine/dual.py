@@ -17,7 +17,7 @@ from blendkit.engine.perturbation import perturbed_costs
 from blendkit.engine.pricing import StallWatch, leaving_position, update_dual_weights, update_steepest_weights
 from blendkit.engine.ratio_test import dual_ratio_test
 from blendkit.engine.simplex_state import SimplexState, pivots_disagree
-from blendkit.engine.tolerances import PERTURB_AFTER, STEEPEST_EDGE_ROWS
+from blendkit.engine.tolerances import PERTURB_AFTER, PIVOT_REFRESH_LIMIT, STEEPEST_EDGE_ROWS
 
 
 def start_shifted(state: SimplexState, basis) -> np.ndarray | None:
@@ -89,11 +89,12 @@ def start_dual(state: SimplexState, basis=None) -> bool:
 
 
 def run_dual(state: SimplexState, cost: np.ndarray, perturb: bool = False, d: np.ndarray | None = None,
-             refactor_at_end: bool = True) -> str:
+             refactor_at_end: bool = True, bounds=None) -> str:
     """Dual simplex iterations until primal feasible ("optimal"), or a reason to stop.
 
     Returns "optimal", "infeasible" (no entering variable: the dual is unbounded),
-    "stalled" or "iteration_limit". With `perturb`, a run that takes PERTURB_AFTER
+    "stalled", "iteration_limit" or "numerical_trouble" (the pivot row and column still
+    disagree after PIVOT_REFRESH_LIMIT refactorisations in a row). With `perturb`, a run that takes PERTURB_AFTER
     degenerate iterations in a row goes on with perturbed costs (`perturbation`); an
     optimal run then ends with the true costs put back (`state.y` and `state.d` computed
     afresh from the final basis), so `state.d` and `state.y` are always those of `cost`
@@ -101,10 +102,13 @@ def run_dual(state: SimplexState, cost: np.ndarray, perturb: bool = False, d: np
     reduced costs of `cost` at this basis when the caller holds them fresh (a re-solve),
     else they are computed here. Without `refactor_at_end` (a re-solve, which checks its
     answer in original units and solves afresh when it fails) the run ends on the factors
-    it holds, updates and all, the values and duals recomputed from them.
+    it holds, updates and all, the values and duals recomputed from them. `bounds`: what
+    the caller already holds of the state's bounds (a re-solve's `resolve._Bounds`: `span`
+    = upper - lower, `movable` = lower != upper, `free` the free variables' indices), else
+    found here.
     """
     with np.errstate(divide="ignore", invalid="ignore", over="ignore"):  # infinite bounds
-        run = _DualRun(state, cost, perturb, d, refactor_at_end)
+        run = _DualRun(state, cost, perturb, d, refactor_at_end, bounds)
         status = run.run()
         if status == "optimal" and run.cost is not cost:
             state.d = state.fresh_duals(cost)  # the true costs back (see `perturbation`)
@@ -124,7 +128,7 @@ class _DualRun:
                  "refactor_at_end", "first_iteration")
 
     def __init__(self, state: SimplexState, cost: np.ndarray, perturb: bool = False, d: np.ndarray | None = None,
-                 refactor_at_end: bool = True):
+                 refactor_at_end: bool = True, bounds=None):
         tol = state.tol
         self.refactor_at_end = refactor_at_end
         self.first_iteration = state.iterations  # none made since: the values are as given
@@ -132,9 +136,10 @@ class _DualRun:
         self.cost = cost
         self.perturb = perturb  # still allowed to perturb the costs (once)
         self.d = state.fresh_duals(cost) if d is None else d.copy()
-        self.moving_ways(state)
-        self.span = state.upper - state.lower
-        self.weights = np.ones(state.m)
+        self.moving_ways(state, bounds)
+        self.span = state.upper - state.lower if bounds is None else bounds.span
+        self.weights = np.empty(state.m)  # all 1 (np.ones is a Python function: slower)
+        self.weights.fill(1.0)
         # Steepest-edge weights (exact, 1, for the basis of logicals) on large problems,
         # Devex reference weights on small ones (see `pricing`).
         self.steepest = state.m >= STEEPEST_EDGE_ROWS
@@ -142,30 +147,39 @@ class _DualRun:
         self.stall = StallWatch(float(cost @ state.z), rows=state.m)
         self.load_positions()
 
-    def moving_ways(self, state: SimplexState) -> None:
+    def moving_ways(self, state: SimplexState, bounds=None) -> None:
         """The one way each nonbasic variable may move (`way`: +1 up, -1 down, 0 not at all;
         `back` = -way). Free nonbasic variables (both ways) take the slower two-sided
         search of `entering`, which reads `rise` and `fall` (True where a variable may
-        move that way, `SimplexState.mobility`); only then are they kept (else None)."""
+        move that way, `SimplexState.mobility`); only then are they kept (else None).
+        `bounds` as in `run_dual` (without free variables, the basic ones are simply set to 0)."""
         lower, upper = state.lower, state.upper
-        movable = lower != upper
-        movable &= ~state.basic
-        free = (lower == -np.inf) & (upper == np.inf)
-        self.two_way = bool(free.any() and (free & movable & ~state.at_upper).any())
+        basic_left_in = bounds is not None and not bounds.free.size
+        if basic_left_in:  # no free variable; the basic ones are set to 0 below
+            self.two_way, movable = False, bounds.movable
+        else:
+            movable = ~state.basic
+            movable &= lower != upper if bounds is None else bounds.movable
+            free = (lower == -np.inf) & (upper == np.inf)
+            self.two_way = bool(np.count_nonzero(free) and np.count_nonzero(free & movable & ~state.at_upper))
         if self.two_way:
             rise_f, fall_f = state.mobility()
             self.rise, self.fall = rise_f > 0, fall_f > 0
             self.way = rise_f - fall_f
         else:  # no variable may move both ways: +1 at a lower bound, -1 at an upper one
             self.rise = self.fall = None
-            self.way = np.where(state.at_upper, -1.0, 1.0)
+            self.way = state.at_upper * -2.0  # np.where(at_upper, -1.0, 1.0), in cheaper steps
+            self.way += 1.0
             self.way *= movable
+            if basic_left_in:
+                self.way[state.head] = 0.0
         self.back = -self.way
 
     def run(self) -> str:
         """The iterations; see `run_dual`."""
         state = self.state
         factor, weights, stalled = state.factor, self.weights, self.stall.record
+        disagreements = 0  # refactorisations in a row for pivots that disagree
         while True:
             if state.iterations >= state.max_iterations:
                 self.store_positions()
@@ -189,8 +203,13 @@ class _DualRun:
             alpha, change, moved, tau = self.solve_columns(q, flipped)
             pivot = alpha.item(r)
             if pivots_disagree(row.item(q), pivot):
+                disagreements += 1
+                if disagreements > PIVOT_REFRESH_LIMIT:
+                    self.store_positions()
+                    return "numerical_trouble"
                 self.refresh()
                 continue
+            disagreements = 0
             state.iterations += 1
             if flipped.size:
                 self.flip(flipped, change, moved)
@@ -215,7 +234,11 @@ class _DualRun:
         state = self.state
         head = state.head
         self.lb, self.ub = state.lower[head], state.upper[head]
-        self.slack = self.primal_tol * (1 + np.minimum(np.abs(self.lb), np.abs(self.ub)))
+        slack = np.abs(self.lb)  # primal_tol * (1 + min(|lb|, |ub|)), in place
+        np.minimum(slack, np.abs(self.ub), out=slack)
+        slack += 1
+        slack *= self.primal_tol
+        self.slack = slack
         self.xb = state.z[head]  # a copy: indexed by an array
 
     def reload_values(self) -> None:
@@ -252,18 +275,18 @@ class _DualRun:
         if self.refactor_at_end:
             self.refresh()
         else:  # the refresh without the factorisation: its LU costs a short re-solve most
-            self.store_positions()
-            state.basic_values()
+            state.basic_values()  # from the nonbasic values alone: the basic ones need no storing
             self.d = state.fresh_duals(self.cost)
-            self.reload_values()
-        return not (np.maximum(self.lb - self.xb, self.xb - self.ub) > self.slack).any()
+            self.xb = state.z[state.head]  # `reload_values`
+        return not np.count_nonzero(np.maximum(self.lb - self.xb, self.xb - self.ub) > self.slack)
 
     # ----- one iteration ------------------------------------------------------------
 
     def entering(self, r: int, rises: bool, target: float, row: np.ndarray):
         """(q, flipped) from the dual ratio test over pivot row `row`, or None when no
         variable can enter (the problem is infeasible)."""
-        smallest = self.pivot_tol * max(1.0, np.maximum.reduce(np.abs(row)))  # the row is never empty
+        size = np.abs(row)  # the row is never empty; argmax costs less than a reduction
+        smallest = self.pivot_tol * max(1.0, size.item(size.argmax()))
         d = self.d
         if self.two_way:
             # Change of the leaving variable per unit rise of each nonbasic variable.
@@ -278,7 +301,8 @@ class _DualRun:
             way = self.way
             signed = row * (self.back if rises else way)  # gain (as above) * way
             order = (signed > smallest).nonzero()[0]
-            room = np.maximum(d[order] * way[order], 0.0)
+            room = (d * way)[order]
+            np.maximum(room, 0.0, out=room)
             size = signed[order]
         if not order.size:
             return None
@@ -292,7 +316,7 @@ class _DualRun:
         (else None). A sparse basis solves them in one call."""
         state, factor = self.state, self.state.factor
         if not flipped.size and not self.steepest:  # the usual case, without the lists below
-            return factor.ftran(state.column(q)), None, None, None
+            return factor.ftran(state.M[:, q] if not state.sparse else state.column(q)), None, None, None
         columns = [state.column(q)]
         change = None
         if flipped.size:
@@ -331,7 +355,7 @@ class _DualRun:
         mobility of p and q. Returns the rise of the objective."""
         state, xb, d, rise, fall, way, back = self.state, self.xb, self.d, self.rise, self.fall, self.way, self.back
         head, lb, ub = state.head, self.lb, self.ub
-        p = int(head[r])
+        p = head.item(r)
         pivot = alpha.item(r)  # Python floats: the same arithmetic, without numpy's scalars
         step = (xb.item(r) - target) / pivot  # how far q moves
         xb -= step * alpha

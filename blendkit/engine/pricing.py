@@ -47,13 +47,14 @@ def leaving_position(xb: np.ndarray, lb: np.ndarray, ub: np.ndarray, slack: np.n
     its bounds (up to `slack`): the largest squared infeasibility over its weight."""
     if not xb.size:
         return -1
-    worst = np.maximum(lb - xb, xb - ub)
+    worst = lb - xb  # in place from here: called every iteration
+    np.maximum(worst, xb - ub, out=worst)
     worst -= slack  # > 0: outside its bound by more than the tolerance
     score = np.maximum(worst, 0.0)
     score *= score
     score /= weights
     r = int(score.argmax())
-    return -1 if worst[r] <= 0.0 else r
+    return -1 if worst.item(r) <= 0.0 else r
 
 
 def update_primal_weights(weights: np.ndarray, row: np.ndarray, pivot: float, p: int, q: int) -> None:
@@ -73,7 +74,8 @@ def update_dual_weights(weights: np.ndarray, alpha: np.ndarray, pivot: float, r:
     bound *= grown
     np.maximum(weights, bound, out=weights)
     weights[r] = max(grown, 1.0)
-    _reset_when_large(weights, r)
+    if grown > DEVEX_WEIGHT_LIMIT:  # `_reset_when_large`, read from the Python float at hand
+        weights[:] = 1.0
 
 
 def update_steepest_weights(weights: np.ndarray, alpha: np.ndarray, tau: np.ndarray, rho: np.ndarray,

@@ -14,6 +14,7 @@ import numpy as np
 from blendkit.engine.pricing import StallWatch, entering_variable, prices_out, update_primal_weights
 from blendkit.engine.ratio_test import negligible, primal_ratio_test
 from blendkit.engine.simplex_state import SimplexState, pivots_disagree
+from blendkit.engine.tolerances import PIVOT_REFRESH_LIMIT
 
 
 def run_primal(state: SimplexState, cost: np.ndarray, d: np.ndarray | None = None,
@@ -21,7 +22,8 @@ def run_primal(state: SimplexState, cost: np.ndarray, d: np.ndarray | None = Non
     """Iterate with objective `cost` until optimal, unbounded or out of iterations.
 
     Returns "optimal" (`state.d` then holds the reduced costs), "unbounded" (`state.ray`
-    holds the direction) or "iteration_limit". `d`: the reduced costs of `cost` at this
+    holds the direction), "iteration_limit" or "numerical_trouble" (the pivot row and
+    column still disagree after PIVOT_REFRESH_LIMIT refactorisations in a row). `d`: the reduced costs of `cost` at this
     basis when the caller has just computed them afresh, else they are computed here.
     Without `refactor_at_end` (a re-solve, as in `dual.run_dual`) the run ends on the
     factors it holds, the values and reduced costs recomputed from them.
@@ -55,6 +57,7 @@ class _PrimalRun:
         state = self.state
         dual_tol = state.tol.dual_feasibility
         rise, fall, weights, stalled = self.rise, self.fall, self.weights, self.stall.record
+        disagreements = 0  # refactorisations in a row for pivots that disagree
         while True:
             if state.iterations >= state.max_iterations:
                 return "iteration_limit"
@@ -81,8 +84,12 @@ class _PrimalRun:
                 # The pivot row: row r of B^-1 M, for the reduced-cost and weight updates.
                 row = state.pivot_row(r)
                 if pivots_disagree(row[q], alpha[r]):
+                    disagreements += 1
+                    if disagreements > PIVOT_REFRESH_LIMIT:
+                        return "numerical_trouble"
                     self.d = state.refresh(self.cost)
                     continue
+            disagreements = 0
             state.iterations += 1
             if theta > 0:
                 state.z[state.head] += theta * delta

@@ -89,9 +89,10 @@ def dual_ratio_test(order: np.ndarray, room: np.ndarray, size: np.ndarray, span:
     if size.item(first) * span.item(order.item(first)) >= infeasible_by:
         # The first breakpoint already blocks (the usual case): Harris's two-pass
         # choice among the candidates, no bound flips.
-        relaxed = np.minimum.reduce((room + dual_feasibility) / size)
-        pick = (exact <= relaxed).nonzero()[0]
-        return int(order[pick[size[pick].argmax()]]), order[:0]
+        relaxed = room + dual_feasibility
+        relaxed /= size
+        pick = (exact <= relaxed.item(relaxed.argmin())).nonzero()[0]  # argmin costs less than a reduction
+        return order.item(pick.item(size[pick].argmax())), order[:0]
     return _bound_flipping(order, room, size, exact, span, infeasible_by, dual_feasibility)
 
 
@@ -130,6 +131,6 @@ def _flip_sorted(order, room, size, exact, span, infeasible_by: float, dual_feas
     passed = int((left <= 0).argmax())
     if left[passed] > 0:
         return None  # every breakpoint passed: the dual is unbounded
-    relaxed = ((room[passed:] + dual_feasibility) / size[passed:]).min()
-    pick = passed + (exact[passed:] <= relaxed).nonzero()[0]
-    return int(order[pick[size[pick].argmax()]]), order[:passed]
+    relaxed = (room[passed:] + dual_feasibility) / size[passed:]
+    pick = passed + (exact[passed:] <= relaxed.item(relaxed.argmin())).nonzero()[0]
+    return order.item(pick.item(size[pick].argmax())), order[:passed]

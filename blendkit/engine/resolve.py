@@ -42,7 +42,7 @@ from blendkit.engine.result import Basis, LPResult
 from blendkit.engine.scaling import Scaling, find_scaling, scale_form
 from blendkit.engine.simplex import optimal_outcome
 from blendkit.engine.simplex_state import SimplexState
-from blendkit.engine.solve import blas_threads_idle, checked_result, one_blas_thread, solve_form
+from blendkit.engine.solve import blas_threads_idle, checked_optimum, checked_result, one_blas_thread, solve_form
 from blendkit.engine.standard_form import StandardForm, to_standard_form
 from blendkit.engine.tolerances import INVERSE_ROWS, ITERATION_LIMIT_MIN, ITERATION_LIMIT_PER_LINE, Tolerances
 
@@ -78,6 +78,7 @@ class Resolver:
         self._max_iterations = max_iterations or max(ITERATION_LIMIT_MIN, ITERATION_LIMIT_PER_LINE * (m + n))
         self._scale = scale
         self._scaling = find_scaling(form.A) if scale else Scaling(np.ones(m), np.ones(n))
+        self._threads_idle = blas_threads_idle(m, n)  # the shape never changes
         self._state: SimplexState | None = None  # held after an optimal solve, factors and all
         self._basis: Basis | None = None  # the last optimal basis
         self._repriced = self._moved = False  # costs, bounds changed since the state last matched them
@@ -87,10 +88,13 @@ class Resolver:
     @property
     def form(self) -> StandardForm:
         """The problem as it stands now, in original units."""
-        if self._pending:  # one rebuild for all the changes since the last (a frozen record)
-            form, now = self._form, self._now
-            self._form = StandardForm(c=now("c"), A=form.A, row_lower=now("row_lower"), row_upper=now("row_upper"),
-                                      col_lower=now("col_lower"), col_upper=now("col_upper"), n_ub=form.n_ub,
+        pending = self._pending
+        if pending:  # one rebuild for all the changes since the last (a frozen record)
+            form, now = self._form, pending.get
+            self._form = StandardForm(c=now("c", form.c), A=form.A, row_lower=now("row_lower", form.row_lower),
+                                      row_upper=now("row_upper", form.row_upper),
+                                      col_lower=now("col_lower", form.col_lower),
+                                      col_upper=now("col_upper", form.col_upper), n_ub=form.n_ub,
                                       from_linprog=form.from_linprog)
             self._pending = {}
         return self._form
@@ -134,7 +138,7 @@ class Resolver:
         k = self._form.n_ub
         lo, up = self._now("row_lower"), self._now("row_upper").copy()
         if b_ub is not None:
-            up[:k] = _changed(up[:k], b_ub, None, "b_ub")
+            up[:k] = _changed(up[:k], b_ub, None, "b_ub")  # checked, then copied in
         if b_eq is not None:
             lo = lo.copy()
             lo[k:] = up[k:] = _changed(up[k:], b_eq, None, "b_eq")
@@ -150,7 +154,7 @@ class Resolver:
         """The LP as it stands, from the basis held when there is one; see the module
         docstring. `ranging` adds the cost and bound ranges, as in `solve_form`."""
         result = None
-        if self._state is not None and not ranging and not self._state.sparse and blas_threads_idle(*self._form.shape):
+        if self._state is not None and not ranging and not self._state.sparse and self._threads_idle:
             result = self._warm(ranging)  # no BLAS call this small uses threads: no need to hold them
         elif self._state is not None:
             with one_blas_thread():
@@ -174,7 +178,7 @@ class Resolver:
     def _hold(self, basis: Basis) -> None:
         """Build the state of the scaled problem at `basis`, factors and all (None when the
         basis does not fit it, as when an artificial stayed basic on a redundant row)."""
-        state = SimplexState(scale_form(self.form, self._scaling), self._tol, self._max_iterations)
+        state = SimplexState(scale_form(self.form, self._scaling), self._tol, self._max_iterations, held=True)
         with one_blas_thread():
             if state.start_from(basis.head, basis.at_upper):
                 self._state = state
@@ -192,7 +196,7 @@ class Resolver:
         state, moved = self._state, self._moved
         self._load()
         if moved:
-            if (state.lower > state.upper).any():
+            if np.count_nonzero(state.lower > state.upper):
                 return None
             self._bounds = _Bounds(state)
         state.iterations = 0
@@ -204,9 +208,16 @@ class Resolver:
             status, algorithm = "numerical_trouble", ""
         if status != "optimal":
             return None
-        outcome = optimal_outcome(state, phase_one=0, warm=True, algorithm=algorithm, ranging=ranging)
-        result, trusted = checked_result(self.form, self._scaling, outcome, self._tol)
-        if not trusted:
+        if ranging:
+            outcome = optimal_outcome(state, phase_one=0, warm=True, algorithm=algorithm, ranging=True)
+            result = checked_result(self.form, self._scaling, outcome, self._tol)[0]
+        else:  # the same result, from the state's arrays without an outcome record between
+            n, m = state.n, state.m
+            basis = Basis(head=state.head.copy(), at_upper=state.at_upper[: n + m].copy(), shape=(m, n))
+            result = checked_optimum(self.form, self._scaling, state.z[:n], state.y, state.d[:n], basis, self._tol,
+                                     iterations=state.iterations, phase_one_iterations=0, warm=True,
+                                     algorithm=algorithm)
+        if result.status != "optimal":  # the residual check failed
             return None
         self._basis = result.basis
         return result
@@ -230,16 +241,24 @@ class _Bounds:
     """What the checks of a re-solve read of the state's bounds, found once per change of
     them rather than at every check: which variables are not fixed (`movable`), which are
     free (`free`, indices), and each bound relaxed by the primal feasibility tolerance
-    (`low`, `high`: outside them a value breaks its bound, as in `SimplexState.start_from`)."""
+    (`low`, `high`: outside them a value breaks its bound, as in `SimplexState.start_from`);
+    the dual simplex reads `span` (upper - lower), `movable` and `free` too (`run_dual`)."""
 
-    __slots__ = ("movable", "free", "low", "high")
+    __slots__ = ("movable", "free", "low", "high", "span")
 
     def __init__(self, state: SimplexState):
         lower, upper, tp = state.lower, state.upper, state.tol.primal_feasibility
+        self.span = upper - lower
         self.movable = lower != upper
         self.free = ((lower == -np.inf) & (upper == np.inf)).nonzero()[0]
-        self.low = lower - tp * (1 + np.abs(lower))
-        self.high = upper + tp * (1 + np.abs(upper))
+        relax = np.abs(lower)  # tp * (1 + |bound|), in place (every re-solve after a move)
+        relax += 1
+        relax *= tp
+        self.low = lower - relax
+        relax = np.abs(upper)
+        relax += 1
+        relax *= tp
+        self.high = upper + relax
 
 
 def _iterate(state: SimplexState, bounds: _Bounds, cost: np.ndarray, moved: bool, repriced: bool,
@@ -259,14 +278,14 @@ def _iterate(state: SimplexState, bounds: _Bounds, cost: np.ndarray, moved: bool
     if repriced:
         state.d = state.fresh_duals(cost)
     if not moved or _primal_feasible(state, bounds):
-        if not _asks(state, bounds).any():
+        if not np.count_nonzero(_asks(state, bounds)):
             return "optimal", "primal"
         return run_primal(state, cost, d=state.d, refactor_at_end=refactor_at_end), "primal"
     if not _place_for_dual(state, bounds):
         return "no_start", ""
     # run_dual ends with the true costs' duals
-    status = run_dual(state, cost, perturb=True, d=state.d, refactor_at_end=refactor_at_end)
-    if status == "optimal" and _asks(state, bounds).any():
+    status = run_dual(state, cost, perturb=True, d=state.d, refactor_at_end=refactor_at_end, bounds=bounds)
+    if status == "optimal" and np.count_nonzero(_asks(state, bounds)):
         # rounding or the perturbation left a reduced cost astray
         status = run_primal(state, cost, d=state.d, refactor_at_end=refactor_at_end)
     return status, "dual"
@@ -277,7 +296,8 @@ def _primal_feasible(state: SimplexState, bounds: _Bounds) -> bool:
     in `SimplexState.start_from`)."""
     head = state.head
     xb = state.z[head]
-    return not ((xb < bounds.low[head]) | (xb > bounds.high[head])).any()
+    # the upper side only when the lower one holds (a move of limits usually breaks one)
+    return not (np.count_nonzero(xb < bounds.low[head]) or np.count_nonzero(xb > bounds.high[head]))
 
 
 def _asks(state: SimplexState, bounds: _Bounds) -> np.ndarray:
@@ -286,7 +306,8 @@ def _asks(state: SimplexState, bounds: _Bounds) -> np.ndarray:
     feasibility tolerance); basic and fixed variables never ask (`pricing.prices_out`).
     None ask when the basis is dual feasible."""
     d, td = state.d, state.tol.dual_feasibility
-    asks = np.where(state.at_upper, d > td, d < -td)
+    asks = d < -td
+    np.copyto(asks, d > td, where=state.at_upper)  # np.where(at_upper, d > td, d < -td), in fewer steps
     free = bounds.free
     if free.size:
         asks[free] = np.abs(d[free]) > td
@@ -300,12 +321,12 @@ def _place_for_dual(state: SimplexState, bounds: _Bounds) -> bool:
     values; True when the basis is then dual feasible (as in `dual.start_dual`). The
     nonbasics were just placed by `at_upper`: when none asks to move, nothing is redone."""
     asks = _asks(state, bounds)
-    if not asks.any():
+    if not np.count_nonzero(asks):
         return True
-    if bounds.free.size and asks[bounds.free].any():
+    if bounds.free.size and np.count_nonzero(asks[bounds.free]):
         return False  # a free variable sits at zero whatever its reduced cost
     state.place_nonbasics(state.at_upper ^ asks)  # a bound it asks for may be infinite: checked next
-    if _asks(state, bounds).any():
+    if np.count_nonzero(_asks(state, bounds)):
         return False
     state.basic_values()
     return True
@@ -313,11 +334,11 @@ def _place_for_dual(state: SimplexState, bounds: _Bounds) -> bool:
 
 def _changed(values: np.ndarray, new, index, name: str) -> np.ndarray:
     """A copy of `values` with `new` in every place, or in the places `index`."""
-    new = np.asarray(new, dtype=float).reshape(-1)
+    new = np.array(new, dtype=float).reshape(-1)  # a copy of our own
     if index is None:
         if new.size != values.size:
             raise ValueError(f"{name} must have {values.size} entries, got {new.size}")
-        return new.copy()
+        return new
     out = np.array(values, dtype=float, copy=True)
     index = np.asarray(index, dtype=int).reshape(-1)
     if new.size not in (1, index.size) or np.any(index < -out.size) or np.any(index >= out.size):
@@ -327,9 +348,10 @@ def _changed(values: np.ndarray, new, index, name: str) -> np.ndarray:
 
 
 def _check_bounds(lower: np.ndarray, upper: np.ndarray, what: str) -> None:
-    """Raise ValueError for a NaN bound, a lower bound of +inf or an upper bound of -inf
-    (a NaN fails both comparisons of the first test, so it alone passes good bounds)."""
-    if ((lower < np.inf) & (upper > -np.inf)).all():
+    """Raise ValueError for a NaN bound, a lower bound of +inf or an upper bound of -inf.
+    The first test reads the largest lower and the smallest upper bound (argmax and argmin
+    find a NaN first, and a NaN fails the comparison), so it alone passes good bounds."""
+    if not lower.size or (lower.item(lower.argmax()) < np.inf and upper.item(upper.argmin()) > -np.inf):
         return
     if np.isnan(lower).any() or np.isnan(upper).any():
         raise ValueError(f"{what} bounds must not be NaN")

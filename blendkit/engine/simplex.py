@@ -235,6 +235,8 @@ def _two_phase(state: SimplexState, warm: bool, ranging: bool) -> SimplexOutcome
     if status == "iteration_limit":
         return _stopped(state, status, f"iteration limit ({state.max_iterations}) reached in phase two",
                         phase_one=phase_one)
+    if status != "optimal":
+        return _stopped(state, "numerical_trouble", f"phase two ended {status}", phase_one=phase_one)
     return optimal_outcome(state, phase_one=phase_one, warm=warm, algorithm="primal", ranging=ranging)
 
 

@@ -30,6 +30,8 @@ from blendkit.engine.tolerances import (
     DENSE_REFACTOR_MAX,
     DENSE_REFACTOR_MIN,
     DENSE_REFACTOR_DIVISOR,
+    HELD_INVERSE_AFTER,
+    INVERSE_AFTER,
     INVERSE_REFACTOR_EVERY,
     INVERSE_ROWS,
     PIVOT_AGREEMENT,
@@ -52,7 +54,8 @@ class SimplexState:
     duals and reduced costs computed, `ray` the direction found when unbounded.
     """
 
-    def __init__(self, sf: StandardForm, tol: Tolerances, max_iterations: int, short_run: bool = False):
+    def __init__(self, sf: StandardForm, tol: Tolerances, max_iterations: int, short_run: bool = False,
+                 held: bool = False):
         self.tol = tol
         self.max_iterations = max_iterations
         self.A = sf.A
@@ -72,15 +75,17 @@ class SimplexState:
             self.M = sp.hstack([sp.csc_matrix(self.A), -sp.identity(self.m, format="csc")], format="csc")
             self.products = RowProduct(self.M)  # y^T M, for the pivot row and the duals
         else:
-            self.factor = self._dense_factor(short_run)
+            self.factor = self._dense_factor(short_run, held)
             dense = self.A.toarray() if is_sparse(self.A) else self.A
             self.M = np.hstack([dense, -np.eye(self.m)])
-            self.MT = np.ascontiguousarray(self.M[:, : self.n].T)  # A^T by rows: y^T A reads it in order
+            # [A, -I]^T by rows: M^T y in one product (the -I part costs m^2, less than two calls)
+            self.MT = np.ascontiguousarray(self.M.T)
 
-    def _dense_factor(self, short_run: bool) -> BasisFactor:
+    def _dense_factor(self, short_run: bool, held: bool) -> BasisFactor:
         """The factors of a dense basis: LU with etas, or from INVERSE_ROWS rows also the
         explicit inverse, which a `short_run` (a warm start: few iterations expected) builds
-        only once it has made rows / INVERSE_AFTER_DIVISOR updates (`InverseBasisFactor`)."""
+        only once it has made rows / INVERSE_AFTER_DIVISOR updates (`InverseBasisFactor`),
+        and a state `held` for a series of re-solves after HELD_INVERSE_AFTER updates."""
         if self.m < INVERSE_ROWS:
             every = np.clip(self.m**1.5 / DENSE_REFACTOR_DIVISOR, DENSE_REFACTOR_MIN, DENSE_REFACTOR_MAX)
             return BasisFactor(refactor_every=int(every))
@@ -88,7 +93,7 @@ class SimplexState:
         # at once rather than by the garbage collector.
         state = weakref.proxy(self)
         return InverseBasisFactor(INVERSE_REFACTOR_EVERY, lambda j: state.M[:, state.head[j]], lambda: state.head,
-                                  patient=short_run)
+                                  patient=short_run, invert_after=HELD_INVERSE_AFTER if held else INVERSE_AFTER)
 
     # ----- the matrix M = [A, -I, artificial columns] -------------------------------
 
@@ -108,10 +113,6 @@ class SimplexState:
             return self.M[:, js].toarray()
         return self.M[:, js]
 
-    def times(self, z: np.ndarray) -> np.ndarray:
-        """M z."""
-        return self.M @ z
-
     def times_transpose(self, y: np.ndarray) -> np.ndarray:
         """M^T y."""
         return self.row_combination(y)
@@ -127,14 +128,14 @@ class SimplexState:
         """M^T y; when M is sparse, from the rows of M that y picks or lives on
         (`row_product`), which touches a small part of M."""
         if not self.sparse:
-            # [A, -I, artificials]^T y: A^T y from its transposed copy, then -y and
-            # the artificials' sign * y[row].
-            n, m = self.n, self.m
+            # [A, -I, artificials]^T y: [A, -I]^T y from its transposed copy, then the
+            # artificials' sign * y[row].
+            if not self.art_row.size:
+                return self.MT @ y
+            k = self.n + self.m
             out = np.empty(self.M.shape[1])
-            np.dot(self.MT, y, out=out[:n])
-            np.negative(y, out=out[n : n + m])
-            if self.art_row.size:
-                out[n + m :] = self.art_sign * y[self.art_row]
+            np.dot(self.MT, y, out=out[:k])
+            out[k:] = self.art_sign * y[self.art_row]
             return out
         return self.products.combine(y, self._focus_rows)
 
@@ -172,10 +173,14 @@ class SimplexState:
         goes to its lower bound, one with only an upper bound to that, a free one to zero.
         """
         low_ok, up_ok = np.isfinite(self.lower), np.isfinite(self.upper)
-        at_upper = (at_upper & up_ok) | (~low_ok & up_ok)
+        at_upper = at_upper | ~low_ok  # a new array: (at_upper & up_ok) | (~low_ok & up_ok)
+        at_upper &= up_ok
         at_upper[self.head] = False
         self.at_upper = at_upper
-        self.z = np.where(at_upper, self.upper, np.where(low_ok, self.lower, 0.0))
+        z = self.lower.copy()  # np.where(at_upper, upper, np.where(low_ok, lower, 0)) in fewer, cheaper
+        z[~low_ok] = 0.0  # steps (np.where with a scalar costs twice this): re-solves place them each time
+        np.copyto(z, self.upper, where=at_upper)
+        self.z = z
 
     def start_from(self, head: np.ndarray, at_upper: np.ndarray) -> bool:
         """Take a given basis; True when it is primal feasible, so phase one can be skipped.
@@ -237,13 +242,14 @@ class SimplexState:
 
     def basic_values(self) -> None:
         """Set the basic variables from the nonbasic ones: B z_B = -N z_N."""
-        nonbasic_z = np.where(self.basic, 0.0, self.z)
-        self.z[self.head] = self.factor.ftran(-self.times(nonbasic_z))
+        minus_nonbasic = -self.z  # -np.where(basic, 0, z) in fewer steps; M (-z) = -(M z) exactly
+        minus_nonbasic[self.basic] = 0.0
+        self.z[self.head] = self.factor.ftran(self.M @ minus_nonbasic)
 
     def fresh_duals(self, cost: np.ndarray) -> np.ndarray:
         """Recompute y and return d = cost - M^T y from the current factorisation."""
         self.y = self.factor.btran(cost[self.head])
-        return cost - self.times_transpose(self.y)
+        return cost - self.row_combination(self.y)  # M^T y, as `times_transpose`
 
     def refresh(self, cost: np.ndarray) -> np.ndarray:
         """Refactorise, then recompute the basic values, y and d = cost - M^T y.

@@ -210,11 +210,25 @@ def _without_solution(form: StandardForm, scaling: Scaling, outcome: SimplexOutc
 def _with_solution(form: StandardForm, scaling: Scaling, outcome: SimplexOutcome, tol: Tolerances) -> LPResult:
     """The result of an optimal outcome, in original units, after the residual check."""
     m, n = form.shape
-    x = outcome.x * scaling.cols
-    y = outcome.y * scaling.rows
-    d = outcome.d / scaling.cols
+    basis = Basis(head=outcome.head, at_upper=outcome.at_upper, shape=(m, n))
+    return checked_optimum(form, scaling, outcome.x, outcome.y, outcome.d, basis, tol, iterations=outcome.iterations,
+                           phase_one_iterations=outcome.phase_one_iterations, warm=outcome.warm,
+                           algorithm=outcome.algorithm, message=outcome.message, cost_ranges=outcome.cost_ranges,
+                           bound_ranges=outcome.bound_ranges)
+
+
+def checked_optimum(form: StandardForm, scaling: Scaling, x, y, d, basis: Basis, tol: Tolerances, *, iterations: int,
+                    phase_one_iterations: int, warm: bool, algorithm: str, message: str = "optimal solution found",
+                    cost_ranges=None, bound_ranges=None) -> LPResult:
+    """The result at an optimum with values x, duals y and reduced costs d of the scaled
+    problem (read, never kept), in original units after the residual check: status
+    "optimal", or "numerical_trouble" when the residuals break the tolerance. A re-solve
+    calls it on the simplex state's arrays, without a `SimplexOutcome` in between."""
+    x = x * scaling.cols
+    y = y * scaling.rows
+    d = d / scaling.cols
     residual, where = worst_violation(form, x)
-    status, message = outcome.status, outcome.message
+    status = "optimal"
     if residual > tol.residual:
         status = "numerical_trouble"
         message = (
@@ -226,17 +240,17 @@ def _with_solution(form: StandardForm, scaling: Scaling, outcome: SimplexOutcome
         message=message,
         x=x,
         objective=float(form.c @ x),
-        iterations=outcome.iterations,
-        phase_one_iterations=outcome.phase_one_iterations,
+        iterations=iterations,
+        phase_one_iterations=phase_one_iterations,
         marginals_ub=y[: form.n_ub].copy(),
         marginals_eq=y[form.n_ub :].copy(),
         reduced_costs=d,
         row_marginals=y,
         residual=residual,
-        basis=Basis(head=outcome.head, at_upper=outcome.at_upper, shape=(m, n)),
-        warm_start=outcome.warm,
-        algorithm=outcome.algorithm,
-        cost_ranges=None if outcome.cost_ranges is None else outcome.cost_ranges / scaling.cols[:, None],
-        bound_ranges=None if outcome.bound_ranges is None else outcome.bound_ranges
+        basis=basis,
+        warm_start=warm,
+        algorithm=algorithm,
+        cost_ranges=None if cost_ranges is None else cost_ranges / scaling.cols[:, None],
+        bound_ranges=None if bound_ranges is None else bound_ranges
         * np.concatenate([scaling.cols, 1 / scaling.rows])[:, None],
     )

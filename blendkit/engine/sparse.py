@@ -12,12 +12,16 @@ from __future__ import annotations
 import sys
 from types import ModuleType
 
+import numpy as np
+
 from blendkit.engine.tolerances import SPARSE_DENSITY, SPARSE_ROWS
 
 
 def is_sparse(A) -> bool:
     """True when A is a scipy.sparse matrix or array (scipy.sparse.issparse), without
-    importing scipy."""
+    importing scipy. A numpy array answers at once (the check of a re-solve asks each time)."""
+    if type(A) is np.ndarray:
+        return False
     module = sys.modules.get("scipy.sparse")
     return module is not None and module.issparse(A)
 

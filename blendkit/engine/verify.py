@@ -47,11 +47,14 @@ def worst_violation(sf: StandardForm, x: np.ndarray) -> tuple[float, str]:
 def _worst_rows(sf: StandardForm, x: np.ndarray, rows: np.ndarray, over: np.ndarray) -> tuple[float, int]:
     """(relative violation, row) of the worst of the rows `rows`, which break a bound by
     `over`; apart so that a few rows take scalar steps and many whole-array ones."""
-    if rows.size <= FEW_VIOLATED and not is_sparse(sf.A):
+    dense = not is_sparse(sf.A)
+    if rows.size <= FEW_VIOLATED and dense:
         worst, where = -1.0, -1
         for i, amount, low, up in zip(rows.tolist(), over.tolist(), sf.row_lower[rows].tolist(),
                                       sf.row_upper[rows].tolist()):
-            size = float(np.abs(sf.A[i] * x).max()) if x.size else 0.0
+            terms = sf.A[i] * x
+            np.abs(terms, out=terms)
+            size = terms.item(terms.argmax()) if x.size else 0.0  # argmax: cheaper than a reduction
             for bound in (low, up):
                 if abs(bound) < np.inf:
                     size = max(size, abs(bound))
@@ -59,10 +62,11 @@ def _worst_rows(sf: StandardForm, x: np.ndarray, rows: np.ndarray, over: np.ndar
                 worst, where = amount / (size + 1.0), i
         return worst, where
     A = sf.A[rows]
-    if is_sparse(A):
+    if not dense:
         terms = np.asarray(abs(A.multiply(x[None, :])).max(axis=1).todense()).ravel()
-    else:
-        terms = np.abs(A * x).max(axis=1, initial=0.0)
+    else:  # in place, and the ufunc's own reduction: called on every re-solve
+        terms = A * x
+        terms = np.maximum.reduce(np.abs(terms, out=terms), axis=1, initial=0.0)
     violation = over / _with_bounds(terms, sf.row_lower[rows], sf.row_upper[rows])
     k = int(violation.argmax())
     return float(violation[k]), int(rows[k])
@@ -72,8 +76,7 @@ def _with_bounds(size: np.ndarray, lower: np.ndarray, upper: np.ndarray) -> np.n
     """1 + max(size, |lower|, |upper|), an infinite bound left out (it never scales a
     violation); `size` is overwritten. In place, step by step: called on every re-solve."""
     for bound in (lower, upper):
-        magnitude = np.abs(bound)
-        np.maximum(size, magnitude, out=size, where=magnitude < np.inf)
+        np.maximum(size, np.abs(bound), out=size, where=np.isfinite(bound))
     size += 1.0
     return size
 
