@@ -26,29 +26,7 @@ def start_shifted(state: SimplexState, basis) -> np.ndarray | None:
     cannot (past their only bound, or a free one anywhere) are shifted so that their
     reduced cost is zero. Returns those shifted costs (the run's own, until the caller
     puts the true ones back), or None when the basis does not fit or is singular."""
-    n, m, td = state.n, state.m, state.tol.dual_feasibility
-    head, at_upper = (np.asarray(b) for b in basis)
-    if head.shape != (m,) or np.any(head >= n + m) or len(set(head.tolist())) != m:
-        return None
-    state.add_artificials(np.zeros(0, dtype=int), np.zeros(0))
-    state.set_head(head)
-    cost = np.concatenate([state.c_struct, np.zeros(m)])
-    try:
-        state.factor.factor(state.M[:, state.head])
-    except SingularBasis:
-        return None
-    d = cost - state.times_transpose(state.factor.btran(cost[state.head]))
-    lo, up = state.lower[: n + m], state.upper[: n + m]
-    low_ok, up_ok = np.isfinite(lo), np.isfinite(up)
-    nonbasic = ~state.basic & (lo != up)
-    wants_upper, wants_lower = d < -td, d > td
-    stuck = nonbasic & ((wants_upper & ~up_ok) | (wants_lower & ~low_ok))
-    shifted = cost.copy()
-    shifted[stuck] -= d[stuck]
-    state.place_nonbasics(np.where(wants_upper & ~stuck, True, np.where(wants_lower & ~stuck, False,
-                                                                       np.asarray(at_upper, bool))))
-    state.basic_values()
-    return shifted
+    return _start(state, basis, shift=True)
 
 
 def start_dual(state: SimplexState, basis=None) -> bool:
@@ -59,13 +37,18 @@ def start_dual(state: SimplexState, basis=None) -> bool:
     bound its reduced cost favours; one with a single finite bound must already be
     on the right side, and a free one must have a zero reduced cost.
     """
+    return _start(state, basis, shift=False) is not None
+
+
+def _start(state: SimplexState, basis, shift: bool) -> np.ndarray | None:
+    """`start_dual`, or with `shift` `start_shifted`: the costs the dual simplex goes on
+    with, or None when there is no start."""
     n, m, td = state.n, state.m, state.tol.dual_feasibility
-    lo, up = state.lower[: n + m], state.upper[: n + m]
     state.add_artificials(np.zeros(0, dtype=int), np.zeros(0))
     if basis is not None:
         head, at_upper = (np.asarray(b) for b in basis)
         if head.shape != (m,) or np.any(head >= n + m) or len(set(head.tolist())) != m:
-            return False
+            return None
     else:
         head, at_upper = n + np.arange(m), np.zeros(n + m, dtype=bool)
     state.set_head(head)
@@ -73,19 +56,21 @@ def start_dual(state: SimplexState, basis=None) -> bool:
     try:
         state.factor.factor(state.M[:, state.head])
     except SingularBasis:
-        return False
+        return None
     d = cost - state.times_transpose(state.factor.btran(cost[state.head]))
-    low_ok, up_ok = np.isfinite(lo), np.isfinite(up)
+    lo, up = state.lower[: n + m], state.upper[: n + m]
     nonbasic = ~state.basic & (lo != up)
-    wants_upper = d < -td
-    wants_lower = d > td
-    if np.any(nonbasic & wants_upper & ~up_ok) or np.any(nonbasic & wants_lower & ~low_ok):
-        return False
-    if np.any(nonbasic & ~low_ok & ~up_ok & (np.abs(d) > td)):
-        return False
+    wants_upper, wants_lower = d < -td, d > td
+    stuck = nonbasic & ((wants_upper & ~np.isfinite(up)) | (wants_lower & ~np.isfinite(lo)))
+    if stuck.any():
+        if not shift:
+            return None
+        cost[stuck] -= d[stuck]
+        wants_upper &= ~stuck
+        wants_lower &= ~stuck
     state.place_nonbasics(np.where(wants_upper, True, np.where(wants_lower, False, np.asarray(at_upper, bool))))
     state.basic_values()
-    return True
+    return cost
 
 
 def run_dual(state: SimplexState, cost: np.ndarray, perturb: bool = False, d: np.ndarray | None = None,
