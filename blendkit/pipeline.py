@@ -243,6 +243,7 @@ class Prepared:
     # The earlier result and notes on it (`compare.earlier_result`), read before solving so
     # that the run can start from its basis; None when not read yet.
     earlier: tuple | None = field(default=None, repr=False, compare=False)
+    compared: str | Path | None = None  # the `compare` file `earlier` was read for
 
 
 def prepare(
@@ -285,14 +286,15 @@ def prepare(
     if start and earlier[0] is not None and earlier[0].basis:
         blend = dataclasses.replace(blend, start=earlier[0].basis)
     return Prepared(book=book, data=data, blend=blend, target=target, run=run, mps_file=mps_path,
-                    in_place=in_place, loaded=loaded if keep_loaded else None, earlier=earlier)
+                    in_place=in_place, loaded=loaded if keep_loaded else None, earlier=earlier, compared=compare)
 
 
 def finish(prepared: Prepared, formula: Formula, *, compare: str | Path | None = None) -> Outcome:
     """Compare with the earlier result, write the output workbook (and the MPS file)."""
     target, data = prepared.target, prepared.data
     formula = compare_with_earlier(formula, prepared.run, target, compare=compare,
-                                   output_data=data if prepared.in_place else None, earlier=prepared.earlier)
+                                   output_data=data if prepared.in_place else None,
+                                   earlier=prepared.earlier if compare == prepared.compared else None)
     try:
         if prepared.in_place:
             save_atomically(data, backup_path(prepared.book))

@@ -193,3 +193,19 @@ def test_a_workbook_edited_at_random_solves_from_its_earlier_basis_to_the_highs_
     assert reference.result.status == 0
     assert formula.status == "optimal"
     assert formula.cost == pytest.approx(reference.result.fun, rel=1e-7)
+
+
+def test_finish_compares_with_the_file_it_is_given_after_a_prepare_without_it(tmp_path):
+    # The earlier result is read when the workbook is prepared; a `compare` file named only
+    # to `finish` is still the one compared with (the library's two-step use).
+    from blendkit.pipeline import finish, formulate, prepare
+
+    book = tmp_path / "layer_feed.xlsx"
+    book.write_bytes((ROOT / "sample_workbooks" / "layer_feed.xlsx").read_bytes())
+    earlier = solve_workbook(book, tmp_path / "earlier.xlsx", check=False).output
+    prepared = prepare(book, tmp_path / "new.xlsx")
+    assert prepared.earlier == (None, ())  # nothing at new.xlsx yet
+    outcome = finish(prepared, formulate(prepared.blend, check=False), compare=earlier)
+    assert outcome.formula.changes is not None
+    # The same run compared by HiGHS's measure: the cost is the optimum of the workbook.
+    assert outcome.formula.cost == pytest.approx(formulate_with_highs(book).result.fun, rel=1e-7)
