@@ -209,3 +209,28 @@ def test_finish_compares_with_the_file_it_is_given_after_a_prepare_without_it(tm
     assert outcome.formula.changes is not None
     # The same run compared by HiGHS's measure: the cost is the optimum of the workbook.
     assert outcome.formula.cost == pytest.approx(formulate_with_highs(book).result.fun, rel=1e-7)
+
+
+def test_a_binding_spec_dropped_from_a_large_plant_still_starts_from_the_earlier_basis(tmp_path):
+    # One binding row fewer leaves one basic column too many; on an LP of more than
+    # NULL_SPACE_ROWS rows (here 680) the column to leave is found by trying sparse
+    # factorisations. The run starts from the earlier basis and ends at HiGHS's optimum.
+    from blendkit.lp import start
+
+    book = plant_workbook(tmp_path / "plant.xlsx", 20, 60, 30, 5)
+    out = tmp_path / "plant.result.xlsx"
+    first = solve_workbook(book, out, check=False).formula
+    product = first.products[0]
+    name = next(limit.name for limit in product.limits if limit.binding and limit.kind == "nutrient")
+
+    def drop(book_):
+        specs = book_["Specs"]
+        row = next(r for r in range(2, specs.max_row + 1)
+                   if specs.cell(r, 1).value == name and specs.cell(r, 4).value == product.name)
+        specs.delete_rows(row)
+
+    _edit(book, drop)
+    assert 20 * 31 + 60 > start.NULL_SPACE_ROWS
+    again = solve_workbook(book, out, check=False).formula
+    assert any(STARTED in note for note in again.notes)
+    _assert_highs_optimum(book, again)

@@ -37,6 +37,9 @@ LEAST_MAPPED = 0.5
 # Up to this many rows, the column that leaves an overfull basis is found from a null
 # vector (an SVD of the basis columns: about 0.05 s at 400 rows).
 NULL_SPACE_ROWS = 400
+# Beyond that, with one column too many, this many of the last ingredient columns are tried
+# in turn (a sparse factorisation each) for one whose leaving leaves a basis.
+SPARSE_TRIES = 8
 
 Label = tuple[str, ...]
 
@@ -111,20 +114,39 @@ def start_basis(blend: Blend, lp: BlendLP, recorded: Iterable[tuple[Label, int]]
 def _dependent_column(lp: BlendLP, head: list[int]) -> int:
     """An ingredient column of `head` (more columns than rows) whose leaving keeps the rest
     independent: the one with the largest weight in a null vector of those columns. An
-    LP of more than NULL_SPACE_ROWS rows gives the last one instead (the engine drops a
-    basis that is then singular, and solves from scratch)."""
+    LP of more than NULL_SPACE_ROWS rows tries the last SPARSE_TRIES in turn, else gives
+    the last one (the engine drops a basis that is then singular, and solves from
+    scratch)."""
     m, n = lp.form.A.shape
     structural = [j for j in head if j < n]
     if m > NULL_SPACE_ROWS:
+        if len(head) == m + 1:  # one too many: the last column whose leaving leaves a basis
+            for j in reversed(structural[-SPARSE_TRIES:]):
+                if _nonsingular(_columns(lp, [i for i in head if i != j], dense=False)):
+                    return j
         return structural[-1]
     from scipy.linalg import null_space  # only when a binding row was dropped
 
-    A = lp.form.A.toarray() if hasattr(lp.form.A, "toarray") else np.asarray(lp.form.A, dtype=float)
-    columns = np.zeros((m, len(head)))
-    for k, j in enumerate(head):
-        if j < n:
-            columns[:, k] = A[:, j]
-        else:
-            columns[j - n, k] = -1.0
-    weights = np.abs(null_space(columns)).max(axis=1)
+    weights = np.abs(null_space(_columns(lp, head, dense=True))).max(axis=1)
     return max(structural, key=lambda j: weights[head.index(j)])
+
+
+def _columns(lp: BlendLP, head: list[int], dense: bool):
+    """The columns `head` of [A, -I], in that order, dense or as a scipy.sparse matrix."""
+    import scipy.sparse as sp
+
+    m = lp.form.A.shape[0]
+    picked = sp.hstack([sp.csc_matrix(lp.form.A), -sp.identity(m, format="csc")], format="csc")[:, head]
+    return picked.toarray() if dense else picked
+
+
+def _nonsingular(B) -> bool:
+    """True when the square basis B factorises (the engine's own sparse factors)."""
+    from blendkit.engine.basis_factor import SingularBasis
+    from blendkit.engine.kernel_factor import KernelBasisFactor
+
+    try:
+        KernelBasisFactor(refactor_every=1).factor(B)
+    except SingularBasis:
+        return False
+    return True
