@@ -14,18 +14,21 @@ directly (presolve on), each cold, with the ratios (`blendkit.bench.timing.measu
 from __future__ import annotations
 
 from collections.abc import Iterator
-from dataclasses import dataclass
+from dataclasses import dataclass, replace
 
 import numpy as np
 import scipy.sparse as sp
 
 from blendkit.bench.options import Options
+from blendkit.bench.resolves import measure_resolves
 from blendkit.bench.timing import measure, measurement_lines
 
 # (products, ingredients, nutrients) of the plants measured, and the repeats of each solve.
 PLANTS = ((5, 60, 30), (20, 60, 30), (40, 80, 40), (60, 60, 30))
 QUICK_PLANTS = PLANTS[:2]
 REPEATS = {5: 5, 20: 3, 40: 2, 60: 1}
+# Price changes after each plant's cold solve, re-solved from the basis held.
+PRICE_STEPS = 3
 TOTAL = 100.0  # inclusions are in % of each product
 # Contents: this share non-zero, uniform in CONTENT_RANGE; caps (%) and prices per tonne.
 DENSITY = 0.7
@@ -163,6 +166,23 @@ def plant_workbook(path, products: int, n_ingredients: int, n_nutrients: int, se
     return path
 
 
+def plant_price_steps(products: int, n_ingredients: int, n_nutrients: int, seed: int,
+                      steps: int = PRICE_STEPS) -> list[PlantInstance]:
+    """The plant of `make_plant` with its prices changed step by step, as a weekly price
+    list does: each step moves a third of the ingredient prices by a few percent, one
+    price per ingredient, paid by every product."""
+    data = plant_data(products, n_ingredients, n_nutrients, seed)
+    plant = make_plant(products, n_ingredients, n_nutrients, seed)
+    rng = np.random.default_rng([seed, products, n_ingredients, n_nutrients, 7919])
+    prices, out = data.prices.copy(), []
+    for step in range(steps):
+        moved = rng.random(prices.size) < 1 / 3
+        prices = np.where(moved, prices * np.exp(rng.normal(0, 0.05, prices.size)), prices)
+        out.append(replace(plant, name=f"{plant.name} price step {step + 1}",
+                           c=np.concatenate([prices * a / TOTAL for a in data.amounts])))
+    return out
+
+
 def section(options: Options) -> Iterator[str]:
     """The plant family's part of the report, a line at a time as each plant is measured."""
     yield ("Plant LPs (products x ingredients x nutrients; one joint LP, stocks shared): ours = "
@@ -174,4 +194,9 @@ def section(options: Options) -> Iterator[str]:
         m, n = plant.A_ub.shape[0] + plant.A_eq.shape[0], plant.c.size
         yield from measurement_lines([measure(f"{products}x{n_ingredients}x{n_nutrients} ({n}x{m})", [plant], repeat)],
                                      head=False)
-    yield "(columns x rows in brackets; ours and linprog are given the same sparse matrices)"
+        steps = plant_price_steps(products, n_ingredients, n_nutrients, options.seed)
+        yield from measurement_lines([measure_resolves(f"{products}x{n_ingredients}x{n_nutrients} prices, re-solve",
+                                                       plant, steps, "costs", 1)], head=False)
+    yield "(columns x rows in brackets; ours and linprog are given the same sparse matrices; prices, re-solve:"
+    yield (f" {PRICE_STEPS} steps each moving a third of the ingredient prices by a few percent, ours through "
+           "Resolver, highspy keeping its model, both told only the new costs; linprog cold)")
