@@ -68,10 +68,36 @@ def new_sheet(workbook: Workbook, title: str) -> Worksheet:
     return sheet
 
 
+def cell_at(sheet: Worksheet, row: int, column: int, value: object = None) -> Cell:
+    """`cell_at(sheet, row, column, value)`: the same cell, made as openpyxl makes it, without
+    its range checks and method calls (a third of building a big output; the writers'
+    rows and columns are always in range). tests/test_sheet_bytes.py compares the output
+    with the one `Worksheet.cell` gives."""
+    cells = sheet._cells
+    cell = cells.get((row, column))
+    if cell is None:
+        cell = cells[(row, column)] = Cell(sheet, row=row, column=column)
+        if row > sheet._current_row:  # as Worksheet._add_cell
+            sheet._current_row = row
+    if value is not None:
+        _bind(cell, value)
+    return cell
+
+
+def _bind(cell: Cell, value: object) -> None:
+    """`cell.value = value`; a plain int or float is set directly, as openpyxl sets it."""
+    kind = type(value)
+    if kind is float or kind is int:
+        cell._value = value
+        cell.data_type = "n"
+    else:
+        cell.value = value
+
+
 def put(sheet: Worksheet, row: int, column: int, value: object) -> Cell:
     """Write a plain value; text starting with "=" stays text, never becomes a formula."""
-    cell = sheet.cell(row, column, value)
-    if isinstance(value, str) and cell.data_type == "f":
+    cell = cell_at(sheet, row, column, value)
+    if cell.data_type == "f" and isinstance(value, str):
         cell.data_type = "s"
     return cell
 
@@ -80,7 +106,8 @@ def number(cell: Cell, value: float | None, number_format: str) -> None:
     """Write a number (never a string); blank for None and for non-finite values."""
     if value is None or not math.isfinite(value):
         return
-    cell.value = float(value) + 0.0  # a plain float: no numpy scalar, no -0.0
+    cell._value = float(value) + 0.0  # a plain float: no numpy scalar, no -0.0 (`_bind`)
+    cell.data_type = "n"
     cell.number_format = number_format
 
 
@@ -153,7 +180,7 @@ def write_caution(
     """The caution in a boxed, wrapped cell across `columns` columns, `width` characters."""
     paragraph(sheet, row, CAUTION, columns, width, bold=True)
     for column in range(1, columns + 1):
-        styled(sheet.cell(row, column), "box", _boxed)
+        styled(cell_at(sheet, row, column), "box", _boxed)
 
 
 def _boxed(cell: Cell) -> None:

@@ -32,7 +32,7 @@ from openpyxl.worksheet.worksheet import Worksheet
 from blendkit.model.blend import AS_FED, DRY_MATTER, Blend, Ingredient
 from blendkit.model.combined import Combined
 from blendkit.model.formula import IngredientLine, NutrientLine
-from blendkit.write.workbook.cells import live, nutrient_format
+from blendkit.write.workbook.cells import cell_at, live, nutrient_format
 
 # The sheet a bare cell reference from the reader (no "Sheet!" part) belongs to.
 INGREDIENTS_SHEET = "Ingredients"
@@ -119,7 +119,7 @@ def write_level_checks(
                     lambda item, nutrient=line.name: item.content_cells.get(nutrient),
                 )
             if check is not None:
-                live(sheet.cell(header_row + offset, LIVE_COLUMN), check, nutrient_format(line))
+                live(cell_at(sheet, header_row + offset, LIVE_COLUMN), check, nutrient_format(line))
                 live_rows.setdefault(line.name, header_row + offset)
     return live_rows
 
@@ -151,12 +151,12 @@ def write_derived_check(
         if parts and parts[0] in live_rows and parts[1] in live_rows:
             top, bottom = (live_rows[part] for part in parts)
             text = f"={live_column}{top}/{live_column}{bottom}"
-            live(sheet.cell(row, LIVE_COLUMN), text, nutrient_format(line))
+            live(cell_at(sheet, row, LIVE_COLUMN), text, nutrient_format(line))
     elif line.basis == DRY_MATTER:
         dry = blend.settings.dry_matter
         if line.name in live_rows and dry in live_rows:
             text = f"={live_column}{live_rows[line.name]}/{live_column}{live_rows[dry]}*100"
-            live(sheet.cell(row, LIVE_COLUMN), text, nutrient_format(line))
+            live(cell_at(sheet, row, LIVE_COLUMN), text, nutrient_format(line))
 
 
 def quote_sheet(name: str) -> str:
