@@ -13,6 +13,7 @@ from weakref import WeakKeyDictionary
 
 from openpyxl.cell.cell import Cell
 from openpyxl.styles import Alignment, Border, Font, PatternFill, Side
+from openpyxl.styles.cell_style import StyleArray
 from openpyxl.workbook.workbook import Workbook
 from openpyxl.worksheet.worksheet import Worksheet
 
@@ -42,6 +43,11 @@ ALERT_TEXT = Font(bold=True, color="9C0006")
 # An input cell whose value came from a price list (`solve --prices`): a pale green.
 REPLACED_FILL = PatternFill(fill_type="solid", start_color="E2F0D9", end_color="E2F0D9")
 
+# Texts written, with the value and type openpyxl gave them; emptied when this full.
+_TEXTS: dict[str, tuple[str, str]] = {}
+_MOST_TEXTS = 100_000
+# Each workbook's number formats by their text, with openpyxl's id for each (`formatted`).
+_FORMAT_IDS: WeakKeyDictionary = WeakKeyDictionary()
 # Each workbook's finished looks (see `styled`), by the look's name and the style the cell
 # had before; weak, so that a batch's workbooks do not stay in memory.
 _LOOKS: WeakKeyDictionary = WeakKeyDictionary()
@@ -85,11 +91,21 @@ def cell_at(sheet: Worksheet, row: int, column: int, value: object = None) -> Ce
 
 
 def _bind(cell: Cell, value: object) -> None:
-    """`cell.value = value`; a plain int or float is set directly, as openpyxl sets it."""
+    """`cell.value = value`; a plain int or float is set directly, and a text as openpyxl
+    set the same text before (its checked value and type depend on the text alone)."""
     kind = type(value)
     if kind is float or kind is int:
         cell._value = value
         cell.data_type = "n"
+    elif kind is str:
+        known = _TEXTS.get(value)
+        if known is None:
+            cell.value = value  # openpyxl's checks (an illegal character raises here)
+            if len(_TEXTS) >= _MOST_TEXTS:
+                _TEXTS.clear()
+            _TEXTS[value] = (cell._value, cell.data_type)
+        else:
+            cell._value, cell.data_type = known
     else:
         cell.value = value
 
@@ -108,13 +124,30 @@ def number(cell: Cell, value: float | None, number_format: str) -> None:
         return
     cell._value = float(value) + 0.0  # a plain float: no numpy scalar, no -0.0 (`_bind`)
     cell.data_type = "n"
-    cell.number_format = number_format
+    formatted(cell, number_format)
 
 
 def live(cell: Cell, formula_text: str, number_format: str) -> None:
     """Write a live spreadsheet formula for the reviewer, formatted like the value it checks."""
-    cell.value = formula_text
-    cell.number_format = number_format
+    _bind(cell, formula_text)
+    formatted(cell, number_format)
+
+
+def formatted(cell: Cell, number_format: str) -> None:
+    """`cell.number_format = number_format`, the format's id in the workbook looked up
+    once per workbook (openpyxl's setter looks it up in its list each time)."""
+    workbook = cell.parent.parent
+    ids = _FORMAT_IDS.get(workbook)
+    if ids is None:
+        ids = _FORMAT_IDS[workbook] = {}
+    found = ids.get(number_format)
+    if found is None:
+        cell.number_format = number_format
+        ids[number_format] = cell._style.numFmtId
+    elif cell._style:
+        cell._style.numFmtId = found
+    else:  # as openpyxl's setter: a cell's first style part gives it a style
+        cell._style = StyleArray([0, 0, 0, found, 0, 0, 0, 0, 0])
 
 
 def styled(cell: Cell, look: str, apply: Callable[[Cell], None]) -> None:
