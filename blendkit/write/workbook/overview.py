@@ -148,8 +148,9 @@ def _result_blocks(workbook: Workbook) -> dict[str, int]:
     if result.TITLE not in workbook.sheetnames:
         return {}
     sheet = workbook[result.TITLE]
-    return {
-        row[1].value: row[0].row
-        for row in sheet.iter_rows(min_col=1, max_col=2)
-        if row[0].value == "Product" and row[1].value is not None
-    }
+    blocks = {}
+    for row in range(1, sheet.max_row + 1):  # both cells made to exist, as iter_rows does
+        label, name = cell_at(sheet, row, 1), cell_at(sheet, row, 2)
+        if label.value == "Product" and name.value is not None:
+            blocks[name.value] = row
+    return blocks

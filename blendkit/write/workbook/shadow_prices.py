@@ -146,14 +146,21 @@ def _size_columns(sheet: Worksheet) -> None:
     unit = sheet.column_dimensions[get_column_letter(_UNIT_COLUMN)]
     unit.width = min(unit.width + 1, _UNIT_WIDTH)
     # Text after a column of numbers starts one space in, clear of the number before it.
+    last = sheet.max_row
     for column in _TEXT_AFTER_NUMBERS:
-        for (cell,) in sheet.iter_rows(min_row=_HEADER_ROW + 1, min_col=column, max_col=column):
+        for cell in _column_cells(sheet, column, last):
             long = column == _UNIT_COLUMN and len(str(cell.value or "")) + 3 > unit.width
             styled(cell, f"after numbers {long}", _AFTER_NUMBERS[long])  # two shared looks
             if long:
                 lines = math.ceil((len(str(cell.value)) + 3) / unit.width)
                 sheet.row_dimensions[cell.row].height = 15 * lines + 2
-    _wrap_words(sheet)
+    _wrap_words(sheet, last)
+
+
+def _column_cells(sheet: Worksheet, column: int, last: int) -> list:
+    """The column's cells below the header to row `last`, each made to exist, as
+    `iter_rows` gives them (without its checks per cell)."""
+    return [cell_at(sheet, row, column) for row in range(_HEADER_ROW + 1, last + 1)]
 
 
 def _after_numbers(long: bool):
@@ -168,14 +175,19 @@ def _after_numbers(long: bool):
 _AFTER_NUMBERS = {long: _after_numbers(long) for long in (False, True)}
 
 
-def _wrap_words(sheet: Worksheet) -> None:
-    """Words longer than their column wrap onto a taller row."""
+def _wrapped(cell) -> None:
+    """Words wrapped from the top of the cell (with `styled`)."""
+    cell.alignment = Alignment(wrap_text=True, vertical="top")
+
+
+def _wrap_words(sheet: Worksheet, last: int) -> None:
+    """Words longer than their column wrap onto a taller row (to row `last`)."""
     for column in _WORDS:
         width = sheet.column_dimensions[get_column_letter(column)].width
-        for (cell,) in sheet.iter_rows(min_row=_HEADER_ROW + 1, min_col=column, max_col=column):
+        for cell in _column_cells(sheet, column, last):
             size = len(str(cell.value or ""))
             if size + 2 > width:
-                cell.alignment = Alignment(wrap_text=True, vertical="top")
+                styled(cell, "wrapped words", _wrapped)
                 lines = math.ceil((size + 2) / width)
                 height = sheet.row_dimensions[cell.row].height or 0
                 sheet.row_dimensions[cell.row].height = max(height, 15 * lines + 2)
