@@ -38,11 +38,13 @@ from blendkit.write.workbook.cells import (
     fixed_format,
     header,
     live,
+    look,
     new_sheet,
     number,
     nutrient_format,
     plain,
     put,
+    styled,
     whole_format,
     write_caution,
 )
@@ -69,6 +71,9 @@ _MOST_DECIMALS = 6
 _PRODUCT_ROW, _SIZE_ROW, _FIRST_TABLE = 4, 5, 7
 CENTRE = Alignment(horizontal="center")
 NOTE = Alignment(wrap_text=True, vertical="top", indent=1)  # kept off the Weighed box
+# The looks of the cells on every line of the tables, each set once per workbook (`styled`).
+_LINE_LOOKS = {"batch weighed": look(border=BOX), "batch note": look(alignment=NOTE),
+          "batch check": look(alignment=CENTRE), "batch unit": look(alignment=BESIDE_NUMBER)}
 _UNAVAILABLE = "not available: input cells unknown or formula too long"
 
 
@@ -133,8 +138,8 @@ def _write_lines(sheet: Worksheet, batch: Batch, lines: tuple[BatchLine, ...], r
         if line.packs is not None:
             put(sheet, at, 4, f"{line.packs} x {plain(line.pack_size)} {batch.unit}")
         number(cell_at(sheet, at, 5), line.step, _weight_format(line))
-        cell_at(sheet, at, 6).border = BOX
-        put(sheet, at, 7, line.note or None).alignment = NOTE
+        styled(cell_at(sheet, at, 6), "batch weighed", _LINE_LOOKS["batch weighed"])
+        styled(put(sheet, at, 7, line.note or None), "batch note", _LINE_LOOKS["batch note"])
     return row + len(lines) + 2
 
 
@@ -189,8 +194,8 @@ def _write_spec_check(sheet: Worksheet, workbook: Workbook, formula: Formula, ba
             put(sheet, at, 4, _UNAVAILABLE)
         else:
             live(cell_at(sheet, at, 4), text, nutrient_format(line))
-            cell_at(sheet, at, 5, _check_formula(at)).alignment = CENTRE
-        put(sheet, at, 6, line.unit or None).alignment = BESIDE_NUMBER
+            styled(cell_at(sheet, at, 5, _check_formula(at)), "batch check", _LINE_LOOKS["batch check"])
+        styled(put(sheet, at, 6, line.unit or None), "batch unit", _LINE_LOOKS["batch unit"])
     last = row + len(specs) + 1
     if specs:
         cells = f"E{row + 2}:E{last}"

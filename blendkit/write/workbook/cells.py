@@ -9,7 +9,7 @@ from __future__ import annotations
 import math
 from collections.abc import Callable
 from copy import copy
-from weakref import WeakKeyDictionary
+from weakref import WeakKeyDictionary, ref
 
 from openpyxl.cell.cell import Cell
 from openpyxl.styles import Alignment, Border, Font, PatternFill, Side
@@ -46,11 +46,34 @@ REPLACED_FILL = PatternFill(fill_type="solid", start_color="E2F0D9", end_color="
 # Texts written, with the value and type openpyxl gave them; emptied when this full.
 _TEXTS: dict[str, tuple[str, str]] = {}
 _MOST_TEXTS = 100_000
+
+
+class _PerWorkbook:
+    """A dict for each workbook, forgotten with the workbook; the last one used is at
+    hand without the weak dictionary's look-up (a big output asks 300,000 times)."""
+
+    def __init__(self) -> None:
+        """No workbook seen yet."""
+        self.every: WeakKeyDictionary = WeakKeyDictionary()
+        self.last: tuple = (None, None)  # (a weak reference to the workbook, its dict)
+
+    def of(self, workbook: Workbook) -> dict:
+        """The dict of `workbook`, new and empty the first time."""
+        last, found = self.last
+        if last is not None and last() is workbook:
+            return found
+        found = self.every.get(workbook)
+        if found is None:
+            found = self.every[workbook] = {}
+        self.last = (ref(workbook), found)  # one tuple, replaced whole
+        return found
+
+
 # Each workbook's number formats by their text, with openpyxl's id for each (`formatted`).
-_FORMAT_IDS: WeakKeyDictionary = WeakKeyDictionary()
+_FORMAT_IDS = _PerWorkbook()
 # Each workbook's finished looks (see `styled`), by the look's name and the style the cell
-# had before; weak, so that a batch's workbooks do not stay in memory.
-_LOOKS: WeakKeyDictionary = WeakKeyDictionary()
+# had before.
+_LOOKS = _PerWorkbook()
 # A header label's alignment: left over the name column, centred over a number column.
 HEADER_ALIGNMENT = {
     first: Alignment(wrap_text=True, vertical="bottom", horizontal="left" if first else "center")
@@ -136,10 +159,7 @@ def live(cell: Cell, formula_text: str, number_format: str) -> None:
 def formatted(cell: Cell, number_format: str) -> None:
     """`cell.number_format = number_format`, the format's id in the workbook looked up
     once per workbook (openpyxl's setter looks it up in its list each time)."""
-    workbook = cell.parent.parent
-    ids = _FORMAT_IDS.get(workbook)
-    if ids is None:
-        ids = _FORMAT_IDS[workbook] = {}
+    ids = _FORMAT_IDS.of(cell.parent.parent)
     found = ids.get(number_format)
     if found is None:
         cell.number_format = number_format
@@ -157,7 +177,7 @@ def styled(cell: Cell, look: str, apply: Callable[[Cell], None]) -> None:
     list every time (28 us for a header cell's three parts); the style a cell ends with
     depends only on the one it had before, so each workbook's first cell of each look is
     styled by `apply` and every later one gets a copy of that cell's finished style."""
-    looks = _LOOKS.setdefault(cell.parent.parent, {})
+    looks = _LOOKS.of(cell.parent.parent)
     key = (look, tuple(cell._style or ()))
     done = looks.get(key)
     if done is None:
@@ -165,6 +185,14 @@ def styled(cell: Cell, look: str, apply: Callable[[Cell], None]) -> None:
         looks[key] = copy(cell._style)
     else:
         cell._style = copy(done)
+
+
+def look(**parts: object) -> Callable[[Cell], None]:
+    """An `apply` for `styled` that sets these style parts in order (font=BOLD, ...)."""
+    def apply(cell: Cell) -> None:
+        for part, value in parts.items():
+            setattr(cell, part, value)
+    return apply
 
 
 def _header_look(first: bool) -> Callable[[Cell], None]:
