@@ -69,7 +69,8 @@ class _PerWorkbook:
         return found
 
 
-# Each workbook's number formats by their text, with openpyxl's id for each (`formatted`).
+# Each workbook's number formats by their text, each with a style holding only openpyxl's
+# id for it (`formatted`).
 _FORMAT_IDS = _PerWorkbook()
 # Each workbook's finished looks (see `styled`), by the look's name and the style the cell
 # had before.
@@ -160,14 +161,14 @@ def formatted(cell: Cell, number_format: str) -> None:
     """`cell.number_format = number_format`, the format's id in the workbook looked up
     once per workbook (openpyxl's setter looks it up in its list each time)."""
     ids = _FORMAT_IDS.of(cell.parent.parent)
-    found = ids.get(number_format)
+    found = ids.get(number_format)  # a style with the format's id and nothing else
     if found is None:
         cell.number_format = number_format
-        ids[number_format] = cell._style.numFmtId
+        ids[number_format] = StyleArray([0, 0, 0, cell._style.numFmtId, 0, 0, 0, 0, 0])
     elif cell._style:
-        cell._style.numFmtId = found
+        cell._style.numFmtId = found.numFmtId
     else:  # as openpyxl's setter: a cell's first style part gives it a style
-        cell._style = StyleArray([0, 0, 0, found, 0, 0, 0, 0, 0])
+        cell._style = StyleArray(found)
 
 
 def styled(cell: Cell, look: str, apply: Callable[[Cell], None]) -> None:

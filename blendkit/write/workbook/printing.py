@@ -87,9 +87,12 @@ def fit_column_widths(sheet: Worksheet, first_row: int, least: float, most: floa
     # only each column's longest counts.
     for (row, column), cell in sheet._cells.items():
         value = cell._value
-        if row < first_row or value is None:
+        if value is None or row < first_row:
             continue
-        if isinstance(value, bool) or not isinstance(value, (int, float)):
+        kind = type(value)
+        if kind is str:
+            size = len(value)
+        elif kind is bool or not isinstance(value, (int, float)):
             size = len(str(value))
         else:
             key = cell._style.numFmtId if cell._style else 0
