@@ -54,8 +54,32 @@ def _pinned(limit: Limit, limits) -> bool:
     """True when the same item has a binding bound of the other side at the same value."""
     other = "min" if limit.side == "max" else "max"
     return any(each.binding and each.side == other and each.bound == limit.bound
-               and (each.kind, each.name, each.product, each.basis)
-               == (limit.kind, limit.name, limit.product, limit.basis) for each in limits)
+               for each in _same_item(limits).get(_item(limit), ()))
+
+
+def _item(limit: Limit) -> tuple:
+    """What a limit bounds: its kind, name, product and basis."""
+    return (limit.kind, limit.name, limit.product, limit.basis)
+
+
+# The last `limits` tuple and its limits by the item they bound (one pair, replaced as a
+# whole): the Shadow prices sheet asks `limit_note` of each of a plant's 6,000 limits with
+# the same tuple.
+_LAST_BY_ITEM: tuple = ((), {})
+
+
+def _same_item(limits) -> dict[tuple, list[Limit]]:
+    """`limits` by `_item`, in order; remembered for the last tuple (a tuple cannot change)."""
+    global _LAST_BY_ITEM
+    last, by_item = _LAST_BY_ITEM
+    if type(limits) is tuple and limits is last:
+        return by_item
+    by_item = {}
+    for each in limits:
+        by_item.setdefault(_item(each), []).append(each)
+    if type(limits) is tuple:
+        _LAST_BY_ITEM = (limits, by_item)
+    return by_item
 
 
 def step_changes(blend: Blend, limit: Limit) -> tuple[float, float | None, float | None]:

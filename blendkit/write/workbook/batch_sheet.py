@@ -34,14 +34,17 @@ from blendkit.write.workbook.cells import (
     HEADER_BORDER,
     SECTION,
     TITLE_FONT,
+    cell_at,
     fixed_format,
     header,
     live,
+    look,
     new_sheet,
     number,
     nutrient_format,
     plain,
     put,
+    styled,
     whole_format,
     write_caution,
 )
@@ -68,6 +71,9 @@ _MOST_DECIMALS = 6
 _PRODUCT_ROW, _SIZE_ROW, _FIRST_TABLE = 4, 5, 7
 CENTRE = Alignment(horizontal="center")
 NOTE = Alignment(wrap_text=True, vertical="top", indent=1)  # kept off the Weighed box
+# The looks of the cells on every line of the tables, each set once per workbook (`styled`).
+_LINE_LOOKS = {"batch weighed": look(border=BOX), "batch note": look(alignment=NOTE),
+          "batch check": look(alignment=CENTRE), "batch unit": look(alignment=BESIDE_NUMBER)}
 _UNAVAILABLE = "not available: input cells unknown or formula too long"
 
 
@@ -94,7 +100,7 @@ def _write_batch(sheet: Worksheet, workbook: Workbook, formula: Formula, batch: 
     put(sheet, _PRODUCT_ROW, 1, "Product").font = BOLD
     put(sheet, _PRODUCT_ROW, 2, name).font = SECTION
     put(sheet, _SIZE_ROW, 1, "Batch size").font = BOLD
-    number(sheet.cell(_SIZE_ROW, 2), batch.size, whole_format(batch.size))
+    number(cell_at(sheet, _SIZE_ROW, 2), batch.size, whole_format(batch.size))
     put(sheet, _SIZE_ROW, 3, batch.unit).alignment = BESIDE_NUMBER
     rows: dict[str, int] = {}
     row = _write_lines(sheet, batch, batch.weighed, _FIRST_TABLE,
@@ -108,7 +114,7 @@ def _write_batch(sheet: Worksheet, workbook: Workbook, formula: Formula, batch: 
             ranges.append(f"B{start + 2}:B{row - 1}")
     total = _write_total(sheet, batch, row, ranges)
     for at in rows.values():
-        live(sheet.cell(at, 3), f"=B{at}/$B${total}*100", fixed_format(EXACT_DECIMALS))
+        live(cell_at(sheet, at, 3), f"=B{at}/$B${total}*100", fixed_format(EXACT_DECIMALS))
     row = _write_spec_check(sheet, workbook, formula, batch, rows, total + 2)
     _write_sign_off(sheet, row + 1)
     sheet.print_area = f"A1:{get_column_letter(len(WIDTHS))}{sheet.max_row}"
@@ -128,12 +134,12 @@ def _write_lines(sheet: Worksheet, batch: Batch, lines: tuple[BatchLine, ...], r
         at = row + offset
         rows[line.ingredient] = at
         put(sheet, at, 1, line.ingredient)
-        number(sheet.cell(at, 2), line.weight, _weight_format(line))
+        number(cell_at(sheet, at, 2), line.weight, _weight_format(line))
         if line.packs is not None:
             put(sheet, at, 4, f"{line.packs} x {plain(line.pack_size)} {batch.unit}")
-        number(sheet.cell(at, 5), line.step, _weight_format(line))
-        sheet.cell(at, 6).border = BOX
-        put(sheet, at, 7, line.note or None).alignment = NOTE
+        number(cell_at(sheet, at, 5), line.step, _weight_format(line))
+        styled(cell_at(sheet, at, 6), "batch weighed", _LINE_LOOKS["batch weighed"])
+        styled(put(sheet, at, 7, line.note or None), "batch note", _LINE_LOOKS["batch note"])
     return row + len(lines) + 2
 
 
@@ -151,14 +157,14 @@ def _write_total(sheet: Worksheet, batch: Batch, row: int, ranges: list[str]) ->
     """The total of the weights (a live SUM), its share and whether it equals the batch
     size; returns its row."""
     put(sheet, row, 1, "Total").font = BOLD
-    total = sheet.cell(row, 2)
+    total = cell_at(sheet, row, 2)
     live(total, "=" + "+".join(f"SUM({cells})" for cells in ranges) if ranges else "=0",
          fixed_format(EXACT_DECIMALS))
     total.font = BOLD
     total.border = HEADER_BORDER
-    live(sheet.cell(row, 3), f"=SUM(C{_FIRST_TABLE + 2}:C{row - 1})", fixed_format(EXACT_DECIMALS))
+    live(cell_at(sheet, row, 3), f"=SUM(C{_FIRST_TABLE + 2}:C{row - 1})", fixed_format(EXACT_DECIMALS))
     size = f"$B${_SIZE_ROW}"
-    check = sheet.cell(row, 4)
+    check = cell_at(sheet, row, 4)
     check.value = (f'=IF(ABS(B{row}-{size})<={ON_STEP!r}*{size},"equals the batch size",'
                    f'"differs from the batch size")')
     check.alignment = BESIDE_NUMBER
@@ -181,15 +187,15 @@ def _write_spec_check(sheet: Worksheet, workbook: Workbook, formula: Formula, ba
         at = row + offset
         put(sheet, at, 1, f"{line.name} (dry matter)" if line.basis == DRY_MATTER and line.kind != "ratio"
             else line.name)
-        number(sheet.cell(at, 2), line.minimum, nutrient_format(line))
-        number(sheet.cell(at, 3), line.maximum, nutrient_format(line))
+        number(cell_at(sheet, at, 2), line.minimum, nutrient_format(line))
+        number(cell_at(sheet, at, 3), line.maximum, nutrient_format(line))
         text = levels.of(line)
         if text is None:
             put(sheet, at, 4, _UNAVAILABLE)
         else:
-            live(sheet.cell(at, 4), text, nutrient_format(line))
-            sheet.cell(at, 5, _check_formula(at)).alignment = CENTRE
-        put(sheet, at, 6, line.unit or None).alignment = BESIDE_NUMBER
+            live(cell_at(sheet, at, 4), text, nutrient_format(line))
+            styled(cell_at(sheet, at, 5, _check_formula(at)), "batch check", _LINE_LOOKS["batch check"])
+        styled(put(sheet, at, 6, line.unit or None), "batch unit", _LINE_LOOKS["batch unit"])
     last = row + len(specs) + 1
     if specs:
         cells = f"E{row + 2}:E{last}"
@@ -197,7 +203,7 @@ def _write_spec_check(sheet: Worksheet, workbook: Workbook, formula: Formula, ba
             operator="equal", formula=[f'"{NOT_MET}"'], fill=ALERT_FILL, font=ALERT_TEXT))
         put(sheet, last + 1, 1, "All specs").font = BOLD
         count = f'COUNTIF({cells},"{NOT_MET}")'
-        overall = sheet.cell(last + 1, 5, f'=IF({count}=0,"{ALL_MET}",{count}&" {NOT_MET}")')
+        overall = cell_at(sheet, last + 1, 5, f'=IF({count}=0,"{ALL_MET}",{count}&" {NOT_MET}")')
         overall.font = BOLD
         overall.alignment = CENTRE
     else:
@@ -265,9 +271,9 @@ def _write_sign_off(sheet: Worksheet, row: int) -> None:
         at = row + offset * 2
         put(sheet, at, 1, label).font = BOLD
         for column in (2, 3):
-            sheet.cell(at, column).border = HEADER_BORDER
+            cell_at(sheet, at, column).border = HEADER_BORDER
         date = put(sheet, at, 4, "Date")
         date.font = BOLD
         date.alignment = Alignment(horizontal="right")
         for column in (5, 6):
-            sheet.cell(at, column).border = HEADER_BORDER
+            cell_at(sheet, at, column).border = HEADER_BORDER

@@ -9,10 +9,11 @@ from __future__ import annotations
 import math
 from collections.abc import Callable
 from copy import copy
-from weakref import WeakKeyDictionary
+from weakref import WeakKeyDictionary, ref
 
 from openpyxl.cell.cell import Cell
 from openpyxl.styles import Alignment, Border, Font, PatternFill, Side
+from openpyxl.styles.cell_style import StyleArray
 from openpyxl.workbook.workbook import Workbook
 from openpyxl.worksheet.worksheet import Worksheet
 
@@ -42,9 +43,38 @@ ALERT_TEXT = Font(bold=True, color="9C0006")
 # An input cell whose value came from a price list (`solve --prices`): a pale green.
 REPLACED_FILL = PatternFill(fill_type="solid", start_color="E2F0D9", end_color="E2F0D9")
 
+# Texts written, with the value and type openpyxl gave them; emptied when this full.
+_TEXTS: dict[str, tuple[str, str]] = {}
+_MOST_TEXTS = 100_000
+
+
+class _PerWorkbook:
+    """A dict for each workbook, forgotten with the workbook; the last one used is at
+    hand without the weak dictionary's look-up (a big output asks 300,000 times)."""
+
+    def __init__(self) -> None:
+        """No workbook seen yet."""
+        self.every: WeakKeyDictionary = WeakKeyDictionary()
+        self.last: tuple = (None, None)  # (a weak reference to the workbook, its dict)
+
+    def of(self, workbook: Workbook) -> dict:
+        """The dict of `workbook`, new and empty the first time."""
+        last, found = self.last
+        if last is not None and last() is workbook:
+            return found
+        found = self.every.get(workbook)
+        if found is None:
+            found = self.every[workbook] = {}
+        self.last = (ref(workbook), found)  # one tuple, replaced whole
+        return found
+
+
+# Each workbook's number formats by their text, each with a style holding only openpyxl's
+# id for it (`formatted`).
+_FORMAT_IDS = _PerWorkbook()
 # Each workbook's finished looks (see `styled`), by the look's name and the style the cell
-# had before; weak, so that a batch's workbooks do not stay in memory.
-_LOOKS: WeakKeyDictionary = WeakKeyDictionary()
+# had before.
+_LOOKS = _PerWorkbook()
 # A header label's alignment: left over the name column, centred over a number column.
 HEADER_ALIGNMENT = {
     first: Alignment(wrap_text=True, vertical="bottom", horizontal="left" if first else "center")
@@ -68,10 +98,46 @@ def new_sheet(workbook: Workbook, title: str) -> Worksheet:
     return sheet
 
 
+def cell_at(sheet: Worksheet, row: int, column: int, value: object = None) -> Cell:
+    """`cell_at(sheet, row, column, value)`: the same cell, made as openpyxl makes it, without
+    its range checks and method calls (a third of building a big output; the writers'
+    rows and columns are always in range). tests/test_sheet_bytes.py compares the output
+    with the one `Worksheet.cell` gives."""
+    cells = sheet._cells
+    cell = cells.get((row, column))
+    if cell is None:
+        cell = cells[(row, column)] = Cell(sheet, row=row, column=column)
+        if row > sheet._current_row:  # as Worksheet._add_cell
+            sheet._current_row = row
+    if value is not None:
+        _bind(cell, value)
+    return cell
+
+
+def _bind(cell: Cell, value: object) -> None:
+    """`cell.value = value`; a plain int or float is set directly, and a text as openpyxl
+    set the same text before (its checked value and type depend on the text alone)."""
+    kind = type(value)
+    if kind is float or kind is int:
+        cell._value = value
+        cell.data_type = "n"
+    elif kind is str:
+        known = _TEXTS.get(value)
+        if known is None:
+            cell.value = value  # openpyxl's checks (an illegal character raises here)
+            if len(_TEXTS) >= _MOST_TEXTS:
+                _TEXTS.clear()
+            _TEXTS[value] = (cell._value, cell.data_type)
+        else:
+            cell._value, cell.data_type = known
+    else:
+        cell.value = value
+
+
 def put(sheet: Worksheet, row: int, column: int, value: object) -> Cell:
     """Write a plain value; text starting with "=" stays text, never becomes a formula."""
-    cell = sheet.cell(row, column, value)
-    if isinstance(value, str) and cell.data_type == "f":
+    cell = cell_at(sheet, row, column, value)
+    if cell.data_type == "f" and isinstance(value, str):
         cell.data_type = "s"
     return cell
 
@@ -80,14 +146,29 @@ def number(cell: Cell, value: float | None, number_format: str) -> None:
     """Write a number (never a string); blank for None and for non-finite values."""
     if value is None or not math.isfinite(value):
         return
-    cell.value = float(value) + 0.0  # a plain float: no numpy scalar, no -0.0
-    cell.number_format = number_format
+    cell._value = float(value) + 0.0  # a plain float: no numpy scalar, no -0.0 (`_bind`)
+    cell.data_type = "n"
+    formatted(cell, number_format)
 
 
 def live(cell: Cell, formula_text: str, number_format: str) -> None:
     """Write a live spreadsheet formula for the reviewer, formatted like the value it checks."""
-    cell.value = formula_text
-    cell.number_format = number_format
+    _bind(cell, formula_text)
+    formatted(cell, number_format)
+
+
+def formatted(cell: Cell, number_format: str) -> None:
+    """`cell.number_format = number_format`, the format's id in the workbook looked up
+    once per workbook (openpyxl's setter looks it up in its list each time)."""
+    ids = _FORMAT_IDS.of(cell.parent.parent)
+    found = ids.get(number_format)  # a style with the format's id and nothing else
+    if found is None:
+        cell.number_format = number_format
+        ids[number_format] = StyleArray([0, 0, 0, cell._style.numFmtId, 0, 0, 0, 0, 0])
+    elif cell._style:
+        cell._style.numFmtId = found.numFmtId
+    else:  # as openpyxl's setter: a cell's first style part gives it a style
+        cell._style = StyleArray(found)
 
 
 def styled(cell: Cell, look: str, apply: Callable[[Cell], None]) -> None:
@@ -97,7 +178,7 @@ def styled(cell: Cell, look: str, apply: Callable[[Cell], None]) -> None:
     list every time (28 us for a header cell's three parts); the style a cell ends with
     depends only on the one it had before, so each workbook's first cell of each look is
     styled by `apply` and every later one gets a copy of that cell's finished style."""
-    looks = _LOOKS.setdefault(cell.parent.parent, {})
+    looks = _LOOKS.of(cell.parent.parent)
     key = (look, tuple(cell._style or ()))
     done = looks.get(key)
     if done is None:
@@ -105,6 +186,14 @@ def styled(cell: Cell, look: str, apply: Callable[[Cell], None]) -> None:
         looks[key] = copy(cell._style)
     else:
         cell._style = copy(done)
+
+
+def look(**parts: object) -> Callable[[Cell], None]:
+    """An `apply` for `styled` that sets these style parts in order (font=BOLD, ...)."""
+    def apply(cell: Cell) -> None:
+        for part, value in parts.items():
+            setattr(cell, part, value)
+    return apply
 
 
 def _header_look(first: bool) -> Callable[[Cell], None]:
@@ -153,7 +242,7 @@ def write_caution(
     """The caution in a boxed, wrapped cell across `columns` columns, `width` characters."""
     paragraph(sheet, row, CAUTION, columns, width, bold=True)
     for column in range(1, columns + 1):
-        styled(sheet.cell(row, column), "box", _boxed)
+        styled(cell_at(sheet, row, column), "box", _boxed)
 
 
 def _boxed(cell: Cell) -> None:

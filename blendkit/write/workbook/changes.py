@@ -23,6 +23,7 @@ from blendkit.write.workbook.cells import (
     MONEY_FORMAT,
     SECTION,
     TITLE_FONT,
+    cell_at,
     format_by_size,
     header,
     new_sheet,
@@ -88,13 +89,13 @@ def _write_cost(sheet: Worksheet, row: int, item: FormulaChanges, unit: str) -> 
     row after them."""
     header(sheet, row, ["Cost", "Before", "After", "Change", "Unit"])
     put(sheet, row + 1, 1, "Cost")
-    number(sheet.cell(row + 1, 2), item.cost_before, MONEY_FORMAT)
-    number(sheet.cell(row + 1, 3), item.cost_after, MONEY_FORMAT)
-    number(sheet.cell(row + 1, 4), item.cost_change, MONEY_FORMAT)
+    number(cell_at(sheet, row + 1, 2), item.cost_before, MONEY_FORMAT)
+    number(cell_at(sheet, row + 1, 3), item.cost_after, MONEY_FORMAT)
+    number(cell_at(sheet, row + 1, 4), item.cost_change, MONEY_FORMAT)
     put(sheet, row + 2, 1, "of which price effect")
-    number(sheet.cell(row + 2, 4), item.price_effect, MONEY_FORMAT)
+    number(cell_at(sheet, row + 2, 4), item.price_effect, MONEY_FORMAT)
     put(sheet, row + 3, 1, "of which formula effect")
-    number(sheet.cell(row + 3, 4), item.formula_effect, MONEY_FORMAT)
+    number(cell_at(sheet, row + 3, 4), item.formula_effect, MONEY_FORMAT)
     for offset in (1, 2, 3):
         put(sheet, row + offset, 5, unit).alignment = _UNIT
     return row + 4
@@ -121,10 +122,10 @@ def _write_values(sheet: Worksheet, row: int, what: str, values: tuple[ValueChan
         line = row + offset
         put(sheet, line, 1, change.name)
         fmt = INCLUSION_FORMAT if inclusions else format_by_size([change.before, change.after], 1)
-        number(sheet.cell(line, 2), change.before, fmt)
-        number(sheet.cell(line, 3), change.after, fmt)
+        number(cell_at(sheet, line, 2), change.before, fmt)
+        number(cell_at(sheet, line, 3), change.after, fmt)
         if change.before is not None and change.after is not None:
-            number(sheet.cell(line, 4), change.after - change.before, fmt)
+            number(cell_at(sheet, line, 4), change.after - change.before, fmt)
         put(sheet, line, 5, _value_unit(blend, change.name, inclusions)).alignment = _UNIT
     return row + len(values) + 1
 

@@ -14,7 +14,7 @@ from openpyxl.worksheet.worksheet import Worksheet
 
 from blendkit.model.formula import Formula
 from blendkit.model.units import cost_unit
-from blendkit.write.workbook.cells import BOLD, MONEY_FORMAT, SECTION, number, put
+from blendkit.write.workbook.cells import BOLD, MONEY_FORMAT, SECTION, cell_at, number, put
 from blendkit.write.workbook.result_tables import Block
 from blendkit.write.workbook.tidy import tidy
 
@@ -74,7 +74,7 @@ def add_product_cost_chart(sheet: Worksheet, formula: Formula, row: int) -> int:
     put(sheet, row + 1, 2, f"Cost ({cost_unit(formula.blend.settings)})").font = BOLD
     for offset, product in enumerate(solved, start=2):
         put(sheet, row + offset, 1, product.name)
-        number(sheet.cell(row + offset, 2), tidy(product.cost), MONEY_FORMAT)
+        number(cell_at(sheet, row + offset, 2), tidy(product.cost), MONEY_FORMAT)
     last = row + 1 + len(solved)
     chart = BarChart()
     chart.title = "Cost per product"

@@ -24,6 +24,7 @@ from blendkit.write.workbook.cells import (
     MONEY_FORMAT,
     SECTION,
     TITLE_FONT,
+    cell_at,
     format_by_size,
     header,
     new_sheet,
@@ -127,7 +128,7 @@ def _write_conflict_sets(sheet: Worksheet, formula: Formula, row: int) -> int:
             elif line.relax_to is None:
                 put(sheet, row + offset, 7, "no single move")
             else:
-                number(sheet.cell(row + offset, 7), line.relax_to, number_format)
+                number(cell_at(sheet, row + offset, 7), line.relax_to, number_format)
         row += len(members) + 3
     return row
 
@@ -148,7 +149,7 @@ def _write_relaxation(sheet: Worksheet, formula: Formula, row: int) -> int:
     for offset, line in enumerate(relaxation.changes, start=3):
         number_format = _conflict_format(line)
         _write_member(sheet, row + offset, line, formula.blend, number_format)
-        number(sheet.cell(row + offset, 7), line.relax_to, number_format)
+        number(cell_at(sheet, row + offset, 7), line.relax_to, number_format)
     last = row + 3 + len(relaxation.changes) + 1
     _write_relaxed_cost(sheet, formula, last)
     return last
@@ -162,8 +163,8 @@ def _write_relaxed_cost(sheet: Worksheet, formula: Formula, row: int) -> None:
     sheet.merge_cells(start_row=row, start_column=1, end_row=row, end_column=2)
     moved = formula.relaxation.formula
     if moved is not None and moved.cost is not None:
-        number(sheet.cell(row, 3), moved.cost, MONEY_FORMAT)
-        sheet.cell(row, 3).font = BOLD
+        number(cell_at(sheet, row, 3), moved.cost, MONEY_FORMAT)
+        cell_at(sheet, row, 3).font = BOLD
         put(sheet, row, 4, run_cost_unit(blend))
     else:
         put(sheet, row, 3, "unknown: the workbook with these moves did not solve")
@@ -177,7 +178,7 @@ def _write_member(sheet: Worksheet, row: int, line: ConflictLine, blend: Blend,
     put(sheet, row, 2, "sum of inclusions" if total else line.name)
     put(sheet, row, 3, line.product)
     put(sheet, row, 4, "=" if line.side == "eq" else line.side)
-    number(sheet.cell(row, 5), line.bound, number_format)
+    number(cell_at(sheet, row, 5), line.bound, number_format)
     put(sheet, row, 6, line.cell)
 
 

@@ -23,6 +23,7 @@ from blendkit.write.workbook.cells import (
     RESULT_COLUMNS,
     SECTION,
     WRAP_TOP,
+    cell_at,
     format_by_size,
     header,
     number,
@@ -74,11 +75,11 @@ def _write_binding_row(sheet: Worksheet, row: int, formula: Formula, limit: Limi
     for column, text in enumerate(texts, start=1):
         put(sheet, row, column, text)
     at = len(texts) + 1
-    number(sheet.cell(row, at), tidy(limit.bound), format_by_size([limit.bound], 0))
+    number(cell_at(sheet, row, at), tidy(limit.bound), format_by_size([limit.bound], 0))
     put(sheet, row, at + 1, limit_unit(blend, limit) or None).alignment = BESIDE_NUMBER
-    number(sheet.cell(row, at + 2), tidy(step), format_by_size([step], 0))
-    number(sheet.cell(row, at + 3), tidy(limit.shadow_price), format_by_size([limit.shadow_price], 2))
-    number(sheet.cell(row, at + 4), tidy(worth), format_by_size([worth], 2))
+    number(cell_at(sheet, row, at + 2), tidy(step), format_by_size([step], 0))
+    number(cell_at(sheet, row, at + 3), tidy(limit.shadow_price), format_by_size([limit.shadow_price], 2))
+    number(cell_at(sheet, row, at + 4), tidy(worth), format_by_size([worth], 2))
     stock_or_diet = limit.kind == "stock" or blend.diet
     unit = run_cost_unit(blend) if stock_or_diet else cost_unit(blend.settings)
     put(sheet, row, at + 5, unit).alignment = BESIDE_NUMBER
@@ -123,7 +124,7 @@ def write_sign_off(sheet: Worksheet, row: int) -> int:
     for offset, label in enumerate(SIGN_OFF):
         put(sheet, row + offset, 1, label).font = BOLD
         for column in (2, 3):
-            sheet.cell(row + offset, column).border = HEADER_BORDER
+            cell_at(sheet, row + offset, column).border = HEADER_BORDER
     last = row + len(SIGN_OFF) - 1
     sheet.row_breaks.append(Break(id=last + 1))
     return last + 3

@@ -35,7 +35,7 @@ def size_columns(sheet: Worksheet) -> None:
     filled = [cell for _, cell in sorted(sheet._cells.items()) if cell.value is not None]
     widths: dict[int, float] = {}
     for cell in filled:
-        if cell.coordinate in merged:
+        if (cell.row, cell.column) in merged:
             continue
         need = _header_need(cell) if looks.header(cell) else _text_length(cell, looks)
         if need <= MOST_WIDTH:
@@ -69,9 +69,10 @@ class _Looks:
         return self.bolds[key]
 
 
-def _merged_cells(sheet: Worksheet) -> dict[str, int]:
-    """Top-left cell of each merged range, with the number of columns it spans."""
-    return {str(merged.start_cell.coordinate): merged.max_col - merged.min_col + 1
+def _merged_cells(sheet: Worksheet) -> dict[tuple[int, int], int]:
+    """Top-left cell (row, column) of each merged range, with the number of columns it
+    spans (by position: a cell's coordinate text is made anew each time it is read)."""
+    return {(merged.min_row, merged.min_col): merged.max_col - merged.min_col + 1
             for merged in sheet.merged_cells.ranges}
 
 
@@ -98,7 +99,7 @@ def _text_length(cell: Cell, looks: _Looks) -> float:
     return len(str(value)) * (1.1 if looks.bold(cell) else 1.0)
 
 
-def _wrap_long_text(sheet: Worksheet, filled: list[Cell], merged: dict[str, int], looks: _Looks) -> None:
+def _wrap_long_text(sheet: Worksheet, filled: list[Cell], merged: dict[tuple[int, int], int], looks: _Looks) -> None:
     """Wrap text wider than its cell (or merged cells) and make its row tall enough;
     header rows get the height of their tallest label. `filled`: the cells with a value,
     row by row."""
@@ -113,7 +114,7 @@ def _wrap_long_text(sheet: Worksheet, filled: list[Cell], merged: dict[str, int]
     for cell in filled:
         if not isinstance(cell.value, str) or cell.value.startswith("="):
             continue
-        span = merged.get(cell.coordinate, 1)
+        span = merged.get((cell.row, cell.column), 1)
         width = sum(width_of(cell.column + extra) for extra in range(span))
         length = _text_length(cell, looks)
         header = looks.header(cell)

@@ -32,7 +32,7 @@ from openpyxl.worksheet.worksheet import Worksheet
 from blendkit.model.blend import AS_FED, DRY_MATTER, Blend, Ingredient
 from blendkit.model.combined import Combined
 from blendkit.model.formula import IngredientLine, NutrientLine
-from blendkit.write.workbook.cells import live, nutrient_format
+from blendkit.write.workbook.cells import cell_at, live, nutrient_format
 
 # The sheet a bare cell reference from the reader (no "Sheet!" part) belongs to.
 INGREDIENTS_SHEET = "Ingredients"
@@ -119,7 +119,7 @@ def write_level_checks(
                     lambda item, nutrient=line.name: item.content_cells.get(nutrient),
                 )
             if check is not None:
-                live(sheet.cell(header_row + offset, LIVE_COLUMN), check, nutrient_format(line))
+                live(cell_at(sheet, header_row + offset, LIVE_COLUMN), check, nutrient_format(line))
                 live_rows.setdefault(line.name, header_row + offset)
     return live_rows
 
@@ -151,12 +151,12 @@ def write_derived_check(
         if parts and parts[0] in live_rows and parts[1] in live_rows:
             top, bottom = (live_rows[part] for part in parts)
             text = f"={live_column}{top}/{live_column}{bottom}"
-            live(sheet.cell(row, LIVE_COLUMN), text, nutrient_format(line))
+            live(cell_at(sheet, row, LIVE_COLUMN), text, nutrient_format(line))
     elif line.basis == DRY_MATTER:
         dry = blend.settings.dry_matter
         if line.name in live_rows and dry in live_rows:
             text = f"={live_column}{live_rows[line.name]}/{live_column}{live_rows[dry]}*100"
-            live(sheet.cell(row, LIVE_COLUMN), text, nutrient_format(line))
+            live(cell_at(sheet, row, LIVE_COLUMN), text, nutrient_format(line))
 
 
 def quote_sheet(name: str) -> str:
@@ -184,7 +184,7 @@ def _sumproduct(
     share their percent format; None otherwise."""
     if not references or rows != list(range(rows[0], rows[0] + len(rows))):
         return None
-    run = _column_run(workbook, references)
+    run = _known_run(workbook, references)
     if run is None:
         return None
     sheet, first, input_column, scaled = run
@@ -193,8 +193,18 @@ def _sumproduct(
     letter = get_column_letter(input_column)
     text = (f"=SUMPRODUCT({column}{rows[0]}:{column}{rows[-1]},"
             f"{quote_sheet(sheet.title)}!{letter}{first}:{letter}{first + len(references) - 1})")
-    factor = (100 if scaled.pop() else 1) / (100 if percent else 1)
+    factor = (100 if next(iter(scaled)) else 1) / (100 if percent else 1)
     return text + {1: "", 100: "*100", 0.01: "/100"}[factor]
+
+
+def _known_run(workbook: Workbook, references: list[str | None]) -> tuple | None:
+    """`_column_run`, remembered per workbook: every product of a plant, and its Batch
+    sheet, asks it for the same input cells of each nutrient."""
+    known = _known(workbook)
+    key = tuple(references)
+    if key not in known.runs:
+        known.runs[key] = _column_run(workbook, references)
+    return known.runs[key]
 
 
 def _column_run(workbook: Workbook, references: list[str | None]) -> tuple[Worksheet, int, int, set[bool]] | None:
@@ -251,6 +261,7 @@ class _Known:
         self.sheets: dict[str, Worksheet | None] = {}
         self.formats: dict[int, bool] = {}
         self.operands: dict[str | None, str | None] = {}  # `_input_operand`'s answers
+        self.runs: dict[tuple, tuple | None] = {}  # `_known_run`'s answers
 
     def sheet(self, workbook: Workbook, name: str) -> Worksheet | None:
         """`_sheet_named`, remembered."""
@@ -313,12 +324,18 @@ def input_operand(workbook: Workbook, reference: str | None) -> str | None:
 def _input_operand(workbook: Workbook, reference: str | None) -> str | None:
     """`_find_operand`, remembered per workbook: a Result sheet asks for each input cell
     once per product and nutrient."""
-    known = _OPERANDS.get(workbook)
-    if known is None:
-        known = _OPERANDS[workbook] = _Known()
+    known = _known(workbook)
     if reference not in known.operands:
         known.operands[reference] = _find_operand(workbook, reference, known)
     return known.operands[reference]
+
+
+def _known(workbook: Workbook) -> _Known:
+    """What this write of `workbook` has found already (see `_OPERANDS`)."""
+    known = _OPERANDS.get(workbook)
+    if known is None:
+        known = _OPERANDS[workbook] = _Known()
+    return known
 
 
 def _find_operand(workbook: Workbook, reference: str | None, known: _Known | None = None) -> str | None:

@@ -30,6 +30,7 @@ from blendkit.write.workbook.cells import (
     SECTION,
     STATUS_ALERT,
     TITLE_FONT,
+    cell_at,
     header,
     new_sheet,
     number,
@@ -71,7 +72,7 @@ def write(workbook: Workbook, formula: Formula, run: RunInfo, title: str) -> Non
         if weighed:
             write_practical(sheet, row, len(_LABELS) + 1, product.practical)
     write_shared_prices(sheet, formula, _HEADER_ROW + len(formula.products) + 2)
-    sheet.freeze_panes = sheet.cell(_HEADER_ROW + 1, 2)
+    sheet.freeze_panes = cell_at(sheet, _HEADER_ROW + 1, 2)
     workbook.move_sheet(sheet, offset=-workbook.index(sheet))
 
 
@@ -80,9 +81,9 @@ def write_practical(sheet: Worksheet, row: int, column: int, practical: Practica
     gap, from `column` (blank without rules, and where a figure is missing)."""
     if practical is None:
         return
-    number(sheet.cell(row, column), practical.lp_cost, MONEY_FORMAT)
-    number(sheet.cell(row, column + 1), practical.rise, MONEY_FORMAT)
-    number(sheet.cell(row, column + 2), practical.gap, PERCENT_FORMAT)
+    number(cell_at(sheet, row, column), practical.lp_cost, MONEY_FORMAT)
+    number(cell_at(sheet, row, column + 1), practical.rise, MONEY_FORMAT)
+    number(cell_at(sheet, row, column + 2), practical.gap, PERCENT_FORMAT)
 
 
 def write_shared_prices(sheet: Worksheet, formula: Formula, row: int) -> int:
@@ -98,9 +99,9 @@ def write_shared_prices(sheet: Worksheet, formula: Formula, row: int) -> int:
                             "Used less if its price rises above", "Note"])
     for at, line in enumerate(lines, start=row + 3):
         put(sheet, at, 1, line.name)
-        number(sheet.cell(at, 2), line.price, MONEY_FORMAT)
-        number(sheet.cell(at, 3), line.more_below, MONEY_FORMAT)
-        number(sheet.cell(at, 4), line.less_above, MONEY_FORMAT)
+        number(cell_at(sheet, at, 2), line.price, MONEY_FORMAT)
+        number(cell_at(sheet, at, 3), line.more_below, MONEY_FORMAT)
+        number(cell_at(sheet, at, 4), line.less_above, MONEY_FORMAT)
         put(sheet, at, 5, shared_price_note(line) or None)
     return row + 3 + len(lines)
 
@@ -117,12 +118,12 @@ def _write_row(sheet: Worksheet, row: int, formula: Formula, product: ProductFor
     status = put(sheet, row, 2, product.status)
     if not product.solved:
         status.font = STATUS_ALERT
-    number(sheet.cell(row, 3), product.cost, MONEY_FORMAT)
+    number(cell_at(sheet, row, 3), product.cost, MONEY_FORMAT)
     put(sheet, row, 4, cost_unit(formula.blend.settings))
     before = _previous_cost(formula, product)
-    number(sheet.cell(row, 5), before, MONEY_FORMAT)
+    number(cell_at(sheet, row, 5), before, MONEY_FORMAT)
     if before is not None and product.cost is not None:
-        number(sheet.cell(row, 6), product.cost - before, MONEY_FORMAT)
+        number(cell_at(sheet, row, 6), product.cost - before, MONEY_FORMAT)
     limits = [limit for limit in product.limits if limit.kind != "stock"]
     if product.solved:
         put(sheet, row, 7, sum(1 for limit in limits if limit.binding))
@@ -147,8 +148,9 @@ def _result_blocks(workbook: Workbook) -> dict[str, int]:
     if result.TITLE not in workbook.sheetnames:
         return {}
     sheet = workbook[result.TITLE]
-    return {
-        row[1].value: row[0].row
-        for row in sheet.iter_rows(min_col=1, max_col=2)
-        if row[0].value == "Product" and row[1].value is not None
-    }
+    blocks = {}
+    for row in range(1, sheet.max_row + 1):  # both cells made to exist, as iter_rows does
+        label, name = cell_at(sheet, row, 1), cell_at(sheet, row, 2)
+        if label.value == "Product" and name.value is not None:
+            blocks[name.value] = row
+    return blocks

@@ -82,25 +82,34 @@ def fit_column_widths(sheet: Worksheet, first_row: int, least: float, most: floa
     most `most` characters), so no text runs into the next cell; a cell longer than `most`
     should wrap."""
     longest: dict[int, float] = {}
-    # The stored cells, row by row: iter_rows would first make every empty cell exist.
-    for (row, column), cell in sorted(sheet._cells.items()):
-        if row < first_row or cell.value is None:
+    places: dict[int, int] = {}  # a number format's decimals, by the format's id
+    # The stored cells (iter_rows would first make every empty cell exist), in any order:
+    # only each column's longest counts.
+    for (row, column), cell in sheet._cells.items():
+        value = cell._value
+        if value is None or row < first_row:
             continue
-        size = _shown_length(cell.value, cell.number_format)
-        longest[column] = max(longest.get(column, 0.0), size)
-    for column, size in longest.items():
+        kind = type(value)
+        if kind is str:
+            size = len(value)
+        elif kind is bool or not isinstance(value, (int, float)):
+            size = len(str(value))
+        else:
+            key = cell._style.numFmtId if cell._style else 0
+            if key not in places:
+                places[key] = _places(cell.number_format)
+            size = len(f"{value:,.{places[key]}f}")
+        if size > longest.get(column, -1):
+            longest[column] = size
+    for column in sorted(longest):
         # Bold headers and a spreadsheet's own padding need a little more than the text.
-        width = min(max(size * 1.1 + 2, least), most)
+        width = min(max(longest[column] * 1.1 + 2, least), most)
         sheet.column_dimensions[get_column_letter(column)].width = width
 
 
-def _shown_length(value: object, number_format: str) -> float:
-    """About how many characters a cell shows: a number as its format prints it."""
-    if isinstance(value, bool) or not isinstance(value, (int, float)):
-        return len(str(value))
-    places = len(number_format.split(".", 1)[1]) if "." in number_format else 0
-    text = f"{value:,.{places}f}"
-    return len(text)
+def _places(number_format: str) -> int:
+    """The decimals a number format shows (the digits after its point)."""
+    return len(number_format.split(".", 1)[1]) if "." in number_format else 0
 
 
 def _frozen_rows(sheet: Worksheet) -> int:

@@ -32,6 +32,7 @@ from blendkit.write.workbook.cells import (
     SECTION,
     STATUS_ALERT,
     TITLE_FONT,
+    cell_at,
     format_by_size,
     header,
     live,
@@ -131,7 +132,7 @@ def _write_one(sheet: Worksheet, workbook: Workbook, formula: Formula) -> None:
         put(sheet, 8, 2, "each in the food's own unit (Measure column); nutrient levels are totals")
     else:
         sheet["A8"] = "Batch"
-        number(sheet.cell(8, 2), settings.batch_size, whole_format(settings.batch_size))
+        number(cell_at(sheet, 8, 2), settings.batch_size, whole_format(settings.batch_size))
         put(sheet, 8, 3, settings.mass_unit).alignment = BESIDE_NUMBER
     sheet["A8"].font = BOLD
 
@@ -160,7 +161,7 @@ def _write_several(sheet: Worksheet, workbook: Workbook, formula: Formula) -> No
     """
     blend = formula.blend
     sheet["A6"] = "Total cost"
-    number(sheet.cell(6, 2), tidy(formula.cost), MONEY_FORMAT)
+    number(cell_at(sheet, 6, 2), tidy(formula.cost), MONEY_FORMAT)
     put(sheet, 6, 3, run_cost_unit(blend)).alignment = BESIDE_NUMBER
     put(sheet, 6, 4, "all products together" if formula.solved else "not every product was formulated")
     sheet["A7"] = "Total cost from input prices"
@@ -191,7 +192,7 @@ def _write_total_check(sheet: Worksheet, blend: Blend, checks: list[tuple[int, i
     """Row 7: the run's total cost from each product's live cost check x amount made."""
     per = blend.settings.cost_unit_in_mass_units
     terms = "+".join(f"B{cost}*B{amount}" for amount, cost in checks)
-    live(sheet.cell(7, 2), f"=({terms})/{plain(per) if per.is_integer() else repr(per)}",
+    live(cell_at(sheet, 7, 2), f"=({terms})/{plain(per) if per.is_integer() else repr(per)}",
          MONEY_FORMAT)
     put(sheet, 7, 3, f"{run_cost_unit(blend)} (live formula: each product's cost from "
                      "input prices x amount made)".strip())
@@ -212,7 +213,7 @@ def _write_product(
     if not product.solved:
         return _write_unsolved_product(sheet, product, row), None, []
     put(sheet, row + 1, 1, "Amount made").font = BOLD
-    number(sheet.cell(row + 1, 2), product.amount, whole_format(product.amount))
+    number(cell_at(sheet, row + 1, 2), product.amount, whole_format(product.amount))
     put(sheet, row + 1, 3, settings.mass_unit).alignment = BESIDE_NUMBER
     block = Block(
         ingredients=product.ingredients,
@@ -257,7 +258,7 @@ def _write_cost(
     Returns the check's row, or None when it could not be written.
     """
     put(sheet, row, 1, label).font = BOLD
-    number(sheet.cell(row, 2), tidy(cost), MONEY_FORMAT)
+    number(cell_at(sheet, row, 2), tidy(cost), MONEY_FORMAT)
     put(sheet, row, 3, unit).alignment = BESIDE_NUMBER
     put(sheet, row + 1, 1, f"{label} from input prices").font = BOLD
     check = recompute_formula(blend, block.ingredients, block.inclusion_rows, workbook,
@@ -265,7 +266,7 @@ def _write_cost(
     if check is None:
         put(sheet, row + 1, 3, _NO_CHECK)
         return None
-    live(sheet.cell(row + 1, 2), check, MONEY_FORMAT)
+    live(cell_at(sheet, row + 1, 2), check, MONEY_FORMAT)
     what = "amounts" if blend.diet else "inclusions"
     put(sheet, row + 1, 3, f"{unit} (live formula: {what} below x Cost column)".strip())
     return row + 1
@@ -291,7 +292,7 @@ def _write_broken(sheet: Worksheet, formula: Formula, row: int) -> int:
     last = row + 1 + len(broken)
     for at in range(row, last + 1):
         for column in range(1, len(labels) + 1):
-            sheet.cell(at, column).fill = ALERT_FILL
+            cell_at(sheet, at, column).fill = ALERT_FILL
     return last + 2
 
 
@@ -305,8 +306,8 @@ def _write_broken_row(sheet: Worksheet, row: int, limit: Limit, several: bool) -
     first = len(values) + 1
     number_format = format_by_size([limit.bound, limit.level], 1)
     for column, value in enumerate((limit.bound, limit.level, limit.violation), start=first):
-        number(sheet.cell(row, column), tidy(value), number_format)
-    number(sheet.cell(row, first + 3), tidy(limit.penalty), format_by_size([limit.penalty], 2))
+        number(cell_at(sheet, row, column), tidy(value), number_format)
+    number(cell_at(sheet, row, first + 3), tidy(limit.penalty), format_by_size([limit.penalty], 2))
     put(sheet, row, first + 4, limit.cell)
 
 

@@ -36,6 +36,7 @@ from blendkit.write.workbook.cells import (
     REDUCED_COST_FORMAT,
     SECTION,
     THIN,
+    cell_at,
     fixed_format,
     format_by_size,
     header,
@@ -184,24 +185,24 @@ def _write_ingredient_row(
     inclusion = tidy_inclusion(line.inclusion)
     if inclusion and any(bound is not None for bound in bounds):
         inclusion = tidy_level(inclusion, *bounds)
-    number(sheet.cell(row, 2), inclusion, INCLUSION_FORMAT)
+    number(cell_at(sheet, row, 2), inclusion, INCLUSION_FORMAT)
     if blend.diet:
         _write_measure(sheet, row, food_unit(blend, line.name), inclusion)
     else:
-        number(sheet.cell(row, 3), tidy(line.amount) if inclusion else 0.0, amount_format)
-    number(sheet.cell(row, 4), tidy(line.batch_cost) if inclusion else 0.0, MONEY_FORMAT)
-    number(sheet.cell(row, 5), tidy(line.cost), MONEY_FORMAT)
-    number(sheet.cell(row, 6), tidy(line.reduced_cost), REDUCED_COST_FORMAT)
+        number(cell_at(sheet, row, 3), tidy(line.amount) if inclusion else 0.0, amount_format)
+    number(cell_at(sheet, row, 4), tidy(line.batch_cost) if inclusion else 0.0, MONEY_FORMAT)
+    number(cell_at(sheet, row, 5), tidy(line.cost), MONEY_FORMAT)
+    number(cell_at(sheet, row, 6), tidy(line.reduced_cost), REDUCED_COST_FORMAT)
     if not line.used:
         put(sheet, row, 7, "not in use (Use = no)")
     elif line.entry_price is not None:
-        number(sheet.cell(row, 7), tidy(line.entry_price), MONEY_FORMAT)
+        number(cell_at(sheet, row, 7), tidy(line.entry_price), MONEY_FORMAT)
     # The price range over which this formula stays the cheapest (cost ranging); an
     # unused ingredient's lower end is its entry price, already in column 7.
     if line.more_below is not None and line.entry_price is None:
-        number(sheet.cell(row, 8), tidy(line.more_below), MONEY_FORMAT)
+        number(cell_at(sheet, row, 8), tidy(line.more_below), MONEY_FORMAT)
     if line.less_above is not None:
-        number(sheet.cell(row, 9), tidy(line.less_above), MONEY_FORMAT)
+        number(cell_at(sheet, row, 9), tidy(line.less_above), MONEY_FORMAT)
 
 
 def _write_measure(sheet: Worksheet, row: int, unit: str, amount: float) -> None:
@@ -215,7 +216,7 @@ def _write_measure(sheet: Worksheet, row: int, unit: str, amount: float) -> None
     size, symbol = float(match["size"]), match["symbol"]
     quantity = amount * size
     places = 0 if quantity >= 10 or float(quantity).is_integer() else 1
-    cell = sheet.cell(row, 3, f"=B{row}*{plain(size)}")
+    cell = cell_at(sheet, row, 3, f"=B{row}*{plain(size)}")
     cell.number_format = f'{fixed_format(places)}" {symbol}"'
 
 
@@ -229,8 +230,8 @@ def _write_live_amounts(sheet: Worksheet, workbook: Workbook, blend: Blend, bloc
         amount = f"B{row}*{block.amount_cell}/100"
         grams = None
         if not blend.diet and block.amount_cell:
-            grams = _in_grams(sheet.cell(row, 3), blend.settings.mass_unit, line.amount)
-            sheet.cell(row, 3).value = f"={amount}*{grams:.12g}" if grams else f"={amount}"
+            grams = _in_grams(cell_at(sheet, row, 3), blend.settings.mass_unit, line.amount)
+            cell_at(sheet, row, 3).value = f"={amount}*{grams:.12g}" if grams else f"={amount}"
         try:
             price = input_operand(workbook, blend.ingredient(line.name).cells.get("cost"))
         except KeyError:
@@ -238,9 +239,9 @@ def _write_live_amounts(sheet: Worksheet, workbook: Workbook, blend: Blend, bloc
         if price is None:
             continue
         if blend.diet:
-            sheet.cell(row, 4).value = f"=B{row}*{price}"
+            cell_at(sheet, row, 4).value = f"=B{row}*{price}"
         elif block.amount_cell:
-            sheet.cell(row, 4).value = f"={amount}*{price}/{per}" if grams else f"=C{row}*{price}/{per}"
+            cell_at(sheet, row, 4).value = f"={amount}*{price}/{per}" if grams else f"=C{row}*{price}/{per}"
 
 
 def _in_grams(cell: Cell, mass_unit: str, amount: float) -> float | None:
@@ -262,14 +263,14 @@ def _write_total_row(sheet: Worksheet, blend: Blend, block: Block) -> int:
     total_row = last + 1
     put(sheet, total_row, 1, "Total").font = BOLD
     # Diet amounts are in each food's own unit: only their cost adds up.
-    amounts = sheet.cell(block.first_row, 3).number_format if block.ingredients else AMOUNT_FORMAT
+    amounts = cell_at(sheet, block.first_row, 3).number_format if block.ingredients else AMOUNT_FORMAT
     amounts = amounts if not amounts.endswith('" g"') else AMOUNT_FORMAT
     sums = ((4, MONEY_FORMAT),) if blend.diet else (
         (2, INCLUSION_FORMAT), (3, amounts), (4, MONEY_FORMAT))
     if block.ingredients:
         for column, number_format in sums:
             letter = get_column_letter(column)
-            cell = sheet.cell(total_row, column, f"=SUM({letter}{first}:{letter}{last})")
+            cell = cell_at(sheet, total_row, column, f"=SUM({letter}{first}:{letter}{last})")
             if column == 3 and _any_in_grams(sheet, block):
                 # Amounts in two units do not add up: the total from the inclusions.
                 cell.value = f"=SUM(B{first}:B{last})*{block.amount_cell}/100"
@@ -281,7 +282,7 @@ def _write_total_row(sheet: Worksheet, blend: Blend, block: Block) -> int:
 
 def _any_in_grams(sheet: Worksheet, block: Block) -> bool:
     """True when an amount of the block is shown in grams (see `_in_grams`)."""
-    return any(sheet.cell(row, 3).number_format.endswith('" g"')
+    return any(cell_at(sheet, row, 3).number_format.endswith('" g"')
                for row in range(block.first_row, block.last_row + 1))
 
 
@@ -306,8 +307,8 @@ def _write_nutrients(
         _write_nutrient_row(sheet, row, line)
         write_derived_check(sheet, row, blend, line, live_rows)
         if margins:  # what the formula is made to: min + margin, max - margin
-            number(sheet.cell(row, 10), line.target_minimum, nutrient_format(line))
-            number(sheet.cell(row, 11), line.target_maximum, nutrient_format(line))
+            number(cell_at(sheet, row, 10), line.target_minimum, nutrient_format(line))
+            number(cell_at(sheet, row, 11), line.target_maximum, nutrient_format(line))
     return write_spec_checks(sheet, header_row + 1, header_row + len(block.nutrients))
 
 
@@ -321,9 +322,9 @@ def _write_nutrient_row(sheet: Worksheet, row: int, line: NutrientLine) -> None:
     put(sheet, row, 1, line.name)
     put(sheet, row, 2, basis_label(line.kind, line.basis))
     put(sheet, row, 3, line.unit)
-    number(sheet.cell(row, 4), line.minimum, number_format)
-    number(sheet.cell(row, 5), line.maximum, number_format)
-    number(sheet.cell(row, 6), tidy_level(line.level, line.minimum, line.maximum), number_format)
+    number(cell_at(sheet, row, 4), line.minimum, number_format)
+    number(cell_at(sheet, row, 5), line.maximum, number_format)
+    number(cell_at(sheet, row, 6), tidy_level(line.level, line.minimum, line.maximum), number_format)
     put(sheet, row, 7, line.position)
 
 
@@ -353,12 +354,12 @@ def write_stocks(sheet: Worksheet, formula: Formula, row: int) -> int:
     for offset, line in enumerate(formula.stocks, start=1):
         at = top + offset
         put(sheet, at, 1, line.ingredient)
-        number(sheet.cell(at, 2), tidy(line.used), AMOUNT_FORMAT)
-        number(sheet.cell(at, 3), line.available, AMOUNT_FORMAT)
+        number(cell_at(sheet, at, 2), tidy(line.used), AMOUNT_FORMAT)
+        number(cell_at(sheet, at, 3), line.available, AMOUNT_FORMAT)
         put(sheet, at, 4, stock_unit(blend, line.ingredient))
         put(sheet, at, 5, "yes" if line.binding else "no")
         price_format = format_by_size([line.shadow_price], 2)
-        number(sheet.cell(at, 6), tidy(line.shadow_price), price_format)
-        number(sheet.cell(at, 7), tidy(-line.shadow_price), price_format)
+        number(cell_at(sheet, at, 6), tidy(line.shadow_price), price_format)
+        number(cell_at(sheet, at, 7), tidy(-line.shadow_price), price_format)
         put(sheet, at, 8, line.cell)
     return top + len(formula.stocks) + 2

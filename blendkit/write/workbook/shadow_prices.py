@@ -28,13 +28,14 @@ from blendkit.write.step_words import limit_note, per_step_text, step_changes
 from blendkit.write.workbook.cells import (
     AMOUNT_FORMAT,
     INCLUSION_FORMAT,
+    cell_at,
     fixed_format,
     format_by_size,
     header,
     new_sheet,
-    styled,
     number,
     put,
+    styled,
 )
 from blendkit.write.workbook.printing import fit_column_widths
 from blendkit.write.workbook.tidy import tidy
@@ -114,14 +115,14 @@ def _write_steps(sheet: Worksheet, row: int, limit: Limit, formula: Formula) -> 
     price per step in words and a note (blank where a value is not known)."""
     blend = formula.blend
     step, raised, lowered = step_changes(blend, limit)
-    number(sheet.cell(row, 14), tidy(step), format_by_size([step], 0))
+    number(cell_at(sheet, row, 14), tidy(step), format_by_size([step], 0))
     worth = limit.shadow_price * step
     money = fixed_format(decimals([worth, raised, lowered], 2))
-    number(sheet.cell(row, 15), _no_negative_zero(worth, 6), money)
+    number(cell_at(sheet, row, 15), _no_negative_zero(worth, 6), money)
     if raised is not None:
-        number(sheet.cell(row, 16), _no_negative_zero(raised, 6), money)
+        number(cell_at(sheet, row, 16), _no_negative_zero(raised, 6), money)
     if lowered is not None:
-        number(sheet.cell(row, 17), _no_negative_zero(lowered, 6), money)
+        number(cell_at(sheet, row, 17), _no_negative_zero(lowered, 6), money)
     put(sheet, row, 18, per_step_text(blend, limit) or None)
     put(sheet, row, 19, limit_note(limit, formula.limits) or None)
 
@@ -130,8 +131,8 @@ def _write_margin(sheet: Worksheet, row: int, limit: Limit, number_format: str) 
     """A spec's margin and the target the formula is made to (bound +/- margin)."""
     if limit.kind not in ("nutrient", "ratio"):
         return
-    number(sheet.cell(row, 20), limit.margin, number_format)
-    number(sheet.cell(row, 21), limit.target, number_format)
+    number(cell_at(sheet, row, 20), limit.margin, number_format)
+    number(cell_at(sheet, row, 21), limit.target, number_format)
 
 
 def _size_columns(sheet: Worksheet) -> None:
@@ -145,14 +146,21 @@ def _size_columns(sheet: Worksheet) -> None:
     unit = sheet.column_dimensions[get_column_letter(_UNIT_COLUMN)]
     unit.width = min(unit.width + 1, _UNIT_WIDTH)
     # Text after a column of numbers starts one space in, clear of the number before it.
+    last = sheet.max_row
     for column in _TEXT_AFTER_NUMBERS:
-        for (cell,) in sheet.iter_rows(min_row=_HEADER_ROW + 1, min_col=column, max_col=column):
+        for cell in _column_cells(sheet, column, last):
             long = column == _UNIT_COLUMN and len(str(cell.value or "")) + 3 > unit.width
             styled(cell, f"after numbers {long}", _AFTER_NUMBERS[long])  # two shared looks
             if long:
                 lines = math.ceil((len(str(cell.value)) + 3) / unit.width)
                 sheet.row_dimensions[cell.row].height = 15 * lines + 2
-    _wrap_words(sheet)
+    _wrap_words(sheet, last)
+
+
+def _column_cells(sheet: Worksheet, column: int, last: int) -> list:
+    """The column's cells below the header to row `last`, each made to exist, as
+    `iter_rows` gives them (without its checks per cell)."""
+    return [cell_at(sheet, row, column) for row in range(_HEADER_ROW + 1, last + 1)]
 
 
 def _after_numbers(long: bool):
@@ -167,14 +175,19 @@ def _after_numbers(long: bool):
 _AFTER_NUMBERS = {long: _after_numbers(long) for long in (False, True)}
 
 
-def _wrap_words(sheet: Worksheet) -> None:
-    """Words longer than their column wrap onto a taller row."""
+def _wrapped(cell) -> None:
+    """Words wrapped from the top of the cell (with `styled`)."""
+    cell.alignment = Alignment(wrap_text=True, vertical="top")
+
+
+def _wrap_words(sheet: Worksheet, last: int) -> None:
+    """Words longer than their column wrap onto a taller row (to row `last`)."""
     for column in _WORDS:
         width = sheet.column_dimensions[get_column_letter(column)].width
-        for (cell,) in sheet.iter_rows(min_row=_HEADER_ROW + 1, min_col=column, max_col=column):
+        for cell in _column_cells(sheet, column, last):
             size = len(str(cell.value or ""))
             if size + 2 > width:
-                cell.alignment = Alignment(wrap_text=True, vertical="top")
+                styled(cell, "wrapped words", _wrapped)
                 lines = math.ceil((size + 2) / width)
                 height = sheet.row_dimensions[cell.row].height or 0
                 sheet.row_dimensions[cell.row].height = max(height, 15 * lines + 2)
@@ -200,19 +213,19 @@ def _write_limit(sheet: Worksheet, row: int, limit: Limit, blend: Blend, number_
     put(sheet, row, 3, limit.name)
     put(sheet, row, 4, basis_label(limit.kind, limit.basis))
     put(sheet, row, 5, limit.side)
-    number(sheet.cell(row, 6), limit.bound, number_format)
-    number(sheet.cell(row, 7), limit.level, number_format)
+    number(cell_at(sheet, row, 6), limit.bound, number_format)
+    number(cell_at(sheet, row, 7), limit.level, number_format)
     put(sheet, row, 8, "yes" if limit.binding else "no")
     places = decimals([limit.shadow_price], 2)
-    number(sheet.cell(row, 9), _no_negative_zero(limit.shadow_price, places), fixed_format(places))
+    number(cell_at(sheet, row, 9), _no_negative_zero(limit.shadow_price, places), fixed_format(places))
     put(sheet, row, 10, shadow_price_unit(limit, blend))
     put(sheet, row, 11, limit.cell)
     # How far the bound may move with the same shadow price (blank: no end, or not
     # known, as for ratio and dry-matter bounds).
     if limit.holds_from is not None:
-        number(sheet.cell(row, 12), limit.holds_from, number_format)
+        number(cell_at(sheet, row, 12), limit.holds_from, number_format)
     if limit.holds_to is not None:
-        number(sheet.cell(row, 13), limit.holds_to, number_format)
+        number(cell_at(sheet, row, 13), limit.holds_to, number_format)
 
 
 def _no_negative_zero(value: float, places: int) -> float:

@@ -13,7 +13,7 @@ from openpyxl.formatting.rule import CellIsRule, FormulaRule
 from openpyxl.worksheet.worksheet import Worksheet
 
 from blendkit.lp.tolerances import CHANGED
-from blendkit.write.workbook.cells import ALERT_FILL, ALERT_TEXT, BOLD, put
+from blendkit.write.workbook.cells import ALERT_FILL, ALERT_TEXT, BOLD, cell_at, put
 
 # What a check cell reads.
 BROKEN = "broken"
@@ -29,7 +29,7 @@ def write_spec_checks(sheet: Worksheet, first: int, last: int) -> str | None:
     if last < first:
         return None
     for row in range(first, last + 1):
-        sheet.cell(row, CHECK_COLUMN, _check_formula(row))
+        cell_at(sheet, row, CHECK_COLUMN, _check_formula(row))
     cells = f"I{first}:I{last}"
     sheet.conditional_formatting.add(
         cells, CellIsRule(operator="equal", formula=[f'"{BROKEN}"'], fill=ALERT_FILL, font=ALERT_TEXT))
@@ -48,7 +48,7 @@ def write_overall_check(sheet: Worksheet, row: int, ranges: list[str]) -> None:
     """Row `row`: "Spec check" and a cell reading "all specs met" or how many are broken,
     from the check cells in `ranges`; coloured when any is broken."""
     put(sheet, row, 1, "Spec check").font = BOLD
-    cell = sheet.cell(row, 2)
+    cell = cell_at(sheet, row, 2)
     if not ranges:
         put(sheet, row, 2, "no live checks on this sheet")
         return
