@@ -86,3 +86,31 @@ def test_plants_solved_through_the_kernel_agree_with_highs(monkeypatch, products
     monkeypatch.setattr(kernel_factor, "_kernel_lu", counted)
     assert_matches_linprog(make_plant(products, 60, 30, seed), rows_tol=1e-6)
     assert kernels
+
+
+@pytest.mark.parametrize("seed", [3, 4])
+def test_unit_and_few_nonzero_solves_equal_spsolve(seed):
+    # Reference: spsolve. The pivot row's multipliers B^-T e_r (and right-hand sides with a
+    # few non-zeros) take the hypersparse product with the singleton rows; several columns
+    # at once (the entering column, the flips and the steepest-edge vector) take the
+    # stacked path.
+    M, head = _plant_basis(10, seed)
+    B = M[:, head].tocsc()
+    factor = KernelBasisFactor(refactor_every=50)
+    factor.factor(B)
+    assert factor._parts is not None
+    m = B.shape[0]
+    rng = np.random.default_rng(seed)
+    Bt = B.T.tocsc()
+    for r in rng.choice(m, size=8, replace=False):
+        e = np.zeros(m)
+        e[r] = 1.0
+        np.testing.assert_allclose(factor.unit_btran(int(r)), spsolve(Bt, e), rtol=1e-8, atol=1e-10)
+    few = np.zeros(m)
+    few[rng.choice(m, size=3, replace=False)] = rng.normal(size=3)
+    np.testing.assert_allclose(factor.btran(few), spsolve(Bt, few), rtol=1e-8, atol=1e-10)
+    several = np.column_stack([M[:, j].toarray().ravel() for j in rng.choice(M.shape[1], size=3, replace=False)])
+    expected = spsolve(B, several).reshape(m, 3)
+    np.testing.assert_allclose(factor.ftran(several), expected, rtol=1e-8, atol=1e-10)
+    # the dual simplex stacks its columns in Fortran order: the column-by-column path
+    np.testing.assert_allclose(factor.ftran(np.asfortranarray(several)), expected, rtol=1e-8, atol=1e-10)

@@ -312,9 +312,12 @@ class _DualRun:
             columns.append(state.rho)
         if len(columns) == 1:
             return factor.ftran(columns[0]), None, None, None
-        if state.sparse:
-            solved = factor.ftran(np.column_stack(columns))
-            parts = [np.ascontiguousarray(solved[:, j]) for j in range(len(columns))]
+        if state.sparse:  # stacked in Fortran order: each column of the answer a contiguous view
+            stacked = np.empty((state.m, len(columns)), order="F")
+            for j, column in enumerate(columns):
+                stacked[:, j] = column
+            solved = factor.ftran(stacked)
+            parts = [solved[:, j] for j in range(len(columns))]
         else:  # LAPACK's solves cost little; apart, they keep the etas' loop simple
             parts = [factor.ftran(column) for column in columns]
         alpha = parts[0]
