@@ -24,8 +24,7 @@ import numpy as np
 
 from blendkit.engine.basis_factor import SingularBasis, SparseBasisFactor
 from blendkit.engine.sparse import sparse, splu
-from blendkit.engine.row_product import gather
-from blendkit.engine.tolerances import HYPERSPARSE_SHARE, KERNEL_PIVOT, KERNEL_SINGLETONS, SINGLETON_PIVOT
+from blendkit.engine.tolerances import KERNEL_PIVOT, KERNEL_SINGLETONS, SINGLETON_PIVOT
 
 
 class KernelBasisFactor(SparseBasisFactor):
@@ -78,7 +77,7 @@ class KernelBasisFactor(SparseBasisFactor):
         y_rows = a.take(single, axis=0) / v
         z[rows] = y_rows
         if self._lu is not None:
-            z[kernel_rows] = self._lu.solve(a.take(order, axis=0) - _times(linked, linked_t, y_rows), trans="T")
+            z[kernel_rows] = self._lu.solve(a.take(order, axis=0) - linked_t @ y_rows, trans="T")
         return z
 
 
@@ -97,16 +96,6 @@ class KernelBasisFactor(SparseBasisFactor):
             column[order] = w[:, j]
             column[single] = (by_column[j].take(rows) - products[:, j]) / values
         return z
-
-def _times(linked, linked_t, y: np.ndarray) -> np.ndarray:
-    """linked^T y: from the rows of `linked` that y picks when they are few (a pivot row's
-    multipliers rarely touch a singleton's row), else by the whole product."""
-    if y.ndim == 1:
-        picked = np.flatnonzero(y)
-        if picked.size <= HYPERSPARSE_SHARE * y.size:
-            return gather(linked.indptr, linked.indices, linked.data, picked, y[picked], linked.shape[1])
-    return linked_t @ y
-
 
 def _singletons(B) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
     """(columns, rows, values) of B's column singletons, at most one per row, each with an
