@@ -125,6 +125,15 @@ def test_a_plant_given_dense_is_scaled_as_given_sparse_and_solved_as_highs_solve
     from_dense, from_sparse = find_scaling(both.toarray()), find_scaling(both)
     np.testing.assert_array_equal(from_dense.rows, from_sparse.rows)
     np.testing.assert_array_equal(from_dense.cols, from_sparse.cols)
+    # The engine takes the dense matrix as CSR once (`held_form`), entry for entry; a
+    # small dense blend stays as given.
+    from blendkit.engine.standard_form import held_form, to_standard_form
+
+    form = to_standard_form(dense.c, dense.A_ub, dense.b_ub, dense.A_eq, dense.b_eq, dense.bounds)
+    held = held_form(form)
+    assert sp.issparse(held.A) and (held.A != sp.csr_matrix(form.A)).nnz == 0
+    small = to_standard_form([1.0, 2.0], [[1.0, 1.0]], [3.0])
+    assert held_form(small) is small
     assert_matches_linprog(dense, rows_tol=1e-6)
 
 

@@ -43,7 +43,7 @@ from blendkit.engine.scaling import Scaling, find_scaling, scale_form
 from blendkit.engine.simplex import optimal_outcome
 from blendkit.engine.simplex_state import SimplexState
 from blendkit.engine.solve import blas_threads_idle, checked_optimum, checked_result, one_blas_thread, solve_form
-from blendkit.engine.standard_form import StandardForm, to_standard_form
+from blendkit.engine.standard_form import StandardForm, held_form, to_standard_form
 from blendkit.engine.tolerances import INVERSE_ROWS, ITERATION_LIMIT_MIN, ITERATION_LIMIT_PER_LINE, Tolerances
 
 
@@ -72,7 +72,7 @@ class Resolver:
     def _setup(self, form: StandardForm, tolerances, max_iterations, scale: bool) -> None:
         """Shared by both constructors: keep the form, find the scaling once."""
         m, n = form.shape
-        self._form = form
+        self._form = form = held_form(form)
         self._pending: dict[str, np.ndarray] = {}  # fields changed since `_form` was last rebuilt
         self._tol = tolerances or Tolerances()
         self._max_iterations = max_iterations or max(ITERATION_LIMIT_MIN, ITERATION_LIMIT_PER_LINE * (m + n))

@@ -11,7 +11,7 @@ from blendkit.engine.result import Basis, LPResult
 from blendkit.engine.scaling import Scaling, find_scaling, scale_form
 from blendkit.engine.simplex import SimplexOutcome, run_simplex
 from blendkit.engine.sparse import is_sparse
-from blendkit.engine.standard_form import StandardForm, to_standard_form
+from blendkit.engine.standard_form import StandardForm, held_form, to_standard_form
 from blendkit.engine.tolerances import (
     CERTIFICATE_PROOF, ITERATION_LIMIT_MIN, ITERATION_LIMIT_PER_LINE, RESIDUAL_RETRY, Tolerances,
 )
@@ -127,6 +127,7 @@ def solve_form(
     if algorithm not in ("auto", "primal", "dual"):
         raise ValueError(f'algorithm must be "auto", "primal" or "dual", not {algorithm!r}')
     refuse_not_finite(form)
+    form = held_form(form)
     tol = tolerances or Tolerances()
     m, n = form.shape
     if max_iterations is None:

@@ -11,11 +11,12 @@ including contradictory bounds, is left for the solver to report as a status.
 
 from __future__ import annotations
 
-from dataclasses import dataclass
+from dataclasses import dataclass, replace
 
 import numpy as np
 
-from blendkit.engine.sparse import is_sparse, sparse
+from blendkit.engine.sparse import held_sparse, is_sparse, sparse
+from blendkit.engine.tolerances import SPARSE_ROWS
 
 
 @dataclass(frozen=True)
@@ -151,3 +152,14 @@ def to_standard_form(c, A_ub=None, b_ub=None, A_eq=None, b_eq=None, bounds=None)
         n_ub=A_ub.shape[0],
         from_linprog=True,
     )
+
+
+def held_form(form: StandardForm) -> StandardForm:
+    """`form`, its A made a CSR matrix when it is dense but the engine will hold it sparse
+    (`sparse.held_sparse`): the scaling, the scaled copy and the residual checks then touch
+    its non-zeros alone. The workbook path builds a plant's matrix dense: at 40 products ten
+    million entries, nine in ten of them zero."""
+    A = form.A
+    if is_sparse(A) or A.shape[0] < SPARSE_ROWS or not held_sparse(*A.shape, int(np.count_nonzero(A))):
+        return form
+    return replace(form, A=sparse().csr_matrix(A))
