@@ -212,11 +212,9 @@ def test_finish_compares_with_the_file_it_is_given_after_a_prepare_without_it(tm
 
 
 def test_a_binding_spec_dropped_from_a_large_plant_still_starts_from_the_earlier_basis(tmp_path):
-    # One binding row fewer leaves one basic column too many; on an LP of more than
-    # NULL_SPACE_ROWS rows (here 680) the column to leave is found by trying sparse
-    # factorisations. The run starts from the earlier basis and ends at HiGHS's optimum.
-    from blendkit.lp import start
-
+    # One binding row fewer leaves one basic column too many; on this LP of 680 rows the
+    # column to leave is named by a null vector from one sparse factorisation. The run
+    # starts from the earlier basis and ends at HiGHS's optimum.
     book = plant_workbook(tmp_path / "plant.xlsx", 20, 60, 30, 5)
     out = tmp_path / "plant.result.xlsx"
     first = solve_workbook(book, out, check=False).formula
@@ -230,7 +228,31 @@ def test_a_binding_spec_dropped_from_a_large_plant_still_starts_from_the_earlier
         specs.delete_rows(row)
 
     _edit(book, drop)
-    assert 20 * 31 + 60 > start.NULL_SPACE_ROWS
     again = solve_workbook(book, out, check=False).formula
     assert any(STARTED in note for note in again.notes)
     _assert_highs_optimum(book, again)
+
+
+@pytest.mark.parametrize("products, extra", [(3, 1), (3, 2), (12, 1)])
+def test_the_column_that_leaves_an_overfull_basis_leaves_an_independent_basis(tmp_path, products, extra):
+    # Reference: numpy's matrix rank. A plant LP's optimal basis with `extra` more
+    # ingredient columns (as after binding rows were dropped) loses columns one at a time;
+    # what is left must be of full rank, on a small LP (3 products, 125 rows) and on one of
+    # 455 rows alike.
+    from blendkit.engine import solve_form
+    from blendkit.lp import start
+    from blendkit.lp.build import build_lp
+    from blendkit.pipeline import prepare
+
+    book = plant_workbook(tmp_path / "plant.xlsx", products, 40, 20, 11)
+    lp = build_lp(prepare(book, tmp_path / "out.xlsx").blend)
+    m, n = lp.form.A.shape
+    head = [int(j) for j in solve_form(lp.form).basis.head]
+    outside = [j for j in range(n) if j not in set(head)]
+    head += outside[:extra]
+    while len(head) > m:
+        leaving = start._dependent_column(lp, head)
+        assert leaving < n, "an ingredient column leaves"
+        head.remove(leaving)
+    B = start._columns(lp, head).toarray()
+    assert np.linalg.matrix_rank(B) == m

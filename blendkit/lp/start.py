@@ -34,13 +34,6 @@ BASIC, AT_UPPER = 1, 2
 # A start is only tried when at least this share of this LP's rows get a recorded basic
 # variable (fewer: little of the earlier basis is left to save iterations).
 LEAST_MAPPED = 0.5
-# Up to this many rows, the column that leaves an overfull basis is found from a null
-# vector (an SVD of the basis columns: about 0.05 s at 400 rows).
-NULL_SPACE_ROWS = 400
-# Beyond that, with one column too many, this many of the last ingredient columns are tried
-# in turn (a sparse factorisation each) for one whose leaving leaves a basis.
-SPARSE_TRIES = 8
-
 Label = tuple[str, ...]
 
 
@@ -112,41 +105,33 @@ def start_basis(blend: Blend, lp: BlendLP, recorded: Iterable[tuple[Label, int]]
 
 
 def _dependent_column(lp: BlendLP, head: list[int]) -> int:
-    """An ingredient column of `head` (more columns than rows) whose leaving keeps the rest
-    independent: the one with the largest weight in a null vector of those columns. An
-    LP of more than NULL_SPACE_ROWS rows tries the last SPARSE_TRIES in turn, else gives
-    the last one (the engine drops a basis that is then singular, and solves from
-    scratch)."""
+    """An ingredient column of `head` (k more columns than rows) whose leaving keeps the rest
+    independent: the one with the largest weight in a null vector v of those columns, found
+    in one sparse factorisation at any size. With k random rows R below the m x (m + k)
+    columns B, the square [B; R] is regular whenever B has full row rank, and its solution
+    of [B; R] v = e_(m+1) has B v = 0 and v != 0. When that fails, the last ingredient
+    column (the engine then drops a singular basis and solves from scratch)."""
+    from scipy.sparse import csr_matrix, vstack
+
+    from blendkit.engine.sparse import splu
+
     m, n = lp.form.A.shape
     structural = [j for j in head if j < n]
-    if m > NULL_SPACE_ROWS:
-        if len(head) == m + 1:  # one too many: the last column whose leaving leaves a basis
-            for j in reversed(structural[-SPARSE_TRIES:]):
-                if _nonsingular(_columns(lp, [i for i in head if i != j], dense=False)):
-                    return j
+    below = np.random.default_rng(len(head)).standard_normal((len(head) - m, len(head)))
+    square = vstack([_columns(lp, head), csr_matrix(below)], format="csc")
+    unit = np.zeros(len(head))
+    unit[m] = 1.0
+    try:
+        weights = np.abs(splu(square).solve(unit))
+    except RuntimeError:  # SuperLU: exactly singular (B lacks full row rank)
         return structural[-1]
-    from scipy.linalg import null_space  # only when a binding row was dropped
-
-    weights = np.abs(null_space(_columns(lp, head, dense=True))).max(axis=1)
-    return max(structural, key=lambda j: weights[head.index(j)])
+    position = {j: k for k, j in enumerate(head)}
+    return max(structural, key=lambda j: weights[position[j]])
 
 
-def _columns(lp: BlendLP, head: list[int], dense: bool):
-    """The columns `head` of [A, -I], in that order, dense or as a scipy.sparse matrix."""
+def _columns(lp: BlendLP, head: list[int]):
+    """The columns `head` of [A, -I], in that order, as a scipy.sparse matrix."""
     import scipy.sparse as sp
 
     m = lp.form.A.shape[0]
-    picked = sp.hstack([sp.csc_matrix(lp.form.A), -sp.identity(m, format="csc")], format="csc")[:, head]
-    return picked.toarray() if dense else picked
-
-
-def _nonsingular(B) -> bool:
-    """True when the square basis B factorises (the engine's own sparse factors)."""
-    from blendkit.engine.basis_factor import SingularBasis
-    from blendkit.engine.kernel_factor import KernelBasisFactor
-
-    try:
-        KernelBasisFactor(refactor_every=1).factor(B)
-    except SingularBasis:
-        return False
-    return True
+    return sp.hstack([sp.csc_matrix(lp.form.A), -sp.identity(m, format="csc")], format="csc")[:, head]
