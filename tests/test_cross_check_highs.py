@@ -17,7 +17,7 @@ from scipy.optimize import Bounds, LinearConstraint, linprog, milp
 
 from blendkit.engine import solve_form, solve_mip_form
 from blendkit.engine.standard_form import StandardForm, to_standard_form
-from blendkit.lp.cross_check import MIP_SOLVER, SOLVER, cross_check, cross_check_mip, warning
+from blendkit.lp.cross_check import MIP_SOLVER, SOLVER, combined, cross_check, cross_check_mip, warning
 from blendkit.lp.highs import solve_with_highs
 
 # scipy's linprog status codes in the engine's words (scipy's documentation of linprog).
@@ -126,6 +126,27 @@ def test_an_infeasible_mip_agrees_on_the_status():
     assert reference.status == 2
     assert ours.status == check.status == "infeasible" and check.agrees and check.cost is None
 
+
+
+def test_a_mip_search_stopped_before_any_solution_keeps_highs_cost_and_parts_add_up():
+    # Our search stopped before its root (node_limit=0 stands in for a Time limit that ran
+    # out that early, as a tiny one does on a loaded machine): no formula, while HiGHS has
+    # the optimum. The check keeps HiGHS's cost, so a run of two such parts adds up; it
+    # once held an "optimal" check with no cost, and adding the parts' costs raised TypeError.
+    form, integrality, semicontinuous = _mip()
+    ours = solve_mip_form(form, integrality, semicontinuous, node_limit=0)
+    assert ours.status == "time_limit" and ours.objective is None and ours.nodes == 0
+    check = cross_check_mip(form, integrality, semicontinuous, ours, time_limit=10.0)
+    # Outside reference: scipy's milp on the same problem (as in the test above).
+    reference = milp(form.c, constraints=LinearConstraint(form.A, form.row_lower, form.row_upper),
+                     bounds=Bounds([0, 0, 0.3, 0], form.col_upper), integrality=[0, 0, 2, 1])
+    assert reference.status == 0
+    assert check.status == "optimal" and check.cost == pytest.approx(reference.fun, rel=1e-9)
+    assert check.difference is None and not check.agrees
+    assert "ends with status optimal" in warning(check, ours.objective)
+    both = combined([check, check])
+    assert both.status == "optimal" and both.cost == pytest.approx(2 * reference.fun, rel=1e-9)
+    assert both.difference is None and not both.agrees
 
 def test_a_mip_cross_check_in_a_forked_worker_ends_after_one_in_the_parent():
     # HiGHS's worker threads do not survive a fork: without blendkit.lp.highs stopping them

@@ -15,6 +15,8 @@ from pathlib import Path
 import numpy as np
 import openpyxl
 import pytest
+from hypothesis import given
+from hypothesis import strategies as st
 from openpyxl.cell.rich_text import CellRichText, TextBlock
 from openpyxl.cell.text import InlineFont
 from openpyxl.chart import BarChart, Reference
@@ -166,6 +168,32 @@ def test_every_cell_kind_has_the_bytes_of_openpyxls_save(text_rows):
                 *(f"Sheet!E{row}" for row in (2, 3, 5, 7, 8, 9, 10))}
     assert set(text_rows["openpyxl"]) == expected
 
+
+
+# Text holding every character ElementTree escapes, in awkward company: entities already
+# written out, the same character twice, escapes next to each other, line ends both ways.
+_AWKWARD = ["", "plain", "&", "&&", "&lt;", "&amp;lt;", "<>", "><", "a<b>c&d", '"', '""', "'\"'", "\r\n", "\n\r",
+            "\t\t", "&#10;\n", "&#13;\r", "&#09;\t", "&quot;\"", '&<>"\r\n\t', '\t\n\r"><&', "]]>", "<![CDATA[x]]>",
+            " & ", "é & 中文 < 😀 >", "&gt;>", "x" * 600 + "&<>" + '"\r\n\t']
+
+
+@pytest.mark.parametrize("text", _AWKWARD)
+def test_text_and_attributes_are_escaped_as_elementtree_escapes_them(text):
+    from xml.etree.ElementTree import _escape_attrib, _escape_cdata
+
+    # Reference: ElementTree's own escaping, which openpyxl's cell writer goes through.
+    assert sheet_rows._escape(text) == _escape_cdata(text)
+    assert sheet_rows._attribute(text) == _escape_attrib(text)
+
+
+@given(st.text(alphabet='&<>"\r\n\t;#ltgampquo10 x', max_size=40))
+def test_any_mix_of_special_characters_is_escaped_as_elementtree_escapes_it(text):
+    from xml.etree.ElementTree import _escape_attrib, _escape_cdata
+
+    # Reference: ElementTree's own escaping, on random mixes of the characters it escapes
+    # and the letters of the entities it writes.
+    assert sheet_rows._escape(text) == _escape_cdata(text)
+    assert sheet_rows._attribute(text) == _escape_attrib(text)
 
 def test_a_reloaded_workbook_has_the_bytes_of_openpyxls_save(text_rows):
     # Read back, openpyxl's own empty text is a cell of type "inlineStr" with no value.

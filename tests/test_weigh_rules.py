@@ -433,6 +433,30 @@ def test_no_formula_before_the_time_limit_exits_as_an_engine_stop(tmp_path):
     assert "raise the Time limit setting" in doc["message"]
 
 
+
+def test_products_with_no_formula_before_the_time_limit_end_as_an_engine_stop(tmp_path, monkeypatch):
+    # Two products no stock links: two separate integer programs. node_limit=0 stands in
+    # for a Time limit that runs out before the root (as 0.001 s can on a loaded machine):
+    # neither part has a formula, while HiGHS's cross-check has each optimum. Adding up
+    # the parts' cross-checks once raised TypeError (int + None) instead of exit code 4.
+    import blendkit.lp.practical as practical
+
+    solve = practical.solve_mip_form
+    monkeypatch.setattr(practical, "solve_mip_form", lambda *a, **k: solve(*a, **{**k, "node_limit": 0}))
+    ingredients = [["Ingredient", "Cost", "Min if used", "Protein"], ["A", 1, 5, 10], ["B", 2, None, 20]]
+    specs = [["Nutrient", "Min", "Max"], ["Protein", 12, None]]
+    path = make_workbook(tmp_path, ingredients, specs, [["Setting", "Value"]],
+                         sheets={"Products": [["Product", "Amount"], ["P1", 2000], ["P2", 1000]]})
+    result = runner.invoke(app, ["solve", str(path), "-o", str(tmp_path / "out.xlsx"), "--json"])
+    assert isinstance(result.exception, SystemExit) and result.exit_code == 4, repr(result.exception)
+    doc = json.loads(result.stdout)
+    assert doc["status"] == "time_limit" and doc["total_cost"] is None
+    status, optimum = highs_optimum(path, min_if_used={(0, "A"): 5, (1, "A"): 5})
+    assert status == 0  # reference: scipy.optimize.milp; the joint LP is the two parts side by side
+    assert doc["cross_check"]["status"] == "optimal"
+    assert doc["cross_check"]["cost"] == pytest.approx(optimum, rel=MIP_RTOL)  # reference: scipy.optimize.milp
+    assert doc["cross_check"]["difference"] is None and not doc["cross_check"]["agrees"]
+
 def test_frames_read_the_rule_columns_and_settings():
     import pandas as pd
 

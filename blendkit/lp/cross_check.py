@@ -72,7 +72,8 @@ def cross_check_mip(form: StandardForm, integrality: np.ndarray, semicontinuous:
     """Re-solve a MIP (semi-continuous columns as HiGHS's semi-continuous kind) with HiGHS
     within `time_limit` seconds and compare with our MIPResult `ours`: the same status and
     optimum within CROSS_CHECK_RTOL; after our time limit, HiGHS's optimum must not lie
-    below our proven bound."""
+    below our proven bound. When ours found no formula, HiGHS's optimum is kept with no
+    difference (like the LP cross-check's, so that parts' costs still add up)."""
     never = (semicontinuous > 0) & (semicontinuous > form.col_upper)  # a threshold above the Max: only 0
     semi = (semicontinuous > 0) & (form.col_lower <= 0) & ~never  # a column with a Min > 0 is always used
     lower = np.where((semicontinuous > 0) & ~never, np.maximum(form.col_lower, semicontinuous), form.col_lower)
@@ -81,9 +82,11 @@ def cross_check_mip(form: StandardForm, integrality: np.ndarray, semicontinuous:
                               integrality=np.where(semi, 2, integrality), time_limit=time_limit)
     if theirs.status.startswith("refused"):
         return CrossCheck(MIP_SOLVER, theirs.status, None, None, agrees=False)
-    if theirs.status != "optimal" or ours.objective is None:
+    if theirs.status != "optimal":
         return CrossCheck(MIP_SOLVER, theirs.status, None, None, agrees=theirs.status == ours.status)
     cost = theirs.cost
+    if ours.objective is None:  # our search stopped (or failed) with no formula: HiGHS's cost, no difference
+        return CrossCheck(MIP_SOLVER, theirs.status, cost, None, agrees=False)
     difference = float(ours.objective) - cost
     if ours.status == "time_limit":
         agrees = cost >= ours.bound - CROSS_CHECK_RTOL * max(1.0, abs(cost))
