@@ -7,9 +7,12 @@ nonbasic variable's cost, a structural's or a logical's (a row's, cost 0), is mo
 from zero reduced cost in the direction that keeps the basis dual feasible (up at a lower
 bound, down at an upper bound) by an irregular amount of about PERTURBATION_BASE relative
 to 1 + |cost|, which makes ties between breakpoints rare. (The logicals count: a plant
-whose specs are ranged rows has a boxed logical per spec, and leaving them out cost its
-dual simplex 7,472 iterations against 6,584 on a 40-product plant workbook; over 16
-bench plants, split and ranged, 55,356 against 50,773.) (A run without such a stall, as most small LPs are, keeps its
+whose specs are ranged rows has a boxed logical per spec. With them perturbed too, a
+40-product plant workbook took 6,584 dual iterations instead of 7,472; 16 bench plants of
+5-60 products, split and ranged, 50,773 instead of 55,356; 16 more of 40 and 80 products
+96,183 instead of 100,293. Single plants swing either way: a 160-product plant took 30,451
+instead of 16,097, a 140-product one 16,315 instead of 22,481. A base of 5e-6 or 5e-5
+did no better.) (A run without such a stall, as most small LPs are, keeps its
 costs and its path as they were.) The run ends optimal for the
 perturbed costs; the true costs are then put back, the duals and reduced costs recomputed
 from the final basis, and a few primal iterations remove any dual infeasibility left
