@@ -61,6 +61,15 @@ def test_a_basis_of_few_singletons_is_factorised_whole_and_solves_as_spsolve():
     a = rng.normal(size=120)
     np.testing.assert_allclose(factor.ftran(a), spsolve(B, a), rtol=1e-8, atol=1e-10)
     np.testing.assert_allclose(factor.btran(a), spsolve(B.T.tocsc(), a), rtol=1e-8, atol=1e-10)
+    # columns stacked in Fortran order, as the dual simplex stacks them, after some updates
+    stacked = np.asfortranarray(rng.normal(size=(120, 3)))
+    for r in range(20):  # more updates than the eta loop takes one by one
+        alpha = factor.ftran(B[:, (r + 7) % 120].toarray().ravel() + 0.5 * np.eye(120)[r])
+        factor.update(r, alpha)
+        B = B.tolil()
+        B[:, r] = B[:, (r + 7) % 120].toarray() + 0.5 * np.eye(120)[:, [r]]
+        B = B.tocsc()
+    np.testing.assert_allclose(factor.ftran(stacked), spsolve(B, stacked).reshape(120, 3), rtol=1e-7, atol=1e-9)
 
 
 def test_two_slack_columns_on_one_row_are_a_singular_basis():
