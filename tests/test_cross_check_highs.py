@@ -147,6 +147,7 @@ def test_a_mip_search_stopped_before_any_solution_keeps_highs_cost_and_parts_add
     both = combined([check, check])
     assert both.status == "optimal" and both.cost == pytest.approx(2 * reference.fun, rel=1e-9)
     assert both.difference is None and both.agrees
+    assert both.solver == check.solver == "HiGHS MIP (highspy)"  # the parts' solver, not the LP one
 
 
 def test_a_mip_search_that_failed_without_a_formula_still_disagrees():

@@ -56,12 +56,13 @@ def combined(checks: list[CrossCheck | None]) -> CrossCheck | None:
     if not checks or any(check is None for check in checks):
         return None
     agrees = all(check.agrees for check in checks)
+    solver = " and ".join(dict.fromkeys(check.solver for check in checks))  # the parts' own, once each
     if any(check.status != "optimal" for check in checks):
         worst = next(check for check in checks if check.status != "optimal")
-        return CrossCheck(SOLVER, worst.status, None, None, agrees=agrees)
+        return CrossCheck(solver, worst.status, None, None, agrees=agrees)
     differences = [check.difference for check in checks]
     difference = None if any(d is None for d in differences) else float(sum(differences))
-    return CrossCheck(SOLVER, "optimal", float(sum(check.cost for check in checks)), difference, agrees=agrees)
+    return CrossCheck(solver, "optimal", float(sum(check.cost for check in checks)), difference, agrees=agrees)
 
 
 MIP_SOLVER = "HiGHS MIP (highspy)"
