@@ -12,8 +12,8 @@ whose specs are ranged rows has a boxed logical per spec. With them perturbed to
 5-60 products, split and ranged, 50,773 instead of 55,356; 16 more of 40 and 80 products
 96,183 instead of 100,293. Single plants swing either way: a 160-product plant took 30,451
 instead of 16,097, a 140-product one 16,315 instead of 22,481. A base of 5e-6 or 5e-5
-did no better.) (A run without such a stall, as most small LPs are, keeps its
-costs and its path as they were.) The run ends optimal for the
+did no better.) A run without such a stall, as most small LPs are, keeps its
+costs and its path as they were. The run ends optimal for the
 perturbed costs; the true costs are then put back, the duals and reduced costs recomputed
 from the final basis, and a few primal iterations remove any dual infeasibility left
 (the caller's cleanup), so the answer, its duals and its reduced costs are those of the
