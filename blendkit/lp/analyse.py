@@ -180,6 +180,8 @@ class _Solution:
     d: np.ndarray  # reduced costs by product and ingredient
     activity: np.ndarray  # each row's activity
     broken: dict  # (row, side) -> violation of a soft spec that gives way
+    rows_of: tuple  # each product's rows (indices in lp.rows, in order): one pass, not one per product
+    negative: np.ndarray  # per nutrient: some ingredient holds a negative amount of it
 
     @classmethod
     def of(cls, blend: Blend, lp: BlendLP, result: LPResult) -> _Solution:
@@ -188,10 +190,15 @@ class _Solution:
         full = np.where(np.abs(result.x) < ZERO_INCLUSION, 0.0, result.x)
         x = full[:columns].reshape(len(lp.products), lp.n_ingredients)
         broken = {(i, side): float(full[column]) for i, side, column in lp.elastic if full[column] > 0}
+        rows_of: list[list[int]] = [[] for _ in lp.products]
+        for i, row in enumerate(lp.rows):
+            if row.product is not None:
+                rows_of[row.product].append(i)
         return cls(
             blend=blend, lp=lp, result=result, x=x,
             d=result.reduced_costs[:columns].reshape(len(lp.products), lp.n_ingredients),
             activity=lp.form.A[:, :columns] @ x.ravel(), broken=broken,
+            rows_of=tuple(tuple(rows) for rows in rows_of), negative=(np.asarray(lp.contents) < 0).any(axis=1),
         )
 
     def scale(self, p: int) -> float:
@@ -321,8 +328,9 @@ def _row_limits(solution: _Solution, p: int, levels: np.ndarray) -> list[Limit]:
     """One Limit per side of each of product p's spec, ratio and group rows."""
     lp, result = solution.lp, solution.result
     limits = []
-    for i, row in enumerate(lp.rows):
-        if row.product != p or row.kind == STOCK:
+    for i in solution.rows_of[p]:
+        row = lp.rows[i]
+        if row.kind == STOCK:
             continue
         level, factor = _row_level(lp, row, levels)
         if row.kind == GROUP:
@@ -336,7 +344,7 @@ def _row_limits(solution: _Solution, p: int, levels: np.ndarray) -> list[Limit]:
                 if len(row.sides) == 1 or (marginal >= 0) == (side.side == "min"):
                     price = marginal
             known = row.kind != RATIO and row.basis == AS_FED
-            negative = row.nutrient is not None and bool((lp.contents[row.nutrient] < 0).any())
+            negative = row.nutrient is not None and bool(solution.negative[row.nutrient])
             holds_from, holds_to = _room(lp, result, lp.form.c.size + i, side, level, binding, known, negative)
             up = down = 0.0 if not binding else None
             if binding and known:
@@ -386,7 +394,7 @@ def _nutrient_lines(solution: _Solution, p: int, levels: np.ndarray) -> tuple[Nu
     """Every nutrient's as-fed level against its spec, then one line per dry-matter or
     ratio spec (a spec row split over several rows shows once)."""
     blend, lp = solution.blend, solution.lp
-    rows = [row for row in lp.rows if row.product == p]
+    rows = [lp.rows[i] for i in solution.rows_of[p]]
     lines = []
     for n, nutrient in enumerate(blend.nutrients):
         sides = [s for row in rows if row.kind == NUTRIENT and row.basis == AS_FED and row.nutrient == n
