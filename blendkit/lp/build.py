@@ -108,9 +108,9 @@ class BlendLP:
 def _limits(blend: Blend, product: str | None, j: int) -> tuple[float, float, dict[str, str]]:
     """Bounds of ingredient j in a product, and the cells they came from."""
     item = blend.ingredients[j]
-    for limit in blend.limits:
-        if limit.product == product and limit.ingredient == item.name:
-            return limit.minimum, limit.maximum, {"min": limit.cells.get("min"), "max": limit.cells.get("max")}
+    limit = blend.product_limit(product, item.name)
+    if limit is not None:
+        return limit.minimum, limit.maximum, {"min": limit.cells.get("min"), "max": limit.cells.get("max")}
     return item.minimum, item.maximum, {"min": item.cells.get("min"), "max": item.cells.get("max")}
 
 

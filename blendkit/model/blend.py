@@ -239,6 +239,20 @@ class Blend:
         """Ingredients by name, built once: writers look them up per line."""
         return {item.name: item for item in self.ingredients}
 
+    def product_limit(self, product: str | None, ingredient: str) -> ProductLimit | None:
+        """The Limits row of the ingredient called `ingredient` in `product` (the first, were
+        there two: the reader refuses that), or None."""
+        return self._limits_by.get((product, ingredient))
+
+    @cached_property
+    def _limits_by(self) -> dict[tuple[str | None, str], ProductLimit]:
+        """Limits rows by (product, ingredient), built once: the LP's bounds and the weighing
+        rules ask for every ingredient in every product."""
+        found: dict[tuple[str | None, str], ProductLimit] = {}
+        for limit in self.limits:
+            found.setdefault((limit.product, limit.ingredient), limit)
+        return found
+
     def stepped_specs(self, nutrient: str) -> tuple[Spec, ...]:
         """The spec rows on `nutrient` that give a Step, in sheet order."""
         return self._stepped.get(nutrient, ())

@@ -46,10 +46,10 @@ def weigh_rule(blend: Blend, ingredient: Ingredient, product: str | None = None)
     that, the `Scale step` setting.
     """
     min_if_used, pack = ingredient.min_if_used, ingredient.pack_size
-    for limit in blend.limits:
-        if limit.product == product and limit.ingredient == ingredient.name:
-            min_if_used = limit.min_if_used if limit.min_if_used is not None else min_if_used
-            pack = limit.pack_size if limit.pack_size is not None else pack
+    limit = blend.product_limit(product, ingredient.name)
+    if limit is not None:
+        min_if_used = limit.min_if_used if limit.min_if_used is not None else min_if_used
+        pack = limit.pack_size if limit.pack_size is not None else pack
     step = ingredient.scale_step if ingredient.scale_step is not None else blend.settings.scale_step
     return WeighRule(min_if_used=min_if_used, pack_size=pack, scale_step=None if pack else step)
 
