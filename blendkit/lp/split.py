@@ -45,9 +45,9 @@ def _shares(blend: Blend, product: Product, ingredient: str) -> bool:
     use the ingredient."""
     if product.amount is None or not blend.ingredient(ingredient).use:
         return False
-    for limit in blend.limits:
-        if limit.product == product.name and limit.ingredient == ingredient:
-            return limit.maximum is None or limit.maximum > 0
+    limit = blend.product_limit(product.name, ingredient)
+    if limit is not None:
+        return limit.maximum is None or limit.maximum > 0
     maximum = blend.ingredient(ingredient).maximum
     return maximum is None or maximum > 0
 
