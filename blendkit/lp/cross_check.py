@@ -88,12 +88,15 @@ def cross_check_mip(form: StandardForm, integrality: np.ndarray, semicontinuous:
     cost = theirs.cost
     if ours.objective is None:  # our search stopped (or failed) with no formula: HiGHS's cost, no difference
         # Out of time before a formula is no disagreement, unless HiGHS's optimum lies below our bound.
-        stopped = ours.status == "time_limit" and (
-            ours.bound is None or cost >= ours.bound - CROSS_CHECK_RTOL * max(1.0, abs(cost)))
-        return CrossCheck(MIP_SOLVER, theirs.status, cost, None, agrees=stopped)
+        return CrossCheck(MIP_SOLVER, theirs.status, cost, None,
+                          agrees=ours.status == "time_limit" and _not_below(cost, ours.bound))
     difference = float(ours.objective) - cost
-    if ours.status == "time_limit":
-        agrees = cost >= ours.bound - CROSS_CHECK_RTOL * max(1.0, abs(cost))
-    else:
-        agrees = _close(difference, cost)
+    agrees = _not_below(cost, ours.bound) if ours.status == "time_limit" else _close(difference, cost)
     return CrossCheck(MIP_SOLVER, theirs.status, cost, difference, agrees=agrees)
+
+
+def _not_below(cost: float, bound: float | None) -> bool:
+    """True when HiGHS's optimum `cost` does not lie below our proven `bound` (None: none
+    proven) by more than CROSS_CHECK_RTOL: one test for a search out of time, with or
+    without a formula."""
+    return bound is None or cost >= bound - CROSS_CHECK_RTOL * max(1.0, abs(cost))

@@ -34,6 +34,7 @@ BASIC, AT_UPPER = 1, 2
 # A start is only tried when at least this share of this LP's rows get a recorded basic
 # variable (fewer: little of the earlier basis is left to save iterations).
 LEAST_MAPPED = 0.5
+
 Label = tuple[str, ...]
 
 
